@@ -1,0 +1,1 @@
+"""Pure computational core: rule files, expressions, market data, continuous series, engine."""

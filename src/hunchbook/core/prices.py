@@ -1,0 +1,223 @@
+"""Price data import: a data folder with ``markets.toml`` and one ``<market>.csv`` per market.
+
+A contract-level CSV has the columns ``date, contract, expiry, close`` (required) and
+``open, high, low, volume, open_interest`` (optional); other columns are ignored. A CSV with
+``date, close`` and no ``contract`` column is an already-continuous series.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Iterable
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from hunchbook.core.errors import DataError
+from hunchbook.core.markets import MarketSpec, read_market_library
+
+#: Name of the market library file inside a data folder.
+LIBRARY_FILE = "markets.toml"
+#: Columns a contract-level file must have.
+CONTRACT_COLUMNS = ("date", "contract", "expiry", "close")
+#: Columns an already-continuous file must have.
+CONTINUOUS_COLUMNS = ("date", "close")
+#: Optional price columns (read and back-adjusted like ``close``).
+PRICE_COLUMNS = ("open", "high", "low")
+#: Optional activity columns (volume and open interest are never adjusted).
+ACTIVITY_COLUMNS = ("volume", "open_interest")
+#: Largest price file read, in bytes.
+MAX_FILE_BYTES = 2_000_000_000
+
+
+@dataclass(frozen=True)
+class MarketBars:
+    """One market's raw rows as read from its CSV.
+
+    ``frame`` has a datetime ``date``, text ``contract``, datetime ``expiry``, float ``close``,
+    any optional columns present, and ``line`` (the 1-based line in the file).
+    For an already-continuous file, ``contract`` holds the market symbol and ``expiry`` is NaT.
+    """
+
+    market: str
+    file: str
+    frame: pd.DataFrame
+    continuous: bool
+
+    @property
+    def columns(self) -> frozenset[str]:
+        """The optional columns this file provides."""
+        return frozenset(c for c in (*PRICE_COLUMNS, *ACTIVITY_COLUMNS) if c in self.frame)
+
+
+@dataclass(frozen=True)
+class MarketData:
+    """A data folder's market library and the raw rows of the markets read from it."""
+
+    folder: str
+    library: dict[str, MarketSpec]
+    bars: dict[str, MarketBars]
+
+
+def load_data(folder: str | os.PathLike[str], markets: Iterable[str] | None = None) -> MarketData:
+    """Read a data folder: its market library and the CSV of each market asked for.
+
+    Parameters
+    ----------
+    folder
+        Folder holding ``markets.toml`` and ``<market>.csv`` files.
+    markets
+        Markets to read; all markets of the library when omitted.
+
+    Raises
+    ------
+    DataError
+        When the folder, a market's file or a market's library entry is missing, or a file is bad.
+    MarketSpecError
+        When the market library is bad.
+    """
+    root = Path(folder)
+    if not root.is_dir():
+        raise DataError("data folder not found", file=str(folder))
+    library_path = root / LIBRARY_FILE
+    if not library_path.is_file():
+        raise DataError(f"data folder has no {LIBRARY_FILE} (the market library)", file=str(folder))
+    library = read_market_library(library_path)
+    wanted = list(library) if markets is None else list(dict.fromkeys(markets))
+    bars = {}
+    for market in wanted:
+        if market not in library:
+            raise DataError(f"market '{market}' is not in the market library "
+                            f"(known: {', '.join(sorted(library))})", file=str(library_path))
+        path = root / f"{market}.csv"
+        if not path.is_file():
+            raise DataError(f"no price file for market '{market}' (expected {path.name})",
+                            file=str(root))
+        bars[market] = read_market_csv(path, market)
+    return MarketData(folder=str(root), library=library, bars=bars)
+
+
+def read_market_csv(path: str | os.PathLike[str], market: str) -> MarketBars:
+    """Read and validate one market's price file; see the module docstring for the columns.
+
+    Raises
+    ------
+    DataError
+        Naming the file and line: missing columns, unparsable dates or numbers, duplicate rows,
+        a contract with no expiry or with two different expiries, or an empty file.
+    """
+    file = str(path)
+    if Path(path).stat().st_size > MAX_FILE_BYTES:
+        raise DataError(f"file is larger than {MAX_FILE_BYTES} bytes", file=file)
+    try:
+        raw = pd.read_csv(path, dtype=str, keep_default_na=False, skip_blank_lines=False,
+                          encoding="utf-8")
+    except UnicodeDecodeError:
+        raise DataError("file is not UTF-8 text", file=file) from None
+    except pd.errors.EmptyDataError:
+        raise DataError("file is empty (expected a header line and price rows)", file=file) from None
+    except pd.errors.ParserError as exc:
+        raise DataError(f"not a readable CSV file ({_first_line(exc)})", file=file) from None
+    raw.columns = [str(c).strip().lower() for c in raw.columns]
+    raw.index = pd.RangeIndex(2, len(raw) + 2)  # line numbers: the header is line 1
+    raw = raw[~(raw.apply(lambda col: col.str.strip()) == "").all(axis=1)]
+    continuous = "contract" not in raw.columns
+    required = CONTINUOUS_COLUMNS if continuous else CONTRACT_COLUMNS
+    missing = [c for c in required if c not in raw.columns]
+    if missing:
+        raise DataError(f"missing column(s) {', '.join(missing)} (expected at least "
+                        f"{', '.join(CONTRACT_COLUMNS)}, or {', '.join(CONTINUOUS_COLUMNS)} for "
+                        "an already-continuous series)", file=file, line=1)
+    if raw.empty:
+        raise DataError("file has a header but no price rows", file=file)
+
+    frame = pd.DataFrame(index=raw.index)
+    frame["date"] = _parse_dates(raw["date"], "date", file, required=True)
+    if continuous:
+        frame["contract"] = market
+        frame["expiry"] = pd.NaT
+    else:
+        frame["contract"] = _parse_contracts(raw["contract"], file)
+        frame["expiry"] = _parse_dates(raw["expiry"], "expiry", file, required=False)
+        _check_expiries(frame, file)
+    frame["close"] = _parse_numbers(raw["close"], "close", file, required=True)
+    for col in (*PRICE_COLUMNS, *ACTIVITY_COLUMNS):
+        if col in raw.columns:
+            frame[col] = _parse_numbers(raw[col], col, file, required=False)
+    _check_duplicates(frame, file, continuous)
+    frame["line"] = frame.index.to_numpy()
+    frame = frame.sort_values(["date", "expiry", "contract"], kind="stable").reset_index(drop=True)
+    return MarketBars(market=market, file=file, frame=frame, continuous=continuous)
+
+
+def _first_line(exc: Exception) -> str:
+    return str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+
+
+def _parse_dates(col: pd.Series, name: str, file: str, *, required: bool) -> pd.Series:
+    text = col.str.strip()
+    parsed = pd.to_datetime(text, format="%Y-%m-%d", errors="coerce")
+    bad = parsed.isna() & (text != "")
+    if bad.any():
+        line = int(bad.idxmax())
+        raise DataError(f"column '{name}': cannot read {text[line]!r} as a date "
+                        "(expected YYYY-MM-DD)", file=file, line=line)
+    if required and (text == "").any():
+        line = int((text == "").idxmax())
+        raise DataError(f"column '{name}' is empty (expected a date YYYY-MM-DD)",
+                        file=file, line=line)
+    return parsed
+
+
+def _parse_numbers(col: pd.Series, name: str, file: str, *, required: bool) -> pd.Series:
+    text = col.str.strip()
+    parsed = pd.to_numeric(text.where(text != "", None), errors="coerce").astype(float)
+    bad = (text != "") & ~np.isfinite(parsed)
+    if bad.any():
+        line = int(bad.idxmax())
+        raise DataError(f"column '{name}': cannot read {text[line]!r} as a finite number",
+                        file=file, line=line)
+    if required and (text == "").any():
+        line = int((text == "").idxmax())
+        raise DataError(f"column '{name}' is empty (expected a number)", file=file, line=line)
+    return parsed
+
+
+def _parse_contracts(col: pd.Series, file: str) -> pd.Series:
+    text = col.str.strip()
+    if (text == "").any():
+        line = int((text == "").idxmax())
+        raise DataError("column 'contract' is empty (expected a contract code)",
+                        file=file, line=line)
+    return text
+
+
+def _check_expiries(frame: pd.DataFrame, file: str) -> None:
+    no_expiry = frame["expiry"].isna()
+    if no_expiry.any():
+        line = int(no_expiry.idxmax())
+        raise DataError(f"contract '{frame.at[line, 'contract']}' has no expiry "
+                        "(expected a date YYYY-MM-DD in column 'expiry')", file=file, line=line)
+    expiries = frame.groupby("contract")["expiry"].transform("first")
+    clash = frame["expiry"] != expiries
+    if clash.any():
+        line = int(clash.idxmax())
+        contract = frame.at[line, "contract"]
+        raise DataError(f"contract '{contract}' has expiry {frame.at[line, 'expiry'].date()} here "
+                        f"but {expiries[line].date()} on an earlier line", file=file, line=line)
+
+
+def _check_duplicates(frame: pd.DataFrame, file: str, continuous: bool) -> None:
+    keys = ["date"] if continuous else ["date", "contract"]
+    dup = frame.duplicated(keys, keep="first")
+    if dup.any():
+        line = int(dup.idxmax())
+        row = frame.loc[line]
+        first = int(frame.index[(frame[keys] == row[keys]).all(axis=1)][0])
+        what = f"date {row['date'].date()}"
+        if not continuous:
+            what += f", contract '{row['contract']}'"
+        raise DataError(f"duplicate row for {what} (first seen on line {first})",
+                        file=file, line=line)

@@ -1,0 +1,117 @@
+"""The rule specification: a plain, immutable description of one trading idea's rules."""
+
+from __future__ import annotations
+
+import datetime as dt
+import itertools
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass, field
+from typing import Literal
+
+#: Back-adjustment methods for the continuous series the rules read.
+ADJUST_METHODS = ("difference", "ratio", "none")
+#: Roll rules: a fixed number of business days before expiry, or a switch on volume / open interest.
+ROLL_RULES = ("days_before_expiry", "volume", "open_interest")
+#: Contract-specification keys a rule file may override under ``[costs]``.
+COST_KEYS = ("commission", "exchange_fee", "regulatory_fee", "slippage_ticks")
+
+Adjust = Literal["difference", "ratio", "none"]
+RollRule = Literal["days_before_expiry", "volume", "open_interest"]
+
+
+@dataclass(frozen=True)
+class ParamRange:
+    """An arithmetic range of parameter values, ``stop`` inclusive."""
+
+    start: float
+    stop: float
+    step: float
+
+    def values(self) -> tuple[float, ...]:
+        """The values start, start + step, ... up to and including stop (within rounding)."""
+        count = int((self.stop - self.start) / self.step + 1e-9) + 1
+        return tuple(_tidy(self.start + i * self.step) for i in range(count))
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """One named parameter: either an explicit list of values or a range."""
+
+    name: str
+    choices: tuple[float, ...] | ParamRange
+
+    def values(self) -> tuple[float, ...]:
+        """All values of this parameter, in declared order."""
+        if isinstance(self.choices, ParamRange):
+            return self.choices.values()
+        return tuple(self.choices)
+
+
+@dataclass(frozen=True)
+class RollSpec:
+    """How contracts are spliced into one continuous series per market."""
+
+    rule: RollRule = "days_before_expiry"
+    days_before_expiry: int = 5
+    adjust: Adjust = "difference"
+
+
+@dataclass(frozen=True)
+class SizingSpec:
+    """Fixed (possibly fractional) contracts, or a volatility target.
+
+    With ``target_vol`` set, each market's contract count at the close of t is
+    ``capital * target_vol / (multiplier * sigma_t)``, where ``sigma_t`` is the annualised
+    (x sqrt(252)) standard deviation of the adjusted price changes over the last ``vol_window``
+    bars up to and including t.
+    """
+
+    contracts: float | None = 1.0
+    target_vol: float | None = None
+    capital: float | None = None
+    vol_window: int = 25
+
+
+@dataclass(frozen=True)
+class RuleSpec:
+    """A parsed rule file. ``parameters`` keeps declared order; ``costs`` holds overrides.
+
+    ``costs`` maps ``"*"`` (all markets) or a market name to ``{cost key: value}``.
+    """
+
+    name: str
+    markets: tuple[str, ...]
+    position: str
+    parameters: tuple[Parameter, ...] = ()
+    constraint: str | None = None
+    delay: int = 0
+    roll: RollSpec = field(default_factory=RollSpec)
+    sizing: SizingSpec = field(default_factory=SizingSpec)
+    costs: Mapping[str, Mapping[str, float]] = field(default_factory=dict)
+    start: dt.date | None = None
+    end: dt.date | None = None
+    description: str | None = None
+
+    @property
+    def parameter_names(self) -> tuple[str, ...]:
+        """Parameter names in declared order."""
+        return tuple(p.name for p in self.parameters)
+
+    def grid_size(self) -> int:
+        """Number of parameter sets before the constraint is applied."""
+        size = 1
+        for p in self.parameters:
+            size *= len(p.values())
+        return size
+
+    def iter_grid(self) -> Iterator[dict[str, float]]:
+        """Every combination of parameter values (constraint not applied), first parameter slowest."""
+        names = self.parameter_names
+        for combo in itertools.product(*(p.values() for p in self.parameters)):
+            yield dict(zip(names, combo, strict=True))
+
+
+def _tidy(x: float) -> float:
+    """Round away binary noise from range arithmetic (0.1 + 0.2 -> 0.3); integers stay exact."""
+    r = round(x, 10)
+    return float(int(r)) if r == int(r) else r
