@@ -1,0 +1,156 @@
+"""The ``hunchbook`` command line: thin commands over :mod:`hunchbook.api`."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import os
+import sys
+import tempfile
+from collections.abc import Callable, Sequence
+from pathlib import Path
+from typing import Any
+
+from hunchbook import __version__
+from hunchbook.api import Study, load_data, load_rules
+from hunchbook.core.errors import HunchbookError, RuleError
+from hunchbook.report import format_single, format_sweep
+
+#: The caution printed under every result.
+CAUTION = ("Hypothetical backtest results: not investment advice; past results do not predict "
+           "future ones. Managing others' money is regulated - follow local rules.")
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``hunchbook`` console script; returns the exit status."""
+    parser = _build_parser()
+    args = parser.parse_args(argv)
+    try:
+        return int(args.handler(args) or 0)
+    except HunchbookError as exc:
+        print(f"hunchbook: error: {exc}", file=sys.stderr)
+        return 1
+    except OSError as exc:
+        print(f"hunchbook: error: {exc.filename or ''}: {exc.strerror or exc}", file=sys.stderr)
+        return 1
+    except KeyboardInterrupt:
+        print("hunchbook: interrupted", file=sys.stderr)
+        return 130
+
+
+def _build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="hunchbook", description="Research journal and quick-run backtests for futures ideas.")
+    parser.add_argument("--version", action="version", version=f"hunchbook {__version__}")
+    commands = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    run = commands.add_parser(
+        "run", help="run a rule file over a data folder and print gross/net results",
+        description="Run a rule file over a data folder. With one parameter set (or --params "
+                    "picking one) print its gross/net table; with several, run every declared "
+                    "set and print the best ones.",
+        epilog="Example: hunchbook run examples/demo.toml --data build/demo-data "
+               "--pnl-csv pnl.csv")
+    run.add_argument("rules", metavar="RULEFILE", help="rule file (TOML)")
+    run.add_argument("--data", required=True, metavar="DIR",
+                     help="data folder with markets.toml and one <market>.csv per market")
+    run.add_argument("--params", metavar="NAME=VALUE,...", type=_parse_params, default={},
+                     help="pick parameter values (each must be a declared value)")
+    run.add_argument("--json", metavar="PATH", type=Path,
+                     help="write parameters and per-market/portfolio metrics as JSON")
+    run.add_argument("--pnl-csv", metavar="PATH", type=Path,
+                     help="write daily P&L, one row per (date, market), for one parameter set")
+    run.set_defaults(handler=_cmd_run)
+
+    demo = commands.add_parser(
+        "demo-data", help="write the invented demo desk's market library and price files",
+        description="Write the invented demo scenario (market library and contract-level "
+                    "price files, generated from a seed) into a folder. All invented data.",
+        epilog="Example: hunchbook demo-data build/demo-data")
+    demo.add_argument("folder", metavar="DIR", type=Path)
+    demo.add_argument("--seed", type=int, default=None, help="generator seed (default: fixed)")
+    demo.set_defaults(handler=_cmd_demo_data)
+    return parser
+
+
+def _parse_params(text: str) -> dict[str, float]:
+    params: dict[str, float] = {}
+    for item in filter(None, (s.strip() for s in text.split(","))):
+        name, sep, value = item.partition("=")
+        try:
+            if not sep:
+                raise ValueError
+            params[name.strip()] = float(value)
+        except ValueError:
+            raise argparse.ArgumentTypeError(
+                f"expected NAME=VALUE pairs separated by commas, got {item!r}") from None
+    return params
+
+
+def _cmd_run(args: argparse.Namespace) -> int:
+    rules = load_rules(args.rules)
+    data = load_data(args.data, list(rules.markets))
+    study = Study(rules, data)
+    sets = study.parameter_sets(args.params)
+    if len(sets) > 1 and args.pnl_csv:
+        raise RuleError(f"--pnl-csv writes one parameter set but {len(sets)} are declared: pick "
+                        f"one with --params ({', '.join(rules.parameter_names)})",
+                        file=str(args.rules), key="parameters")
+    results = [study.run_set(params) for params in sets]
+    currency = study.panel.currency
+    if len(results) == 1:
+        print(format_single(rules, results[0], currency))
+    else:
+        print(format_sweep(rules, results, currency))
+    print(CAUTION)
+    if args.json:
+        payload = {
+            "rules": rules.name, "rule_file": str(args.rules), "data": str(args.data),
+            "currency": currency, "markets": list(rules.markets),
+            "parameter_sets": len(results),
+            "sets": [{"params": r.params, **r.metrics} for r in results],
+            "caution": CAUTION,
+        }
+        _write_atomic(args.json, lambda f: json.dump(_json_safe(payload), f, indent=2))
+    if args.pnl_csv:
+        table = results[0].pnl.assign(date=lambda t: t["date"].dt.strftime("%Y-%m-%d"))
+        _write_atomic(args.pnl_csv, lambda f: table.to_csv(f, index=False, float_format="%.10g"))
+    return 0
+
+
+def _cmd_demo_data(args: argparse.Namespace) -> int:
+    from hunchbook.demo import write_demo_data
+
+    kwargs = {} if args.seed is None else {"seed": args.seed}
+    folder = write_demo_data(args.folder, **kwargs)
+    print(f"Invented demo data written to {folder}")
+    return 0
+
+
+def _write_atomic(path: Path, write: Callable[[Any], None]) -> None:
+    """Write a file through a temporary sibling so that a failure never leaves half a file."""
+    path = Path(path)
+    fd, tmp = tempfile.mkstemp(dir=path.parent if str(path.parent) else ".", prefix=".hunchbook-")
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
+            write(handle)
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def _json_safe(value: Any) -> Any:
+    """NaN and infinities become null (JSON has no such numbers)."""
+    if isinstance(value, dict):
+        return {str(k): _json_safe(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return [_json_safe(v) for v in value]
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    return value
+
+
+if __name__ == "__main__":
+    sys.exit(main())
