@@ -1,0 +1,40 @@
+"""Hunchbook's invented demo scenario: a fictional research desk, its market library, invented
+contract-level futures data and example rule files.
+
+The desk is *Fernhollow Lane Partners, systematic research desk*, an invented firm: Ines Marwood
+(research lead) and two junior analysts, Theo Brackwater and Nia Oduya-Fell (see :data:`DESK`).
+It trades eight invented futures markets (:data:`DEMO_MARKETS`): CRUDE, NATGAS (energy), GOLD,
+COPPER (metals), CORN, SOYBEAN (grains), TNOTE10 (rates) and EQIDX (equity index). Contract sizes
+and ticks follow common practice for such products; names, prices, volumes, holidays and expiry
+dates are all invented, and the data is generated deterministically from a seed by
+:func:`write_demo_data`.
+
+Expiry rules: energy contracts expire on the third-to-last business day of the month before
+delivery; GOLD on the last business day on or before the 26th of the delivery month; COPPER on
+or before the 15th; CORN and SOYBEAN on or before the 14th; TNOTE10 on or before the 20th; EQIDX
+on the third Friday (the business day before, if that Friday is a holiday).
+"""
+
+from hunchbook.demo.desk import DESK, Desk, Person
+from hunchbook.demo.generate import (
+    CSV_COLUMNS,
+    DEFAULT_SEED,
+    demo_frames,
+    demo_market_library,
+    market_library_text,
+    write_demo_data,
+)
+from hunchbook.demo.profiles import DEMO_MARKETS
+
+__all__ = [
+    "CSV_COLUMNS",
+    "DEFAULT_SEED",
+    "DEMO_MARKETS",
+    "DESK",
+    "Desk",
+    "Person",
+    "demo_frames",
+    "demo_market_library",
+    "market_library_text",
+    "write_demo_data",
+]
