@@ -1,0 +1,139 @@
+"""The parsed expression object handed to the rest of Hunchbook."""
+
+from __future__ import annotations
+
+from collections.abc import Collection, Mapping
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from hunchbook.core.errors import RuleError
+from hunchbook.core.expr.evaluate import bind, evaluate_bound, lookback
+from hunchbook.core.expr.nodes import Node, ParamRef, SeriesRef
+from hunchbook.core.expr.parser import parse_tree
+
+
+@dataclass(frozen=True)
+class Expression:
+    """A checked expression, ready to evaluate. Immutable and hashable.
+
+    Build one with :func:`parse_expression`.
+    """
+
+    text: str
+    root: Node = field(repr=False)
+    _series: frozenset[str] = field(init=False, repr=False, compare=False)
+    _params: frozenset[str] = field(init=False, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        nodes = list(self.root.walk())
+        object.__setattr__(self, "_series", frozenset(
+            node.name for node in nodes if isinstance(node, SeriesRef)))
+        object.__setattr__(self, "_params", frozenset(
+            node.name for node in nodes if isinstance(node, ParamRef)))
+
+    def series_used(self) -> frozenset[str]:
+        """Names of the series the expression reads."""
+        return self._series
+
+    def params_used(self) -> frozenset[str]:
+        """Names of the parameters the expression reads."""
+        return self._params
+
+    def max_lookback(self, params: Mapping[str, float]) -> int:
+        """Bars of history needed before the expression can have a value.
+
+        On data without gaps, the first defined value is at bar index ``max_lookback(params)``;
+        nested windows add up (``mean(lag(close, 5), 20)`` needs 5 + 19 = 24 bars).
+
+        Raises
+        ------
+        RuleError
+            For a missing parameter or a window out of range, with its column.
+        """
+        return lookback(bind(self.root, params))
+
+    def evaluate(self, series: Mapping[str, np.ndarray], params: Mapping[str, float],
+                 cache: dict | None = None) -> np.ndarray | float:
+        """Compute the expression at the close of every bar.
+
+        Parameters
+        ----------
+        series
+            Arrays of shape (bars, markets) (or (bars,)) by series name, all of one shape; each
+            column is one market's bars, oldest first. Infinite values count as missing (NaN).
+        params
+            Parameter values by name.
+        cache
+            Optional store of shared sub-results (results of the window functions ``mean``,
+            ``ewm``, ``lag``, ...), keyed by the call after parameter substitution, so that
+            ``mean(close, fast)`` with ``fast = 20`` and ``mean(close, 20)`` are computed once.
+            Share one cache only between evaluations over the same series; its arrays are
+            read-only.
+
+        Returns
+        -------
+        numpy.ndarray or float
+            An array of the series' shape when the expression reads a series, else a float
+            (a constraint such as ``fast < slow`` gives 1.0 or 0.0). Missing values are NaN;
+            a value is NaN until all of its windows are full.
+
+        Raises
+        ------
+        RuleError
+            For a missing series or parameter, or a window out of range (with its column).
+        ValueError
+            When the series arrays are not all of one 1-D or 2-D shape.
+        """
+        bound = bind(self.root, params)
+        arrays, shape = _prepare_series(series, self._series)
+        result = evaluate_bound(bound, arrays, shape, cache)
+        if not self._series:
+            return float(result)
+        if not isinstance(result, np.ndarray):
+            return np.full(shape, result)
+        return result if result.flags.writeable else result.copy()
+
+
+def _prepare_series(series: Mapping[str, np.ndarray],
+                    names: frozenset[str]) -> tuple[dict[str, np.ndarray], tuple[int, ...]]:
+    """Read-only float arrays of the named series with infinities as NaN, and their shape."""
+    arrays: dict[str, np.ndarray] = {}
+    shape: tuple[int, ...] = ()
+    for name in sorted(names):
+        if name not in series:
+            raise RuleError(f"no data given for series '{name}'")
+        array = np.asarray(series[name], dtype=np.float64)
+        if array.ndim not in (1, 2) or (arrays and array.shape != shape):
+            raise ValueError(f"series '{name}' has shape {array.shape}; expected one 1-D or "
+                             f"2-D shape {shape or ''} for all series".replace(" ()", ""))
+        if not np.isfinite(array).all():
+            array = np.where(np.isfinite(array), array, np.nan)
+        array = array.view()
+        array.flags.writeable = False
+        arrays[name] = array
+        shape = array.shape
+    return arrays, shape
+
+
+def parse_expression(text: str, *, series_names: Collection[str],
+                     param_names: Collection[str]) -> Expression:
+    """Parse and check an expression.
+
+    Parameters
+    ----------
+    text
+        The expression, e.g. ``"sign(mean(close, fast) - mean(close, slow))"``.
+    series_names
+        Names the expression may use for price series (``close``, ``volume``, ...).
+    param_names
+        Names the expression may use for parameters.
+
+    Raises
+    ------
+    RuleError
+        For anything outside the language, unknown names, wrong argument counts, windows built
+        from series, constant windows or exponents out of range, or text over the size limits;
+        with the 1-based column of the offending token where there is one.
+    """
+    return Expression(text, parse_tree(text, series_names, param_names))

@@ -1,0 +1,112 @@
+"""The syntax tree of an expression: small frozen, hashable node classes.
+
+Equality and hashing ignore ``column`` (where the node starts in the text), so two nodes that
+compute the same thing compare equal. After parameter substitution a node is therefore a key for
+its computed value that is shared between expressions and parameter sets.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True, slots=True)
+class Node:
+    """Base class of all nodes; ``column`` is the 1-based column where the node starts."""
+
+    def children(self) -> tuple[Node, ...]:
+        """The direct sub-expressions of this node."""
+        return ()
+
+    def walk(self) -> Iterator[Node]:
+        """This node and all nodes below it, parents before children."""
+        yield self
+        for child in self.children():
+            yield from child.walk()
+
+
+@dataclass(frozen=True, slots=True)
+class Num(Node):
+    """A number."""
+
+    value: float
+    column: int = field(default=0, compare=False)
+
+
+@dataclass(frozen=True, slots=True)
+class SeriesRef(Node):
+    """A price series given by the caller, such as ``close``."""
+
+    name: str
+    column: int = field(default=0, compare=False)
+
+
+@dataclass(frozen=True, slots=True)
+class ParamRef(Node):
+    """A parameter whose value is given when the expression is evaluated."""
+
+    name: str
+    column: int = field(default=0, compare=False)
+
+
+@dataclass(frozen=True, slots=True)
+class Unary(Node):
+    """``-x``, ``+x`` or ``not x``; ``op`` is ``"-"``, ``"+"`` or ``"not"``."""
+
+    op: str
+    operand: Node
+    column: int = field(default=0, compare=False)
+
+    def children(self) -> tuple[Node, ...]:
+        return (self.operand,)
+
+
+@dataclass(frozen=True, slots=True)
+class Binary(Node):
+    """Arithmetic (``+ - * / ** %``) or a comparison (``< <= > >= == !=``) of two values."""
+
+    op: str
+    left: Node
+    right: Node
+    column: int = field(default=0, compare=False)
+
+    def children(self) -> tuple[Node, ...]:
+        return (self.left, self.right)
+
+
+@dataclass(frozen=True, slots=True)
+class Logical(Node):
+    """``a and b and ...`` or ``a or b or ...``; ``op`` is ``"and"`` or ``"or"``."""
+
+    op: str
+    operands: tuple[Node, ...]
+    column: int = field(default=0, compare=False)
+
+    def children(self) -> tuple[Node, ...]:
+        return self.operands
+
+
+@dataclass(frozen=True, slots=True)
+class Conditional(Node):
+    """``then if condition else otherwise``."""
+
+    condition: Node
+    then: Node
+    otherwise: Node
+    column: int = field(default=0, compare=False)
+
+    def children(self) -> tuple[Node, ...]:
+        return (self.condition, self.then, self.otherwise)
+
+
+@dataclass(frozen=True, slots=True)
+class Call(Node):
+    """A call of a built-in function by name with positional arguments."""
+
+    function: str
+    args: tuple[Node, ...]
+    column: int = field(default=0, compare=False)
+
+    def children(self) -> tuple[Node, ...]:
+        return self.args
