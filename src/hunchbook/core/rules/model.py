@@ -14,6 +14,8 @@ ADJUST_METHODS = ("difference", "ratio", "none")
 ROLL_RULES = ("days_before_expiry", "volume", "open_interest")
 #: Contract-specification keys a rule file may override under ``[costs]``.
 COST_KEYS = ("commission", "exchange_fee", "regulatory_fee", "slippage_ticks")
+#: Price series a position expression may read (the engine checks availability per market).
+SERIES_NAMES = ("close", "open", "high", "low", "volume")
 
 Adjust = Literal["difference", "ratio", "none"]
 RollRule = Literal["days_before_expiry", "volume", "open_interest"]
@@ -105,7 +107,7 @@ class RuleSpec:
         return size
 
     def iter_grid(self) -> Iterator[dict[str, float]]:
-        """Every combination of parameter values (constraint not applied), first parameter slowest."""
+        """Every combination of parameter values (constraint not applied); first one slowest."""
         names = self.parameter_names
         for combo in itertools.product(*(p.values() for p in self.parameters)):
             yield dict(zip(names, combo, strict=True))
