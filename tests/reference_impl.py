@@ -79,10 +79,7 @@ def backtest(frame: pd.DataFrame, target: pd.Series, multiplier: float, cost_per
         else:
             pnl = prev * frame["change"].iloc[i] * multiplier
         pos = 0.0 if math.isnan(value) else value
-        if frame["roll"].iloc[i]:
-            traded = abs(prev) + abs(pos)
-        else:
-            traded = abs(pos - prev)
+        traded = abs(prev) + abs(pos) if frame["roll"].iloc[i] else abs(pos - prev)
         rows.append({"date": d, "contract": frame["contract"].iloc[i], "position": pos,
                      "price_change": frame["change"].iloc[i], "gross_pnl": pnl,
                      "contracts_traded": traded, "cost": traded * cost_per_contract,

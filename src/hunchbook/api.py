@@ -12,16 +12,14 @@ import pandas as pd
 from hunchbook.core.continuous import build_continuous
 from hunchbook.core.engine import EngineOutput, run_positions
 from hunchbook.core.errors import DataError, RuleError
-from hunchbook.core.expr import Expression, parse_expression
+from hunchbook.core.expr import parse_expression
 from hunchbook.core.metrics import summarise
 from hunchbook.core.panel import Panel, build_panel
 from hunchbook.core.prices import MarketData
 from hunchbook.core.prices import load_data as _load_data
 from hunchbook.core.rules import read_rules
-from hunchbook.core.rules.model import RuleSpec
+from hunchbook.core.rules.model import SERIES_NAMES, RuleSpec
 
-#: Series names a signal expression may read.
-SERIES_NAMES = ("close", "open", "high", "low", "volume")
 #: Row label of the portfolio in metric tables.
 PORTFOLIO = "portfolio"
 
@@ -157,5 +155,4 @@ def _with_overrides(spec: Any, costs: Mapping[str, Mapping[str, float]]) -> Any:
     return spec.with_costs(merged) if merged else spec
 
 
-__all__ = ["PORTFOLIO", "SERIES_NAMES", "SetResult", "Study", "load_data", "load_rules", "run",
-           "Expression"]
+__all__ = ["PORTFOLIO", "SetResult", "Study", "load_data", "load_rules", "run"]

@@ -76,7 +76,8 @@ def test_none_keeps_the_gap(tmp_path):
 
 def test_three_contracts(tmp_path):
     # Contracts X (exp Thu 2024-01-04), Y (exp Tue 2024-01-09), Z (exp 2024-02-15), N = 1:
-    # X cutoff Wed 01-03 -> rolled at close of day 3; Y cutoff Mon 01-08 -> rolled at close of day 6.
+    # X cutoff Wed 01-03: rolled at the close of day 3;
+    # Y cutoff Mon 01-08: rolled at the close of day 6.
     x = [10.0, 10.5, 10.2]
     y = [11.0, 11.2, 11.0, 11.6, 11.4, 11.8]
     z = [12.0, 12.1, 12.3, 12.5, 12.2, 12.9]

@@ -117,7 +117,8 @@ def read_market_csv(path: str | os.PathLike[str], market: str) -> MarketBars:
     except UnicodeDecodeError:
         raise DataError("file is not UTF-8 text", file=file) from None
     except pd.errors.EmptyDataError:
-        raise DataError("file is empty (expected a header line and price rows)", file=file) from None
+        raise DataError("file is empty (expected a header line and price rows)",
+                        file=file) from None
     except pd.errors.ParserError as exc:
         raise DataError(f"not a readable CSV file ({_first_line(exc)})", file=file) from None
     raw.columns = [str(c).strip().lower() for c in raw.columns]
