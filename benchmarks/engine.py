@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from hunchbook.core.continuous import ContinuousSeries
-from hunchbook.core.engine import run_positions
+from hunchbook.core.engine import Backtest
 from hunchbook.core.expr import parse_expression
 from hunchbook.core.markets import MarketSpec
 from hunchbook.core.panel import build_panel
@@ -76,7 +76,7 @@ def main() -> None:
     panel = build_panel(series, specs)
     expr = parse_expression(RULE, series_names={"close"}, param_names=())
     sizing = SizingSpec(contracts=1.0)
-    engine_s, output = best_of(lambda: run_positions(panel, expr, {}, sizing), 7)
+    engine_s, output = best_of(lambda: Backtest(panel, expr, sizing).run({}), 7)
     pandas_s, reference = best_of(lambda: pandas_run(series, specs), 3)
     portfolio = output.portfolio()["net_pnl"]
     agree = np.allclose(portfolio.to_numpy(), reference.loc[portfolio.index].to_numpy(),

@@ -10,7 +10,7 @@ from typing import Any
 import pandas as pd
 
 from hunchbook.core.continuous import build_continuous
-from hunchbook.core.engine import EngineOutput, run_positions
+from hunchbook.core.engine import Backtest, EngineOutput
 from hunchbook.core.errors import DataError, RuleError
 from hunchbook.core.expr import parse_expression
 from hunchbook.core.metrics import summarise
@@ -95,7 +95,8 @@ class Study:
             series.append(built)
         specs = [_with_overrides(data.library[m], rules.costs) for m in rules.markets]
         self.panel: Panel = build_panel(series, specs)
-        self._cache: dict[Any, Any] = {}
+        self.backtest = Backtest(self.panel, self.position, rules.sizing, delay=rules.delay,
+                                 start=rules.start, end=rules.end)
 
     def parameter_sets(self, fixed: Mapping[str, float] | None = None) -> list[dict[str, float]]:
         """Declared parameter sets that satisfy the constraint, optionally filtered by values."""
@@ -124,9 +125,7 @@ class Study:
 
     def run_set(self, params: Mapping[str, float]) -> SetResult:
         """Run one parameter set and summarise it, gross and net, per market and portfolio."""
-        r = self.rules
-        output = run_positions(self.panel, self.position, dict(params), r.sizing, delay=r.delay,
-                               start=r.start, end=r.end, cache=self._cache)
+        output = self.backtest.run(params)
         markets = {m: summarise(output.market_frame(j)) for j, m in enumerate(self.panel.markets)}
         metrics = {PORTFOLIO: summarise(output.portfolio()), "markets": markets}
         return SetResult(params=dict(params), output=output, metrics=metrics)

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import datetime as dt
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -98,10 +99,12 @@ class EngineOutput:
         return table.sort_values(["date", "market"], kind="stable").reset_index(drop=True)
 
 
-def run_positions(panel: Panel, position: Expression, params: dict[str, float],
-                  sizing: SizingSpec, *, delay: int = 0, start: dt.date | None = None,
-                  end: dt.date | None = None, cache: dict[Any, Any] | None = None) -> EngineOutput:
-    """Run one parameter set over a panel.
+class Backtest:
+    """One rule over one panel, ready to run any of its parameter sets.
+
+    Everything the parameter sets share is computed once here: the result window, each
+    market's price change times its multiplier, the roll cells, the volatility-target
+    contract counts, and (through ``cache``) every window function the sets have in common.
 
     Parameters
     ----------
@@ -109,38 +112,55 @@ def run_positions(panel: Panel, position: Expression, params: dict[str, float],
         Markets' continuous series and contract specifications.
     position
         The signal expression; its value times the contract count is the position.
-    params
-        Parameter values by name.
     sizing
         Fixed contracts or a volatility target.
     delay
         Trade the position this many closes after it is computed.
     start, end
         Optional window of result rows (signals still read the bars before ``start``).
-    cache
-        Shared sub-results across parameter sets (see :meth:`Expression.evaluate`).
     """
-    valid = panel.valid
-    signal = np.broadcast_to(position.evaluate(panel.series, params, cache), valid.shape)
-    target = signal * _contracts(panel, sizing, cache)
-    if delay:
-        target = np.vstack([np.full((delay, target.shape[1]), np.nan), target[:-delay]])
-    defined = ~np.isnan(target) & valid
-    rows = np.cumsum(defined, axis=0) > 0  # from the first defined bar on
-    rows &= valid
-    if start is not None:
-        rows &= panel.dates >= np.datetime64(start, "D")
-    if end is not None:
-        rows &= panel.dates <= np.datetime64(end, "D")
-    pos = np.where(rows & defined, target, 0.0)
-    prev = np.vstack([np.zeros((1, pos.shape[1])), pos[:-1]])
-    change = np.where(rows, panel.change, 0.0)
-    gross = prev * change * panel.multiplier
-    traded = np.where(panel.roll, np.abs(prev) + np.abs(pos), np.abs(pos - prev))
-    traded = np.where(rows, traded, 0.0)
-    cost = traded * panel.cost_per_contract
-    return EngineOutput(panel=panel, params=dict(params), position=pos, gross=gross,
-                        traded=traded, cost=cost, rows=rows)
+
+    def __init__(self, panel: Panel, position: Expression, sizing: SizingSpec, *,
+                 delay: int = 0, start: dt.date | None = None,
+                 end: dt.date | None = None) -> None:
+        self.panel = panel
+        self.position = position
+        self.delay = delay
+        self.cache: dict[Any, Any] = {}
+        window = panel.valid.copy()
+        if start is not None:
+            window &= panel.dates >= np.datetime64(start, "D")
+        if end is not None:
+            window &= panel.dates <= np.datetime64(end, "D")
+        self.window = window
+        self.change_value = np.where(window, panel.change, 0.0) * panel.multiplier
+        self.roll_cells = np.flatnonzero(panel.roll & window)
+        self.contracts = _contracts(panel, sizing, self.cache)
+        self._bar = np.arange(window.shape[0])[:, None]
+
+    def run(self, params: Mapping[str, float]) -> EngineOutput:
+        """Run one parameter set: positions, gross P&L, contracts traded and costs."""
+        signal = self.position.evaluate(self.panel.series, params, self.cache)
+        target = np.broadcast_to(signal * self.contracts, self.window.shape)
+        if self.delay:
+            shifted = np.full(target.shape, np.nan)
+            shifted[self.delay:] = target[:-self.delay]
+            target = shifted
+        defined = ~np.isnan(target) & self.window
+        first = np.where(defined.any(axis=0), defined.argmax(axis=0), len(self._bar))
+        rows = self.window & (self._bar >= first)  # from the first defined bar on
+        pos = np.where(defined & rows, target, 0.0)  # undefined later on: flat
+        prev = np.empty_like(pos)
+        prev[0] = 0.0
+        prev[1:] = pos[:-1]
+        gross = prev * self.change_value
+        traded = np.abs(pos - prev)
+        cells = self.roll_cells
+        traded.flat[cells] = np.abs(prev.flat[cells]) + np.abs(pos.flat[cells])
+        traded *= self.window
+        cost = traded * self.panel.cost_per_contract
+        return EngineOutput(panel=self.panel, params=dict(params), position=pos, gross=gross,
+                            traded=traded, cost=cost, rows=rows)
 
 
 def _contracts(panel: Panel, sizing: SizingSpec, cache: dict[Any, Any] | None) -> Any:
