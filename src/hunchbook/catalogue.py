@@ -1,0 +1,439 @@
+"""The idea catalogue and research journal: the Python API behind the desktop window, the
+``hunchbook ideas|journal|runs|catalogue`` commands and notebooks.
+
+One SQLite file holds a desk's ideas, rule revisions, pre-registrations, runs, journal and
+reviews (see :mod:`hunchbook.store`). Open it with ``Catalogue(path)``; the schema is migrated
+on open, after an automatic backup. Every method that writes runs in one transaction; group
+several with ``with catalogue.transaction():``. A ``Catalogue`` belongs to the thread that made
+it (SQLite connections are per thread): open one per worker thread or process. Several
+processes may write at once; each waits for the others' write lock (busy timeout).
+
+Example
+-------
+>>> cat = Catalogue("desk.sqlite")                                      # doctest: +SKIP
+>>> idea = cat.add_idea(title="Carry in grains", hypothesis="...", submitted_by="Nia")
+>>> cat.set_stage(idea, "submitted", by="Nia", reason="ready for review")
+>>> cat.review(idea, reviewer="Ines", checklist={k: True for k in CHECKLIST},
+...            decision="accept", comments="Go ahead.")
+>>> rev = cat.save_rules(idea, open("carry.toml").read(), by="Nia")
+>>> run_id = cat.record_run(idea, revision_id=rev.id, ...)              # see record_run
+>>> cat.trial_count(idea), cat.idea(idea).last_verdict
+
+API
+---
+Ideas: ``add_idea``, ``idea``, ``update_idea``, ``list_ideas``, ``set_stage``,
+``preregistrations``. Rules: ``save_rules``, ``revisions``, ``latest_revision``,
+``revision``. Runs: ``record_run``, ``trial_count``, ``trial_sharpes``, ``runs``, ``run``.
+Journal: ``add_entry``, ``correct_entry``, ``journal``. Reviews: ``review``, ``reviews``.
+Bundles: ``export_bundle``, ``import_bundle``. Upkeep: ``backup``, ``check``,
+``schema_version``, ``transaction``, ``close``.
+
+Stages (``STAGES``): draft -> submitted -> accepted | returned; accepted -> tested (by
+recording a run) -> promoted | shelved (see ``TRANSITIONS``).
+"""
+
+from __future__ import annotations
+
+import contextlib
+import datetime as dt
+import json
+import os
+from collections.abc import Callable, Iterator, Mapping, Sequence
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+import platformdirs
+
+from hunchbook.store import (
+    bundles,
+    check,
+    ideas,
+    journal,
+    migrations,
+    preregistration,
+    search,
+    validate,
+)
+from hunchbook.store import db as dbmod
+from hunchbook.store import reviews as reviewmod
+from hunchbook.store import revisions as revmod
+from hunchbook.store import runs as runmod
+from hunchbook.store.errors import CatalogueError
+from hunchbook.store.records import (
+    Entry,
+    Idea,
+    IdeaSummary,
+    ImportReport,
+    Preregistration,
+    Review,
+    Revision,
+    RunRecord,
+)
+from hunchbook.store.vocab import (
+    CHECKLIST,
+    DECISIONS,
+    FROZEN_FIELDS,
+    RUNNABLE_STAGES,
+    STAGES,
+    TRANSITIONS,
+    USER_ENTRY_KINDS,
+)
+
+__all__ = ["CHECKLIST", "STAGES", "TRANSITIONS", "Catalogue", "CatalogueError",
+           "default_catalogue_path"]
+
+#: Environment variable that overrides the default catalogue location.
+CATALOGUE_ENV = "HUNCHBOOK_CATALOGUE"
+
+
+def default_catalogue_path() -> Path:
+    """``$HUNCHBOOK_CATALOGUE`` if set, else ``catalogue.sqlite`` in the user's data folder."""
+    override = os.environ.get(CATALOGUE_ENV)
+    if override:
+        return Path(override)
+    return platformdirs.user_data_path("hunchbook", appauthor=False) / "catalogue.sqlite"
+
+
+class Catalogue:
+    """An open catalogue file.
+
+    Parameters
+    ----------
+    path
+        The SQLite file (created if missing and ``create`` is true).
+    create
+        Refuse a missing file when false.
+    clock
+        Returns the current time (aware ``datetime``); the default is the system clock in UTC.
+        The demo builder passes a clock that walks through invented dates.
+    """
+
+    def __init__(self, path: str | os.PathLike[str], *, create: bool = True,
+                 clock: Callable[[], dt.datetime] | None = None) -> None:
+        self.path = Path(path)
+        self._clock = clock or dbmod.utc_now
+        self.db = migrations.open_catalogue_db(self.path, create=create)
+
+    # -- upkeep ---------------------------------------------------------------------------
+    def close(self) -> None:
+        """Close the connection (the file stays consistent whether or not this is called)."""
+        self.db.close()
+
+    def __enter__(self) -> Catalogue:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    @contextlib.contextmanager
+    def transaction(self) -> Iterator[Catalogue]:
+        """Group several writes into one transaction: all of them are kept, or none."""
+        with dbmod.write(self.db):
+            yield self
+
+    def schema_version(self) -> int:
+        """The schema version of the file (the number of migrations applied)."""
+        return migrations.schema_version(self.db)
+
+    def backup(self, path: str | os.PathLike[str]) -> None:
+        """Copy the catalogue to a new file with SQLite's online backup API (safe while others
+        write); an existing file is never overwritten."""
+        dbmod.backup(self.db, path)
+
+    def check(self) -> list[str]:
+        """Problems found by integrity, foreign-key, full-text and record checks (empty: sound)."""
+        return check.problems(self.db)
+
+    def _now(self) -> str:
+        return dbmod.timestamp(self._clock())
+
+    # -- ideas ----------------------------------------------------------------------------
+    def add_idea(self, *, title: str, hypothesis: str, rationale: str = "",
+                 rationale_kind: str = "other", source_kind: str = "own",
+                 citation: str | None = None, link: str | None = None, submitted_by: str,
+                 reviewer: str | None = None, markets: Sequence[str] = (),
+                 tags: Sequence[str] = (), stage: str = "draft") -> int:
+        """Write a new idea (stage ``draft`` or ``submitted``) and return its id."""
+        fields = ideas.clean_fields(dict(
+            title=title, hypothesis=hypothesis, rationale=rationale,
+            rationale_kind=rationale_kind, source_kind=source_kind, citation=citation,
+            link=link, submitted_by=submitted_by, reviewer=reviewer, markets=markets, tags=tags,
+            stage=stage))
+        if fields["stage"] not in ("draft", "submitted"):
+            raise CatalogueError("a new idea starts as 'draft' or 'submitted'", field="stage")
+        at = self._now()
+        with dbmod.write(self.db):
+            idea_id = ideas.insert(self.db, fields, at=at)
+            journal.append(self.db, idea_id=idea_id, kind="stage", by=fields["submitted_by"],
+                           at=at, text=f"Idea written down (stage {fields['stage']}).")
+        return idea_id
+
+    def idea(self, idea_id: int) -> Idea:
+        """The idea with this id."""
+        return ideas.get(self.db, idea_id)
+
+    def update_idea(self, idea_id: int, *, by: str, reason: str | None = None,
+                    **fields: Any) -> Idea:
+        """Edit an idea's fields (any of ``ideas.EDITABLE``) and return it as changed.
+
+        Every change is journalled (``edit`` entry with old and new values). After the first
+        run the rationale and markets are frozen by pre-registration: changing them needs a
+        ``reason`` and writes a new pre-registration version and journal entry; the trial
+        count keeps accumulating.
+        """
+        unknown = [k for k in fields if k not in ideas.EDITABLE]
+        if unknown:
+            raise CatalogueError(f"cannot edit {', '.join(unknown)} here (editable: "
+                                 f"{', '.join(ideas.EDITABLE)}; the stage moves with set_stage)")
+        by = validate.name(by, "by")
+        clean = ideas.clean_fields(fields)
+        with dbmod.write(self.db):
+            idea = ideas.get(self.db, idea_id)
+            changed = {k: v for k, v in clean.items() if getattr(idea, k) != v}
+            if not changed:
+                return idea
+            frozen = preregistration.current(self.db, idea.id)
+            frozen_changes = [k for k in FROZEN_FIELDS if k in changed]
+            if frozen is not None and frozen_changes:
+                if reason is None:
+                    raise CatalogueError(
+                        f"{' and '.join(frozen_changes)} frozen by pre-registration at the "
+                        f"first run ({frozen.frozen_at[:10]}); give a reason to change "
+                        "it (a new pre-registration version is written)", field=f"idea {idea_id}")
+                reason = validate.text(reason, "reason")
+            at = self._now()
+            lines = [ideas.describe_change(k, getattr(idea, k), v) for k, v in changed.items()]
+            ideas.update(self.db, idea.id, changed, at=at)
+            journal.append(self.db, idea_id=idea.id, kind="edit", by=by, at=at,
+                           text="Edited. " + "; ".join(lines)
+                           + (f". Reason: {reason}" if reason else ""))
+            if frozen is not None and frozen_changes:
+                preregistration.amend(
+                    self.db, ideas.get(self.db, idea.id), revmod.get(self.db, frozen.revision_id),
+                    changed=[f"Changed {', '.join(frozen_changes)}."], by=by, reason=str(reason),
+                    at=at, trials=runmod.trial_count(self.db, idea.id))
+            return ideas.get(self.db, idea.id)
+
+    def list_ideas(self, *, stage: str | None = None, verdict: str | None = None,
+                   market: str | None = None, tag: str | None = None,
+                   author: str | None = None, source_kind: str | None = None,
+                   text: str | None = None, limit: int | None = None) -> list[IdeaSummary]:
+        """Ideas matching every filter given, most recently updated first.
+
+        ``text`` is a full-text search: every word must appear (as a word or the start of one)
+        in the title, hypothesis or rationale, or in one of the idea's journal entries.
+        """
+        return search.list_ideas(self.db, stage=stage, verdict=verdict, market=market, tag=tag,
+                                 author=author, source_kind=source_kind, text=text, limit=limit)
+
+    def set_stage(self, idea_id: int, stage: str, *, by: str, reason: str) -> None:
+        """Move an idea along an allowed transition (see ``TRANSITIONS``); journalled."""
+        with dbmod.write(self.db):
+            ideas.set_stage(self.db, idea_id, stage, by=by, reason=reason, at=self._now())
+
+    def preregistrations(self, idea_id: int) -> list[Preregistration]:
+        """The idea's pre-registration versions, oldest first (empty before its first run)."""
+        return preregistration.versions(self.db, ideas.get(self.db, idea_id).id)
+
+    # -- rule revisions -------------------------------------------------------------------
+    def save_rules(self, idea_id: int, rule_text: str, *, by: str) -> Revision:
+        """Keep a rule file (TOML text) as the idea's next revision and return it.
+
+        Text identical to the latest revision returns that revision unchanged. After the first
+        run, a revision whose parameter space differs from the pre-registered one writes a new
+        pre-registration version and journal entry.
+        """
+        at = self._now()
+        with dbmod.write(self.db):
+            idea = ideas.get(self.db, idea_id)
+            revision, created = revmod.save(self.db, idea.id, rule_text, by=by, at=at)
+            if created:
+                journal.append(self.db, idea_id=idea.id, kind="edit", by=by, at=at,
+                               text=f"Rule file saved as revision {revision.number} "
+                                    f"(SHA-256 {revision.sha256[:12]}).")
+                self._follow_parameter_space(idea, revision, by=by, at=at,
+                                             why=f"rule revision {revision.number} saved")
+        return revision
+
+    def _follow_parameter_space(self, idea: Idea, revision: Revision, *, by: str, at: str,
+                                why: str) -> None:
+        last = preregistration.current(self.db, idea.id)
+        if last is None or last.parameter_space == revision.parameter_space:
+            return
+        preregistration.amend(
+            self.db, ideas.get(self.db, idea.id), revision, by=by, at=at, reason=why,
+            changed=[f"Parameter space {last.parameter_space or 'none'} -> "
+                     f"{revision.parameter_space or 'none'}."],
+            trials=runmod.trial_count(self.db, idea.id))
+
+    def revisions(self, idea_id: int) -> list[Revision]:
+        """The idea's rule revisions, oldest first."""
+        return revmod.of_idea(self.db, ideas.get(self.db, idea_id).id)
+
+    def latest_revision(self, idea_id: int) -> Revision | None:
+        """The idea's newest rule revision, if any."""
+        return revmod.latest(self.db, ideas.get(self.db, idea_id).id)
+
+    def revision(self, revision_id: int) -> Revision:
+        """One rule revision by id."""
+        return revmod.get(self.db, validate.integer(revision_id, "revision id"))
+
+    # -- runs -----------------------------------------------------------------------------
+    def record_run(self, idea_id: int, *, revision_id: int,
+                   parameter_sets: Sequence[Mapping[str, float]], data_fingerprint: str,
+                   engine_version: str, summary: Mapping[str, Any],
+                   statistics: Mapping[str, Any], verdict: Mapping[str, Any],
+                   chosen_params: Mapping[str, float], daily_pnl: pd.DataFrame,
+                   by: str) -> int:
+        """Record a run of an accepted idea and return its id.
+
+        Shapes are documented in :func:`hunchbook.store.runs.clean`: ``summary["sets"]`` holds
+        ``{"params": ..., "net_sharpe": ...}`` for every parameter set; ``verdict`` holds
+        ``label`` and ``reasons``; ``daily_pnl`` is the chosen set's daily P&L (date index;
+        columns ``gross_pnl``, ``cost``, ``net_pnl``).
+
+        The first run freezes the pre-registration (rationale, markets, parameter space); a
+        run on a revision with another parameter space writes a new pre-registration version.
+        A run moves an ``accepted`` idea to ``tested``. A ``run`` journal entry carries the
+        verdict, its reasons and the trial count.
+        """
+        clean = runmod.clean(parameter_sets=parameter_sets, data_fingerprint=data_fingerprint,
+                             engine_version=engine_version, summary=summary,
+                             statistics=statistics, verdict=verdict,
+                             chosen_params=chosen_params, daily_pnl=daily_pnl)
+        by = validate.name(by, "by")
+        at = self._now()
+        with dbmod.write(self.db):
+            idea = ideas.get(self.db, idea_id)
+            if idea.stage not in RUNNABLE_STAGES:
+                raise CatalogueError(
+                    f"idea {idea.id} is '{idea.stage}'; runs are recorded for ideas that are "
+                    f"{', '.join(RUNNABLE_STAGES)} (review it first)", field=f"idea {idea.id}")
+            revision = revmod.get(self.db, validate.integer(revision_id, "revision id"))
+            if revision.idea_id != idea.id:
+                raise CatalogueError(f"rule revision {revision.id} belongs to idea "
+                                     f"{revision.idea_id}, not {idea.id}", field="revision_id")
+            if preregistration.current(self.db, idea.id) is None:
+                preregistration.freeze(self.db, idea, revision, by=by, at=at)
+            else:
+                self._follow_parameter_space(
+                    idea, revision, by=by, at=at,
+                    why=f"run on rule revision {revision.number}")
+            run_id = runmod.insert(self.db, idea.id, revision, clean, by=by, at=at)
+            journal.append(self.db, idea_id=idea.id, kind="run", by=by, at=at,
+                           text=_run_text(run_id, revision, clean,
+                                          runmod.trial_count(self.db, idea.id)))
+            if idea.stage == "accepted":
+                ideas.set_stage(self.db, idea.id, "tested", by=by, at=at, runs_recorded=1,
+                                reason=f"First run recorded (run {run_id}).")
+        return run_id
+
+    def trial_count(self, idea_id: int) -> int:
+        """Distinct (strategy, parameter set) trials ever run for the idea, across revisions
+        (definition in :mod:`hunchbook.store.runs`)."""
+        return runmod.trial_count(self.db, ideas.get(self.db, idea_id).id)
+
+    def trial_sharpes(self, idea_id: int) -> list[float]:
+        """Annualised net Sharpe of each trial (latest run of it), for the deflated Sharpe's
+        variance across all trials; trials without a Sharpe are left out."""
+        return runmod.trial_sharpes(self.db, ideas.get(self.db, idea_id).id)
+
+    def runs(self, idea_id: int | None = None) -> list[RunRecord]:
+        """Runs oldest first, of one idea or of all; without daily P&L (see :meth:`run`)."""
+        if idea_id is not None:
+            idea_id = ideas.get(self.db, idea_id).id
+        return runmod.of_idea(self.db, idea_id)
+
+    def run(self, run_id: int) -> RunRecord:
+        """One run with its daily P&L decoded into ``daily_pnl``."""
+        return runmod.get(self.db, run_id)
+
+    # -- journal --------------------------------------------------------------------------
+    def add_entry(self, *, idea_id: int | None, kind: str, text: str, by: str) -> int:
+        """Append a ``note`` or ``decision`` to an idea's journal (or the general journal when
+        ``idea_id`` is ``None``) and return its id."""
+        kind = validate.choice(kind, "kind", USER_ENTRY_KINDS)
+        at = self._now()
+        with dbmod.write(self.db):
+            if idea_id is not None:
+                idea_id = ideas.get(self.db, idea_id).id
+                self.db.execute("UPDATE ideas SET updated_at = ? WHERE id = ?", [at, idea_id])
+            return journal.append(self.db, idea_id=idea_id, kind=kind, text=text, by=by, at=at)
+
+    def correct_entry(self, entry_id: int, text: str, *, by: str) -> int:
+        """Append a correction of an entry (the entry itself never changes); returns its id."""
+        at = self._now()
+        with dbmod.write(self.db):
+            entry = journal.get(self.db, validate.integer(entry_id, "entry id"))
+            return journal.append(self.db, idea_id=entry.idea_id, kind="correction", text=text,
+                                  by=by, at=at, corrects=entry.id)
+
+    def journal(self, idea_id: int | None = None, *, kind: str | None = None,
+                limit: int | None = None) -> list[Entry]:
+        """Entries oldest first: of one idea, or of the whole catalogue when ``idea_id`` is
+        ``None``; only the newest ``limit`` when given."""
+        if idea_id is not None:
+            idea_id = ideas.get(self.db, idea_id).id
+        return journal.entries(self.db, idea_id, kind=kind, limit=limit)
+
+    def entry(self, entry_id: int) -> Entry:
+        """One journal entry by id."""
+        return journal.get(self.db, validate.integer(entry_id, "entry id"))
+
+    # -- reviews --------------------------------------------------------------------------
+    def review(self, idea_id: int, *, reviewer: str, checklist: Mapping[str, bool],
+               decision: str, comments: str) -> int:
+        """Review a submitted idea and return the review id.
+
+        ``checklist`` answers every item of ``CHECKLIST``; ``decision`` is ``accept`` (every
+        item ticked; stage -> accepted) or ``return`` (comments required; stage -> returned).
+        The review, and the stage change with the comments as its reason, are journalled.
+        """
+        reviewer = validate.name(reviewer, "reviewer")
+        answers = reviewmod.clean_checklist(checklist)
+        comments = validate.text(comments, "comments", required=False)
+        decision = reviewmod.check_decision(decision, answers, comments)
+        at = self._now()
+        with dbmod.write(self.db):
+            idea = ideas.get(self.db, idea_id)
+            if idea.stage != "submitted":
+                raise CatalogueError(f"idea {idea.id} is '{idea.stage}'; only submitted ideas "
+                                     "are reviewed", field=f"idea {idea.id}")
+            review_id = reviewmod.insert(self.db, idea.id, reviewer=reviewer, checklist=answers,
+                                         decision=decision, comments=comments, at=at)
+            journal.append(self.db, idea_id=idea.id, kind="review", by=reviewer, at=at,
+                           text=reviewmod.journal_text(answers, decision, comments))
+            if idea.reviewer is None:
+                ideas.update(self.db, idea.id, {"reviewer": reviewer}, at=at)
+            ideas.set_stage(self.db, idea.id, DECISIONS[decision], by=reviewer, at=at,
+                            reason=f"Review {review_id}: {comments or 'checklist complete.'}")
+        return review_id
+
+    def reviews(self, idea_id: int) -> list[Review]:
+        """The idea's reviews, oldest first."""
+        return reviewmod.of_idea(self.db, ideas.get(self.db, idea_id).id)
+
+    # -- bundles --------------------------------------------------------------------------
+    def export_bundle(self, idea_id: int, path: str | os.PathLike[str], *,
+                      overwrite: bool = False) -> None:
+        """Write the idea, its revisions, pre-registration, journal, reviews and runs to a
+        bundle file (a zip of TOML, rule files, JSON and CSV)."""
+        bundles.export(self.db, idea_id, path, at=self._now(), overwrite=overwrite)
+
+    def import_bundle(self, path: str | os.PathLike[str], *, by: str) -> ImportReport:
+        """Import a bundle: checked whole first, applied in one transaction, never
+        overwriting (see :mod:`hunchbook.store.bundles`)."""
+        by = validate.name(by, "by")
+        with dbmod.write(self.db):
+            return bundles.import_bundle(self.db, path, by=by, at=self._now())
+
+
+def _run_text(run_id: int, revision: Revision, run: runmod.RunInput, trials: int) -> str:
+    chosen = ", ".join(f"{k}={v:g}" for k, v in run.chosen_params.items()) or "no parameters"
+    sharpe = ("n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}")
+    reasons = " ".join(json.loads(run.verdict)["reasons"])
+    return (f"Run {run_id} on rule revision {revision.number}: {len(run.parameter_sets)} "
+            f"parameter set(s), trial count now {trials}; data {run.data_fingerprint[:12]}, "
+            f"engine {run.engine_version}. Chosen set {chosen}, net Sharpe {sharpe}. "
+            f"Verdict: {run.verdict_label}. {reasons}").strip()

@@ -1,0 +1,267 @@
+"""Idea bundles: export one idea with its revisions, pre-registration, journal, reviews and
+runs to a zip of plain text files, and import such a file without ever overwriting.
+
+Import rules: a bundle is read and checked whole first (:mod:`hunchbook.store.bundle_read`)
+and then applied in one transaction, so nothing is imported partially. An idea whose uuid is
+new is created as the bundle has it. For an idea the catalogue already holds, the idea's own
+fields are never changed; records (revisions, pre-registration versions, journal entries,
+reviews, runs) whose uuid is new are appended, records already present are skipped, and every
+difference is reported as a conflict and kept as the catalogue had it.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import os
+import tempfile
+import zipfile
+from pathlib import Path
+from typing import Any
+
+import tomlkit
+from sqlite_utils import Database
+
+from hunchbook.store import ideas, journal, pnl, preregistration, reviews, revisions, runs
+from hunchbook.store.bundle_read import FORMAT, FORMAT_VERSION, MANIFEST, read_bundle
+from hunchbook.store.errors import CatalogueError
+from hunchbook.store.records import ImportReport
+
+#: Record kinds counted in an :class:`ImportReport`.
+RECORD_KINDS = ("revisions", "preregistrations", "journal", "reviews", "runs")
+_IDEA_FIELDS = ("title", "hypothesis", "rationale", "rationale_kind", "source_kind",
+                "citation", "link", "submitted_by", "reviewer", "markets", "tags", "stage")
+
+
+def export(db: Database, idea_id: int, path: str | os.PathLike[str], *, at: str,
+           overwrite: bool = False) -> Path:
+    """Write the idea's bundle to ``path`` (through a temporary file, renamed into place)."""
+    path = Path(path)
+    if path.exists() and not overwrite:
+        raise CatalogueError("file exists; choose another name", where=str(path))
+    idea = ideas.get(db, idea_id)
+    revs = revisions.of_idea(db, idea.id)
+    rev_uuid = {r.id: r.uuid for r in revs}
+    entries = journal.entries(db, idea.id)
+    entry_uuid = {e.id: e.uuid for e in entries}
+    files: dict[str, str] = {}
+    doc: dict[str, Any] = {
+        "format": FORMAT, "format_version": FORMAT_VERSION, "exported_at": at,
+        "idea": _drop_none({"uuid": idea.uuid, **{k: getattr(idea, k) for k in _IDEA_FIELDS},
+                            "markets": list(idea.markets), "tags": list(idea.tags),
+                            "created_at": idea.created_at, "updated_at": idea.updated_at}),
+        "revisions": [], "preregistrations": [], "journal": [], "reviews": [], "runs": [],
+    }
+    for r in revs:
+        name = f"rules/{r.number:03d}-{r.sha256}.toml"
+        files[name] = r.text
+        doc["revisions"].append({"uuid": r.uuid, "number": r.number, "sha256": r.sha256,
+                                 "saved_at": r.saved_at, "saved_by": r.saved_by, "file": name})
+    for p in preregistration.versions(db, idea.id):
+        doc["preregistrations"].append({
+            "uuid": p.uuid, "version": p.version, "rationale": p.rationale,
+            "markets": list(p.markets), "parameter_space": p.parameter_space,
+            "revision": rev_uuid[p.revision_id], "frozen_at": p.frozen_at,
+            "frozen_by": p.frozen_by, "reason": p.reason})
+    for e in entries:
+        doc["journal"].append(_drop_none({
+            "uuid": e.uuid, "kind": e.kind, "at": e.at, "by": e.by, "text": e.text,
+            "corrects": entry_uuid.get(e.corrects) if e.corrects else None}))
+    for v in reviews.of_idea(db, idea.id):
+        doc["reviews"].append({"uuid": v.uuid, "reviewer": v.reviewer, "decision": v.decision,
+                               "comments": v.comments, "at": v.at, "checklist": v.checklist})
+    for summary in runs.of_idea(db, idea.id):
+        run = runs.get(db, summary.id)
+        body = {"parameter_sets": list(run.parameter_sets),
+                "data_fingerprint": run.data_fingerprint, "engine_version": run.engine_version,
+                "summary": run.summary, "statistics": run.statistics, "verdict": run.verdict,
+                "chosen_params": run.chosen_params}
+        files[f"runs/{run.uuid}.json"] = json.dumps(body, indent=1, allow_nan=False)
+        files[f"runs/{run.uuid}.csv"] = _pnl_text(run.daily_pnl)
+        doc["runs"].append({"uuid": run.uuid, "revision": rev_uuid[run.revision_id],
+                            "recorded_at": run.recorded_at, "recorded_by": run.recorded_by,
+                            "file": f"runs/{run.uuid}.json",
+                            "pnl_file": f"runs/{run.uuid}.csv"})
+    _write_zip(path, {MANIFEST: _manifest_text(doc), **files})
+    return path
+
+
+def _drop_none(row: dict[str, Any]) -> dict[str, Any]:
+    return {k: v for k, v in row.items() if v is not None}
+
+
+def _manifest_text(doc: dict[str, Any]) -> str:
+    out = tomlkit.document()
+    out.add(tomlkit.comment("An idea exported from a Hunchbook catalogue. Plain text: rule "
+                            "files in rules/, run details and daily P&L in runs/."))
+    for key, value in doc.items():
+        out.add(key, _toml(value))
+    return tomlkit.dumps(out)
+
+
+def _toml(value: Any) -> Any:
+    """Long or multi-line text as TOML multi-line strings, so a bundle reads like a document."""
+    if isinstance(value, str) and ("\n" in value or len(value) > 80):
+        return tomlkit.string(value, multiline=True)
+    if isinstance(value, dict):
+        return {k: _toml(v) for k, v in value.items()}
+    if isinstance(value, list) and value and all(isinstance(v, dict) for v in value):
+        array = tomlkit.aot()
+        for item in value:
+            array.append(tomlkit.item(_toml(item)))
+        return array
+    return value
+
+
+def _pnl_text(frame: Any) -> str:
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(["date", *pnl.PNL_COLUMNS])
+    for date, row in zip(frame.index.strftime("%Y-%m-%d"), frame.itertuples(index=False),
+                         strict=True):
+        writer.writerow([date, *(repr(float(v)) for v in row)])
+    return buffer.getvalue()
+
+
+def _write_zip(path: Path, files: dict[str, str]) -> None:
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".partial")
+    os.close(fd)
+    try:
+        with zipfile.ZipFile(tmp, "w", compression=zipfile.ZIP_DEFLATED) as archive:
+            for name, text in files.items():
+                archive.writestr(name, text.encode("utf-8"))
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
+
+
+def import_bundle(db: Database, path: str | os.PathLike[str], *, by: str,
+                  at: str) -> ImportReport:
+    """Read, check and apply a bundle (the caller wraps this in one write transaction)."""
+    content = read_bundle(path)
+    bundle = content.idea
+    added = dict.fromkeys(RECORD_KINDS, 0)
+    present = dict.fromkeys(RECORD_KINDS, 0)
+    conflicts: list[str] = []
+    idea_id = ideas.id_for_uuid(db, bundle["uuid"])
+    created = idea_id is None
+    if idea_id is None:
+        idea_id = ideas.insert(db, {k: v for k, v in bundle.items() if k != "uuid"}, at=at,
+                               idea_uuid=bundle["uuid"])
+    else:
+        local = ideas.get(db, idea_id)
+        for key in _IDEA_FIELDS:
+            if getattr(local, key) != bundle.get(key):
+                change = ideas.describe_change(key, getattr(local, key), bundle.get(key))
+                conflicts.append(f"idea {change} in the bundle; kept the catalogue's value")
+    rev_ids = _import_revisions(db, idea_id, content.revisions, added, present, conflicts)
+    _import_preregistrations(db, idea_id, content.preregistrations, rev_ids, added, present,
+                             conflicts)
+    _import_journal(db, idea_id, content.journal, added, present, conflicts)
+    known = {r["uuid"] for r in db.query("SELECT uuid FROM reviews WHERE idea_id = ?",
+                                         [idea_id])}
+    for item in content.reviews:
+        if item["uuid"] in known:
+            present["reviews"] += 1
+            continue
+        reviews.insert(db, idea_id, reviewer=item["reviewer"], checklist=item["checklist"],
+                       decision=item["decision"], comments=item["comments"], at=item["at"],
+                       review_uuid=item["uuid"])
+        added["reviews"] += 1
+    known = {r["uuid"] for r in db.query("SELECT uuid FROM runs WHERE idea_id = ?", [idea_id])}
+    for item in content.runs:
+        if item["uuid"] in known:
+            present["runs"] += 1
+            continue
+        _check_uuid_free(db, "runs", item["uuid"])
+        runs.insert(db, idea_id, revisions.get(db, rev_ids[item["revision"]]), item["run"],
+                    by=item["recorded_by"], at=item["recorded_at"], run_uuid=item["uuid"])
+        added["runs"] += 1
+    report = ImportReport(idea_id=idea_id, created=created, added=added,
+                          already_present=present, conflicts=tuple(conflicts))
+    db["imports"].insert({"idea_id": idea_id, "bundle_sha256": content.sha256,
+                          "report": json.dumps(report.__dict__), "imported_by": by, "at": at})
+    return report
+
+
+def _import_revisions(db: Database, idea_id: int, items: list[dict[str, Any]],
+                      added: dict[str, int], present: dict[str, int],
+                      conflicts: list[str]) -> dict[str, int]:
+    """Append new revisions (numbered after the catalogue's); map bundle uuid -> local id."""
+    local = revisions.of_idea(db, idea_id)
+    by_uuid = {r.uuid: r for r in local}
+    by_sha = {r.sha256: r for r in local}
+    mapping: dict[str, int] = {}
+    number = max((r.number for r in local), default=0)
+    for item in sorted(items, key=lambda r: r["number"]):
+        same = by_uuid.get(item["uuid"])
+        if same is not None:
+            if same.sha256 != item["sha256"]:
+                conflicts.append(f"rule revision {item['uuid']} has different text in the "
+                                 f"bundle; kept the catalogue's revision {same.number}")
+            mapping[item["uuid"]] = same.id
+            present["revisions"] += 1
+            continue
+        if item["sha256"] in by_sha:  # the same file saved on two machines
+            mapping[item["uuid"]] = by_sha[item["sha256"]].id
+            present["revisions"] += 1
+            continue
+        _check_uuid_free(db, "rule_revisions", item["uuid"])
+        number += 1
+        mapping[item["uuid"]] = int(db["rule_revisions"].insert({
+            "uuid": item["uuid"], "idea_id": idea_id, "number": number, "text": item["text"],
+            "sha256": item["sha256"], "strategy_key": item["strategy_key"],
+            "parameter_space": json.dumps(item["parameter_space"], sort_keys=True),
+            "saved_at": item["saved_at"], "saved_by": item["saved_by"]}).last_pk)
+        added["revisions"] += 1
+    return mapping
+
+
+def _import_preregistrations(db: Database, idea_id: int, items: list[dict[str, Any]],
+                             rev_ids: dict[str, int], added: dict[str, int],
+                             present: dict[str, int], conflicts: list[str]) -> None:
+    local = {p.uuid: p for p in preregistration.versions(db, idea_id)}
+    for item in sorted(items, key=lambda p: p["version"]):
+        if item["uuid"] in local:
+            present["preregistrations"] += 1
+        elif local:
+            conflicts.append(f"pre-registration version {item['version']} of the bundle "
+                             "differs from the catalogue's; kept the catalogue's versions")
+        else:
+            _check_uuid_free(db, "preregistrations", item["uuid"])
+            db["preregistrations"].insert({
+                **{k: item[k] for k in ("uuid", "version", "rationale", "frozen_at",
+                                        "frozen_by", "reason")},
+                "idea_id": idea_id, "markets": json.dumps(list(item["markets"])),
+                "parameter_space": json.dumps(item["parameter_space"], sort_keys=True),
+                "revision_id": rev_ids[item["revision"]]})
+            added["preregistrations"] += 1
+
+
+def _import_journal(db: Database, idea_id: int, items: list[dict[str, Any]],
+                    added: dict[str, int], present: dict[str, int],
+                    conflicts: list[str]) -> None:
+    local = journal.by_uuid(db, idea_id)
+    ids = {u: row["id"] for u, row in local.items()}
+    for item in items:
+        row = local.get(item["uuid"])
+        if row is not None:
+            present["journal"] += 1
+            if row["text"] != item["text"]:
+                conflicts.append(f"journal entry {row['id']} has different text in the bundle; "
+                                 "kept the catalogue's")
+            continue
+        _check_uuid_free(db, "journal", item["uuid"])
+        ids[item["uuid"]] = journal.append(
+            db, idea_id=idea_id, kind=item["kind"], text=item["text"], by=item["by"],
+            at=item["at"], corrects=ids.get(item["corrects"]) if item["corrects"] else None,
+            entry_uuid=item["uuid"])
+        added["journal"] += 1
+
+
+def _check_uuid_free(db: Database, table: str, record_uuid: str) -> None:
+    if db.execute(f"SELECT 1 FROM {table} WHERE uuid = ?", [record_uuid]).fetchone():
+        raise CatalogueError(f"the bundle's {table} record {record_uuid} belongs to another "
+                             "idea in this catalogue; nothing imported")

@@ -1,0 +1,27 @@
+"""The error raised for bad catalogue input: a missing record, a refused change, a bad bundle."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from hunchbook.core.errors import HunchbookError
+
+
+@dataclass(eq=False)
+class CatalogueError(HunchbookError):
+    """A catalogue operation refused because of its input.
+
+    ``where`` names the catalogue file or bundle and ``field`` the record field or bundle member
+    at fault (for example ``"idea 12"``, ``"journal[3].text"``).
+    """
+
+    problem: str
+    where: str | None = None
+    field: str | None = None
+
+    def __post_init__(self) -> None:
+        super().__init__(self.problem)
+
+    def __str__(self) -> str:
+        place = [p for p in (self.where, self.field) if p]
+        return f"{', '.join(place)}: {self.problem}" if place else self.problem

@@ -1,0 +1,279 @@
+"""The catalogue schema as ordered migrations, and opening a file at the current version.
+
+Each migration is one function registered on :data:`MIGRATIONS` (sqlite-utils ``Migrations``);
+each runs in a transaction together with its row in ``_sqlite_migrations`` and sets
+``PRAGMA user_version`` to its number. A shipped migration is never edited; a change is a new
+one. :func:`open_catalogue_db` backs the file up (online backup API) before applying any.
+
+Versions
+--------
+1. ``base``: ideas, rule revisions, pre-registrations, runs and their trials, journal, reviews,
+   imports; append-only triggers on every record that must never change.
+2. ``full_text_search``: FTS5 indexes over idea titles, hypotheses and rationales and over
+   journal text, kept current by triggers; existing rows indexed.
+3. ``idea_summary``: last verdict, last net Sharpe, trial count and last run time on each idea
+   (for fast lists and filters), backfilled from the runs; indexes for the list filters.
+"""
+
+from __future__ import annotations
+
+import os
+from pathlib import Path
+
+from sqlite_utils import Database
+from sqlite_utils.migrations import Migrations
+
+from hunchbook.store import db as dbmod
+from hunchbook.store.errors import CatalogueError
+from hunchbook.store.vocab import (
+    DECISIONS,
+    ENTRY_KINDS,
+    RATIONALE_KINDS,
+    SOURCE_KINDS,
+    STAGES,
+    sql_list,
+)
+
+#: The catalogue's migration set, in order.
+MIGRATIONS = Migrations("hunchbook")
+
+#: Tables whose rows are never updated or deleted once written.
+APPEND_ONLY = ("rule_revisions", "preregistrations", "runs", "trials", "journal", "reviews",
+               "imports")
+
+
+def _run(db: Database, statements: list[str]) -> None:
+    # One statement at a time: executescript() would commit the migration's transaction.
+    for sql in statements:
+        db.execute(sql)
+
+
+@MIGRATIONS(name="0001_base")
+def _base(db: Database) -> None:
+    _run(db, [
+        f"""CREATE TABLE ideas (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            title TEXT NOT NULL,
+            hypothesis TEXT NOT NULL,
+            rationale TEXT NOT NULL,
+            rationale_kind TEXT NOT NULL CHECK (rationale_kind IN {sql_list(RATIONALE_KINDS)}),
+            source_kind TEXT NOT NULL CHECK (source_kind IN {sql_list(SOURCE_KINDS)}),
+            citation TEXT,
+            link TEXT,
+            submitted_by TEXT NOT NULL,
+            reviewer TEXT,
+            markets TEXT NOT NULL,
+            tags TEXT NOT NULL,
+            stage TEXT NOT NULL CHECK (stage IN {sql_list(STAGES)}),
+            created_at TEXT NOT NULL,
+            updated_at TEXT NOT NULL
+        ) STRICT""",
+        """CREATE TABLE rule_revisions (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            idea_id INTEGER NOT NULL REFERENCES ideas(id),
+            number INTEGER NOT NULL,
+            text TEXT NOT NULL,
+            sha256 TEXT NOT NULL,
+            strategy_key TEXT NOT NULL,
+            parameter_space TEXT NOT NULL,
+            saved_at TEXT NOT NULL,
+            saved_by TEXT NOT NULL,
+            UNIQUE (idea_id, number)
+        ) STRICT""",
+        """CREATE TABLE preregistrations (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            idea_id INTEGER NOT NULL REFERENCES ideas(id),
+            version INTEGER NOT NULL,
+            rationale TEXT NOT NULL,
+            markets TEXT NOT NULL,
+            parameter_space TEXT NOT NULL,
+            revision_id INTEGER NOT NULL REFERENCES rule_revisions(id),
+            frozen_at TEXT NOT NULL,
+            frozen_by TEXT NOT NULL,
+            reason TEXT NOT NULL,
+            UNIQUE (idea_id, version)
+        ) STRICT""",
+        """CREATE TABLE runs (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            idea_id INTEGER NOT NULL REFERENCES ideas(id),
+            revision_id INTEGER NOT NULL REFERENCES rule_revisions(id),
+            parameter_sets TEXT NOT NULL,
+            set_count INTEGER NOT NULL,
+            data_fingerprint TEXT NOT NULL,
+            engine_version TEXT NOT NULL,
+            summary TEXT NOT NULL,
+            statistics TEXT NOT NULL,
+            verdict TEXT NOT NULL,
+            verdict_label TEXT NOT NULL,
+            chosen_params TEXT NOT NULL,
+            chosen_net_sharpe REAL,
+            trial_count INTEGER NOT NULL,
+            daily_pnl BLOB NOT NULL,
+            recorded_at TEXT NOT NULL,
+            recorded_by TEXT NOT NULL
+        ) STRICT""",
+        """CREATE TABLE trials (
+            run_id INTEGER NOT NULL REFERENCES runs(id),
+            idea_id INTEGER NOT NULL REFERENCES ideas(id),
+            strategy_key TEXT NOT NULL,
+            params TEXT NOT NULL,
+            net_sharpe REAL,
+            PRIMARY KEY (run_id, params)
+        ) STRICT""",
+        "CREATE INDEX trials_by_idea ON trials (idea_id, strategy_key, params, run_id)",
+        f"""CREATE TABLE journal (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            idea_id INTEGER REFERENCES ideas(id),
+            kind TEXT NOT NULL CHECK (kind IN {sql_list(ENTRY_KINDS)}),
+            text TEXT NOT NULL,
+            author TEXT NOT NULL,
+            at TEXT NOT NULL,
+            corrects INTEGER REFERENCES journal(id)
+        ) STRICT""",
+        "CREATE INDEX journal_by_idea ON journal (idea_id, id)",
+        "CREATE INDEX journal_by_correction ON journal (corrects)",
+        f"""CREATE TABLE reviews (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            idea_id INTEGER NOT NULL REFERENCES ideas(id),
+            reviewer TEXT NOT NULL,
+            checklist TEXT NOT NULL,
+            decision TEXT NOT NULL CHECK (decision IN {sql_list(list(DECISIONS))}),
+            comments TEXT NOT NULL,
+            at TEXT NOT NULL
+        ) STRICT""",
+        """CREATE TABLE imports (
+            id INTEGER PRIMARY KEY,
+            idea_id INTEGER NOT NULL REFERENCES ideas(id),
+            bundle_sha256 TEXT NOT NULL,
+            report TEXT NOT NULL,
+            imported_by TEXT NOT NULL,
+            at TEXT NOT NULL
+        ) STRICT""",
+        "CREATE INDEX runs_by_idea ON runs (idea_id, id)",
+        "CREATE INDEX revisions_by_idea ON rule_revisions (idea_id, number)",
+        "CREATE INDEX reviews_by_idea ON reviews (idea_id, id)",
+    ])
+    for table in APPEND_ONLY:
+        for action in ("UPDATE", "DELETE"):
+            db.execute(
+                f"CREATE TRIGGER {table}_no_{action.lower()} BEFORE {action} ON {table} "
+                f"BEGIN SELECT RAISE(ABORT, '{table} rows are append-only'); END")
+    db.execute("CREATE TRIGGER ideas_no_delete BEFORE DELETE ON ideas "
+               "BEGIN SELECT RAISE(ABORT, 'ideas are never deleted; shelve them'); END")
+    db.execute("PRAGMA user_version = 1")
+
+
+@MIGRATIONS(name="0002_full_text_search")
+def _full_text_search(db: Database) -> None:
+    # External-content FTS5 tables over the records, kept current by insert/update/delete
+    # triggers (sqlite-utils writes them); the index is then built from the rows already there.
+    db["ideas"].enable_fts(["title", "hypothesis", "rationale"], fts_version="FTS5",
+                           create_triggers=True, tokenize="unicode61 remove_diacritics 2")
+    db["journal"].enable_fts(["text"], fts_version="FTS5", create_triggers=True,
+                             tokenize="unicode61 remove_diacritics 2")
+    db.execute("INSERT INTO ideas_fts (ideas_fts) VALUES ('rebuild')")
+    db.execute("INSERT INTO journal_fts (journal_fts) VALUES ('rebuild')")
+    db.execute("PRAGMA user_version = 2")
+
+
+@MIGRATIONS(name="0003_idea_summary")
+def _idea_summary(db: Database) -> None:
+    _run(db, [
+        "ALTER TABLE ideas ADD COLUMN last_verdict TEXT",
+        "ALTER TABLE ideas ADD COLUMN last_net_sharpe REAL",
+        "ALTER TABLE ideas ADD COLUMN trial_count INTEGER NOT NULL DEFAULT 0",
+        "ALTER TABLE ideas ADD COLUMN last_run_at TEXT",
+        """UPDATE ideas SET
+            last_verdict = (SELECT verdict_label FROM runs WHERE runs.idea_id = ideas.id
+                            ORDER BY id DESC LIMIT 1),
+            last_net_sharpe = (SELECT chosen_net_sharpe FROM runs WHERE runs.idea_id = ideas.id
+                               ORDER BY id DESC LIMIT 1),
+            last_run_at = (SELECT recorded_at FROM runs WHERE runs.idea_id = ideas.id
+                           ORDER BY id DESC LIMIT 1),
+            trial_count = (SELECT count(*) FROM (SELECT DISTINCT strategy_key, params
+                           FROM trials WHERE trials.idea_id = ideas.id))""",
+        "CREATE INDEX ideas_by_updated ON ideas (updated_at, id)",
+        "CREATE INDEX ideas_by_stage ON ideas (stage, updated_at)",
+        "CREATE INDEX ideas_by_author ON ideas (submitted_by)",
+        "CREATE INDEX ideas_by_verdict ON ideas (last_verdict)",
+    ])
+    db.execute("PRAGMA user_version = 3")
+
+
+#: The schema version this code writes (the number of migrations).
+SCHEMA_VERSION = len(MIGRATIONS._migrations)
+
+
+def migration_names() -> list[str]:
+    """Names of every migration, in order (version ``n`` is the first ``n`` of them)."""
+    return [m.name for m in MIGRATIONS._migrations]
+
+
+def schema_version(db: Database) -> int:
+    """How many of the catalogue's migrations this database has applied."""
+    applied = [m.name for m in MIGRATIONS.applied(db)]
+    known = migration_names()
+    unknown = [name for name in applied if name not in known]
+    if unknown:
+        raise CatalogueError(f"written by a newer Hunchbook (unknown schema changes "
+                             f"{', '.join(unknown)}); update Hunchbook to open it")
+    if applied != known[:len(applied)]:
+        raise CatalogueError(f"schema changes applied out of order: {', '.join(applied)}")
+    return len(applied)
+
+
+def open_catalogue_db(path: str | os.PathLike[str], *, create: bool = True,
+                      stop_before: str | None = None) -> Database:
+    """Open a catalogue file and bring its schema to the current version.
+
+    When an existing catalogue needs migrating, it is first copied with the online backup API
+    to ``<name>.v<old>-backup-<UTC time><suffix>`` next to it.
+
+    Parameters
+    ----------
+    path
+        The catalogue file.
+    create
+        Create a new catalogue if the file is missing.
+    stop_before
+        Stop before this migration (tests use it to build catalogues at earlier versions).
+    """
+    path = Path(path)
+    db = dbmod.connect(path, create=create)
+    try:
+        _check_is_catalogue(db, path)
+        try:
+            version = schema_version(db)
+        except CatalogueError as exc:
+            exc.where = str(path)
+            raise
+        if _pending(db, stop_before) and version > 0:
+            stamp = dbmod.timestamp(dbmod.utc_now()).replace(":", "").replace(".", "-")
+            dbmod.backup(db, path.with_name(f"{path.stem}.v{version}-backup-{stamp}{path.suffix}"))
+        # All pending migrations run in one write transaction, checked again under the lock:
+        # two processes opening an old catalogue at once migrate it exactly once.
+        with dbmod.write(db):
+            if _pending(db, stop_before):
+                MIGRATIONS.apply(db, stop_before=stop_before)
+    except BaseException:
+        db.close()
+        raise
+    return db
+
+
+def _pending(db: Database, stop_before: str | None) -> list[str]:
+    names = [m.name for m in MIGRATIONS.pending(db)]
+    return names[:names.index(stop_before)] if stop_before in names else names
+
+
+def _check_is_catalogue(db: Database, path: Path) -> None:
+    tables = set(db.table_names())
+    if tables and Migrations.migrations_table not in tables:
+        raise CatalogueError("this SQLite file is not a Hunchbook catalogue (it has other "
+                             "tables and no schema history)", where=str(path))

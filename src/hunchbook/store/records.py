@@ -1,0 +1,176 @@
+"""The catalogue's records as frozen dataclasses (what the API returns; never live rows)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import pandas as pd
+
+
+@dataclass(frozen=True)
+class Idea:
+    """One trading idea with everything written about it on its own row.
+
+    ``frozen_at`` is when its first run froze the pre-registration (``None`` before);
+    ``last_verdict``, ``last_net_sharpe`` come from the latest run; ``trial_count`` is the
+    number of distinct trials ever run (see :func:`hunchbook.store.runs.trial_count`).
+    """
+
+    id: int
+    uuid: str
+    title: str
+    hypothesis: str
+    rationale: str
+    rationale_kind: str
+    source_kind: str
+    citation: str | None
+    link: str | None
+    submitted_by: str
+    reviewer: str | None
+    markets: tuple[str, ...]
+    tags: tuple[str, ...]
+    stage: str
+    created_at: str
+    updated_at: str
+    last_verdict: str | None = None
+    last_net_sharpe: float | None = None
+    trial_count: int = 0
+    last_run_at: str | None = None
+    frozen_at: str | None = None
+
+
+@dataclass(frozen=True)
+class IdeaSummary:
+    """One line of an idea list."""
+
+    id: int
+    uuid: str
+    title: str
+    hypothesis: str
+    stage: str
+    submitted_by: str
+    reviewer: str | None
+    source_kind: str
+    markets: tuple[str, ...]
+    tags: tuple[str, ...]
+    last_verdict: str | None
+    last_net_sharpe: float | None
+    trial_count: int
+    updated_at: str
+
+
+@dataclass(frozen=True)
+class Revision:
+    """One saved rule file, kept whole.
+
+    ``strategy_key`` identifies the strategy apart from its parameter declaration, name and
+    description (see :func:`hunchbook.store.revisions.strategy_key`); ``parameter_space`` is the
+    rule file's ``[parameters]`` table.
+    """
+
+    id: int
+    uuid: str
+    idea_id: int
+    number: int
+    text: str
+    sha256: str
+    strategy_key: str
+    parameter_space: dict[str, Any]
+    saved_at: str
+    saved_by: str
+
+
+@dataclass(frozen=True)
+class Preregistration:
+    """What an idea committed to before testing: version 1 is frozen at the first run, each
+    later version records a change made after that."""
+
+    idea_id: int
+    uuid: str
+    version: int
+    rationale: str
+    markets: tuple[str, ...]
+    parameter_space: dict[str, Any]
+    revision_id: int
+    frozen_at: str
+    frozen_by: str
+    reason: str
+
+
+@dataclass(frozen=True)
+class RunRecord:
+    """One recorded run of an idea. ``daily_pnl`` is decoded only by ``Catalogue.run``.
+
+    ``trial_count`` is the idea's trial count just after this run was recorded.
+    """
+
+    id: int
+    uuid: str
+    idea_id: int
+    revision_id: int
+    revision_number: int
+    parameter_sets: tuple[dict[str, float], ...]
+    data_fingerprint: str
+    engine_version: str
+    summary: dict[str, Any]
+    statistics: dict[str, Any]
+    verdict: dict[str, Any]
+    verdict_label: str
+    chosen_params: dict[str, float]
+    chosen_net_sharpe: float | None
+    trial_count: int
+    recorded_at: str
+    recorded_by: str
+    daily_pnl: pd.DataFrame | None = field(default=None, compare=False)
+
+    @property
+    def set_count(self) -> int:
+        """How many parameter sets the run tried."""
+        return len(self.parameter_sets)
+
+
+@dataclass(frozen=True)
+class Entry:
+    """One journal entry. ``corrects`` points at the entry a correction amends;
+    ``corrected_by`` at the latest correction of this entry, if any."""
+
+    id: int
+    uuid: str
+    idea_id: int | None
+    kind: str
+    text: str
+    by: str
+    at: str
+    corrects: int | None = None
+    corrected_by: int | None = None
+
+
+@dataclass(frozen=True)
+class Review:
+    """One review: the checklist answers, the decision (accept / return) and comments."""
+
+    id: int
+    uuid: str
+    idea_id: int
+    reviewer: str
+    checklist: dict[str, bool]
+    decision: str
+    comments: str
+    at: str
+
+
+@dataclass(frozen=True)
+class ImportReport:
+    """What importing a bundle did.
+
+    ``added`` and ``already_present`` count records by kind (``revisions``,
+    ``preregistrations``, ``journal``, ``reviews``, ``runs``); ``conflicts`` lists every
+    difference between the bundle and the catalogue that was kept as the catalogue had it.
+    """
+
+    idea_id: int
+    created: bool
+    added: dict[str, int]
+    already_present: dict[str, int]
+    conflicts: tuple[str, ...]

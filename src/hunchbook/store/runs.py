@@ -1,0 +1,211 @@
+"""Runs of an idea and the trials they count.
+
+A run stores its rule revision, the parameter sets tried, the data fingerprint, the engine
+version, the summary, statistics and verdict (as JSON) and the chosen set's daily P&L
+(see :mod:`hunchbook.store.pnl`).
+
+Trials
+------
+Each parameter set of a run is one row in ``trials`` keyed by the revision's *strategy key*
+(see :mod:`hunchbook.store.revisions`) and the set's canonical parameters (names sorted,
+values as floats). **The trial count of an idea is the number of distinct (strategy key,
+parameter set) pairs over all its runs and revisions.** Re-running a set under an unchanged
+strategy (new data, a comment edit, a wider grid) does not add a trial; any change to the
+signal, roll, sizing, costs or dates makes every set a new trial. The trial Sharpe ratios for
+the deflated Sharpe are one per trial: the annualised net Sharpe from the latest run of that
+trial, trials with no Sharpe (a flat series) left out.
+"""
+
+from __future__ import annotations
+
+import json
+import uuid as uuidlib
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import pandas as pd
+from sqlite_utils import Database
+
+from hunchbook.store import pnl, validate
+from hunchbook.store.errors import CatalogueError
+from hunchbook.store.records import Revision, RunRecord
+
+#: Longest verdict label (characters).
+MAX_LABEL = 80
+
+
+@dataclass(frozen=True)
+class RunInput:
+    """A run's values after validation, ready to insert."""
+
+    parameter_sets: list[dict[str, float]]
+    data_fingerprint: str
+    engine_version: str
+    summary: str
+    statistics: str
+    verdict: str
+    verdict_label: str
+    chosen_params: dict[str, float]
+    chosen_net_sharpe: float | None
+    set_sharpes: list[tuple[str, float | None]]
+    daily_pnl: bytes
+
+
+def params_key(params: Mapping[str, float]) -> str:
+    """Canonical text of a parameter set: JSON, names sorted, values as floats."""
+    return json.dumps({k: float(v) for k, v in params.items()}, sort_keys=True)
+
+
+def clean(*, parameter_sets: Any, data_fingerprint: Any, engine_version: Any, summary: Any,
+          statistics: Any, verdict: Any, chosen_params: Any, daily_pnl: Any) -> RunInput:
+    """Validate everything about a run before anything is written.
+
+    Expected shapes
+    ---------------
+    parameter_sets
+        list of ``{name: value}``, one per set tried, no repeats.
+    summary
+        ``{"sets": [{"params": {name: value}, "net_sharpe": float | None, ...}, ...], ...}``
+        with one entry per parameter set (any order); other keys and per-set keys are stored
+        as given (numbers, text, lists, tables; NaN stored as null).
+    statistics
+        any table of plain values.
+    verdict
+        ``{"label": short text, "reasons": [text, ...], ...}``.
+    chosen_params
+        one of ``parameter_sets``; its daily P&L is ``daily_pnl``.
+    """
+    if isinstance(parameter_sets, str | bytes) or not isinstance(parameter_sets, Sequence):
+        raise CatalogueError("expected a list of parameter sets", field="parameter_sets")
+    if not 1 <= len(parameter_sets) <= validate.MAX_SETS:
+        raise CatalogueError(f"expected 1 to {validate.MAX_SETS:,} parameter sets, found "
+                             f"{len(parameter_sets):,}", field="parameter_sets")
+    sets = [validate.param_set(s, f"parameter_sets[{i}]") for i, s in enumerate(parameter_sets)]
+    keys = [params_key(s) for s in sets]
+    if len(set(keys)) != len(keys):
+        raise CatalogueError("a parameter set is listed twice", field="parameter_sets")
+    sharpes = _set_sharpes(summary, set(keys))
+    chosen = validate.param_set(chosen_params, "chosen_params")
+    if params_key(chosen) not in sharpes:
+        raise CatalogueError("the chosen set is not one of the parameter sets",
+                             field="chosen_params")
+    if not isinstance(verdict, Mapping):
+        raise CatalogueError("expected a table with 'label' and 'reasons'", field="verdict")
+    label = validate.text(verdict.get("label"), "verdict.label", limit=MAX_LABEL, one_line=True)
+    reasons = verdict.get("reasons")
+    if not isinstance(reasons, list):
+        raise CatalogueError("expected a list of sentences", field="verdict.reasons")
+    for i, reason in enumerate(reasons):
+        validate.text(reason, f"verdict.reasons[{i}]")
+    if not isinstance(statistics, Mapping):
+        raise CatalogueError("expected a table of statistics", field="statistics")
+    return RunInput(
+        parameter_sets=sets,
+        data_fingerprint=validate.name(data_fingerprint, "data_fingerprint"),
+        engine_version=validate.name(engine_version, "engine_version"),
+        summary=validate.to_json(summary, "summary"),
+        statistics=validate.to_json(statistics, "statistics"),
+        verdict=validate.to_json(verdict, "verdict"),
+        verdict_label=label, chosen_params=chosen,
+        chosen_net_sharpe=sharpes[params_key(chosen)],
+        set_sharpes=[(k, sharpes[k]) for k in keys],
+        daily_pnl=pnl.encode(pnl.clean(daily_pnl)))
+
+
+def _set_sharpes(summary: Any, keys: set[str]) -> dict[str, float | None]:
+    if not isinstance(summary, Mapping) or not isinstance(summary.get("sets"), list):
+        raise CatalogueError("expected a table with 'sets': a list of {params, net_sharpe}",
+                             field="summary")
+    out: dict[str, float | None] = {}
+    for i, item in enumerate(summary["sets"]):
+        field = f"summary.sets[{i}]"
+        if not isinstance(item, Mapping) or "params" not in item or "net_sharpe" not in item:
+            raise CatalogueError("expected a table with 'params' and 'net_sharpe'", field=field)
+        key = params_key(validate.param_set(item["params"], f"{field}.params"))
+        if key not in keys:
+            raise CatalogueError(f"set {key} is not among the parameter sets", field=field)
+        if key in out:
+            raise CatalogueError(f"set {key} appears twice", field=field)
+        out[key] = validate.optional_number(item["net_sharpe"], f"{field}.net_sharpe")
+    if len(out) != len(keys):
+        raise CatalogueError(f"{len(keys) - len(out)} parameter set(s) have no summary",
+                             field="summary.sets")
+    return out
+
+
+def insert(db: Database, idea_id: int, revision: Revision, run: RunInput, *, by: str, at: str,
+           run_uuid: str | None = None) -> int:
+    """Write a cleaned run and its trials; refresh the idea's last verdict and trial count."""
+    seen = {row[0] for row in db.execute(
+        "SELECT DISTINCT params FROM trials WHERE idea_id = ? AND strategy_key = ?",
+        [idea_id, revision.strategy_key])}
+    count = trial_count(db, idea_id) + sum(key not in seen for key, _ in run.set_sharpes)
+    run_id = int(db["runs"].insert({
+        "uuid": run_uuid or str(uuidlib.uuid4()), "idea_id": idea_id,
+        "revision_id": revision.id, "parameter_sets": json.dumps(run.parameter_sets),
+        "set_count": len(run.parameter_sets), "data_fingerprint": run.data_fingerprint,
+        "engine_version": run.engine_version, "summary": run.summary,
+        "statistics": run.statistics, "verdict": run.verdict, "verdict_label": run.verdict_label,
+        "chosen_params": json.dumps(run.chosen_params), "chosen_net_sharpe": run.chosen_net_sharpe,
+        "trial_count": count, "daily_pnl": run.daily_pnl, "recorded_at": at,
+        "recorded_by": validate.name(by, "by")}).last_pk)
+    db["trials"].insert_all(
+        {"run_id": run_id, "idea_id": idea_id, "strategy_key": revision.strategy_key,
+         "params": key, "net_sharpe": sharpe} for key, sharpe in run.set_sharpes)
+    # The latest run by time (an imported older run does not replace a newer verdict).
+    db.execute("UPDATE ideas SET (last_verdict, last_net_sharpe, last_run_at) = (SELECT "
+               "verdict_label, chosen_net_sharpe, recorded_at FROM runs WHERE idea_id = ?1 "
+               "ORDER BY recorded_at DESC, id DESC LIMIT 1), trial_count = ?2, "
+               "updated_at = max(updated_at, ?3) WHERE id = ?1", [idea_id, count, at])
+    return run_id
+
+
+def trial_count(db: Database, idea_id: int) -> int:
+    """Distinct (strategy key, parameter set) pairs ever run for the idea."""
+    return int(db.execute("SELECT count(*) FROM (SELECT DISTINCT strategy_key, params FROM "
+                          "trials WHERE idea_id = ?)", [idea_id]).fetchone()[0])
+
+
+def trial_sharpes(db: Database, idea_id: int) -> list[float]:
+    """One annualised net Sharpe per trial (its latest run), trials without one left out."""
+    rows = db.execute(
+        "SELECT net_sharpe FROM (SELECT net_sharpe, row_number() OVER (PARTITION BY "
+        "strategy_key, params ORDER BY run_id DESC) AS newest FROM trials WHERE idea_id = ?) "
+        "WHERE newest = 1 AND net_sharpe IS NOT NULL ORDER BY rowid", [idea_id]).fetchall()
+    return [float(r[0]) for r in rows]
+
+
+_SELECT = ("SELECT r.*, v.number AS revision_number FROM runs r "
+           "JOIN rule_revisions v ON v.id = r.revision_id")
+
+
+def of_idea(db: Database, idea_id: int | None = None) -> list[RunRecord]:
+    """Runs oldest first (all ideas when ``idea_id`` is ``None``), without the daily P&L."""
+    if idea_id is None:
+        rows = db.query(_SELECT + " ORDER BY r.id")
+    else:
+        rows = db.query(_SELECT + " WHERE r.idea_id = ? ORDER BY r.id", [idea_id])
+    return [_record(r, with_pnl=False) for r in rows]
+
+
+def get(db: Database, run_id: int) -> RunRecord:
+    """One run with its daily P&L decoded."""
+    rows = list(db.query(_SELECT + " WHERE r.id = ?", [validate.integer(run_id, "run id")]))
+    if not rows:
+        raise CatalogueError(f"there is no run {run_id}", field="run")
+    return _record(rows[0], with_pnl=True)
+
+
+def _record(row: dict[str, Any], *, with_pnl: bool) -> RunRecord:
+    frame: pd.DataFrame | None = pnl.decode(row["daily_pnl"]) if with_pnl else None
+    return RunRecord(
+        id=row["id"], uuid=row["uuid"], idea_id=row["idea_id"], revision_id=row["revision_id"],
+        revision_number=row["revision_number"],
+        parameter_sets=tuple(json.loads(row["parameter_sets"])),
+        data_fingerprint=row["data_fingerprint"], engine_version=row["engine_version"],
+        summary=json.loads(row["summary"]), statistics=json.loads(row["statistics"]),
+        verdict=json.loads(row["verdict"]), verdict_label=row["verdict_label"],
+        chosen_params=json.loads(row["chosen_params"]),
+        chosen_net_sharpe=row["chosen_net_sharpe"], trial_count=row["trial_count"],
+        recorded_at=row["recorded_at"], recorded_by=row["recorded_by"], daily_pnl=frame)
