@@ -80,11 +80,13 @@ def _assert_same(summary, single):
             assert m[key] == pytest.approx(r[key], rel=1e-9, abs=1e-9), key
 
 
-@pytest.mark.parametrize("workers", [1, 2])
-def test_sweep_equals_single_runs(study, workers, monkeypatch):
+@pytest.mark.parametrize(("workers", "start_method"), [(1, None), (2, "fork"), (2, "spawn")])
+def test_sweep_equals_single_runs(study, workers, start_method, monkeypatch):
     import hunchbook.core.sweep as sweep_module
 
     monkeypatch.setattr(sweep_module, "MIN_SETS_FOR_PROCESSES", 2)
+    if start_method:
+        monkeypatch.setattr(sweep_module, "_start_method", lambda: start_method)
     sets = study.parameter_sets()
     # constraint fast * 2 < slow removes (5, 10) and (8, 10): 3 x 4 - 2 = 10 sets
     assert len(sets) == 10

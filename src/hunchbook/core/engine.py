@@ -18,6 +18,7 @@ import datetime as dt
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -38,16 +39,27 @@ PNL_COLUMNS = ("date", "market", "contract", "position", "price_change", "gross_
 class EngineOutput:
     """Daily arrays of one parameter set, shaped ``(bars, markets)`` like the panel.
 
-    ``rows`` marks the bars that are part of the result; outside it every figure is zero.
+    ``first`` is each market's first result bar (the number of bars if it has none); result
+    rows run from there to the end of the window. Outside them every figure is zero.
     """
 
     panel: Panel
     params: dict[str, float]
+    window: np.ndarray
     position: np.ndarray
     gross: np.ndarray
     traded: np.ndarray
-    cost: np.ndarray
-    rows: np.ndarray
+    first: np.ndarray
+
+    @cached_property
+    def rows(self) -> np.ndarray:
+        """True on the bars that are part of the result."""
+        return self.window & (np.arange(len(self.window))[:, None] >= self.first)
+
+    @cached_property
+    def cost(self) -> np.ndarray:
+        """Cost: contracts traded x cost per contract."""
+        return self.traded * self.panel.cost_per_contract
 
     @property
     def net(self) -> np.ndarray:
@@ -137,31 +149,46 @@ class Backtest:
         self.roll_cells = np.flatnonzero(panel.roll & window)
         self.contracts = _contracts(panel, sizing, self.cache)
         self._bar = np.arange(window.shape[0])[:, None]
+        self._cols = np.arange(window.shape[1])
+        self._row = window.shape[1]  # flat offset of one bar
+        # the bar after each market's last window bar (the panel always ends in padding)
+        self._window_end = np.where(window.any(axis=0),
+                                    window.shape[0] - window[::-1].argmax(axis=0), 0)
+        self.after_window = np.ravel_multi_index((self._window_end, self._cols), window.shape)
 
     def run(self, params: Mapping[str, float]) -> EngineOutput:
-        """Run one parameter set: positions, gross P&L, contracts traded and costs."""
+        """Run one parameter set: positions, gross P&L and contracts traded."""
         signal = self.position.evaluate(self.panel.series, params, self.cache)
-        target = np.broadcast_to(signal * self.contracts, self.window.shape)
+        if not (isinstance(self.contracts, float) and self.contracts == 1.0):
+            signal = signal * self.contracts
         if self.delay:
-            shifted = np.full(target.shape, np.nan)
-            shifted[self.delay:] = target[:-self.delay]
-            target = shifted
-        defined = ~np.isnan(target) & self.window
-        first = np.where(defined.any(axis=0), defined.argmax(axis=0), len(self._bar))
-        rows = self.window & (self._bar >= first)  # from the first defined bar on
-        pos = np.where(defined & rows, target, 0.0)  # undefined later on: flat
-        prev = np.empty_like(pos)
-        prev[0] = 0.0
-        prev[1:] = pos[:-1]
-        gross = prev * self.change_value
-        traded = np.abs(pos - prev)
-        cells = self.roll_cells
-        traded.flat[cells] = np.abs(prev.flat[cells]) + np.abs(pos.flat[cells])
-        traded *= self.window
-        cost = traded * self.panel.cost_per_contract
-        return EngineOutput(panel=self.panel, params=dict(params), position=pos, gross=gross,
-                            traded=traded, cost=cost, rows=rows)
-
+            target = np.full(self.window.shape, np.nan)
+            target[self.delay:] = np.broadcast_to(signal, self.window.shape)[:-self.delay]
+        elif np.shape(signal) != self.window.shape:
+            target = np.array(np.broadcast_to(signal, self.window.shape))
+        else:
+            target = signal  # a fresh array: evaluation never returns shared memory
+        missing = np.isnan(target)
+        defined = np.less(missing, self.window)  # in the window and not NaN
+        first = defined.argmax(axis=0)
+        first[~defined[first, self._cols]] = len(defined)  # never defined: no rows
+        pos = target
+        pos[missing] = 0.0  # undefined after the first defined bar: flat
+        for j, (begin, end) in enumerate(zip(first, self._window_end, strict=True)):
+            pos[:begin, j] = 0.0  # before the first result bar, and after the window
+            pos[end:, j] = 0.0
+        gross = np.empty_like(pos)
+        gross[0] = 0.0
+        np.multiply(pos[:-1], self.change_value[1:], out=gross[1:])
+        traded = np.empty_like(pos)
+        traded[0] = np.abs(pos[0])
+        np.subtract(pos[1:], pos[:-1], out=traded[1:])
+        np.abs(traded, out=traded)
+        cells = self.roll_cells  # close the old contract, open the new one
+        traded.flat[cells] = np.abs(pos.flat[cells - self._row]) + np.abs(pos.flat[cells])
+        traded.flat[self.after_window] = 0.0  # closing after the window is not in the result
+        return EngineOutput(panel=self.panel, params=dict(params), window=self.window,
+                            position=pos, gross=gross, traded=traded, first=first)
 
 def _contracts(panel: Panel, sizing: SizingSpec, cache: dict[Any, Any] | None) -> Any:
     """Contract count per bar: fixed, or capital x target vol / (multiplier x price vol)."""

@@ -1,7 +1,8 @@
 """Markets stacked side by side: bars x markets arrays the engine and expressions work on.
 
 Each column is one market's own bar sequence (its own trading calendar); shorter markets are
-padded with NaN at the bottom, so rolling windows always count a market's own bars.
+padded with NaN at the bottom, so rolling windows always count a market's own bars. Every
+column ends in at least one row of padding.
 """
 
 from __future__ import annotations
@@ -57,7 +58,7 @@ def build_panel(series: Sequence[ContinuousSeries], specs: Sequence[MarketSpec])
         raise DataError("the markets of one rule must share a currency to be summed into a "
                         f"portfolio; found {', '.join(currencies)}")
     lengths = np.array([len(s) for s in series], dtype=np.int64)
-    rows, cols = int(lengths.max()), len(series)
+    rows, cols = int(lengths.max()) + 1, len(series)  # one row of padding, always
     dates = np.full((rows, cols), np.datetime64("NaT"), dtype="datetime64[D]")
     change = np.zeros((rows, cols))
     roll = np.zeros((rows, cols), dtype=bool)

@@ -8,11 +8,13 @@ totals; per-(date, market) detail is not kept (re-run the sets you want to look 
 
 from __future__ import annotations
 
+import mmap
 import multiprocessing
 import os
+import threading
 from collections.abc import Callable, Sequence
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -63,67 +65,117 @@ class SweepOutcome:
 
 
 @dataclass(frozen=True)
-class _Chunk:
-    start: int
+class _DailyRows:
+    """Daily portfolio gross P&L, cost and used-day flags, one row per set."""
+
     gross: np.ndarray
     cost: np.ndarray
     used: np.ndarray
+
+    @classmethod
+    def allocate(cls, sets: int, days: int, *, shared: bool = False) -> _DailyRows:
+        """Zeroed rows; ``shared`` places them in memory that forked workers write into."""
+        sizes = (sets * days * 8, sets * days * 8, sets * days)
+        # anonymous mmap memory is shared with forked children
+        buffer = mmap.mmap(-1, max(1, sum(sizes))) if shared else bytearray(sum(sizes))
+        gross = np.frombuffer(buffer, np.float64, sets * days, 0).reshape(sets, days)
+        cost = np.frombuffer(buffer, np.float64, sets * days, sizes[0]).reshape(sets, days)
+        used = np.frombuffer(buffer, np.bool_, sets * days, sizes[0] + sizes[1])
+        return cls(gross=gross, cost=cost, used=used.reshape(sets, days))
+
+
+@dataclass(frozen=True)
+class _Chunk:
+    """Per-market figures of consecutive sets from ``start`` (and their daily rows when the
+    worker could not write them into shared memory)."""
+
+    start: int
     contracts: np.ndarray
     trades: np.ndarray
     market: dict[str, np.ndarray]
+    daily: _DailyRows | None = None
 
 
 class _Aggregator:
-    """Sums a backtest's (bars, markets) arrays onto the union of dates of its window."""
+    """Sums a backtest's (bars, markets) arrays onto the union of dates of its window.
+
+    ``source[d, m]`` is the flat cell of market m's bar on union date d, or a padding cell
+    (always zero in results) when market m has no bar in the window that day.
+    """
 
     def __init__(self, backtest: Backtest) -> None:
-        panel = backtest.panel
-        window = backtest.window
-        self.cells = np.flatnonzero(window)
-        self.day = panel.date_index.ravel()[self.cells]
+        panel, window = backtest.panel, backtest.window
+        bars, markets = window.shape
         self.days = len(panel.union_dates)
+        padding = np.ravel_multi_index((np.full(markets, bars - 1), np.arange(markets)),
+                                       window.shape)
+        self.source = np.broadcast_to(padding, (self.days, markets)).copy()
+        r, j = np.nonzero(window)
+        self.source[panel.date_index[r, j], j] = r * markets + j
+        self.open = np.zeros((self.days, markets), dtype=bool)  # market m has a bar on day d
+        self.open[panel.date_index[r, j], j] = True
+        self.any_open = self.open.any(axis=1)
+        self.day_of_bar = np.where(window, panel.date_index, self.days)
+        self.day_of_bar = np.vstack([self.day_of_bar, np.full((1, markets), self.days)])
+        self.cols = np.arange(markets)
+        self.last_bar = bars - 1 - window[::-1].argmax(axis=0)
+        self.dates = panel.dates.astype(np.int64)
+        # rows_from[t, m]: window bars of market m at or after bar t (row ``bars`` holds 0)
+        self.rows_from = np.vstack([np.cumsum(window[::-1], axis=0)[::-1],
+                                    np.zeros((1, markets), dtype=np.int64)])
 
-    def total(self, values: np.ndarray) -> np.ndarray:
-        return np.bincount(self.day, weights=values.ravel()[self.cells], minlength=self.days)
+    def by_day(self, values: np.ndarray) -> np.ndarray:
+        """(days, markets) view of ``values`` on the union dates (zero where no bar)."""
+        return values.ravel()[self.source]
+
+    def used(self, first: np.ndarray) -> np.ndarray:
+        """Days on which any market has a result row, given each market's first result bar."""
+        first_day = self.day_of_bar[first, self.cols]
+        begin, settled = int(first_day.min()), int(first_day.max())
+        used = np.zeros(self.days, dtype=bool)
+        used[settled:] = self.any_open[settled:]  # every market has started by then
+        part = self.open[begin:settled] & (np.arange(begin, settled)[:, None] >= first_day)
+        used[begin:settled] = part.any(axis=1)
+        return used
 
 
-def run_chunk(backtest: Backtest, sets: Sequence[dict[str, float]], start: int = 0,
-              cancel: CancelCheck | None = None) -> _Chunk:
-    """Run a run of consecutive parameter sets; see :func:`run_sweep`."""
-    agg = _Aggregator(backtest)
+def run_chunk(backtest: Backtest, sets: Sequence[dict[str, float]], daily: _DailyRows,
+              offset: int, agg: _Aggregator, cancel: CancelCheck | None = None) -> _Chunk:
+    """Run consecutive parameter sets, writing their daily rows into ``daily`` from ``offset``
+    and returning their per-market figures."""
     k, m = len(sets), len(backtest.panel.markets)
-    gross = np.zeros((agg.days, k))
-    cost = np.zeros((agg.days, k))
-    used = np.zeros((agg.days, k), dtype=bool)
     contracts, trades = np.zeros(k), np.zeros(k)
     market = {name: np.zeros((k, m)) for name in
               ("gross", "cost", "gross_sq", "net_sq", "days", "contracts", "span_days")}
-    dates = backtest.panel.dates.astype(np.int64)
+    cost_per_contract = backtest.panel.cost_per_contract
     for i, params in enumerate(sets):
         if cancel is not None and cancel():
             raise SweepCancelled("sweep cancelled")
         out = backtest.run(params)
-        gross[:, i] = agg.total(out.gross)
-        cost[:, i] = agg.total(out.cost)
-        used[:, i] = agg.total(out.rows.astype(float)) > 0
-        market_traded = out.traded.sum(axis=0)
+        g, t = agg.by_day(out.gross), agg.by_day(out.traded)
+        row = offset + i
+        daily.gross[row] = g.sum(axis=1)
+        daily.cost[row] = t @ cost_per_contract
+        daily.used[row] = agg.used(out.first)
+        market_traded = np.einsum("ij->j", t)
         contracts[i] = market_traded.sum()
-        trades[i] = np.count_nonzero(out.traded)
-        net = out.gross - out.cost
-        market["gross"][i] = out.gross.sum(axis=0)
-        market["cost"][i] = out.cost.sum(axis=0)
-        market["gross_sq"][i] = np.einsum("ij,ij->j", out.gross, out.gross)
-        market["net_sq"][i] = np.einsum("ij,ij->j", net, net)
-        market["days"][i] = out.rows.sum(axis=0)
+        trades[i] = np.count_nonzero(t)
+        gross_sq = np.einsum("ij,ij->j", g, g)
+        gross_traded = np.einsum("ij,ij->j", g, t)
+        traded_sq = np.einsum("ij,ij->j", t, t)
+        market["gross"][i] = np.einsum("ij->j", g)
+        market["cost"][i] = market_traded * cost_per_contract
+        market["gross_sq"][i] = gross_sq
+        # sum of (gross - traded x cost)^2, expanded
+        market["net_sq"][i] = (gross_sq - 2 * cost_per_contract * gross_traded
+                               + cost_per_contract ** 2 * traded_sq)
         market["contracts"][i] = market_traded
-        rows = out.rows
-        first = rows.argmax(axis=0)
-        last = len(rows) - 1 - rows[::-1].argmax(axis=0)
-        cols = np.arange(m)
-        market["span_days"][i] = np.where(rows.any(axis=0),
-                                          dates[last, cols] - dates[first, cols] + 1, 0)
-    return _Chunk(start=start, gross=gross, cost=cost, used=used, contracts=contracts,
-                  trades=trades, market=market)
+        days = agg.rows_from[out.first, agg.cols]
+        market["days"][i] = days
+        first_bar = np.minimum(out.first, len(out.gross) - 1)
+        market["span_days"][i] = np.where(
+            days > 0, agg.dates[agg.last_bar, agg.cols] - agg.dates[first_bar, agg.cols] + 1, 0)
+    return _Chunk(start=offset, contracts=contracts, trades=trades, market=market)
 
 
 def run_sweep(backtest: Backtest, sets: Sequence[dict[str, float]], *,
@@ -149,85 +201,105 @@ def run_sweep(backtest: Backtest, sets: Sequence[dict[str, float]], *,
     SweepCancelled
         When ``cancel`` returned True.
     """
-    total = len(sets)
     workers = max(1, workers or os.cpu_count() or 1)
-    if workers == 1 or total < MIN_SETS_FOR_PROCESSES:
-        chunks = [_run_in_process(backtest, sets, progress, cancel)]
+    agg = _Aggregator(backtest)
+    if workers == 1 or len(sets) < MIN_SETS_FOR_PROCESSES:
+        daily = _DailyRows.allocate(len(sets), agg.days)
+        chunks = _run_in_process(backtest, sets, daily, agg, progress, cancel)
     else:
-        chunks = _run_in_workers(backtest, sets, workers, progress, cancel)
-    return _assemble(backtest, sets, chunks)
+        daily, chunks = _run_in_workers(backtest, sets, agg.days, workers, progress, cancel)
+    return _assemble(backtest, sets, daily, chunks)
 
 
-def _run_in_process(backtest: Backtest, sets: Sequence[dict[str, float]],
-                    progress: Progress | None, cancel: CancelCheck | None) -> _Chunk:
+def _run_in_process(backtest: Backtest, sets: Sequence[dict[str, float]], daily: _DailyRows,
+                    agg: _Aggregator, progress: Progress | None,
+                    cancel: CancelCheck | None) -> list[_Chunk]:
     step = max(1, len(sets) // 50)
-    parts = []
+    chunks = []
     for begin in range(0, len(sets), step):
-        parts.append(run_chunk(backtest, sets[begin:begin + step], begin, cancel))
+        chunks.append(run_chunk(backtest, sets[begin:begin + step], daily, begin, agg, cancel))
         if progress is not None:
             progress(min(begin + step, len(sets)), len(sets))
-    return _concat(parts)
-
-
-def _run_in_workers(backtest: Backtest, sets: Sequence[dict[str, float]], workers: int,
-                    progress: Progress | None, cancel: CancelCheck | None) -> list[_Chunk]:
-    size = max(1, -(-len(sets) // (workers * CHUNKS_PER_WORKER)))
-    context = multiprocessing.get_context("spawn")  # safe beside GUI threads
-    done, chunks = 0, []
-    with ProcessPoolExecutor(max_workers=workers, mp_context=context,
-                             initializer=_init_worker, initargs=(backtest,)) as pool:
-        pending = {pool.submit(_worker_chunk, list(sets[b:b + size]), b)
-                   for b in range(0, len(sets), size)}
-        try:
-            while pending:
-                finished, pending = wait(pending, timeout=0.1, return_when=FIRST_COMPLETED)
-                for future in finished:
-                    chunk = future.result()
-                    chunks.append(chunk)
-                    done += chunk.gross.shape[1]
-                    if progress is not None:
-                        progress(done, len(sets))
-                if cancel is not None and cancel():
-                    raise SweepCancelled("sweep cancelled")
-        except BaseException:
-            for future in pending:
-                future.cancel()
-            raise
     return chunks
 
 
-_WORKER_BACKTEST: Backtest | None = None
+def _run_in_workers(backtest: Backtest, sets: Sequence[dict[str, float]], days: int,
+                    workers: int, progress: Progress | None,
+                    cancel: CancelCheck | None) -> tuple[_DailyRows, list[_Chunk]]:
+    global _SHARED
+    size = max(1, -(-len(sets) // (workers * CHUNKS_PER_WORKER)))
+    method = _start_method()
+    daily = _DailyRows.allocate(len(sets), days, shared=method == "fork")
+    _SHARED = daily if method == "fork" else None  # inherited by forked workers
+    done, chunks = 0, []
+    try:
+        with ProcessPoolExecutor(max_workers=workers,
+                                 mp_context=multiprocessing.get_context(method),
+                                 initializer=_init_worker, initargs=(backtest,)) as pool:
+            pending = {pool.submit(_worker_chunk, list(sets[b:b + size]), b)
+                       for b in range(0, len(sets), size)}
+            try:
+                while pending:
+                    finished, pending = wait(pending, timeout=0.1, return_when=FIRST_COMPLETED)
+                    for future in finished:
+                        chunk = future.result()
+                        if chunk.daily is not None:  # spawned worker: copy its rows in
+                            rows = slice(chunk.start, chunk.start + len(chunk.contracts))
+                            daily.gross[rows] = chunk.daily.gross
+                            daily.cost[rows] = chunk.daily.cost
+                            daily.used[rows] = chunk.daily.used
+                        chunks.append(replace(chunk, daily=None))
+                        done += len(chunk.contracts)
+                        if progress is not None:
+                            progress(done, len(sets))
+                    if cancel is not None and cancel():
+                        raise SweepCancelled("sweep cancelled")
+            except BaseException:
+                for future in pending:
+                    future.cancel()
+                raise
+    finally:
+        _SHARED = None
+    return daily, chunks
+
+
+def _start_method() -> str:
+    """Fork (fast, nothing to pickle) only when no other thread runs; otherwise spawn."""
+    if "fork" in multiprocessing.get_all_start_methods() and threading.active_count() == 1:
+        return "fork"
+    return "spawn"
+
+
+#: Daily rows in shared memory, set in the parent just before forking workers.
+_SHARED: _DailyRows | None = None
+#: A worker's backtest and aggregator, set by its initializer.
+_WORKER: tuple[Backtest, _Aggregator] | None = None
 
 
 def _init_worker(backtest: Backtest) -> None:
-    global _WORKER_BACKTEST
-    _WORKER_BACKTEST = backtest
+    global _WORKER
+    _WORKER = (backtest, _Aggregator(backtest))
 
 
 def _worker_chunk(sets: list[dict[str, float]], start: int) -> _Chunk:
-    assert _WORKER_BACKTEST is not None, "worker used before its initializer ran"
-    return run_chunk(_WORKER_BACKTEST, sets, start)
+    assert _WORKER is not None, "worker used before its initializer ran"
+    backtest, agg = _WORKER
+    if _SHARED is not None:
+        return run_chunk(backtest, sets, _SHARED, start, agg)
+    local = _DailyRows.allocate(len(sets), agg.days)
+    return replace(run_chunk(backtest, sets, local, 0, agg), start=start, daily=local)
 
 
-def _concat(parts: list[_Chunk]) -> _Chunk:
-    parts = sorted(parts, key=lambda c: c.start)
-    return _Chunk(
-        start=parts[0].start,
-        gross=np.hstack([c.gross for c in parts]), cost=np.hstack([c.cost for c in parts]),
-        used=np.hstack([c.used for c in parts]),
-        contracts=np.concatenate([c.contracts for c in parts]),
-        trades=np.concatenate([c.trades for c in parts]),
-        market={k: np.vstack([c.market[k] for c in parts]) for k in parts[0].market})
-
-
-def _assemble(backtest: Backtest, sets: Sequence[dict[str, float]],
+def _assemble(backtest: Backtest, sets: Sequence[dict[str, float]], daily: _DailyRows,
               chunks: list[_Chunk]) -> SweepOutcome:
-    whole = _concat(chunks)
+    chunks = sorted(chunks, key=lambda c: c.start)
+    m = {k: np.vstack([c.market[k] for c in chunks]) for k in chunks[0].market}
     panel = backtest.panel
-    m = whole.market
     return SweepOutcome(
         sets=tuple(dict(s) for s in sets), markets=panel.markets, dates=panel.union_dates,
-        gross=whole.gross, cost=whole.cost, used=whole.used, contracts=whole.contracts,
-        trades=whole.trades, market_gross=m["gross"], market_cost=m["cost"],
-        market_gross_sq=m["gross_sq"], market_net_sq=m["net_sq"], market_days=m["days"],
-        market_contracts=m["contracts"], market_span_days=m["span_days"])
+        gross=daily.gross.T, cost=daily.cost.T, used=daily.used.T,
+        contracts=np.concatenate([c.contracts for c in chunks]),
+        trades=np.concatenate([c.trades for c in chunks]),
+        market_gross=m["gross"], market_cost=m["cost"], market_gross_sq=m["gross_sq"],
+        market_net_sq=m["net_sq"], market_days=m["days"], market_contracts=m["contracts"],
+        market_span_days=m["span_days"])

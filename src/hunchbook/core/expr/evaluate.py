@@ -38,6 +38,11 @@ _COMPARISON = {"<": np.less, "<=": np.less_equal, ">": np.greater, ">=": np.grea
                "==": np.equal, "!=": np.not_equal}
 
 
+#: Functions whose result is finite (or NaN) whenever their inputs are: every value here is,
+#: since series are read with infinities as NaN and other results pass through ``_finite``.
+_NEVER_INFINITE = frozenset({"sign", "abs", "clip", "maximum", "minimum"})
+
+
 def _finite(value: Value) -> Value:
     """A fresh result with infinities replaced by NaN (a float when it is a scalar)."""
     if np.ndim(value) == 0:
@@ -57,7 +62,7 @@ def _nan_where_any_nan(result: Value, operands: tuple[Value, ...]) -> Value:
 
 def _unary(op: str, operand: Value) -> Value:
     if op == "-":
-        return _finite(np.negative(operand))
+        return np.negative(operand)  # finite in, finite out
     if op == "+":
         return operand
     return _nan_where_any_nan(np.equal(operand, 0), (operand,))
@@ -192,6 +197,8 @@ def _evaluate(node: Node, series: Mapping[str, np.ndarray], shape: tuple[int, ..
         return _conditional(*values)
     assert isinstance(node, Call)
     spec = FUNCTION_SPECS[node.function]
+    if node.function in _NEVER_INFINITE:
+        return spec.compute(*values)
     if not spec.is_window:
         return _finite(spec.compute(*values))
     window = node.args[1]

@@ -107,8 +107,8 @@ def _prepare_series(series: Mapping[str, np.ndarray],
         if array.ndim not in (1, 2) or (arrays and array.shape != shape):
             raise ValueError(f"series '{name}' has shape {array.shape}; expected one 1-D or "
                              f"2-D shape {shape or ''} for all series".replace(" ()", ""))
-        if not np.isfinite(array).all():
-            array = np.where(np.isfinite(array), array, np.nan)
+        if np.isinf(array).any():  # NaN (missing, padding) is fine as it is
+            array = np.where(np.isinf(array), np.nan, array)
         array = array.view()
         array.flags.writeable = False
         arrays[name] = array
