@@ -263,8 +263,8 @@ class Catalogue:
             return
         preregistration.amend(
             self.db, ideas.get(self.db, idea.id), revision, by=by, at=at, reason=why,
-            changed=[f"Parameter space {last.parameter_space or 'none'} -> "
-                     f"{revision.parameter_space or 'none'}."],
+            changed=[f"Parameter space {_space(last.parameter_space)} -> "
+                     f"{_space(revision.parameter_space)}."],
             trials=runmod.trial_count(self.db, idea.id))
 
     def revisions(self, idea_id: int) -> list[Revision]:
@@ -429,11 +429,20 @@ class Catalogue:
             return bundles.import_bundle(self.db, path, by=by, at=self._now())
 
 
+def _space(space: dict[str, Any]) -> str:
+    return json.dumps(space, sort_keys=True) if space else "none"
+
+
 def _run_text(run_id: int, revision: Revision, run: runmod.RunInput, trials: int) -> str:
     chosen = ", ".join(f"{k}={v:g}" for k, v in run.chosen_params.items()) or "no parameters"
     sharpe = ("n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}")
-    reasons = " ".join(json.loads(run.verdict)["reasons"])
+    verdict = json.loads(run.verdict)
+    label = verdict.get("label", run.verdict_label)
+    shown = label if label == run.verdict_label else f"{label} ({run.verdict_label})"
+    reasons = " ".join(verdict["reasons"])
+    action = verdict.get("action")
     return (f"Run {run_id} on rule revision {revision.number}: {len(run.parameter_sets)} "
             f"parameter set(s), trial count now {trials}; data {run.data_fingerprint[:12]}, "
             f"engine {run.engine_version}. Chosen set {chosen}, net Sharpe {sharpe}. "
-            f"Verdict: {run.verdict_label}. {reasons}").strip()
+            f"Verdict: {shown}. {reasons}"
+            + (f" Next: {action}" if isinstance(action, str) else "")).strip()

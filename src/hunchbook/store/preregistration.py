@@ -54,7 +54,8 @@ def amend(db: Database, idea: Idea, revision: Revision, *, changed: list[str], b
             reason=reason)
     journal.append(db, idea_id=idea.id, kind="preregistration", by=by, at=at, text=(
         f"Pre-registration changed after testing began (version {version}). "
-        + " ".join(changed) + f" Reason: {reason} Trials keep counting across the change "
+        + " ".join(changed) + f" Reason: {reason.rstrip('.')}. Trials keep counting across "
+        "the change "
         f"({trials} so far)."))
 
 

@@ -72,7 +72,9 @@ def clean(*, parameter_sets: Any, data_fingerprint: Any, engine_version: Any, su
     statistics
         any table of plain values.
     verdict
-        ``{"label": short text, "reasons": [text, ...], ...}``.
+        ``{"outcome": short key, "label": short text, "reasons": [text, ...], ...}``;
+        ``outcome`` (optional, defaults to ``label``) is what ideas are filtered by and what
+        ``RunRecord.verdict_label`` and ``Idea.last_verdict`` hold.
     chosen_params
         one of ``parameter_sets``; its daily P&L is ``daily_pnl``.
     """
@@ -93,6 +95,9 @@ def clean(*, parameter_sets: Any, data_fingerprint: Any, engine_version: Any, su
     if not isinstance(verdict, Mapping):
         raise CatalogueError("expected a table with 'label' and 'reasons'", field="verdict")
     label = validate.text(verdict.get("label"), "verdict.label", limit=MAX_LABEL, one_line=True)
+    if "outcome" in verdict:
+        label = validate.text(verdict["outcome"], "verdict.outcome", limit=MAX_LABEL,
+                              one_line=True)
     reasons = verdict.get("reasons")
     if not isinstance(reasons, list):
         raise CatalogueError("expected a list of sentences", field="verdict.reasons")

@@ -1,0 +1,475 @@
+"""The catalogue commands of ``hunchbook``: ``ideas``, ``journal``, ``runs`` and ``catalogue``.
+
+:func:`register` adds them to the main command's ``argparse`` subparsers. Every command takes
+``--catalogue PATH`` (default: ``$HUNCHBOOK_CATALOGUE``, else ``catalogue.sqlite`` in the
+user's data folder) and, where it writes, ``--by NAME`` (default: ``$HUNCHBOOK_USER``, else
+the login name). Handlers return an exit status and raise ``HunchbookError`` for bad input.
+"""
+
+from __future__ import annotations
+
+import argparse
+import getpass
+import json
+import os
+import sys
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+from hunchbook.catalogue import Catalogue, default_catalogue_path
+from hunchbook.store.errors import CatalogueError
+from hunchbook.store.records import Idea, IdeaSummary
+from hunchbook.store.vocab import (
+    CHECKLIST,
+    DECISIONS,
+    ENTRY_KINDS,
+    RATIONALE_KINDS,
+    SOURCE_KINDS,
+    STAGES,
+    USER_ENTRY_KINDS,
+)
+
+#: Environment variable naming the person who writes (default for ``--by``).
+USER_ENV = "HUNCHBOOK_USER"
+
+Handler = Callable[[argparse.Namespace], int]
+
+
+def register(subparsers: Any) -> None:
+    """Add ``ideas``, ``journal``, ``runs`` and ``catalogue`` to an argparse subparsers object."""
+    _ideas(_group(subparsers, "ideas", "the idea catalogue: list, show, add, edit, move, review, "
+                                       "export and import ideas"))
+    _journal(_group(subparsers, "journal", "the research journal: add, list and correct "
+                                           "entries"))
+    runs = _group(subparsers, "runs", "runs recorded against ideas")
+    _command(runs, "list", "list recorded runs, newest last", _runs_list,
+             "hunchbook runs list --idea 7",
+             lambda p: p.add_argument("--idea", type=int, metavar="ID", help="only this idea"))
+    _catalogue(_group(subparsers, "catalogue", "catalogue upkeep: backup, check, demo"))
+
+
+def _group(subparsers: Any, name: str, help_text: str) -> Any:
+    parser = subparsers.add_parser(name, help=help_text, description=help_text[0].upper()
+                                   + help_text[1:] + ".")
+    return parser.add_subparsers(dest=f"{name}_command", required=True, metavar="COMMAND")
+
+
+def _command(group: Any, name: str, help_text: str, handler: Handler, example: str,
+             arguments: Callable[[argparse.ArgumentParser], Any] | None = None, *,
+             writes: bool = False) -> argparse.ArgumentParser:
+    parser = group.add_parser(name, help=help_text, description=help_text[0].upper()
+                              + help_text[1:] + ".", epilog=f"Example: {example}")
+    if arguments is not None:
+        arguments(parser)
+    parser.add_argument("--catalogue", type=Path, metavar="PATH",
+                        help="catalogue file (default: $HUNCHBOOK_CATALOGUE or the user data "
+                             "folder)")
+    if writes:
+        parser.add_argument("--by", metavar="NAME",
+                            help="who writes this (default: $HUNCHBOOK_USER or login name)")
+    parser.set_defaults(handler=handler)
+    return parser
+
+
+def _ideas(group: Any) -> None:
+    def list_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("--stage", choices=STAGES)
+        p.add_argument("--verdict", help="last verdict label")
+        p.add_argument("--market")
+        p.add_argument("--tag")
+        p.add_argument("--author", help="who submitted the idea")
+        p.add_argument("--source", choices=SOURCE_KINDS)
+        p.add_argument("--search", metavar="WORDS",
+                       help="full-text search of titles, hypotheses, rationales and journal")
+        p.add_argument("--limit", type=int, metavar="N")
+        p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    _command(group, "list", "list ideas, most recently updated first", _ideas_list,
+             "hunchbook ideas list --stage submitted --search carry", list_args)
+
+    def show_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("idea", type=int, metavar="ID")
+        p.add_argument("--json", action="store_true", help="print JSON instead of text")
+    _command(group, "show", "show an idea with its revisions, runs, reviews and journal",
+             _ideas_show, "hunchbook ideas show 7", show_args)
+
+    def add_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("--title", required=True)
+        p.add_argument("--hypothesis", required=True, help="one line")
+        _idea_fields(p)
+        p.add_argument("--submit", action="store_true",
+                       help="submit for review at once (stage 'submitted')")
+        p.add_argument("--rules", type=Path, metavar="RULEFILE",
+                       help="keep this rule file as revision 1")
+    _command(group, "add", "write a new idea down", _ideas_add,
+             'hunchbook ideas add --title "Grain carry" --hypothesis "..." --markets CORN,SOYBEAN'
+             " --rationale-kind risk_premium --by Nia", add_args, writes=True)
+
+    def edit_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("idea", type=int, metavar="ID")
+        p.add_argument("--title")
+        p.add_argument("--hypothesis")
+        _idea_fields(p)
+        p.add_argument("--reviewer")
+        p.add_argument("--reason", help="why (required to change frozen rationale or markets)")
+    _command(group, "edit", "edit an idea's fields (journalled)", _ideas_edit,
+             "hunchbook ideas edit 7 --tags carry,grains --by Nia", edit_args, writes=True)
+
+    def stage_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("idea", type=int, metavar="ID")
+        p.add_argument("stage", choices=STAGES)
+        p.add_argument("--reason", required=True)
+    _command(group, "stage", "move an idea to another stage (journalled with who and why)",
+             _ideas_stage, 'hunchbook ideas stage 7 submitted --reason "ready" --by Nia',
+             stage_args, writes=True)
+
+    def review_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("idea", type=int, metavar="ID")
+        p.add_argument("--decision", required=True, choices=list(DECISIONS))
+        p.add_argument("--checked", default="", metavar="ITEM,...",
+                       help="checklist items satisfied (others count as not): "
+                            + ", ".join(CHECKLIST))
+        p.add_argument("--comments", default="")
+    _command(group, "review", "review a submitted idea: checklist, decision, comments",
+             _ideas_review, "hunchbook ideas review 7 --decision accept --checked "
+             + ",".join(CHECKLIST) + " --by Ines", review_args, writes=True)
+
+    def rules_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("idea", type=int, metavar="ID")
+        p.add_argument("rules", type=Path, metavar="RULEFILE")
+    _command(group, "rules", "keep a rule file as the idea's next revision", _ideas_rules,
+             "hunchbook ideas rules 7 carry.toml --by Nia", rules_args, writes=True)
+
+    def export_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("idea", type=int, metavar="ID")
+        p.add_argument("bundle", type=Path, metavar="BUNDLE")
+        p.add_argument("--overwrite", action="store_true", help="replace an existing file")
+    _command(group, "export", "write an idea and its history to a bundle file (zip of text)",
+             _ideas_export, "hunchbook ideas export 7 grain-carry.zip", export_args)
+
+    _command(group, "import", "import an idea bundle (never overwrites; conflicts reported)",
+             _ideas_import, "hunchbook ideas import grain-carry.zip --by Ines",
+             lambda p: p.add_argument("bundle", type=Path, metavar="BUNDLE"), writes=True)
+
+
+def _idea_fields(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--rationale", help="why it should work (or use --rationale-file)")
+    p.add_argument("--rationale-file", type=Path, metavar="PATH")
+    p.add_argument("--rationale-kind", choices=RATIONALE_KINDS)
+    p.add_argument("--source", choices=SOURCE_KINDS, help="where the idea came from")
+    p.add_argument("--citation")
+    p.add_argument("--link")
+    p.add_argument("--markets", type=_names, metavar="A,B,...")
+    p.add_argument("--tags", type=_names, metavar="a,b,...")
+
+
+def _journal(group: Any) -> None:
+    def add_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("text", help="the entry; '-' reads it from standard input")
+        p.add_argument("--idea", type=int, metavar="ID", help="the idea (default: general)")
+        p.add_argument("--kind", choices=USER_ENTRY_KINDS, default="note")
+    _command(group, "add", "append an entry to the journal", _journal_add,
+             'hunchbook journal add --idea 7 "Roll dates look wrong in CORN" --by Theo',
+             add_args, writes=True)
+
+    def list_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("--idea", type=int, metavar="ID")
+        p.add_argument("--kind", choices=ENTRY_KINDS)
+        p.add_argument("--limit", type=int, metavar="N", help="only the newest N")
+    _command(group, "list", "list journal entries, oldest first", _journal_list,
+             "hunchbook journal list --idea 7", list_args)
+
+    def correct_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("entry", type=int, metavar="ENTRY")
+        p.add_argument("text", help="the corrected text; '-' reads standard input")
+    _command(group, "correct", "append a correction of an entry (entries never change)",
+             _journal_correct, 'hunchbook journal correct 42 "CORN only, not SOYBEAN" --by Theo',
+             correct_args, writes=True)
+
+
+def _catalogue(group: Any) -> None:
+    _command(group, "backup", "copy the catalogue with SQLite's online backup", _cat_backup,
+             "hunchbook catalogue backup desk-2026-03-01.sqlite",
+             lambda p: p.add_argument("destination", type=Path, metavar="PATH"))
+    _command(group, "check", "check integrity, indexes and records (exit 1 on problems)",
+             _cat_check, "hunchbook catalogue check")
+    _command(group, "demo", "write the invented demo desk's catalogue to a new file", _cat_demo,
+             "hunchbook catalogue demo build/demo-catalogue.sqlite",
+             lambda p: p.add_argument("destination", type=Path, metavar="PATH"))
+
+
+# -- handlers ------------------------------------------------------------------------------
+def _open(args: argparse.Namespace, *, create: bool = False) -> Catalogue:
+    path = args.catalogue
+    if path is None:
+        path = default_catalogue_path()
+        path.parent.mkdir(parents=True, exist_ok=True)
+        create = True
+    return Catalogue(path, create=create)
+
+
+def _by(args: argparse.Namespace) -> str:
+    return args.by or os.environ.get(USER_ENV) or getpass.getuser()
+
+
+def _ideas_list(args: argparse.Namespace) -> int:
+    with _open(args) as cat:
+        rows = cat.list_ideas(stage=args.stage, verdict=args.verdict, market=args.market,
+                              tag=args.tag, author=args.author, source_kind=args.source,
+                              text=args.search, limit=args.limit)
+    if args.json:
+        print(json.dumps([_plain(r) for r in rows], indent=1))
+        return 0
+    print(_table(["id", "stage", "verdict", "net SR", "trials", "author", "title"],
+                 [_summary_row(r) for r in rows]))
+    print(f"{len(rows)} idea(s)")
+    return 0
+
+
+def _summary_row(r: IdeaSummary) -> list[str]:
+    sharpe = "" if r.last_net_sharpe is None else f"{r.last_net_sharpe:.2f}"
+    return [str(r.id), r.stage, r.last_verdict or "", sharpe, str(r.trial_count),
+            r.submitted_by, r.title]
+
+
+def _ideas_show(args: argparse.Namespace) -> int:
+    with _open(args) as cat:
+        idea = cat.idea(args.idea)
+        revisions, runs = cat.revisions(idea.id), cat.runs(idea.id)
+        reviews, entries = cat.reviews(idea.id), cat.journal(idea.id)
+        prereg = cat.preregistrations(idea.id)
+    if args.json:
+        print(json.dumps({"idea": _plain(idea), "revisions": [_plain(r) for r in revisions],
+                          "preregistrations": [_plain(p) for p in prereg],
+                          "runs": [_plain(r) for r in runs],
+                          "reviews": [_plain(r) for r in reviews],
+                          "journal": [_plain(e) for e in entries]}, indent=1))
+        return 0
+    print(_idea_text(idea))
+    if prereg:
+        print(f"Pre-registered {prereg[0].frozen_at[:10]} (version {prereg[-1].version}): "
+              f"parameter space {json.dumps(prereg[-1].parameter_space) or 'none'}")
+    print(f"\nRule revisions ({len(revisions)}):")
+    for r in revisions:
+        print(f"  {r.number}  {r.saved_at[:16]}  {r.saved_by}  sha256 {r.sha256[:12]}")
+    print(f"\nRuns ({len(runs)}), trial count {idea.trial_count}:")
+    for run in runs:
+        sharpe = "n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}"
+        print(f"  run {run.id}  {run.recorded_at[:10]}  revision {run.revision_number}  "
+              f"{run.set_count} set(s)  net SR {sharpe}  verdict {run.verdict_label}")
+        for reason in run.verdict.get("reasons", []):
+            print(f"      - {reason}")
+    print(f"\nReviews ({len(reviews)}):")
+    for v in reviews:
+        print(f"  {v.at[:10]}  {v.reviewer}: {v.decision}. {v.comments}")
+    print(f"\nJournal ({len(entries)}):")
+    for e in entries:
+        print(_entry_line(e))
+    return 0
+
+
+def _idea_text(idea: Idea) -> str:
+    lines = [f"Idea {idea.id}: {idea.title}", f"  hypothesis : {idea.hypothesis}",
+             f"  stage      : {idea.stage}" + (f" (last verdict: {idea.last_verdict})"
+                                               if idea.last_verdict else ""),
+             f"  rationale  : [{idea.rationale_kind}] {idea.rationale or '(none yet)'}",
+             f"  source     : {idea.source_kind}" + (f"; {idea.citation}" if idea.citation
+                                                      else "")
+             + (f" <{idea.link}>" if idea.link else ""),
+             f"  markets    : {', '.join(idea.markets) or '(none)'}",
+             f"  tags       : {', '.join(idea.tags) or '(none)'}",
+             f"  people     : submitted by {idea.submitted_by}; reviewer "
+             f"{idea.reviewer or '(none yet)'}",
+             f"  dates      : created {idea.created_at[:16]}, updated {idea.updated_at[:16]}",
+             f"  uuid       : {idea.uuid}"]
+    return "\n".join(lines)
+
+
+def _ideas_add(args: argparse.Namespace) -> int:
+    fields = _given_fields(args)
+    rules_text = _read_text(args.rules) if args.rules else None
+    with _open(args, create=True) as cat, cat.transaction():
+        idea_id = cat.add_idea(title=args.title, hypothesis=args.hypothesis,
+                               submitted_by=_by(args), **fields)
+        if rules_text is not None:
+            cat.save_rules(idea_id, rules_text, by=_by(args))
+        if args.submit:
+            cat.set_stage(idea_id, "submitted", by=_by(args), reason="Submitted on creation.")
+    print(f"Idea {idea_id} written down" + (" and submitted for review." if args.submit
+                                             else " (draft)."))
+    return 0
+
+
+def _given_fields(args: argparse.Namespace) -> dict[str, Any]:
+    if args.rationale is not None and args.rationale_file is not None:
+        raise CatalogueError("give --rationale or --rationale-file, not both")
+    fields = {"rationale": args.rationale, "rationale_kind": args.rationale_kind,
+              "source_kind": args.source, "citation": args.citation, "link": args.link,
+              "markets": args.markets, "tags": args.tags}
+    if args.rationale_file is not None:
+        fields["rationale"] = _read_text(args.rationale_file)
+    return {k: v for k, v in fields.items() if v is not None}
+
+
+def _ideas_edit(args: argparse.Namespace) -> int:
+    fields = _given_fields(args)
+    fields.update({k: getattr(args, k) for k in ("title", "hypothesis", "reviewer")
+                   if getattr(args, k) is not None})
+    if not fields:
+        raise CatalogueError("nothing to change: give at least one field option")
+    with _open(args) as cat:
+        before = cat.idea(args.idea)
+        after = cat.update_idea(args.idea, by=_by(args), reason=args.reason, **fields)
+    print(f"Idea {after.id} " + ("unchanged." if after == before else "updated."))
+    return 0
+
+
+def _ideas_stage(args: argparse.Namespace) -> int:
+    with _open(args) as cat:
+        cat.set_stage(args.idea, args.stage, by=_by(args), reason=args.reason)
+    print(f"Idea {args.idea} is now '{args.stage}'.")
+    return 0
+
+
+def _ideas_review(args: argparse.Namespace) -> int:
+    checked = _names(args.checked) if args.checked else []
+    unknown = [c for c in checked if c not in CHECKLIST]
+    if unknown:
+        raise CatalogueError(f"unknown checklist item(s) {', '.join(unknown)}; items: "
+                             f"{', '.join(CHECKLIST)}", field="--checked")
+    with _open(args) as cat:
+        review_id = cat.review(args.idea, reviewer=_by(args),
+                               checklist={k: k in checked for k in CHECKLIST},
+                               decision=args.decision, comments=args.comments)
+        stage = cat.idea(args.idea).stage
+    print(f"Review {review_id} recorded; idea {args.idea} is now '{stage}'.")
+    return 0
+
+
+def _ideas_rules(args: argparse.Namespace) -> int:
+    text = _read_text(args.rules)
+    with _open(args) as cat:
+        before = cat.latest_revision(args.idea)
+        revision = cat.save_rules(args.idea, text, by=_by(args))
+    same = before is not None and before.id == revision.id
+    print(f"Rule file {'unchanged since' if same else 'kept as'} revision {revision.number} "
+          f"(sha256 {revision.sha256[:12]}).")
+    return 0
+
+
+def _ideas_export(args: argparse.Namespace) -> int:
+    with _open(args) as cat:
+        cat.export_bundle(args.idea, args.bundle, overwrite=args.overwrite)
+    print(f"Idea {args.idea} written to {args.bundle}")
+    return 0
+
+
+def _ideas_import(args: argparse.Namespace) -> int:
+    with _open(args, create=True) as cat:
+        report = cat.import_bundle(args.bundle, by=_by(args))
+    verb = "created" if report.created else "already in the catalogue; appended to"
+    added = ", ".join(f"{n} {k}" for k, n in report.added.items() if n) or "nothing new"
+    print(f"Idea {report.idea_id} {verb}: {added}.")
+    for conflict in report.conflicts:
+        print(f"  conflict: {conflict}")
+    return 0
+
+
+def _journal_add(args: argparse.Namespace) -> int:
+    text = sys.stdin.read() if args.text == "-" else args.text
+    with _open(args) as cat:
+        entry_id = cat.add_entry(idea_id=args.idea, kind=args.kind, text=text, by=_by(args))
+    print(f"Journal entry {entry_id} added.")
+    return 0
+
+
+def _journal_list(args: argparse.Namespace) -> int:
+    with _open(args) as cat:
+        entries = cat.journal(args.idea, kind=args.kind, limit=args.limit)
+    for e in entries:
+        print(_entry_line(e))
+    print(f"{len(entries)} entr{'y' if len(entries) == 1 else 'ies'}")
+    return 0
+
+
+def _entry_line(e: Any) -> str:
+    about = f"idea {e.idea_id}" if e.idea_id is not None else "general"
+    note = f" (corrects {e.corrects})" if e.corrects else ""
+    note += f" [corrected by {e.corrected_by}]" if e.corrected_by else ""
+    return f"  #{e.id}  {e.at[:16].replace('T', ' ')}  {about:>8}  {e.kind:<15} {e.by}: " \
+           f"{e.text}{note}"
+
+
+def _journal_correct(args: argparse.Namespace) -> int:
+    text = sys.stdin.read() if args.text == "-" else args.text
+    with _open(args) as cat:
+        entry_id = cat.correct_entry(args.entry, text, by=_by(args))
+    print(f"Correction {entry_id} appended to entry {args.entry}.")
+    return 0
+
+
+def _runs_list(args: argparse.Namespace) -> int:
+    with _open(args) as cat:
+        runs = cat.runs(args.idea)
+    rows = [[str(r.id), str(r.idea_id), r.recorded_at[:10], str(r.revision_number),
+             str(r.set_count), str(r.trial_count),
+             "" if r.chosen_net_sharpe is None else f"{r.chosen_net_sharpe:.2f}",
+             r.verdict_label, r.recorded_by] for r in runs]
+    print(_table(["run", "idea", "date", "rev", "sets", "trials", "net SR", "verdict", "by"],
+                 rows))
+    print(f"{len(runs)} run(s)")
+    return 0
+
+
+def _cat_backup(args: argparse.Namespace) -> int:
+    with _open(args) as cat:
+        cat.backup(args.destination)
+    print(f"Catalogue copied to {args.destination}")
+    return 0
+
+
+def _cat_check(args: argparse.Namespace) -> int:
+    with _open(args) as cat:
+        problems = cat.check()
+        version = cat.schema_version()
+    for problem in problems:
+        print(f"problem: {problem}")
+    print(f"{cat.path}: schema version {version}; "
+          + ("ok" if not problems else f"{len(problems)} problem(s)"))
+    return 1 if problems else 0
+
+
+def _cat_demo(args: argparse.Namespace) -> int:
+    from hunchbook.demo.catalogue import build_demo_catalogue
+
+    path = build_demo_catalogue(args.destination)
+    print(f"Invented demo catalogue written to {path}")
+    return 0
+
+
+# -- small helpers -------------------------------------------------------------------------
+def _names(text: str) -> list[str]:
+    return [part.strip() for part in text.split(",") if part.strip()]
+
+
+def _read_text(path: Path) -> str:
+    try:
+        return Path(path).read_text(encoding="utf-8")
+    except UnicodeDecodeError:
+        raise CatalogueError("not UTF-8 text", where=str(path)) from None
+    except OSError as exc:
+        raise CatalogueError(f"cannot read the file ({exc.strerror or exc})",
+                             where=str(path)) from None
+
+
+def _plain(record: Any) -> dict[str, Any]:
+    return {k: v for k, v in record.__dict__.items() if k != "daily_pnl"}
+
+
+def _table(headers: list[str], rows: list[list[str]]) -> str:
+    widths = [max([len(h), *(len(r[i]) for r in rows)]) for i, h in enumerate(headers)]
+    widths[-1] = len(headers[-1])  # the last column runs free
+    lines = ["  ".join(h.ljust(w) for h, w in zip(headers, widths, strict=True)).rstrip()]
+    lines += ["  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip()
+              for r in rows]
+    return "\n".join(lines)

@@ -1,0 +1,439 @@
+"""The invented demo desk's catalogue: 15 ideas across every stage, with journal notes,
+reviews, rule revisions and runs carrying verdicts of each kind.
+
+Everything here is invented: the firm (Fernhollow Lane Partners, see :data:`DESK`), its people,
+their ideas, citations, notes, dates and the stored run records (daily P&L drawn from a seeded
+random generator and scaled to the stated Sharpe ratios, statistics computed from it with the
+textbook formulas). Each idea carries the tag ``invented-demo``.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import hashlib
+import math
+import os
+from dataclasses import dataclass
+from itertools import product
+from pathlib import Path
+from statistics import NormalDist
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from hunchbook.catalogue import CHECKLIST, Catalogue
+from hunchbook.core.verdict import ACTIONS, LABELS
+from hunchbook.demo.desk import DESK
+from hunchbook.store.errors import CatalogueError
+
+INES, THEO, NIA = (p.name for p in DESK.people)
+#: Seed of the invented run records.
+DEMO_SEED = 20_240
+#: Tag on every demo idea.
+DEMO_TAG = "invented-demo"
+_ENGINE = "0.1.0 (invented demo record)"
+_FINGERPRINT = hashlib.sha256(b"hunchbook invented demo data, seed 20240").hexdigest()
+_NORMAL = NormalDist()
+_EULER = 0.5772156649015329
+
+
+class _Clock:
+    """A clock the builder sets to invented dates; each reading is one minute later."""
+
+    def __init__(self) -> None:
+        self.now = dt.datetime(2025, 1, 6, 9, 0, tzinfo=dt.UTC)
+
+    def at(self, day: str, hour: int = 9) -> None:
+        self.now = dt.datetime.fromisoformat(day).replace(hour=hour, tzinfo=dt.UTC)
+
+    def __call__(self) -> dt.datetime:
+        self.now += dt.timedelta(minutes=1)
+        return self.now
+
+
+def _rules(name: str, description: str, markets: list[str], parameters: str, signal: str,
+           extra: str = "") -> str:
+    quoted = ", ".join(f'"{m}"' for m in markets)
+    return (f"# Invented rule file of the Fernhollow Lane Partners demo desk (fictional).\n"
+            f'name = "{name}"\ndescription = "{description}"\nmarkets = [{quoted}]\n\n'
+            f"[parameters]\n{parameters}\n\n[signal]\nposition = \"{signal}\"\n\n"
+            f'[roll]\ndays_before_expiry = 5\nadjust = "difference"\n{extra}')
+
+
+@dataclass(frozen=True)
+class _RunPlan:
+    outcome: str
+    grid: dict[str, list[float]]
+    gross_sr: float
+    net_sr: float
+    days: int
+    spa_p: float
+    reasons: tuple[str, ...]
+    chosen: int = 0
+    repeats: int = 0  # sets already counted as trials by an earlier run of the same strategy
+
+
+def build_demo_catalogue(path: str | os.PathLike[str]) -> Path:
+    """Write the invented demo catalogue to a new file ``path`` and return it."""
+    path = Path(path)
+    if path.exists():
+        raise CatalogueError("file exists; the demo catalogue is written to a new file",
+                             where=str(path))
+    path.parent.mkdir(parents=True, exist_ok=True)
+    clock = _Clock()
+    rng = np.random.default_rng(DEMO_SEED)
+    with Catalogue(path, clock=clock) as cat, cat.transaction():
+        _Builder(cat, clock, rng).build()
+    return path
+
+
+class _Builder:
+    def __init__(self, cat: Catalogue, clock: _Clock, rng: np.random.Generator) -> None:
+        self.cat, self.clock, self.rng = cat, clock, rng
+
+    def idea(self, day: str, **fields: Any) -> int:
+        self.clock.at(day)
+        fields["tags"] = [*fields.get("tags", ()), DEMO_TAG]
+        return self.cat.add_idea(**fields)
+
+    def note(self, day: str, idea: int | None, by: str, text: str,
+             kind: str = "note") -> int:
+        self.clock.at(day, 14)
+        return self.cat.add_entry(idea_id=idea, kind=kind, text=text, by=by)
+
+    def stage(self, day: str, idea: int, stage: str, by: str, reason: str) -> None:
+        self.clock.at(day, 11)
+        self.cat.set_stage(idea, stage, by=by, reason=reason)
+
+    def review(self, day: str, idea: int, decision: str, comments: str,
+               unmet: tuple[str, ...] = (), by: str = INES) -> None:
+        self.clock.at(day, 16)
+        self.cat.review(idea, reviewer=by, checklist={k: k not in unmet for k in CHECKLIST},
+                        decision=decision, comments=comments)
+
+    def rules(self, day: str, idea: int, by: str, text: str) -> int:
+        self.clock.at(day, 10)
+        return self.cat.save_rules(idea, text, by=by).id
+
+    def run(self, day: str, idea: int, revision: int, by: str, plan: _RunPlan) -> int:
+        self.clock.at(day, 17)
+        record = _run_record(self.rng, plan, self.cat.trial_count(idea))
+        return self.cat.record_run(idea, revision_id=revision, by=by, **record)
+
+    def build(self) -> None:
+        self.note("2025-01-06", None, INES, "Desk rule from today: every idea goes into the "
+                  "catalogue with its rationale, markets and parameter grid BEFORE anyone runs "
+                  "it. Invented demo desk.", kind="decision")
+        self._trend()
+        self._breakout()
+        self._reversion()
+        self._natgas()
+        self._gold()
+        self._roll_down()
+        self._waiting()
+        self._early()
+        self.note("2025-06-30", None, INES, "Half-year review: five ideas tested, one promoted. "
+                  "Too many grid points per idea in Q1; keep grids to a handful of values.")
+
+    def _trend(self) -> None:
+        i = self.idea("2025-01-08", title="Two-average trend across the book",
+                      hypothesis="Futures drift for months; a fast and a slow average tell the "
+                                 "direction of the drift.",
+                      rationale="News is absorbed slowly and hedgers adjust positions "
+                                "gradually, so price moves persist for weeks to months.",
+                      rationale_kind="behavioural", submitted_by=INES,
+                      markets=["CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN",
+                               "TNOTE10", "EQIDX"], tags=["trend"], stage="submitted")
+        self.review("2025-01-09", i, "accept", "Textbook idea, clean grid. Go.", by=NIA)
+        rev = self.rules("2025-01-10", i, INES, _rules(
+            "Two-average trend", "Sign of fast minus slow exponential average.",
+            ["CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN", "TNOTE10", "EQIDX"],
+            "fast = [8, 16, 32]\nslow = [64, 128]\nconstraint = \"fast < slow\"",
+            "sign(ewm(close, fast) - ewm(close, slow))"))
+        self.run("2025-01-13", i, rev, INES, _RunPlan(
+            "passes", {"fast": [8, 16, 32], "slow": [64, 128]}, 0.95, 0.82, 2600, 0.012,
+            ("The neighbours of the chosen set are close to it: a plateau, not a spike.",),
+            chosen=2))
+        self.note("2025-01-14", i, INES, "Equity curve is smooth apart from 2019; gains spread "
+                  "over energy, metals and rates. Costs about 14 % of gross.")
+        self.stage("2025-01-20", i, "promoted", INES, "Passes first pass; moving to full "
+                   "research with out-of-sample years held back.")
+
+    def _breakout(self) -> None:
+        i = self.idea("2025-01-15", title="Channel midpoint breakout",
+                      hypothesis="A close above the midpoint of the recent high-low channel "
+                                 "means buyers are in control.",
+                      rationale="Breakouts attract late trend followers; the channel midpoint "
+                                "is a memory-free form of the classic channel rule.",
+                      rationale_kind="behavioural", source_kind="book",
+                      citation="Invented: 'Channels and Crowds', desk reading list, ch. 4",
+                      submitted_by=NIA, markets=["CRUDE", "GOLD", "COPPER", "EQIDX"],
+                      tags=["trend", "breakout"], stage="submitted")
+        self.review("2025-01-17", i, "accept", "Fine. Keep the grid small.")
+        rev = self.rules("2025-01-20", i, NIA, _rules(
+            "Channel midpoint breakout", "Side of the n-bar channel midpoint.",
+            ["CRUDE", "GOLD", "COPPER", "EQIDX"], "n = { start = 20, stop = 120, step = 20 }",
+            "sign(close - (max(high, n) + min(low, n)) / 2)"))
+        grid = {"n": [20.0, 40.0, 60.0, 80.0, 100.0, 120.0]}
+        self.run("2025-01-21", i, rev, NIA, _RunPlan(
+            "selection_luck", grid, 0.66, 0.52, 2600, 0.18,
+            ("Warning: the chosen set is an isolated spike on the grid.",), chosen=1))
+        self.note("2025-01-22", i, NIA, "Best length is 40 but 20 and 60 are much weaker. "
+                  "Trying shorter channels in case the edge sits below 20.")
+        rev2 = self.rules("2025-01-23", i, NIA, _rules(
+            "Channel midpoint breakout", "Side of the n-bar channel midpoint.",
+            ["CRUDE", "GOLD", "COPPER", "EQIDX"], "n = { start = 5, stop = 30, step = 5 }",
+            "sign(close - (max(high, n) + min(low, n)) / 2)"))
+        self.run("2025-01-24", i, rev2, NIA, _RunPlan(
+            "selection_luck", {"n": [5.0, 10.0, 15.0, 20.0, 25.0, 30.0]}, 0.71, 0.55, 2600,
+            0.24, (), chosen=2, repeats=1))
+        entry = self.note("2025-01-27", i, INES, "Twelve lengths tried now, and the trial count "
+                          "says so. Stop widening the grid.", kind="decision")
+        self.clock.at("2025-01-27", 15)
+        self.cat.correct_entry(entry, "Eleven distinct lengths (20 was run under both "
+                               "revisions, but the strategy was unchanged so it counts once). "
+                               "Stop widening the grid.", by=INES)
+
+    def _reversion(self) -> None:
+        i = self.idea("2025-02-03", title="Short-term reversion in grains and rates",
+                      hypothesis="Sharp three-to-ten-day moves partly reverse.",
+                      rationale="Liquidity providers who absorbed a sharp move are paid to "
+                                "unwind it, so part of the move comes back.",
+                      rationale_kind="behavioural", source_kind="web",
+                      citation="Invented: a trading forum thread the desk read in January",
+                      link="https://example.invalid/forum/reversion", submitted_by=THEO,
+                      markets=["CORN", "SOYBEAN", "TNOTE10"], tags=["reversion"])
+        self.stage("2025-02-04", i, "submitted", THEO, "Ready for review.")
+        self.review("2025-02-05", i, "accept", "Accepting, but watch the costs: this trades "
+                    "every few days.")
+        rev = self.rules("2025-02-06", i, THEO, _rules(
+            "Short-term reversion", "Fade stretched closes.", ["CORN", "SOYBEAN", "TNOTE10"],
+            "n = [3, 5, 10]\nentry = [0.5, 1.0]",
+            "-sign(zscore(close, n)) if abs(zscore(close, n)) > entry else 0"))
+        self.run("2025-02-07", i, rev, THEO, _RunPlan(
+            "lost_to_costs", {"n": [3, 5, 10], "entry": [0.5, 1.0]}, 0.92, 0.08, 2600, 0.61,
+            ()))
+        self.note("2025-02-10", i, THEO, "Gross looks great, net is nothing. Each round trip "
+                  "costs about a tick and a half; the edge per trade is about the same.")
+
+    def _natgas(self) -> None:
+        i = self.idea("2025-02-12", title="Natural gas storage-report drift",
+                      hypothesis="NATGAS keeps drifting for two days in the direction of the "
+                                 "weekly storage surprise.",
+                      rationale="Hedgers who must adjust after a storage surprise spread their "
+                                "orders over several sessions.",
+                      rationale_kind="structural", source_kind="colleague",
+                      citation="Invented: idea from a former colleague of Theo's",
+                      submitted_by=THEO, markets=["NATGAS"], tags=["energy", "event"])
+        self.stage("2025-02-12", i, "submitted", THEO, "Ready for review.")
+        self.review("2025-02-14", i, "accept", "Plausible mechanism; only two years of "
+                    "storage-day history though.")
+        rev = self.rules("2025-02-17", i, THEO, _rules(
+            "Storage-report drift", "Two-day drift after the storage day.", ["NATGAS"],
+            "hold = [1, 2, 3]", "sign(close - delay(close, hold))"))
+        self.run("2025-02-18", i, rev, THEO, _RunPlan(
+            "too_little_data", {"hold": [1, 2, 3]}, 0.9, 0.78, 500, 0.09, ()))
+        self.note("2025-02-19", i, INES, "Promising but two years is not enough. Theo to look "
+                  "for a longer storage-day calendar.", kind="decision")
+
+    def _gold(self) -> None:
+        i = self.idea("2025-03-03", title="Gold momentum after real-rate shocks",
+                      hypothesis="After a large move in TNOTE10, GOLD follows for a month.",
+                      rationale="Gold is priced off real rates; slow-moving holders rebalance "
+                                "after a rate shock.",
+                      rationale_kind="risk_premium", source_kind="paper",
+                      citation="Invented: 'Real rates and metal drift', working paper, 2019",
+                      submitted_by=INES, markets=["GOLD", "TNOTE10"], tags=["metals",
+                                                                            "cross-asset"])
+        self.stage("2025-03-03", i, "submitted", INES, "For review.")
+        self.review("2025-03-04", i, "accept", "Nothing to add.", by=THEO)
+        rev = self.rules("2025-03-05", i, INES, _rules(
+            "Gold after rate shocks", "Follow GOLD after a large TNOTE10 move.",
+            ["GOLD", "TNOTE10"], "window = [10, 20]\nthreshold = [1.5, 2.0]",
+            "sign(zscore(close, window)) if abs(zscore(close, window)) > threshold else 0"))
+        self.run("2025-03-06", i, rev, INES, _RunPlan(
+            "no_edge", {"window": [10, 20], "threshold": [1.5, 2.0]}, 0.11, -0.09, 2600, 0.88,
+            ()))
+        self.stage("2025-03-07", i, "shelved", INES, "No edge before costs. Shelved; the paper's "
+                   "sample probably ended at a lucky time.")
+
+    def _roll_down(self) -> None:
+        i = self.idea("2025-03-10", title="Rates trend, traded slowly",
+                      hypothesis="TNOTE10 and EQIDX trends pay if trades are few.",
+                      rationale="Rate cycles last years; slow central-bank moves make trends "
+                                "persistent.", rationale_kind="risk_premium",
+                      submitted_by=NIA, markets=["TNOTE10", "EQIDX"], tags=["trend", "costs"])
+        self.stage("2025-03-10", i, "submitted", NIA, "For review.")
+        self.review("2025-03-11", i, "accept", "OK. State the costs you assume in the rule "
+                    "file.")
+        rev = self.rules("2025-03-12", i, NIA, _rules(
+            "Rates trend", "Price against its n-bar average.", ["TNOTE10", "EQIDX"],
+            "n = [10, 20, 40]\nbuffer = [0.0, 0.5]",
+            "sign(close - mean(close, n)) if abs(zscore(close, n)) > buffer else 0"))
+        self.run("2025-03-13", i, rev, NIA, _RunPlan(
+            "lost_to_costs", {"n": [10, 20, 40], "buffer": [0.0, 0.5]}, 0.84, 0.21, 2600, 0.4,
+            ()))
+        self.note("2025-03-14", i, NIA, "As the verdict says: slower windows and a wider "
+                  "buffer. Changing the grid, and the trial count keeps counting.")
+        rev2 = self.rules("2025-03-17", i, NIA, _rules(
+            "Rates trend, slow", "Price against its n-bar average, wide buffer.",
+            ["TNOTE10", "EQIDX"], "n = [60, 120, 250]\nbuffer = [1.0, 1.5]",
+            "sign(close - mean(close, n)) if abs(zscore(close, n)) > buffer else 0"))
+        self.run("2025-03-18", i, rev2, NIA, _RunPlan(
+            "passes", {"n": [60, 120, 250], "buffer": [1.0, 1.5]}, 0.95, 0.86, 2600, 0.03, ()))
+        self.note("2025-03-19", i, INES, "Passes with 12 trials counted. Promotion decision at "
+                  "the April meeting.", kind="decision")
+
+    def _waiting(self) -> None:
+        for day, title, hyp, rat, kind, by, markets, tags in (
+            ("2025-04-01", "Copper carry from the curve slope",
+             "COPPER pays to hold when the curve is backwardated.",
+             "Backwardation means scarce inventory; holders earn the convenience yield.",
+             "risk_premium", NIA, ["COPPER"], ["carry", "metals"]),
+            ("2025-04-02", "Equity index month-end flow",
+             "EQIDX rises in the last three days of the month.",
+             "Pension and balanced funds rebalance at month end; the flow is predictable.",
+             "structural", NIA, ["EQIDX"], ["calendar", "flow"]),
+            ("2025-04-03", "Crude roll-yield tilt",
+             "Long CRUDE in backwardation, short in contango.",
+             "Producers pay a hedging premium to lock in prices.",
+             "risk_premium", THEO, ["CRUDE"], ["carry", "energy"]),
+        ):
+            i = self.idea(day, title=title, hypothesis=hyp, rationale=rat, rationale_kind=kind,
+                          submitted_by=by, markets=markets, tags=tags, stage="submitted")
+            self.note(day, i, by, "Rule file to follow once accepted; grid kept to six sets.")
+        i = self.idea("2025-04-07", title="Soybean crush-season seasonality",
+                      hypothesis="SOYBEAN rises from September to November.",
+                      rationale="It did in 11 of the last 14 years.", rationale_kind="other",
+                      source_kind="web", submitted_by=THEO, markets=["SOYBEAN"],
+                      tags=["seasonal"], stage="submitted")
+        self.review("2025-04-08", i, "return", "'It did in 11 of 14 years' is a pattern, not a "
+                    "reason. Who is forced to buy in autumn, and why is it not arbitraged?",
+                    unmet=("rationale_not_data_mined",))
+        self.note("2025-04-09", i, THEO, "Fair. Reading up on crush margins and harvest "
+                  "hedging before resubmitting.")
+        i = self.idea("2025-04-10", title="Ten-year note trend with a volatility filter",
+                      hypothesis="TNOTE10 trends are cleaner when volatility is low.",
+                      rationale="In calm markets moves are driven by slow policy news rather "
+                                "than by forced deleveraging.",
+                      rationale_kind="behavioural", submitted_by=NIA, markets=["TNOTE10"],
+                      tags=["trend", "rates"], stage="submitted")
+        self.review("2025-04-11", i, "accept", "Accepted. Run it on the full history.")
+
+    def _early(self) -> None:
+        for day, title, hyp, by, markets in (
+            ("2025-05-02", "Grain weather-premium fade",
+             "CORN gives back its June weather premium in July.", THEO, ["CORN"]),
+            ("2025-05-05", "Volatility-scaled cross-market momentum",
+             "Rank the eight markets by twelve-month return, scaled by volatility.", INES,
+             ["CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN", "TNOTE10", "EQIDX"]),
+            ("2025-05-06", "Equity index overnight gap fade",
+             "Large overnight gaps in EQIDX close half-way by noon.", NIA, ["EQIDX"]),
+        ):
+            i = self.idea(day, title=title, hypothesis=hyp, submitted_by=by, markets=markets)
+            self.note(day, i, by, "First notes only; rationale still to be written.")
+        i = self.idea("2025-05-07", title="Metals pair spread reversion",
+                      hypothesis="The GOLD/COPPER ratio reverts to its one-year mean.",
+                      submitted_by=THEO, markets=["GOLD", "COPPER"], tags=["pairs"])
+        self.stage("2025-05-09", i, "shelved", THEO, "No economic link that would pull the two "
+                   "back together; dropping it before testing.")
+
+
+def _run_record(rng: np.random.Generator, plan: _RunPlan, trials_before: int) -> dict[str, Any]:
+    """A stored run for the plan: daily P&L scaled to the stated Sharpe ratios, per-set
+    Sharpe ratios around the chosen one, statistics from the textbook formulas."""
+    names = list(plan.grid)
+    sets = [dict(zip(names, map(float, combo), strict=True))
+            for combo in product(*plan.grid.values())]
+    chosen = plan.chosen
+    pnl = _daily_pnl(rng, plan.days, plan.gross_sr, plan.net_sr)
+    net_sr = _sharpe(pnl["net_pnl"].to_numpy())
+    gross_sr = _sharpe(pnl["gross_pnl"].to_numpy())
+    set_rows = []
+    for k, params in enumerate(sets):
+        step = 0 if k == chosen else rng.uniform(0.05, 0.45)
+        set_rows.append({"params": params, "net_sharpe": round(net_sr - step, 4),
+                         "gross_sharpe": round(gross_sr - step, 4),
+                         "trades_per_year": round(float(rng.uniform(4, 60)), 1)})
+    trials = trials_before + len(sets) - plan.repeats
+    stats = _statistics(pnl, [r["net_sharpe"] for r in set_rows], trials, plan.spa_p)
+    reasons = list(_reasons(plan.outcome, stats)) + list(plan.reasons)
+    verdict = {"outcome": plan.outcome, "label": LABELS[plan.outcome],
+               "action": ACTIONS[plan.outcome], "reasons": reasons,
+               "numbers": {k: stats[k] for k in ("dsr", "n_trials", "spa_pvalue")}}
+    return {"parameter_sets": sets, "data_fingerprint": _FINGERPRINT, "engine_version": _ENGINE,
+            "summary": {"sets": set_rows, "note": "invented demo record",
+                        "chosen": {"params": sets[chosen], "gross_sharpe": round(gross_sr, 4),
+                                   "net_sharpe": round(net_sr, 4)}},
+            "statistics": stats, "verdict": verdict, "chosen_params": sets[chosen],
+            "daily_pnl": pnl}
+
+
+def _daily_pnl(rng: np.random.Generator, days: int, gross_sr: float,
+               net_sr: float) -> pd.DataFrame:
+    dates = pd.bdate_range(end="2024-12-31", periods=days)
+    z = rng.standard_normal(days)
+    z = (z - z.mean()) / z.std(ddof=1)
+    sigma = 12_000.0
+    gross = sigma * (z + gross_sr / math.sqrt(252))
+    cost_mean = sigma * (gross_sr - net_sr) / math.sqrt(252)
+    cost = cost_mean * rng.gamma(4.0, 0.25, days)
+    return pd.DataFrame({"gross_pnl": gross, "cost": cost, "net_pnl": gross - cost},
+                        index=pd.DatetimeIndex(dates, name="date"))
+
+
+def _sharpe(x: np.ndarray) -> float:
+    return float(x.mean() / x.std(ddof=1) * math.sqrt(252))
+
+
+def _statistics(pnl: pd.DataFrame, set_sharpes: list[float], trials: int,
+                spa_p: float) -> dict[str, Any]:
+    """PSR and minimum track record (Bailey & Lopez de Prado 2012) and DSR (2014)."""
+    out: dict[str, Any] = {"n_days": len(pnl), "n_trials": trials, "spa_pvalue": spa_p}
+    for side in ("gross", "net"):
+        x = pnl[f"{side}_pnl"].to_numpy()
+        sr = x.mean() / x.std(ddof=1)
+        skew = float(pd.Series(x).skew())
+        kurt = float(pd.Series(x).kurt()) + 3.0
+        scale = math.sqrt(1 - skew * sr + (kurt - 1) / 4 * sr * sr)
+        psr = _NORMAL.cdf(sr * math.sqrt(len(x) - 1) / scale)
+        min_trl = 1 + (scale * _NORMAL.inv_cdf(0.95) / sr) ** 2 if sr > 0 else math.inf
+        out[side] = {"sharpe": round(sr * math.sqrt(252), 4), "psr": round(psr, 4),
+                     "min_trl_days": None if math.isinf(min_trl) else round(min_trl, 1),
+                     "skew": round(skew, 4), "kurtosis": round(kurt, 4)}
+    variance = float(np.var(np.asarray(set_sharpes) / math.sqrt(252), ddof=1)) \
+        if len(set_sharpes) > 1 else 0.0
+    n = max(trials, 2)
+    expected_max = math.sqrt(variance) * ((1 - _EULER) * _NORMAL.inv_cdf(1 - 1 / n)
+                                          + _EULER * _NORMAL.inv_cdf(1 - 1 / (n * math.e)))
+    x = pnl["net_pnl"].to_numpy()
+    sr = x.mean() / x.std(ddof=1)
+    skew, kurt = out["net"]["skew"], out["net"]["kurtosis"]
+    scale = math.sqrt(1 - skew * sr + (kurt - 1) / 4 * sr * sr)
+    out["dsr"] = round(_NORMAL.cdf((sr - expected_max) * math.sqrt(len(x) - 1) / scale), 4)
+    out["expected_max_sharpe"] = round(expected_max * math.sqrt(252), 4)
+    return out
+
+
+def _reasons(outcome: str, s: dict[str, Any]) -> tuple[str, ...]:
+    g, n = s["gross"], s["net"]
+    return {
+        "no_edge": (f"Gross Sharpe ratio {g['sharpe']:.2f} a year is below the 0.30 worth "
+                    "pursuing.",),
+        "too_little_data": (f"Gross Sharpe ratio {g['sharpe']:.2f} a year, but {s['n_days']} "
+                            f"days give only {g['psr']:.0%} confidence that it is above zero "
+                            "(PSR; 95% needed).",
+                            f"About {g['min_trl_days']:.0f} days would be needed at this "
+                            "Sharpe ratio (minimum track record length)."),
+        "lost_to_costs": (f"Before costs the edge is clear (gross PSR {g['psr']:.0%}), but the "
+                          f"net Sharpe ratio is {n['sharpe']:.2f} a year and net PSR only "
+                          f"{n['psr']:.0%}.",),
+        "selection_luck": (f"Deflated Sharpe ratio {s['dsr']:.0%} is below 95%: the best of "
+                           f"{s['n_trials']} trials would reach a Sharpe ratio near "
+                           f"{s['expected_max_sharpe']:.2f} a year by luck alone.",
+                           f"SPA test p-value {s['spa_pvalue']:.3f} is above 0.050."),
+        "passes": (f"Net Sharpe ratio {n['sharpe']:.2f} a year holds after costs (net PSR "
+                   f"{n['psr']:.0%}) and after selection (DSR {s['dsr']:.0%}, SPA p-value "
+                   f"{s['spa_pvalue']:.3f}).",),
+    }[outcome]
