@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import math
 import os
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
 import pandas as pd
 
 from hunchbook.core.continuous import build_continuous
@@ -19,6 +21,10 @@ from hunchbook.core.prices import MarketData
 from hunchbook.core.prices import load_data as _load_data
 from hunchbook.core.rules import read_rules
 from hunchbook.core.rules.model import SERIES_NAMES, RuleSpec
+from hunchbook.core.stats import FirstPassStats, first_pass_statistics
+from hunchbook.core.sweep import CancelCheck, Progress, SweepOutcome, run_sweep
+from hunchbook.core.sweep_summary import summarise_sweep
+from hunchbook.core.verdict import Verdict, decide
 
 #: Row label of the portfolio in metric tables.
 PORTFOLIO = "portfolio"
@@ -60,6 +66,35 @@ class SetResult:
             row.update({k: v for k, v in m.items() if not isinstance(v, dict)})
             rows[name] = row
         return pd.DataFrame.from_dict(rows, orient="index")
+
+
+@dataclass(frozen=True)
+class SweepReport:
+    """A whole declared parameter space run: per-set summaries, statistics and the verdict.
+
+    ``summaries[k]`` holds set k's portfolio metrics (as in :class:`SetResult`) and per-market
+    totals; ``chosen`` is the set with the best net Sharpe ratio, which the statistics judge.
+    """
+
+    rules: RuleSpec
+    outcome: SweepOutcome
+    summaries: list[dict[str, Any]]
+    chosen: int
+    statistics: FirstPassStats
+    verdict: Verdict
+
+    @property
+    def sets(self) -> tuple[dict[str, float], ...]:
+        """The parameter sets run, in grid order."""
+        return self.outcome.sets
+
+    def ranked(self) -> list[int]:
+        """Set indices from the best net Sharpe ratio down (undefined ones last)."""
+        def key(k: int) -> float:
+            value = self.summaries[k][PORTFOLIO]["net"]["sharpe"]
+            return value if math.isfinite(value) else -math.inf
+
+        return sorted(range(len(self.summaries)), key=key, reverse=True)
 
 
 class Study:
@@ -123,6 +158,50 @@ class Study:
             if self.constraint is None or self.constraint.evaluate({}, params) == 1.0:
                 yield params
 
+    def sweep(self, sets: list[dict[str, float]] | None = None, *, workers: int | None = None,
+              progress: Progress | None = None, cancel: CancelCheck | None = None,
+              n_trials: int | None = None, trial_sharpe_var: float | None = None,
+              spa_reps: int = 1000, seed: int = 0) -> SweepReport:
+        """Run every parameter set (default: the declared space) and judge the best one.
+
+        Parameters
+        ----------
+        sets
+            Parameter sets to run; default every declared set that meets the constraint.
+        workers, progress, cancel
+            See :func:`hunchbook.core.sweep.run_sweep`.
+        n_trials, trial_sharpe_var
+            Trials counted for the deflated Sharpe ratio (default: the sets of this sweep)
+            and the variance of their annualised Sharpe ratios (default: from this sweep).
+        spa_reps, seed
+            Bootstrap replications and seed of the SPA test.
+        """
+        sets = sets if sets is not None else self.parameter_sets()
+        outcome = run_sweep(self.backtest, sets, workers=workers, progress=progress,
+                            cancel=cancel)
+        summaries = summarise_sweep(outcome)
+        net_sharpe = np.array([s[PORTFOLIO]["net"]["sharpe"] for s in summaries])
+        chosen = int(np.nanargmax(net_sharpe)) if np.isfinite(net_sharpe).any() else 0
+        # statistics compare the sets on their common period: from the day all have started
+        start = int(outcome.used.argmax(axis=0).max())
+        shape, cells = self._grid_cells(sets)
+        statistics = first_pass_statistics(
+            outcome.gross[start:], outcome.cost[start:], grid_shape=shape, cell_index=cells,
+            chosen=chosen, n_trials=n_trials, trial_sharpe_var=trial_sharpe_var,
+            contracts_traded=outcome.contracts, spa_reps=spa_reps, seed=seed)
+        return SweepReport(rules=self.rules, outcome=outcome, summaries=summaries,
+                           chosen=chosen, statistics=statistics, verdict=decide(statistics))
+
+    def _grid_cells(self, sets: list[dict[str, float]]) -> tuple[tuple[int, ...] | None,
+                                                                 np.ndarray | None]:
+        """The grid's shape and each set's flat cell in it (None without a grid)."""
+        shape = tuple(len(p.values()) for p in self.rules.parameters)
+        if sum(n > 1 for n in shape) == 0:
+            return None, None
+        cell_of = {tuple(g.values()): i for i, g in enumerate(self.rules.iter_grid())}
+        return shape, np.array([cell_of[tuple(s[n] for n in self.rules.parameter_names)]
+                                for s in sets])
+
     def run_set(self, params: Mapping[str, float]) -> SetResult:
         """Run one parameter set and summarise it, gross and net, per market and portfolio."""
         output = self.backtest.run(params)
@@ -154,4 +233,4 @@ def _with_overrides(spec: Any, costs: Mapping[str, Mapping[str, float]]) -> Any:
     return spec.with_costs(merged) if merged else spec
 
 
-__all__ = ["PORTFOLIO", "SetResult", "Study", "load_data", "load_rules", "run"]
+__all__ = ["PORTFOLIO", "SetResult", "Study", "SweepReport", "load_data", "load_rules", "run"]

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import json
 import math
 import os
@@ -15,7 +16,10 @@ from typing import Any
 from hunchbook import __version__
 from hunchbook.api import Study, load_data, load_rules
 from hunchbook.core.errors import HunchbookError, RuleError
-from hunchbook.report import format_single, format_sweep
+from hunchbook.core.pnl_file import read_pnl_csv
+from hunchbook.core.stats import first_pass_statistics
+from hunchbook.core.verdict import decide
+from hunchbook.report import format_judgement, format_single, format_statistics, format_sweep
 
 #: The caution printed under every result.
 CAUTION = ("Hypothetical backtest results: not investment advice; past results do not predict "
@@ -61,7 +65,27 @@ def _build_parser() -> argparse.ArgumentParser:
                      help="write parameters and per-market/portfolio metrics as JSON")
     run.add_argument("--pnl-csv", metavar="PATH", type=Path,
                      help="write daily P&L, one row per (date, market), for one parameter set")
+    run.add_argument("--workers", type=_positive_int, default=None, metavar="N",
+                     help="worker processes for a sweep (default: CPU count)")
     run.set_defaults(handler=_cmd_run)
+
+    stats = commands.add_parser(
+        "stats", help="statistics and a verdict for any daily P&L file",
+        description="Compute the first-pass statistics of a daily P&L CSV (columns date and "
+                    "net_pnl at least; gross_pnl and cost when present; several markets' rows "
+                    "are summed by date). With --trials (and --trial-sharpe-var, the variance "
+                    "of the trials' annualised Sharpe ratios) the deflated Sharpe ratio counts "
+                    "every trial.",
+        epilog="Example: hunchbook stats pnl.csv --trials 120 --trial-sharpe-var 0.25")
+    stats.add_argument("pnl", metavar="PNL.csv", type=Path)
+    stats.add_argument("--trials", type=_positive_int, metavar="N",
+                       help="number of trials behind this result (default 1)")
+    stats.add_argument("--trial-sharpe-var", type=float, metavar="V",
+                       help="variance of the trials' annualised Sharpe ratios")
+    stats.add_argument("--spa-reps", type=int, default=1000, metavar="N",
+                       help="bootstrap replications of the SPA test (0 skips it; default 1000)")
+    stats.add_argument("--json", metavar="PATH", type=Path, help="write the statistics as JSON")
+    stats.set_defaults(handler=_cmd_stats)
 
     demo = commands.add_parser(
         "demo-data", help="write the invented demo desk's market library and price files",
@@ -72,6 +96,16 @@ def _build_parser() -> argparse.ArgumentParser:
     demo.add_argument("--seed", type=int, default=None, help="generator seed (default: fixed)")
     demo.set_defaults(handler=_cmd_demo_data)
     return parser
+
+
+def _positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        value = 0
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"expected a whole number of at least 1, got {text!r}")
+    return value
 
 
 def _parse_params(text: str) -> dict[str, float]:
@@ -90,32 +124,73 @@ def _parse_params(text: str) -> dict[str, float]:
 
 def _cmd_run(args: argparse.Namespace) -> int:
     rules = load_rules(args.rules)
-    data = load_data(args.data, list(rules.markets))
-    study = Study(rules, data)
-    sets = study.parameter_sets(args.params)
+    try:
+        data = load_data(args.data, list(rules.markets))
+        study = Study(rules, data)
+        sets = study.parameter_sets(args.params)
+    except RuleError as exc:
+        raise exc.located(file=str(args.rules)) from None
     if len(sets) > 1 and args.pnl_csv:
         raise RuleError(f"--pnl-csv writes one parameter set but {len(sets)} are declared: pick "
                         f"one with --params ({', '.join(rules.parameter_names)})",
                         file=str(args.rules), key="parameters")
-    results = [study.run_set(params) for params in sets]
+    report = study.sweep(sets, workers=args.workers, progress=_progress_printer(len(sets)))
+    chosen = study.run_set(report.sets[report.chosen])
     currency = study.panel.currency
-    if len(results) == 1:
-        print(format_single(rules, results[0], currency))
+    if len(sets) == 1:
+        print(format_single(rules, chosen, currency))
     else:
-        print(format_sweep(rules, results, currency))
+        print(format_sweep(report, currency))
+    print()
+    print(format_judgement(report))
     print(CAUTION)
     if args.json:
         payload = {
             "rules": rules.name, "rule_file": str(args.rules), "data": str(args.data),
             "currency": currency, "markets": list(rules.markets),
-            "parameter_sets": len(results),
-            "sets": [{"params": r.params, **r.metrics} for r in results],
+            "parameter_sets": len(sets), "trials": report.statistics.n_trials,
+            "chosen": {"params": chosen.params, **chosen.metrics},
+            "statistics": report.statistics.to_dict(),
+            "verdict": dataclasses.asdict(report.verdict),
+            "sets": [{"params": p, **m} for p, m in zip(report.sets, report.summaries,
+                                                         strict=True)],
             "caution": CAUTION,
         }
         _write_atomic(args.json, lambda f: json.dump(_json_safe(payload), f, indent=2))
     if args.pnl_csv:
-        table = results[0].pnl.assign(date=lambda t: t["date"].dt.strftime("%Y-%m-%d"))
+        table = chosen.pnl.assign(date=lambda t: t["date"].dt.strftime("%Y-%m-%d"))
         _write_atomic(args.pnl_csv, lambda f: table.to_csv(f, index=False, float_format="%.10g"))
+    return 0
+
+
+def _progress_printer(total: int) -> Callable[[int, int], None] | None:
+    """Progress on stderr for long sweeps in a terminal; silent otherwise."""
+    if total < 50 or not sys.stderr.isatty():
+        return None
+
+    def show(done: int, of: int) -> None:
+        print(f"\rsets run: {done:,} / {of:,}", end="\n" if done == of else "",
+              file=sys.stderr, flush=True)
+
+    return show
+
+
+def _cmd_stats(args: argparse.Namespace) -> int:
+    daily = read_pnl_csv(args.pnl)
+    if (args.trials is None) != (args.trial_sharpe_var is None) and args.trials is None:
+        raise HunchbookError("--trial-sharpe-var needs --trials (the number of trials)")
+    stats = first_pass_statistics(daily["gross_pnl"].to_numpy(), daily["cost"].to_numpy(),
+                                  n_trials=args.trials, trial_sharpe_var=args.trial_sharpe_var,
+                                  spa_reps=args.spa_reps)
+    verdict = decide(stats)
+    print(f"{args.pnl}: {len(daily):,} days, {daily.index[0].date()} to "
+          f"{daily.index[-1].date()}")
+    print(format_statistics(stats, verdict))
+    print(CAUTION)
+    if args.json:
+        payload = {"file": str(args.pnl), "days": len(daily),
+                   "statistics": stats.to_dict(), "verdict": dataclasses.asdict(verdict)}
+        _write_atomic(args.json, lambda f: json.dump(_json_safe(payload), f, indent=2))
     return 0
 
 

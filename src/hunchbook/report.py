@@ -3,10 +3,11 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
 
-from hunchbook.api import PORTFOLIO, SetResult
+from hunchbook.api import PORTFOLIO, SetResult, SweepReport
 from hunchbook.core.rules.model import RuleSpec
+from hunchbook.core.stats import FirstPassStats
+from hunchbook.core.verdict import Verdict
 
 #: How many parameter sets a sweep table lists.
 SWEEP_ROWS = 10
@@ -65,26 +66,55 @@ def format_single(rules: RuleSpec, result: SetResult, currency: str) -> str:
     return "\n".join(lines)
 
 
-def format_sweep(rules: RuleSpec, results: Sequence[SetResult], currency: str) -> str:
+def format_sweep(report: SweepReport, currency: str) -> str:
     """The best parameter sets of a sweep, ranked by net Sharpe ratio."""
-    def net_sharpe(r: SetResult) -> float:
-        value = r.metrics[PORTFOLIO]["net"]["sharpe"]
-        return value if math.isfinite(value) else -math.inf
-
-    ranked = sorted(results, key=net_sharpe, reverse=True)[:SWEEP_ROWS]
+    rules = report.rules
+    ranked = report.ranked()[:SWEEP_ROWS]
     lines = [
         f"{rules.name}",
-        f"{len(results)} parameter sets run over {', '.join(rules.markets)}; "
+        f"{len(report.sets)} parameter sets run over {', '.join(rules.markets)}; "
         f"best {len(ranked)} by net Sharpe ratio (currency {currency}).",
-        "Every set counts as a trial: the best of many looks better than it is.",
         "",
         f"{'Parameters':<34}{'Gross SR':>10}{'Net SR':>10}{'Net P&L':>16}{'Contr./yr':>11}"
         f"{'Break-even':>12}",
     ]
-    for r in ranked:
-        p = r.metrics[PORTFOLIO]
+    for k in ranked:
+        p = report.summaries[k][PORTFOLIO]
         lines.append(
-            f"{_params(r.params):<34}{_ratio(p['gross']['sharpe']):>10}"
+            f"{_params(report.sets[k]):<34}{_ratio(p['gross']['sharpe']):>10}"
             f"{_ratio(p['net']['sharpe']):>10}{_money(p['net']['total']):>16}"
             f"{p['contracts_per_year']:>11,.1f}{_money(p['break_even_cost']):>12}")
+    return "\n".join(lines)
+
+
+def format_judgement(report: SweepReport) -> str:
+    """The statistics of the chosen set and the verdict with its reasons."""
+    params = report.sets[report.chosen]
+    return format_statistics(report.statistics, report.verdict,
+                             chosen=_params(params) if params else None)
+
+
+def format_statistics(stats: FirstPassStats, verdict: Verdict, chosen: str | None = None) -> str:
+    """Statistics of a chosen set's daily P&L and the verdict, as plain lines."""
+    g, n = stats.gross, stats.net
+    spa = "not run" if stats.spa is None else f"{stats.spa.consistent:.3f}"
+    head = f"Statistics of the chosen set ({chosen})" if chosen else "Statistics"
+    trials = f"over {stats.n_trials:,} trial{'s' if stats.n_trials != 1 else ''}"
+    rows = [
+        ("Sharpe ratio (annual)", _ratio(g.sharpe), _ratio(n.sharpe)),
+        ("  standard error (non-normal)", _ratio(g.sharpe_se), _ratio(n.sharpe_se)),
+        ("t-statistic / Newey-West t", f"{_ratio(g.t_stat)} / {_ratio(g.newey_west_t)}",
+         f"{_ratio(n.t_stat)} / {_ratio(n.newey_west_t)}"),
+        ("Probabilistic Sharpe (vs 0)", _pct(g.psr), _pct(n.psr)),
+        ("Min. track record (years)", _ratio(g.min_trl_years), _ratio(n.min_trl_years)),
+        ("Deflated Sharpe ratio", "", f"{_pct(stats.dsr)} {trials}"),
+        ("SPA p-value (every set)", "", spa),
+    ]
+    lines = [f"{head}, {stats.n_days:,} common days:", f"{'':<32}{'Gross':>14}  {'Net':<14}"]
+    lines += [f"{label:<32}{gross:>14}  {net:<14}".rstrip() for label, gross, net in rows]
+    lines += [
+        "",
+        f"Verdict: {verdict.label}. {verdict.action}",
+    ]
+    lines += [f"  - {reason}" for reason in verdict.reasons]
     return "\n".join(lines)
