@@ -253,7 +253,7 @@ def _idea(t: _Table) -> dict[str, Any]:
 def _revision(t: _Table, members: dict[str, str], used: set[str]) -> dict[str, Any]:
     t.keys(required=("uuid", "number", "sha256", "saved_at", "saved_by", "file"))
     name = _member_ref(t, "file", members, used, "rule")
-    text = validate.text(members[name], name, limit=validate.MAX_RULE_TEXT)
+    text = validate.text(members[name], name, limit=validate.MAX_RULE_TEXT, strip=False)
     digest, key, space = revisions.analyse(text, field=name)
     if t.data["sha256"] != digest:
         raise CatalogueError("the rule text does not match its SHA-256", field=name)

@@ -222,11 +222,15 @@ def _import_revisions(db: Database, idea_id: int, items: list[dict[str, Any]],
 def _import_preregistrations(db: Database, idea_id: int, items: list[dict[str, Any]],
                              rev_ids: dict[str, int], added: dict[str, int],
                              present: dict[str, int], conflicts: list[str]) -> None:
-    local = {p.uuid: p for p in preregistration.versions(db, idea_id)}
-    for item in sorted(items, key=lambda p: p["version"]):
+    """Versions continue the catalogue's history only when the catalogue's versions are the
+    bundle's first ones; otherwise the bundle's other versions are reported, not imported."""
+    local = [p.uuid for p in preregistration.versions(db, idea_id)]
+    items = sorted(items, key=lambda p: p["version"])
+    continues = [p["uuid"] for p in items[:len(local)]] == local
+    for item in items:
         if item["uuid"] in local:
             present["preregistrations"] += 1
-        elif local:
+        elif not continues:
             conflicts.append(f"pre-registration version {item['version']} of the bundle "
                              "differs from the catalogue's; kept the catalogue's versions")
         else:

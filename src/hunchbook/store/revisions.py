@@ -75,7 +75,7 @@ def save(db: Database, idea_id: int, text: str, *, by: str, at: str,
 
     Text identical to the latest revision returns that revision with ``created=False``.
     """
-    text = validate.text(text, "rule file", limit=validate.MAX_RULE_TEXT)
+    text = validate.text(text, "rule file", limit=validate.MAX_RULE_TEXT, strip=False)
     by = validate.name(by, "by")
     digest, key, space = analyse(text)
     current = latest(db, idea_id)

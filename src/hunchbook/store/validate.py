@@ -33,16 +33,18 @@ _CONTROL_RE = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 
 
 def text(value: Any, field: str, *, limit: int = MAX_TEXT, required: bool = True,
-         one_line: bool = False) -> str:
+         one_line: bool = False, strip: bool = True) -> str:
     """A string within ``limit`` characters, without control characters (tabs and newlines
-    allowed unless ``one_line``); surrounding whitespace is removed."""
+    allowed unless ``one_line``); surrounding whitespace is removed unless ``strip`` is false
+    (rule files are kept byte for byte)."""
     if not isinstance(value, str):
         raise CatalogueError(f"expected text, found {_describe(value)}", field=field)
     if len(value) > limit:
         raise CatalogueError(f"text of {len(value):,} characters is longer than the limit of "
                              f"{limit:,}", field=field)
-    value = value.strip()
-    if required and not value:
+    if strip:
+        value = value.strip()
+    if required and not value.strip():
         raise CatalogueError("must not be empty", field=field)
     if _CONTROL_RE.search(value) or (one_line and ("\n" in value or "\r" in value)):
         raise CatalogueError("contains control characters" + (" or line breaks" if one_line
