@@ -11,6 +11,7 @@ import contextlib
 import datetime as dt
 import os
 import sqlite3
+import time
 from collections.abc import Iterator
 from pathlib import Path
 
@@ -41,7 +42,7 @@ def connect(path: str | os.PathLike[str], *, create: bool = True) -> Database:
     conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_S)
     try:
         conn.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
-        mode = conn.execute("PRAGMA journal_mode = wal").fetchone()[0]
+        mode = _enable_wal(conn)
         conn.execute("PRAGMA foreign_keys = ON")
         conn.execute("PRAGMA synchronous = FULL")
     except sqlite3.DatabaseError as exc:
@@ -52,6 +53,23 @@ def connect(path: str | os.PathLike[str], *, create: bool = True) -> Database:
         raise CatalogueError(f"could not switch to WAL journalling (got {mode!r})",
                              where=str(path))
     return Database(conn)
+
+
+def _enable_wal(conn: sqlite3.Connection) -> str:
+    """Switch to WAL, retrying while another process holds the lock.
+
+    Changing the journal mode of a new file needs an exclusive lock and SQLite reports a
+    competing connection as "database is locked" at once, without the busy handler; two
+    processes opening a new catalogue together would otherwise fail.
+    """
+    deadline = time.monotonic() + BUSY_TIMEOUT_S
+    while True:
+        try:
+            return str(conn.execute("PRAGMA journal_mode = wal").fetchone()[0])
+        except sqlite3.OperationalError as exc:
+            if "locked" not in str(exc) or time.monotonic() > deadline:
+                raise
+            time.sleep(0.02)
 
 
 @contextlib.contextmanager
