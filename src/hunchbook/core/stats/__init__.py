@@ -1,0 +1,60 @@
+"""Statistics of sweep results: Sharpe ratio inference, selection-bias corrections, SPA test,
+parameter stability and cost sensitivity (pure numpy/scipy). See docs/statistics.md."""
+
+from hunchbook.core.stats.costs import (
+    break_even_cost_multiple,
+    break_even_cost_per_contract,
+    cost_sensitivity,
+)
+from hunchbook.core.stats.first_pass import (
+    CostStats,
+    FirstPassStats,
+    SeriesStats,
+    StabilityStats,
+    first_pass_statistics,
+)
+from hunchbook.core.stats.psr import (
+    deflated_sharpe,
+    expected_max_sharpe,
+    min_track_record_length,
+    probabilistic_sharpe,
+)
+from hunchbook.core.stats.sharpe import (
+    moments,
+    newey_west_lags,
+    newey_west_t,
+    sharpe_ratio,
+    sharpe_se_iid,
+    sharpe_se_nonnormal,
+    t_statistic,
+)
+from hunchbook.core.stats.spa import SpaResult, spa_test, stationary_bootstrap_indices
+from hunchbook.core.stats.stability import neighbour_counts, neighbour_means, stability_flag
+
+__all__ = [
+    "CostStats",
+    "FirstPassStats",
+    "SeriesStats",
+    "SpaResult",
+    "StabilityStats",
+    "break_even_cost_multiple",
+    "break_even_cost_per_contract",
+    "cost_sensitivity",
+    "deflated_sharpe",
+    "expected_max_sharpe",
+    "first_pass_statistics",
+    "min_track_record_length",
+    "moments",
+    "neighbour_counts",
+    "neighbour_means",
+    "newey_west_lags",
+    "newey_west_t",
+    "probabilistic_sharpe",
+    "sharpe_ratio",
+    "sharpe_se_iid",
+    "sharpe_se_nonnormal",
+    "spa_test",
+    "stability_flag",
+    "stationary_bootstrap_indices",
+    "t_statistic",
+]

@@ -1,0 +1,329 @@
+"""First-pass statistics of a parameter sweep: how good is the chosen set, and how much is luck?
+
+Input is the sweep's daily gross P&L and daily cost (both T days x K sets, currency). Net P&L is
+gross minus cost. The chosen set (by default the best annualised net Sharpe ratio) is described
+in full; all K sets enter the selection-bias corrections (DSR, SPA) and the stability check.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from hunchbook.core.errors import HunchbookError
+from hunchbook.core.stats.costs import (
+    COST_MULTIPLES,
+    break_even_cost_multiple,
+    break_even_cost_per_contract,
+    cost_sensitivity,
+)
+from hunchbook.core.stats.inputs import as_count, as_matrix, as_number
+from hunchbook.core.stats.psr import (
+    deflated_sharpe,
+    expected_max_sharpe,
+    min_track_record_length,
+    probabilistic_sharpe,
+)
+from hunchbook.core.stats.sharpe import (
+    DAYS_PER_YEAR,
+    moments,
+    newey_west_lags,
+    newey_west_t,
+    sharpe_ratio,
+    sharpe_se_iid,
+    sharpe_se_nonnormal,
+    t_statistic,
+)
+from hunchbook.core.stats.spa import SpaResult, spa_test
+from hunchbook.core.stats.stability import (
+    SPIKE_MIN_RATIO,
+    SPIKE_SPREAD_MULTIPLE,
+    neighbour_counts,
+    neighbour_means,
+    stability_flag,
+)
+
+
+@dataclass(frozen=True)
+class SeriesStats:
+    """Statistics of one daily P&L series (gross or net) of the chosen set.
+
+    Sharpe ratios and their standard errors are annualised (x sqrt(periods)) except
+    ``sharpe_per_period``; ``kurtosis`` is raw (normal = 3); ``psr`` is PSR against a true
+    Sharpe ratio of 0; ``min_trl_days`` is the MinTRL for PSR(0) at 95 % (infinite when the
+    Sharpe ratio is not positive) and ``min_trl_years`` the same in years of ``periods`` days.
+    """
+
+    total: float
+    mean: float
+    sharpe: float
+    sharpe_per_period: float
+    sharpe_se_iid: float
+    sharpe_se: float
+    t_stat: float
+    newey_west_t: float
+    newey_west_lags: int
+    skew: float
+    kurtosis: float
+    psr: float
+    min_trl_days: float
+    min_trl_years: float
+
+
+@dataclass(frozen=True)
+class StabilityStats:
+    """Neighbourhood of the chosen set on the parameter grid (net annualised Sharpe ratios)."""
+
+    cell: int
+    value: float
+    neighbour_mean: float
+    n_neighbours: int
+    grid_spread: float
+    isolated: bool
+    spread_multiple: float
+    min_ratio: float
+
+
+@dataclass(frozen=True)
+class CostStats:
+    """Cost sensitivity of the chosen set.
+
+    ``net_sharpe[i]`` is the annualised Sharpe ratio of gross - ``multiples[i]`` x cost;
+    ``break_even_multiple`` = gross total / cost total; ``break_even_cost_per_contract`` =
+    gross total / contracts traded (None when contracts were not given).
+    """
+
+    multiples: tuple[float, ...]
+    net_sharpe: tuple[float, ...]
+    gross_total: float
+    cost_total: float
+    break_even_multiple: float
+    contracts_traded: float | None
+    break_even_cost_per_contract: float | None
+
+
+@dataclass(frozen=True)
+class FirstPassStats:
+    """First-pass statistics of a sweep (see :func:`first_pass_statistics`).
+
+    ``chosen`` is the column of the chosen set and ``chosen_cell`` its flat grid cell (None
+    without a grid). ``dsr`` is the Deflated Sharpe Ratio of the chosen set's net P&L;
+    ``expected_max_sharpe`` (SR0, annualised) the expected best of ``n_trials`` skill-less trials
+    whose annualised Sharpe ratios have variance ``trial_sharpe_var``. ``spa`` is the SPA test of
+    all sets' net P&L against zero (None if no replications were asked for); ``stability`` is
+    None without a grid. ``notes`` explain special cases in plain words.
+    """
+
+    n_days: int
+    n_sets: int
+    periods: int
+    chosen: int
+    chosen_cell: int | None
+    gross: SeriesStats
+    net: SeriesStats
+    dsr: float
+    expected_max_sharpe: float
+    n_trials: int
+    trial_sharpe_var: float
+    spa: SpaResult | None
+    stability: StabilityStats | None
+    costs: CostStats
+    notes: tuple[str, ...]
+
+    def to_dict(self) -> dict[str, object]:
+        """JSON-safe nested dict: NaN and infinities become None, tuples become lists."""
+        return _json_safe(dataclasses.asdict(self))
+
+
+def first_pass_statistics(
+    gross: np.ndarray,
+    cost: np.ndarray,
+    *,
+    grid_shape: tuple[int, ...] | None = None,
+    cell_index: np.ndarray | None = None,
+    chosen: int | None = None,
+    n_trials: int | None = None,
+    trial_sharpe_var: float | None = None,
+    contracts_traded: np.ndarray | None = None,
+    spa_reps: int = 1000,
+    block_size: float | None = None,
+    seed: int = 0,
+    periods: int = DAYS_PER_YEAR,
+    cost_multiples: tuple[float, ...] = COST_MULTIPLES,
+    spike_spread_multiple: float = SPIKE_SPREAD_MULTIPLE,
+    spike_min_ratio: float = SPIKE_MIN_RATIO,
+) -> FirstPassStats:
+    """Honest first-pass statistics of a parameter sweep.
+
+    Parameters
+    ----------
+    gross, cost : (T, K) daily gross P&L and daily cost (positive) in currency; a 1-D array is
+        one set. Net P&L = gross - cost.
+    grid_shape : shape of the parameter grid, for the stability check (None: no grid).
+    cell_index : (K,) flat grid cell (C order) of each column; sets removed by a constraint are
+        simply absent from the matrices and their cells stay empty. Default: column k is cell k,
+        which needs K == prod(grid_shape).
+    chosen : column of the set to describe; default the best annualised net Sharpe ratio.
+    n_trials : number of trials for the DSR; default K.
+    trial_sharpe_var : variance of the trials' annualised Sharpe ratios; default the variance
+        (ddof 1) of the K sets' annualised net Sharpe ratios (0 for a single set).
+    contracts_traded : (K,) contracts traded by each set, for the break-even cost per contract.
+    spa_reps, block_size, seed : SPA bootstrap settings (see :func:`spa_test`); 0 reps skips it.
+    periods : periods per year (252 trading days).
+    cost_multiples : cost multiples for the cost sensitivity.
+    spike_spread_multiple, spike_min_ratio : spike rule of :func:`stability_flag`.
+    """
+    gross_m = as_matrix(gross, "gross P&L")
+    cost_m = as_matrix(cost, "cost")
+    if gross_m.shape != cost_m.shape:
+        raise HunchbookError(f"cost: expected shape {gross_m.shape} like the gross P&L, "
+                             f"got {cost_m.shape}")
+    n_days, n_sets = gross_m.shape
+    if n_days < 3:
+        raise HunchbookError(f"gross P&L: first-pass statistics need at least 3 days, got {n_days}")
+    periods = as_count(periods, "periods")
+    net_m = gross_m - cost_m
+    net_sharpes = _column_sharpes(net_m, periods)
+    chosen = _chosen(chosen, net_sharpes)
+    notes: list[str] = []
+
+    n_trials = n_sets if n_trials is None else as_count(n_trials, "number of trials")
+    if trial_sharpe_var is None:
+        finite = net_sharpes[np.isfinite(net_sharpes)]
+        trial_sharpe_var = float(np.var(finite, ddof=1)) if finite.size > 1 else 0.0
+    else:
+        trial_sharpe_var = as_number(trial_sharpe_var, "trial Sharpe variance")
+    if n_trials == 1:
+        notes.append("One trial: no selection to correct for, so the DSR equals PSR(0).")
+
+    gross_stats = _series_stats(gross_m[:, chosen], periods)
+    net_stats = _series_stats(net_m[:, chosen], periods)
+    net_skew, net_kurt = net_stats.skew, net_stats.kurtosis
+    sr0 = expected_max_sharpe(n_trials, trial_sharpe_var)
+    dsr = deflated_sharpe(net_stats.sharpe_per_period, n_days, net_skew, net_kurt, n_trials,
+                          trial_sharpe_var, periods)
+
+    spa_reps = as_count(spa_reps, "SPA replications", minimum=0)
+    spa = (spa_test(net_m, reps=spa_reps, block_size=block_size, seed=seed)
+           if spa_reps > 0 else None)
+
+    cells = None
+    stability = None
+    if grid_shape is not None:
+        cells = _cells(cell_index, grid_shape, n_sets)
+        stability = _stability(net_sharpes, cells, grid_shape, chosen, spike_spread_multiple,
+                               spike_min_ratio)
+    contracts = None
+    if contracts_traded is not None:
+        traded = np.asarray(contracts_traded, dtype=float).ravel()
+        if traded.size != n_sets:
+            raise HunchbookError(f"contracts traded: expected one total per set ({n_sets}), "
+                                 f"got {traded.size}")
+        contracts = float(traded[chosen])
+    costs = _cost_stats(gross_m[:, chosen], cost_m[:, chosen], cost_multiples, periods, contracts)
+
+    return FirstPassStats(
+        n_days=n_days, n_sets=n_sets, periods=periods, chosen=chosen,
+        chosen_cell=None if cells is None else int(cells[chosen]),
+        gross=gross_stats, net=net_stats, dsr=dsr, expected_max_sharpe=sr0,
+        n_trials=n_trials, trial_sharpe_var=trial_sharpe_var, spa=spa, stability=stability,
+        costs=costs, notes=tuple(notes))
+
+
+def _series_stats(x: np.ndarray, periods: int) -> SeriesStats:
+    n = x.size
+    sr = sharpe_ratio(x, periods=1)
+    skew, kurt = moments(x)
+    min_trl = min_track_record_length(sr, skew, kurt)
+    root = math.sqrt(periods)
+    return SeriesStats(
+        total=float(x.sum()), mean=float(x.mean()), sharpe=sr * root, sharpe_per_period=sr,
+        sharpe_se_iid=sharpe_se_iid(sr, n) * root,
+        sharpe_se=sharpe_se_nonnormal(sr, n, skew, kurt) * root,
+        t_stat=t_statistic(x), newey_west_t=newey_west_t(x), newey_west_lags=newey_west_lags(n),
+        skew=skew, kurtosis=kurt, psr=probabilistic_sharpe(sr, n, skew, kurt),
+        min_trl_days=min_trl, min_trl_years=min_trl / periods)
+
+
+def _column_sharpes(x: np.ndarray, periods: int) -> np.ndarray:
+    sd = x.std(axis=0, ddof=1)
+    out = np.full(x.shape[1], np.nan)
+    np.divide(x.mean(axis=0), sd, out=out, where=sd > 0)
+    return out * math.sqrt(periods)
+
+
+def _chosen(chosen: int | None, net_sharpes: np.ndarray) -> int:
+    n_sets = net_sharpes.size
+    if chosen is None:
+        finite = np.isfinite(net_sharpes)
+        return int(np.argmax(np.where(finite, net_sharpes, -np.inf))) if finite.any() else 0
+    if isinstance(chosen, bool) or not isinstance(chosen, (int, np.integer)) \
+            or not 0 <= chosen < n_sets:
+        raise HunchbookError(f"chosen set: expected a column number in 0..{n_sets - 1}, "
+                             f"got {chosen!r}")
+    return int(chosen)
+
+
+def _cells(cell_index: np.ndarray | None, grid_shape: tuple[int, ...], n_sets: int) -> np.ndarray:
+    try:
+        size = math.prod(int(d) for d in grid_shape)
+    except (TypeError, ValueError):
+        raise HunchbookError(f"grid shape: expected whole numbers, got {grid_shape!r}") from None
+    if cell_index is None:
+        if n_sets != size:
+            raise HunchbookError(f"cell index: {n_sets} sets do not fill a grid of shape "
+                                 f"{tuple(grid_shape)} ({size} cells); pass cell_index")
+        return np.arange(n_sets)
+    cells = np.asarray(cell_index)
+    if cells.shape != (n_sets,) or not np.issubdtype(cells.dtype, np.integer):
+        raise HunchbookError(f"cell index: expected {n_sets} whole-number cells, got "
+                             f"{cells.dtype} array of shape {cells.shape}")
+    if cells.min() < 0 or cells.max() >= size or np.unique(cells).size != n_sets:
+        raise HunchbookError(f"cell index: expected distinct cells in 0..{size - 1}")
+    return cells.astype(np.int64)
+
+
+def _stability(net_sharpes: np.ndarray, cells: np.ndarray, grid_shape: tuple[int, ...],
+               chosen: int, spread_multiple: float, min_ratio: float) -> StabilityStats:
+    shape = tuple(int(d) for d in grid_shape)
+    grid = np.full(math.prod(shape), np.nan)
+    grid[cells] = net_sharpes
+    cell = int(cells[chosen])
+    finite = grid[np.isfinite(grid)]
+    return StabilityStats(
+        cell=cell, value=float(grid[cell]),
+        neighbour_mean=float(neighbour_means(grid, shape)[cell]),
+        n_neighbours=int(neighbour_counts(grid, shape)[cell]),
+        grid_spread=float(finite.std()) if finite.size else math.nan,
+        isolated=stability_flag(grid, shape, cell, spread_multiple=spread_multiple,
+                                min_ratio=min_ratio),
+        spread_multiple=float(spread_multiple), min_ratio=float(min_ratio))
+
+
+def _cost_stats(gross: np.ndarray, cost: np.ndarray, multiples: tuple[float, ...], periods: int,
+                contracts: float | None) -> CostStats:
+    sensitivity = cost_sensitivity(gross, cost, multiples, periods)
+    return CostStats(
+        multiples=tuple(sensitivity), net_sharpe=tuple(sensitivity.values()),
+        gross_total=float(gross.sum()), cost_total=float(cost.sum()),
+        break_even_multiple=break_even_cost_multiple(gross, cost),
+        contracts_traded=contracts,
+        break_even_cost_per_contract=(None if contracts is None
+                                      else break_even_cost_per_contract(gross, contracts)))
+
+
+def _json_safe(value: object) -> object:
+    if isinstance(value, dict):
+        return {str(k): _json_safe(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_json_safe(v) for v in value]
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        return float(value) if math.isfinite(value) else None
+    return value
