@@ -11,8 +11,10 @@ from __future__ import annotations
 
 import datetime as dt
 import hashlib
+import heapq
 import math
 import os
+from collections.abc import Iterator
 from dataclasses import dataclass
 from itertools import product
 from pathlib import Path
@@ -28,6 +30,8 @@ from hunchbook.demo.desk import DESK
 from hunchbook.store.errors import CatalogueError
 
 INES, THEO, NIA = (p.name for p in DESK.people)
+#: A story of one idea: yields the time (``YYYY-MM-DDTHH``) of its next step, then does it.
+Story = Iterator[str]
 #: Seed of the invented run records.
 DEMO_SEED = 20_240
 #: Tag on every demo idea.
@@ -42,10 +46,12 @@ class _Clock:
     """A clock the builder sets to invented dates; each reading is one minute later."""
 
     def __init__(self) -> None:
-        self.now = dt.datetime(2025, 1, 6, 9, 0, tzinfo=dt.UTC)
+        self.now = dt.datetime(2025, 1, 1, tzinfo=dt.UTC)
 
-    def at(self, day: str, hour: int = 9) -> None:
-        self.now = dt.datetime.fromisoformat(day).replace(hour=hour, tzinfo=dt.UTC)
+    def at(self, when: str) -> None:
+        """Jump to ``YYYY-MM-DDTHH`` (never backwards: steps at the same hour stay in order)."""
+        moment = dt.datetime.strptime(when, "%Y-%m-%dT%H").replace(tzinfo=dt.UTC)
+        self.now = max(self.now, moment)
 
     def __call__(self) -> dt.datetime:
         self.now += dt.timedelta(minutes=1)
@@ -92,52 +98,55 @@ class _Builder:
     def __init__(self, cat: Catalogue, clock: _Clock, rng: np.random.Generator) -> None:
         self.cat, self.clock, self.rng = cat, clock, rng
 
-    def idea(self, day: str, **fields: Any) -> int:
-        self.clock.at(day)
+    def idea(self, **fields: Any) -> int:
         fields["tags"] = [*fields.get("tags", ()), DEMO_TAG]
         return self.cat.add_idea(**fields)
 
-    def note(self, day: str, idea: int | None, by: str, text: str,
-             kind: str = "note") -> int:
-        self.clock.at(day, 14)
+    def note(self, idea: int | None, by: str, text: str, kind: str = "note") -> int:
         return self.cat.add_entry(idea_id=idea, kind=kind, text=text, by=by)
 
-    def stage(self, day: str, idea: int, stage: str, by: str, reason: str) -> None:
-        self.clock.at(day, 11)
+    def stage(self, idea: int, stage: str, by: str, reason: str) -> None:
         self.cat.set_stage(idea, stage, by=by, reason=reason)
 
-    def review(self, day: str, idea: int, decision: str, comments: str,
+    def review(self, idea: int, decision: str, comments: str,
                unmet: tuple[str, ...] = (), by: str = INES) -> None:
-        self.clock.at(day, 16)
         self.cat.review(idea, reviewer=by, checklist={k: k not in unmet for k in CHECKLIST},
                         decision=decision, comments=comments)
 
-    def rules(self, day: str, idea: int, by: str, text: str) -> int:
-        self.clock.at(day, 10)
+    def rules(self, idea: int, by: str, text: str) -> int:
         return self.cat.save_rules(idea, text, by=by).id
 
-    def run(self, day: str, idea: int, revision: int, by: str, plan: _RunPlan) -> int:
-        self.clock.at(day, 17)
+    def run(self, idea: int, revision: int, by: str, plan: _RunPlan) -> int:
         record = _run_record(self.rng, plan, self.cat.trial_count(idea))
         return self.cat.record_run(idea, revision_id=revision, by=by, **record)
 
     def build(self) -> None:
-        self.note("2025-01-06", None, INES, "Desk rule from today: every idea goes into the "
+        """Play every story in date order, one step at a time, so that the catalogue is
+        written in the order a real desk would have written it."""
+        stories = [self._desk(), self._trend(), self._breakout(), self._reversion(),
+                   self._natgas(), self._gold(), self._roll_down(), self._waiting(),
+                   self._early()]
+        queue = [(next(story), k, story) for k, story in enumerate(stories)]
+        heapq.heapify(queue)
+        while queue:
+            when, k, story = heapq.heappop(queue)
+            self.clock.at(when)
+            step = next(story, None)
+            if step is not None:
+                heapq.heappush(queue, (step, k, story))
+
+    def _desk(self) -> Story:
+        yield "2025-01-06T14"
+        self.note(None, INES, "Desk rule from today: every idea goes into the "
                   "catalogue with its rationale, markets and parameter grid BEFORE anyone runs "
                   "it. Invented demo desk.", kind="decision")
-        self._trend()
-        self._breakout()
-        self._reversion()
-        self._natgas()
-        self._gold()
-        self._roll_down()
-        self._waiting()
-        self._early()
-        self.note("2025-06-30", None, INES, "Half-year review: five ideas tested, one promoted. "
+        yield "2025-06-30T14"
+        self.note(None, INES, "Half-year review: five ideas tested, one promoted. "
                   "Too many grid points per idea in Q1; keep grids to a handful of values.")
 
-    def _trend(self) -> None:
-        i = self.idea("2025-01-08", title="Two-average trend across the book",
+    def _trend(self) -> Story:
+        yield "2025-01-08T09"
+        i = self.idea(title="Two-average trend across the book",
                       hypothesis="Futures drift for months; a fast and a slow average tell the "
                                  "direction of the drift.",
                       rationale="News is absorbed slowly and hedgers adjust positions "
@@ -145,23 +154,29 @@ class _Builder:
                       rationale_kind="behavioural", submitted_by=INES,
                       markets=["CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN",
                                "TNOTE10", "EQIDX"], tags=["trend"], stage="submitted")
-        self.review("2025-01-09", i, "accept", "Textbook idea, clean grid. Go.", by=NIA)
-        rev = self.rules("2025-01-10", i, INES, _rules(
+        yield "2025-01-09T16"
+        self.review(i, "accept", "Textbook idea, clean grid. Go.", by=NIA)
+        yield "2025-01-10T10"
+        rev = self.rules(i, INES, _rules(
             "Two-average trend", "Sign of fast minus slow exponential average.",
             ["CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN", "TNOTE10", "EQIDX"],
             "fast = [8, 16, 32]\nslow = [64, 128]\nconstraint = \"fast < slow\"",
             "sign(ewm(close, fast) - ewm(close, slow))"))
-        self.run("2025-01-13", i, rev, INES, _RunPlan(
+        yield "2025-01-13T17"
+        self.run(i, rev, INES, _RunPlan(
             "passes", {"fast": [8, 16, 32], "slow": [64, 128]}, 0.95, 0.82, 2600, 0.012,
             ("The neighbours of the chosen set are close to it: a plateau, not a spike.",),
             chosen=2))
-        self.note("2025-01-14", i, INES, "Equity curve is smooth apart from 2019; gains spread "
+        yield "2025-01-14T14"
+        self.note(i, INES, "Equity curve is smooth apart from 2019; gains spread "
                   "over energy, metals and rates. Costs about 14 % of gross.")
-        self.stage("2025-01-20", i, "promoted", INES, "Passes first pass; moving to full "
+        yield "2025-01-20T11"
+        self.stage(i, "promoted", INES, "Passes first pass; moving to full "
                    "research with out-of-sample years held back.")
 
-    def _breakout(self) -> None:
-        i = self.idea("2025-01-15", title="Channel midpoint breakout",
+    def _breakout(self) -> Story:
+        yield "2025-01-15T09"
+        i = self.idea(title="Channel midpoint breakout",
                       hypothesis="A close above the midpoint of the recent high-low channel "
                                  "means buyers are in control.",
                       rationale="Breakouts attract late trend followers; the channel midpoint "
@@ -170,33 +185,41 @@ class _Builder:
                       citation="Invented: 'Channels and Crowds', desk reading list, ch. 4",
                       submitted_by=NIA, markets=["CRUDE", "GOLD", "COPPER", "EQIDX"],
                       tags=["trend", "breakout"], stage="submitted")
-        self.review("2025-01-17", i, "accept", "Fine. Keep the grid small.")
-        rev = self.rules("2025-01-20", i, NIA, _rules(
+        yield "2025-01-17T16"
+        self.review(i, "accept", "Fine. Keep the grid small.")
+        yield "2025-01-20T10"
+        rev = self.rules(i, NIA, _rules(
             "Channel midpoint breakout", "Side of the n-bar channel midpoint.",
             ["CRUDE", "GOLD", "COPPER", "EQIDX"], "n = { start = 20, stop = 120, step = 20 }",
             "sign(close - (max(high, n) + min(low, n)) / 2)"))
         grid = {"n": [20.0, 40.0, 60.0, 80.0, 100.0, 120.0]}
-        self.run("2025-01-21", i, rev, NIA, _RunPlan(
+        yield "2025-01-21T17"
+        self.run(i, rev, NIA, _RunPlan(
             "selection_luck", grid, 0.66, 0.52, 2600, 0.18,
             ("Warning: the chosen set is an isolated spike on the grid.",), chosen=1))
-        self.note("2025-01-22", i, NIA, "Best length is 40 but 20 and 60 are much weaker. "
+        yield "2025-01-22T14"
+        self.note(i, NIA, "Best length is 40 but 20 and 60 are much weaker. "
                   "Trying shorter channels in case the edge sits below 20.")
-        rev2 = self.rules("2025-01-23", i, NIA, _rules(
+        yield "2025-01-23T10"
+        rev2 = self.rules(i, NIA, _rules(
             "Channel midpoint breakout", "Side of the n-bar channel midpoint.",
             ["CRUDE", "GOLD", "COPPER", "EQIDX"], "n = { start = 5, stop = 30, step = 5 }",
             "sign(close - (max(high, n) + min(low, n)) / 2)"))
-        self.run("2025-01-24", i, rev2, NIA, _RunPlan(
+        yield "2025-01-24T17"
+        self.run(i, rev2, NIA, _RunPlan(
             "selection_luck", {"n": [5.0, 10.0, 15.0, 20.0, 25.0, 30.0]}, 0.71, 0.55, 2600,
             0.24, (), chosen=2, repeats=1))
-        entry = self.note("2025-01-27", i, INES, "Twelve lengths tried now, and the trial count "
+        yield "2025-01-27T14"
+        entry = self.note(i, INES, "Twelve lengths tried now, and the trial count "
                           "says so. Stop widening the grid.", kind="decision")
-        self.clock.at("2025-01-27", 15)
+        yield "2025-01-27T15"
         self.cat.correct_entry(entry, "Eleven distinct lengths (20 was run under both "
                                "revisions, but the strategy was unchanged so it counts once). "
                                "Stop widening the grid.", by=INES)
 
-    def _reversion(self) -> None:
-        i = self.idea("2025-02-03", title="Short-term reversion in grains and rates",
+    def _reversion(self) -> Story:
+        yield "2025-02-03T09"
+        i = self.idea(title="Short-term reversion in grains and rates",
                       hypothesis="Sharp three-to-ten-day moves partly reverse.",
                       rationale="Liquidity providers who absorbed a sharp move are paid to "
                                 "unwind it, so part of the move comes back.",
@@ -204,21 +227,27 @@ class _Builder:
                       citation="Invented: a trading forum thread the desk read in January",
                       link="https://example.invalid/forum/reversion", submitted_by=THEO,
                       markets=["CORN", "SOYBEAN", "TNOTE10"], tags=["reversion"])
-        self.stage("2025-02-04", i, "submitted", THEO, "Ready for review.")
-        self.review("2025-02-05", i, "accept", "Accepting, but watch the costs: this trades "
+        yield "2025-02-04T11"
+        self.stage(i, "submitted", THEO, "Ready for review.")
+        yield "2025-02-05T16"
+        self.review(i, "accept", "Accepting, but watch the costs: this trades "
                     "every few days.")
-        rev = self.rules("2025-02-06", i, THEO, _rules(
+        yield "2025-02-06T10"
+        rev = self.rules(i, THEO, _rules(
             "Short-term reversion", "Fade stretched closes.", ["CORN", "SOYBEAN", "TNOTE10"],
             "n = [3, 5, 10]\nentry = [0.5, 1.0]",
             "-sign(zscore(close, n)) if abs(zscore(close, n)) > entry else 0"))
-        self.run("2025-02-07", i, rev, THEO, _RunPlan(
+        yield "2025-02-07T17"
+        self.run(i, rev, THEO, _RunPlan(
             "lost_to_costs", {"n": [3, 5, 10], "entry": [0.5, 1.0]}, 0.92, 0.08, 2600, 0.61,
             ()))
-        self.note("2025-02-10", i, THEO, "Gross looks great, net is nothing. Each round trip "
+        yield "2025-02-10T14"
+        self.note(i, THEO, "Gross looks great, net is nothing. Each round trip "
                   "costs about a tick and a half; the edge per trade is about the same.")
 
-    def _natgas(self) -> None:
-        i = self.idea("2025-02-12", title="Natural gas storage-report drift",
+    def _natgas(self) -> Story:
+        yield "2025-02-12T09"
+        i = self.idea(title="Natural gas storage-report drift",
                       hypothesis="NATGAS keeps drifting for two days in the direction of the "
                                  "weekly storage surprise.",
                       rationale="Hedgers who must adjust after a storage surprise spread their "
@@ -226,19 +255,25 @@ class _Builder:
                       rationale_kind="structural", source_kind="colleague",
                       citation="Invented: idea from a former colleague of Theo's",
                       submitted_by=THEO, markets=["NATGAS"], tags=["energy", "event"])
-        self.stage("2025-02-12", i, "submitted", THEO, "Ready for review.")
-        self.review("2025-02-14", i, "accept", "Plausible mechanism; only two years of "
+        yield "2025-02-12T11"
+        self.stage(i, "submitted", THEO, "Ready for review.")
+        yield "2025-02-14T16"
+        self.review(i, "accept", "Plausible mechanism; only two years of "
                     "storage-day history though.")
-        rev = self.rules("2025-02-17", i, THEO, _rules(
+        yield "2025-02-17T10"
+        rev = self.rules(i, THEO, _rules(
             "Storage-report drift", "Two-day drift after the storage day.", ["NATGAS"],
             "hold = [1, 2, 3]", "sign(close - delay(close, hold))"))
-        self.run("2025-02-18", i, rev, THEO, _RunPlan(
+        yield "2025-02-18T17"
+        self.run(i, rev, THEO, _RunPlan(
             "too_little_data", {"hold": [1, 2, 3]}, 0.9, 0.78, 500, 0.09, ()))
-        self.note("2025-02-19", i, INES, "Promising but two years is not enough. Theo to look "
+        yield "2025-02-19T14"
+        self.note(i, INES, "Promising but two years is not enough. Theo to look "
                   "for a longer storage-day calendar.", kind="decision")
 
-    def _gold(self) -> None:
-        i = self.idea("2025-03-03", title="Gold momentum after real-rate shocks",
+    def _gold(self) -> Story:
+        yield "2025-03-03T09"
+        i = self.idea(title="Gold momentum after real-rate shocks",
                       hypothesis="After a large move in TNOTE10, GOLD follows for a month.",
                       rationale="Gold is priced off real rates; slow-moving holders rebalance "
                                 "after a rate shock.",
@@ -246,46 +281,60 @@ class _Builder:
                       citation="Invented: 'Real rates and metal drift', working paper, 2019",
                       submitted_by=INES, markets=["GOLD", "TNOTE10"], tags=["metals",
                                                                             "cross-asset"])
-        self.stage("2025-03-03", i, "submitted", INES, "For review.")
-        self.review("2025-03-04", i, "accept", "Nothing to add.", by=THEO)
-        rev = self.rules("2025-03-05", i, INES, _rules(
+        yield "2025-03-03T11"
+        self.stage(i, "submitted", INES, "For review.")
+        yield "2025-03-04T16"
+        self.review(i, "accept", "Nothing to add.", by=THEO)
+        yield "2025-03-05T10"
+        rev = self.rules(i, INES, _rules(
             "Gold after rate shocks", "Follow GOLD after a large TNOTE10 move.",
             ["GOLD", "TNOTE10"], "window = [10, 20]\nthreshold = [1.5, 2.0]",
             "sign(zscore(close, window)) if abs(zscore(close, window)) > threshold else 0"))
-        self.run("2025-03-06", i, rev, INES, _RunPlan(
+        yield "2025-03-06T17"
+        self.run(i, rev, INES, _RunPlan(
             "no_edge", {"window": [10, 20], "threshold": [1.5, 2.0]}, 0.11, -0.09, 2600, 0.88,
             ()))
-        self.stage("2025-03-07", i, "shelved", INES, "No edge before costs. Shelved; the paper's "
+        yield "2025-03-07T11"
+        self.stage(i, "shelved", INES, "No edge before costs. Shelved; the paper's "
                    "sample probably ended at a lucky time.")
 
-    def _roll_down(self) -> None:
-        i = self.idea("2025-03-10", title="Rates trend, traded slowly",
+    def _roll_down(self) -> Story:
+        yield "2025-03-10T09"
+        i = self.idea(title="Rates trend, traded slowly",
                       hypothesis="TNOTE10 and EQIDX trends pay if trades are few.",
                       rationale="Rate cycles last years; slow central-bank moves make trends "
                                 "persistent.", rationale_kind="risk_premium",
                       submitted_by=NIA, markets=["TNOTE10", "EQIDX"], tags=["trend", "costs"])
-        self.stage("2025-03-10", i, "submitted", NIA, "For review.")
-        self.review("2025-03-11", i, "accept", "OK. State the costs you assume in the rule "
+        yield "2025-03-10T11"
+        self.stage(i, "submitted", NIA, "For review.")
+        yield "2025-03-11T16"
+        self.review(i, "accept", "OK. State the costs you assume in the rule "
                     "file.")
-        rev = self.rules("2025-03-12", i, NIA, _rules(
+        yield "2025-03-12T10"
+        rev = self.rules(i, NIA, _rules(
             "Rates trend", "Price against its n-bar average.", ["TNOTE10", "EQIDX"],
             "n = [10, 20, 40]\nbuffer = [0.0, 0.5]",
             "sign(close - mean(close, n)) if abs(zscore(close, n)) > buffer else 0"))
-        self.run("2025-03-13", i, rev, NIA, _RunPlan(
+        yield "2025-03-13T17"
+        self.run(i, rev, NIA, _RunPlan(
             "lost_to_costs", {"n": [10, 20, 40], "buffer": [0.0, 0.5]}, 0.84, 0.21, 2600, 0.4,
             ()))
-        self.note("2025-03-14", i, NIA, "As the verdict says: slower windows and a wider "
+        yield "2025-03-14T14"
+        self.note(i, NIA, "As the verdict says: slower windows and a wider "
                   "buffer. Changing the grid, and the trial count keeps counting.")
-        rev2 = self.rules("2025-03-17", i, NIA, _rules(
+        yield "2025-03-17T10"
+        rev2 = self.rules(i, NIA, _rules(
             "Rates trend, slow", "Price against its n-bar average, wide buffer.",
             ["TNOTE10", "EQIDX"], "n = [60, 120, 250]\nbuffer = [1.0, 1.5]",
             "sign(close - mean(close, n)) if abs(zscore(close, n)) > buffer else 0"))
-        self.run("2025-03-18", i, rev2, NIA, _RunPlan(
+        yield "2025-03-18T17"
+        self.run(i, rev2, NIA, _RunPlan(
             "passes", {"n": [60, 120, 250], "buffer": [1.0, 1.5]}, 0.95, 0.86, 2600, 0.03, ()))
-        self.note("2025-03-19", i, INES, "Passes with 12 trials counted. Promotion decision at "
+        yield "2025-03-19T14"
+        self.note(i, INES, "Passes with 12 trials counted. Promotion decision at "
                   "the April meeting.", kind="decision")
 
-    def _waiting(self) -> None:
+    def _waiting(self) -> Story:
         for day, title, hyp, rat, kind, by, markets, tags in (
             ("2025-04-01", "Copper carry from the curve slope",
              "COPPER pays to hold when the curve is backwardated.",
@@ -300,28 +349,35 @@ class _Builder:
              "Producers pay a hedging premium to lock in prices.",
              "risk_premium", THEO, ["CRUDE"], ["carry", "energy"]),
         ):
-            i = self.idea(day, title=title, hypothesis=hyp, rationale=rat, rationale_kind=kind,
+            yield f"{day}T09"
+            i = self.idea(title=title, hypothesis=hyp, rationale=rat, rationale_kind=kind,
                           submitted_by=by, markets=markets, tags=tags, stage="submitted")
-            self.note(day, i, by, "Rule file to follow once accepted; grid kept to six sets.")
-        i = self.idea("2025-04-07", title="Soybean crush-season seasonality",
+            yield f"{day}T14"
+            self.note(i, by, "Rule file to follow once accepted; grid kept to six sets.")
+        yield "2025-04-07T09"
+        i = self.idea(title="Soybean crush-season seasonality",
                       hypothesis="SOYBEAN rises from September to November.",
                       rationale="It did in 11 of the last 14 years.", rationale_kind="other",
                       source_kind="web", submitted_by=THEO, markets=["SOYBEAN"],
                       tags=["seasonal"], stage="submitted")
-        self.review("2025-04-08", i, "return", "'It did in 11 of 14 years' is a pattern, not a "
+        yield "2025-04-08T16"
+        self.review(i, "return", "'It did in 11 of 14 years' is a pattern, not a "
                     "reason. Who is forced to buy in autumn, and why is it not arbitraged?",
                     unmet=("rationale_not_data_mined",))
-        self.note("2025-04-09", i, THEO, "Fair. Reading up on crush margins and harvest "
+        yield "2025-04-09T14"
+        self.note(i, THEO, "Fair. Reading up on crush margins and harvest "
                   "hedging before resubmitting.")
-        i = self.idea("2025-04-10", title="Ten-year note trend with a volatility filter",
+        yield "2025-04-10T09"
+        i = self.idea(title="Ten-year note trend with a volatility filter",
                       hypothesis="TNOTE10 trends are cleaner when volatility is low.",
                       rationale="In calm markets moves are driven by slow policy news rather "
                                 "than by forced deleveraging.",
                       rationale_kind="behavioural", submitted_by=NIA, markets=["TNOTE10"],
                       tags=["trend", "rates"], stage="submitted")
-        self.review("2025-04-11", i, "accept", "Accepted. Run it on the full history.")
+        yield "2025-04-11T16"
+        self.review(i, "accept", "Accepted. Run it on the full history.")
 
-    def _early(self) -> None:
+    def _early(self) -> Story:
         for day, title, hyp, by, markets in (
             ("2025-05-02", "Grain weather-premium fade",
              "CORN gives back its June weather premium in July.", THEO, ["CORN"]),
@@ -331,12 +387,16 @@ class _Builder:
             ("2025-05-06", "Equity index overnight gap fade",
              "Large overnight gaps in EQIDX close half-way by noon.", NIA, ["EQIDX"]),
         ):
-            i = self.idea(day, title=title, hypothesis=hyp, submitted_by=by, markets=markets)
-            self.note(day, i, by, "First notes only; rationale still to be written.")
-        i = self.idea("2025-05-07", title="Metals pair spread reversion",
+            yield f"{day}T09"
+            i = self.idea(title=title, hypothesis=hyp, submitted_by=by, markets=markets)
+            yield f"{day}T14"
+            self.note(i, by, "First notes only; rationale still to be written.")
+        yield "2025-05-07T09"
+        i = self.idea(title="Metals pair spread reversion",
                       hypothesis="The GOLD/COPPER ratio reverts to its one-year mean.",
                       submitted_by=THEO, markets=["GOLD", "COPPER"], tags=["pairs"])
-        self.stage("2025-05-09", i, "shelved", THEO, "No economic link that would pull the two "
+        yield "2025-05-09T11"
+        self.stage(i, "shelved", THEO, "No economic link that would pull the two "
                    "back together; dropping it before testing.")
 
 
