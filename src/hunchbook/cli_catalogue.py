@@ -463,7 +463,8 @@ def _read_text(path: Path) -> str:
 
 
 def _plain(record: Any) -> dict[str, Any]:
-    return {k: v for k, v in record.__dict__.items() if k != "daily_pnl"}
+    fields = record._asdict() if isinstance(record, tuple) else dict(record.__dict__)
+    return {k: v for k, v in fields.items() if k != "daily_pnl"}
 
 
 def _table(headers: list[str], rows: list[list[str]]) -> str:

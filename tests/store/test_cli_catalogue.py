@@ -11,6 +11,7 @@ import pytest
 from hunchbook.catalogue import CHECKLIST, Catalogue
 from hunchbook.cli_catalogue import register
 from hunchbook.core.errors import HunchbookError
+from hunchbook.store import SCHEMA_VERSION
 from tests.store.helpers import RULES, run_args
 
 
@@ -94,7 +95,7 @@ def test_edit_stage_export_import_backup_check(path: Path, tmp_path: Path,
     assert "nothing new" in capsys.readouterr().out
     assert _run("catalogue", "backup", *c, str(tmp_path / "copy.sqlite")) == 0
     assert _run("catalogue", "check", *c) == 0
-    assert "schema version 3; ok" in capsys.readouterr().out
+    assert f"schema version {SCHEMA_VERSION}; ok" in capsys.readouterr().out
     with Catalogue(tmp_path / "other.sqlite") as cat:
         assert (cat.idea(1).title, cat.idea(1).stage) == ("Better title", "submitted")
 

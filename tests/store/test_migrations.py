@@ -49,6 +49,9 @@ def _build_old(path: Path, version: int) -> dict[str, object]:
                    "'Theo', '2024-01-05T00:00:00.000000Z')")
         db.execute("INSERT INTO reviews VALUES (1, 'v1', 1, 'Ines', '{}', 'accept', 'ok', "
                    "'2024-01-02T00:00:00.000000Z')")
+        if version >= 3:  # from version 3 on, recording a run also set the idea's summary
+            db.execute("UPDATE ideas SET trial_count = 3, last_verdict = 'passes', "
+                       "last_net_sharpe = 0.6, last_run_at = '2024-01-04T00:00:00.000000Z'")
     db.close()
     return {"frame": frame}
 
@@ -68,11 +71,11 @@ def test_migrating_from_an_earlier_version_keeps_every_record(tmp_path: Path,
             "Processors hedge the crush margin ahead of harvest"]
         assert [r.decision for r in cat.reviews(1)] == ["accept"]
         assert cat.run(2).daily_pnl.equals(old["frame"])
-        # Version 3 derived the summary columns from the old runs: fast 5, 10, 20 -> 3 trials;
-        # the latest run (by time) decides the last verdict.
+        # Version 3 derived the summary columns from the old runs (fast 5, 10, 20: 3 trials;
+        # the latest run by time decides the last verdict); later versions keep them.
         assert (idea.trial_count, idea.last_verdict, idea.last_net_sharpe) == (3, "passes", 0.6)
         assert cat.trial_count(1) == 3
-        # Version 2 indexed the rows already present: both idea text and journal text.
+        # The search index covers the rows already present: idea text and journal text.
         assert [s.id for s in cat.list_ideas(text="arbitrage")] == [1]
         assert [s.id for s in cat.list_ideas(text="harvest")] == [1]
         assert cat.check() == []

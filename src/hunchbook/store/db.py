@@ -21,6 +21,9 @@ from hunchbook.store.errors import CatalogueError
 
 #: Seconds a connection waits for another process's write lock before giving up.
 BUSY_TIMEOUT_S = 15.0
+#: Page cache per connection (KiB) and memory-mapped read window (bytes).
+CACHE_KIB = 65_536
+MMAP_BYTES = 256 * 1024 * 1024
 
 
 def connect(path: str | os.PathLike[str], *, create: bool = True) -> Database:
@@ -45,6 +48,9 @@ def connect(path: str | os.PathLike[str], *, create: bool = True) -> Database:
         mode = _enable_wal(conn)
         conn.execute("PRAGMA foreign_keys = ON")
         conn.execute("PRAGMA synchronous = FULL")
+        # Reads: keep a large catalogue's pages in memory (lists of every idea read them all).
+        conn.execute(f"PRAGMA cache_size = -{CACHE_KIB}")
+        conn.execute(f"PRAGMA mmap_size = {MMAP_BYTES}")
     except sqlite3.DatabaseError as exc:
         conn.close()
         raise CatalogueError(f"not a catalogue (SQLite says: {exc})", where=str(path)) from None

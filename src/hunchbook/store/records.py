@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, NamedTuple
 
 import pandas as pd
 
@@ -40,9 +40,8 @@ class Idea:
     frozen_at: str | None = None
 
 
-@dataclass(frozen=True)
-class IdeaSummary:
-    """One line of an idea list."""
+class IdeaSummary(NamedTuple):
+    """One line of an idea list (a named tuple: lists of ten thousand build quickly)."""
 
     id: int
     uuid: str

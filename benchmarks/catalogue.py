@@ -1,0 +1,152 @@
+"""Catalogue speed: 10,000 ideas and 100,000 journal entries; list, filter and search timed.
+
+Run: ``.venv/bin/python benchmarks/catalogue.py [--ideas N] [--entries M] [--keep PATH]``.
+Prints the time to build the catalogue through the public API, then the median of 7 timings
+of each query (target: under 50 ms each). Not a test: figures depend on the machine.
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import sys
+import tempfile
+import time
+from collections.abc import Callable
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from hunchbook.catalogue import CHECKLIST, Catalogue
+
+MARKETS = ["CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN", "TNOTE10", "EQIDX"]
+PEOPLE = ["Ines Marwood", "Theo Brackwater", "Nia Oduya-Fell", "Ada Quill", "Rui Tamsin"]
+TAGS = ["trend", "carry", "reversion", "seasonal", "flow", "calendar", "spread", "event"]
+#: Desk words, each drawn 1 time in 100 (so a word like "backwardation" is in about a third
+#: of the ideas); the other words come from 5,000 made-up ones.
+WORDS = ["hedgers", "roll", "curve", "backwardation", "contango", "inventory", "momentum",
+         "drift", "reversal", "storage", "harvest", "pension", "rebalancing", "volatility",
+         "liquidity", "spread", "carry", "yield", "breakout", "channel", "average", "filter",
+         "costs", "slippage", "tick", "calendar", "season", "weather", "crop", "report"]
+FILLER = [f"x{k:04d}" for k in range(5_000)]
+TARGET_MS = 50.0
+
+
+def _text(rng: np.random.Generator, words: int) -> str:
+    picks = [WORDS[int(rng.integers(len(WORDS)))] if rng.random() < 0.3
+             else FILLER[int(rng.integers(len(FILLER)))] for _ in range(words)]
+    return " ".join(picks) + f" w{rng.integers(0, 50_000)}"
+
+
+def build(path: Path, ideas: int, entries: int, runs: int) -> dict[str, float]:
+    """Fill a new catalogue through the public API (grouped in transactions of 1,000)."""
+    rng = np.random.default_rng(7)
+    timings = {}
+    start = time.perf_counter()
+    with Catalogue(path) as cat:
+        for first in range(0, ideas, 1_000):
+            with cat.transaction():
+                for k in range(first, min(first + 1_000, ideas)):
+                    cat.add_idea(title=f"Idea {k}: {_text(rng, 4)}", hypothesis=_text(rng, 10),
+                                 rationale=_text(rng, 40), submitted_by=PEOPLE[k % 5],
+                                 source_kind=("own", "paper", "book", "web", "colleague")[k % 5],
+                                 markets=list(rng.choice(MARKETS, 1 + k % 3, replace=False)),
+                                 tags=[TAGS[k % 8]], stage="submitted" if k % 4 else "draft")
+        timings["build ideas"] = time.perf_counter() - start
+        start = time.perf_counter()
+        ids = rng.integers(1, ideas + 1, entries)
+        for first in range(0, entries, 5_000):
+            with cat.transaction():
+                for k in range(first, min(first + 5_000, entries)):
+                    cat.add_entry(idea_id=int(ids[k]), kind="note", text=_text(rng, 25),
+                                  by=PEOPLE[k % 5])
+        timings["build journal"] = time.perf_counter() - start
+        start = time.perf_counter()
+        days = pd.bdate_range("2015-01-01", periods=2_500, name="date")
+        with cat.transaction():
+            for idea in range(4, 4 + runs * 4, 4):  # submitted ideas (k % 4 != 0)
+                cat.review(idea, reviewer="Ines Marwood", checklist=dict.fromkeys(CHECKLIST, True),
+                           decision="accept", comments="ok")
+                rev = cat.save_rules(idea, f'markets = ["CORN"]\n[parameters]\nn = [{idea}]\n',
+                                     by="Nia Oduya-Fell")
+                gross = rng.normal(50, 1_000, len(days))
+                cat.record_run(idea, revision_id=rev.id, parameter_sets=[{"n": float(idea)}],
+                               data_fingerprint="bench", engine_version="bench",
+                               summary={"sets": [{"params": {"n": float(idea)},
+                                                  "net_sharpe": float(rng.normal())}]},
+                               statistics={}, verdict={"outcome": ("passes", "no_edge")[idea % 2],
+                                                       "label": "x", "reasons": []},
+                               chosen_params={"n": float(idea)}, by="Nia Oduya-Fell",
+                               daily_pnl=pd.DataFrame({"gross_pnl": gross, "cost": 10.0,
+                                                       "net_pnl": gross - 10.0}, index=days))
+        timings["build runs"] = time.perf_counter() - start
+    return timings
+
+
+def _time(action: Callable[[], object], repeats: int = 7) -> tuple[float, object]:
+    result = action()  # warm the page cache once
+    samples = []
+    for _ in range(repeats):
+        start = time.perf_counter()
+        result = action()
+        samples.append(time.perf_counter() - start)
+    return statistics.median(samples) * 1_000, result
+
+
+def queries(path: Path) -> list[tuple[str, float, int]]:
+    """Each query's median time (ms) and row count, on a freshly opened catalogue."""
+    with Catalogue(path, create=False) as cat:
+        checks: list[tuple[str, Callable[[], list]]] = [
+            ("list all ideas", lambda: cat.list_ideas()),
+            ("list first 100 ideas", lambda: cat.list_ideas(limit=100)),
+            ("filter stage=draft", lambda: cat.list_ideas(stage="draft")),
+            ("filter market=COPPER", lambda: cat.list_ideas(market="COPPER")),
+            ("filter tag=carry", lambda: cat.list_ideas(tag="carry")),
+            ("filter author+source", lambda: cat.list_ideas(author="Ada Quill",
+                                                            source_kind="book")),
+            ("filter verdict=passes", lambda: cat.list_ideas(verdict="passes")),
+            ("search one common word", lambda: cat.list_ideas(text="backwardation")),
+            ("search two words", lambda: cat.list_ideas(text="harvest pension")),
+            ("search rare word (journal)", lambda: cat.list_ideas(text="w12345")),
+            ("search prefix + filters", lambda: cat.list_ideas(text="rebal", stage="submitted",
+                                                               market="CORN")),
+            ("search, first 50", lambda: cat.list_ideas(text="carry", limit=50)),
+            ("journal of one idea", lambda: cat.journal(5_000)),
+            ("journal newest 100", lambda: cat.journal(limit=100)),
+            ("runs of all ideas", lambda: cat.runs()),
+        ]
+        return [(name, *_measure(action)) for name, action in checks]
+
+
+def _measure(action: Callable[[], list]) -> tuple[float, int]:
+    ms, rows = _time(action)
+    return ms, len(rows)  # type: ignore[arg-type]
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--ideas", type=int, default=10_000)
+    parser.add_argument("--entries", type=int, default=100_000)
+    parser.add_argument("--runs", type=int, default=500)
+    parser.add_argument("--keep", type=Path, help="build the catalogue here and keep it")
+    args = parser.parse_args(argv)
+    with tempfile.TemporaryDirectory() as tmp:
+        path = args.keep or Path(tmp) / "bench.sqlite"
+        if not path.exists():
+            for name, seconds in build(path, args.ideas, args.entries, args.runs).items():
+                print(f"{name:<28}{seconds:8.1f} s")
+        print(f"catalogue file: {path.stat().st_size / 1e6:.0f} MB; "
+              f"{args.ideas:,} ideas, {args.entries:,} journal entries, {args.runs} runs")
+        results = queries(path)
+    worst = 0.0
+    for name, ms, rows in results:
+        worst = max(worst, ms)
+        mark = "ok" if ms < TARGET_MS else "SLOW"
+        print(f"{name:<28}{ms:8.1f} ms  {rows:>6} rows  {mark}")
+    print(f"slowest: {worst:.1f} ms (target < {TARGET_MS:.0f} ms each)")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
