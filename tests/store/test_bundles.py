@@ -279,3 +279,25 @@ def test_export_never_overwrites_unless_asked(cat: Catalogue, exported: tuple[in
     cat.export_bundle(idea, path, overwrite=True)
     assert set(CHECKLIST) == set(tomllib.loads(
         _members(path)["bundle.toml"].decode())["reviews"][0]["checklist"])
+
+
+def test_a_failure_while_applying_leaves_nothing_behind(cat: Catalogue,
+                                                        exported: tuple[int, Path],
+                                                        tmp_path: Path) -> None:
+    """A bundle that passes every check but collides while being applied (a journal entry's
+    uuid already belongs to another idea here) is rolled back whole."""
+    _, path = exported
+    members = _members(path)
+    manifest = tomllib.loads(members["bundle.toml"].decode())
+    old_uuid = manifest["idea"]["uuid"]
+    new_uuid = old_uuid[:-12] + "000000000000"
+    clone = _write(tmp_path / "clone.zip", members | {
+        "bundle.toml": members["bundle.toml"].decode().replace(
+            f'[idea]\nuuid = "{old_uuid}"', f'[idea]\nuuid = "{new_uuid}"').encode()})
+    with Catalogue(tmp_path / "victim.sqlite") as victim:
+        victim.import_bundle(path, by="Ines")
+        before = table_counts(victim)
+        with pytest.raises(CatalogueError, match="belongs to another idea"):
+            victim.import_bundle(clone, by="Ines")
+        assert table_counts(victim) == before
+        assert victim.check() == []

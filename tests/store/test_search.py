@@ -83,3 +83,18 @@ def test_unknown_filter_values_are_refused(cat: Catalogue) -> None:
         cat.list_ideas(stage="thinking")
     with pytest.raises(CatalogueError, match="whole number"):
         cat.list_ideas(limit=0)
+
+
+def test_edits_and_new_entries_are_searchable_at_once(cat: Catalogue,
+                                                      filled: dict[str, int]) -> None:
+    carry = filled["carry"]
+    cat.update_idea(carry, by="Nia", title="Aluminium carry")
+    assert _ids(cat.list_ideas(text="aluminium")) == {carry}
+    # The old title stays findable: the edit's journal entry records it.
+    assert _ids(cat.list_ideas(text="copper")) == {carry}
+    row = cat.db.execute("SELECT title FROM idea_search WHERE rowid = ?", [carry]).fetchone()
+    assert row == ("Aluminium carry",)
+    cat.add_entry(idea_id=carry, kind="note", text="Smelter outages matter", by="Theo")
+    assert _ids(cat.list_ideas(text="smelter outages")) == {carry}
+    cat.add_entry(idea_id=None, kind="note", text="zeppelin", by="Theo")  # general entry
+    assert cat.list_ideas(text="zeppelin") == []
