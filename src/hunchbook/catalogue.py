@@ -30,6 +30,25 @@ Bundles: ``export_bundle``, ``import_bundle``. Upkeep: ``backup``, ``check``,
 
 Stages (``STAGES``): draft -> submitted -> accepted | returned; accepted -> tested (by
 recording a run) -> promoted | shelved (see ``TRANSITIONS``).
+
+What ``record_run`` expects
+---------------------------
+``parameter_sets``: ``[{name: value}, ...]``, every set the run tried. ``summary``:
+``{"sets": [{"params": {name: value}, "net_sharpe": annualised net Sharpe or None, ...},
+...], ...}`` with one entry per set; other keys are stored as given. ``statistics``: any table
+of plain values. ``verdict``: ``{"outcome": key, "label": text, "reasons": [sentences],
+...}`` (``outcome`` optional; it is what ``Idea.last_verdict`` holds and ``list_ideas(
+verdict=...)`` filters on). ``chosen_params``: one of the sets; ``daily_pnl``: its daily P&L,
+a DataFrame with a date index and columns ``gross_pnl``, ``cost``, ``net_pnl``. Values may be
+numpy scalars; NaN and infinities are stored as null.
+
+Trials
+------
+``trial_count`` counts distinct (strategy key, parameter set) pairs over all the idea's runs;
+the strategy key hashes the rule file without its ``[parameters]`` table, ``name`` and
+``description`` (see :mod:`hunchbook.store.revisions` and :mod:`hunchbook.store.runs`).
+``trial_sharpes`` gives one annualised net Sharpe per trial (its latest run), for the variance
+the deflated Sharpe needs.
 """
 
 from __future__ import annotations

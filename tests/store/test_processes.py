@@ -79,6 +79,7 @@ def test_sigkill_mid_batch_loses_nothing_committed(tmp_path: Path, kill_after: i
     os.kill(writer.pid, signal.SIGKILL)
     writer.wait()
     committed += [int(line) for line in writer.stdout.read().split()]
+    writer.stdout.close()
     assert writer.returncode == -signal.SIGKILL
 
     with Catalogue(path, create=False) as cat:
