@@ -59,17 +59,28 @@ def write_folder(folder: Path) -> Path:
 
 
 def pandas_set(closes: list[pd.Series], changes: list[pd.Series], fast: int, slow: int,
-               cost: float, multiplier: float) -> pd.Series:
-    """One set written plainly with pandas, market by market (continuous markets: no rolls)."""
-    total = None
+               cost: float, multiplier: float) -> dict[str, object]:
+    """One set written plainly with pandas, market by market (continuous markets: no rolls),
+    giving what the sweep engine gives: daily portfolio gross P&L and cost, and per market the
+    gross, cost and net totals, net and gross Sharpe ratios and contracts traded."""
+    gross_total = cost_total = None
+    markets = []
     for close, change in zip(closes, changes, strict=True):
         pos = np.sign(close.rolling(fast).mean() - close.rolling(slow).mean())
         first = pos.first_valid_index()
         pos = pos.loc[first:].fillna(0.0)
         prev = pos.shift(1).fillna(0.0)
-        net = prev * change.loc[first:] * multiplier - (pos - prev).abs() * cost
-        total = net if total is None else total.add(net, fill_value=0.0)
-    return total
+        gross = prev * change.loc[first:] * multiplier
+        traded = (pos - prev).abs()
+        costs = traded * cost
+        net = gross - costs
+        markets.append({"gross": gross.sum(), "cost": costs.sum(), "net": net.sum(),
+                        "gross_sharpe": gross.mean() / gross.std() * 252 ** 0.5,
+                        "net_sharpe": net.mean() / net.std() * 252 ** 0.5,
+                        "contracts": traded.sum()})
+        gross_total = gross if gross_total is None else gross_total.add(gross, fill_value=0.0)
+        cost_total = costs if cost_total is None else cost_total.add(costs, fill_value=0.0)
+    return {"gross": gross_total, "cost": cost_total, "markets": markets}
 
 
 def main() -> None:

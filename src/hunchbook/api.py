@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 import os
-from collections.abc import Iterator, Mapping
+from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -160,7 +160,7 @@ class Study:
 
     def sweep(self, sets: list[dict[str, float]] | None = None, *, workers: int | None = None,
               progress: Progress | None = None, cancel: CancelCheck | None = None,
-              n_trials: int | None = None, trial_sharpe_var: float | None = None,
+              n_trials: int | None = None, other_trial_sharpes: Sequence[float] = (),
               spa_reps: int = 1000, seed: int = 0) -> SweepReport:
         """Run every parameter set (default: the declared space) and judge the best one.
 
@@ -170,9 +170,10 @@ class Study:
             Parameter sets to run; default every declared set that meets the constraint.
         workers, progress, cancel
             See :func:`hunchbook.core.sweep.run_sweep`.
-        n_trials, trial_sharpe_var
+        n_trials, other_trial_sharpes
             Trials counted for the deflated Sharpe ratio (default: the sets of this sweep)
-            and the variance of their annualised Sharpe ratios (default: from this sweep).
+            and the annualised net Sharpe ratios of trials run before, outside this sweep;
+            the trials' Sharpe variance is taken over those and this sweep's sets.
         spa_reps, seed
             Bootstrap replications and seed of the SPA test.
         """
@@ -182,6 +183,9 @@ class Study:
         summaries = summarise_sweep(outcome)
         net_sharpe = np.array([s[PORTFOLIO]["net"]["sharpe"] for s in summaries])
         chosen = int(np.nanargmax(net_sharpe)) if np.isfinite(net_sharpe).any() else 0
+        trial_sharpes = np.concatenate([np.asarray(other_trial_sharpes, dtype=float),
+                                        net_sharpe[np.isfinite(net_sharpe)]])
+        trial_sharpe_var = float(np.var(trial_sharpes, ddof=1)) if trial_sharpes.size > 1 else 0.0
         # statistics compare the sets on their common period: from the day all have started
         start = int(outcome.used.argmax(axis=0).max())
         shape, cells = self._grid_cells(sets)

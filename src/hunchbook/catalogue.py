@@ -358,6 +358,16 @@ class Catalogue:
         variance across all trials; trials without a Sharpe are left out."""
         return runmod.trial_sharpes(self.db, ideas.get(self.db, idea_id).id)
 
+    def prospective_trials(self, idea_id: int, rule_text: str,
+                           parameter_sets: Sequence[Mapping[str, float]]
+                           ) -> tuple[int, list[float]]:
+        """Trial count as it will stand once ``parameter_sets`` of this rule text have run,
+        and the net Sharpe ratios of the idea's other trials: what the deflated Sharpe of a
+        run needs before the run is recorded. Writes nothing."""
+        idea = ideas.get(self.db, idea_id)
+        _, strategy_key, _ = revmod.analyse(rule_text)
+        return runmod.prospective_trials(self.db, idea.id, strategy_key, parameter_sets)
+
     def runs(self, idea_id: int | None = None) -> list[RunRecord]:
         """Runs oldest first, of one idea or of all; without daily P&L (see :meth:`run`)."""
         if idea_id is not None:

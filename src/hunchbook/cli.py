@@ -14,12 +14,15 @@ from pathlib import Path
 from typing import Any
 
 from hunchbook import __version__
-from hunchbook.api import Study, load_data, load_rules
+from hunchbook.api import SetResult, Study, SweepReport, load_data, load_rules
+from hunchbook.cli_catalogue import author, open_catalogue
+from hunchbook.cli_catalogue import register as register_catalogue_commands
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.pnl_file import read_pnl_csv
 from hunchbook.core.stats import first_pass_statistics
 from hunchbook.core.verdict import decide
 from hunchbook.report import format_judgement, format_single, format_statistics, format_sweep
+from hunchbook.services import run_idea
 
 #: The caution printed under every result.
 CAUTION = ("Hypothetical backtest results: not investment advice; past results do not predict "
@@ -67,6 +70,14 @@ def _build_parser() -> argparse.ArgumentParser:
                      help="write daily P&L, one row per (date, market), for one parameter set")
     run.add_argument("--workers", type=_positive_int, default=None, metavar="N",
                      help="worker processes for a sweep (default: CPU count)")
+    run.add_argument("--idea", type=_positive_int, metavar="ID",
+                     help="save the rule file as this idea's revision and record the run, its "
+                          "trial count and verdict on the idea")
+    run.add_argument("--catalogue", type=Path, metavar="PATH",
+                     help="catalogue for --idea (default: $HUNCHBOOK_CATALOGUE or the user data "
+                          "folder)")
+    run.add_argument("--by", metavar="NAME",
+                     help="who runs it, for --idea (default: $HUNCHBOOK_USER or login name)")
     run.set_defaults(handler=_cmd_run)
 
     stats = commands.add_parser(
@@ -86,6 +97,8 @@ def _build_parser() -> argparse.ArgumentParser:
                        help="bootstrap replications of the SPA test (0 skips it; default 1000)")
     stats.add_argument("--json", metavar="PATH", type=Path, help="write the statistics as JSON")
     stats.set_defaults(handler=_cmd_stats)
+
+    register_catalogue_commands(commands)
 
     demo = commands.add_parser(
         "demo-data", help="write the invented demo desk's market library and price files",
@@ -123,6 +136,8 @@ def _parse_params(text: str) -> dict[str, float]:
 
 
 def _cmd_run(args: argparse.Namespace) -> int:
+    if args.idea is not None:
+        return _run_for_idea(args)
     rules = load_rules(args.rules)
     try:
         data = load_data(args.data, list(rules.markets))
@@ -136,7 +151,36 @@ def _cmd_run(args: argparse.Namespace) -> int:
                         file=str(args.rules), key="parameters")
     report = study.sweep(sets, workers=args.workers, progress=_progress_printer(len(sets)))
     chosen = study.run_set(report.sets[report.chosen])
-    currency = study.panel.currency
+    _print_and_write(args, report, chosen, study.panel.currency)
+    return 0
+
+
+def _run_for_idea(args: argparse.Namespace) -> int:
+    """Run an idea's whole declared space and record the run, its trials and verdict on it."""
+    if args.params:
+        raise HunchbookError("--idea runs the whole declared parameter space, so it takes no "
+                             "--params (every set run counts as a trial)")
+    path = Path(args.rules)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise RuleError(f"cannot read the rule file ({exc})", file=str(path)) from None
+    with open_catalogue(args) as catalogue:
+        outcome = run_idea(catalogue, args.idea, text, args.data, by=author(args),
+                           rule_file=str(path), workers=args.workers,
+                           progress=_progress_printer(2))
+    _print_and_write(args, outcome.report, outcome.chosen,
+                     outcome.chosen.output.panel.currency)
+    print(f"Recorded as run {outcome.run_id} of idea {args.idea} (rule revision "
+          f"{outcome.revision_number}); the idea now counts {outcome.report.statistics.n_trials} "
+          "trials.")
+    return 0
+
+
+def _print_and_write(args: argparse.Namespace, report: SweepReport, chosen: SetResult,
+                     currency: str) -> None:
+    rules = report.rules
+    sets = report.sets
     if len(sets) == 1:
         print(format_single(rules, chosen, currency))
     else:
@@ -160,7 +204,6 @@ def _cmd_run(args: argparse.Namespace) -> int:
     if args.pnl_csv:
         table = chosen.pnl.assign(date=lambda t: t["date"].dt.strftime("%Y-%m-%d"))
         _write_atomic(args.pnl_csv, lambda f: table.to_csv(f, index=False, float_format="%.10g"))
-    return 0
 
 
 def _progress_printer(total: int) -> Callable[[int, int], None] | None:

@@ -199,7 +199,7 @@ def _catalogue(group: Any) -> None:
 
 
 # -- handlers ------------------------------------------------------------------------------
-def _open(args: argparse.Namespace, *, create: bool = False) -> Catalogue:
+def open_catalogue(args: argparse.Namespace, *, create: bool = False) -> Catalogue:
     path = args.catalogue
     if path is None:
         path = default_catalogue_path()
@@ -208,12 +208,12 @@ def _open(args: argparse.Namespace, *, create: bool = False) -> Catalogue:
     return Catalogue(path, create=create)
 
 
-def _by(args: argparse.Namespace) -> str:
+def author(args: argparse.Namespace) -> str:
     return args.by or os.environ.get(USER_ENV) or getpass.getuser()
 
 
 def _ideas_list(args: argparse.Namespace) -> int:
-    with _open(args) as cat:
+    with open_catalogue(args) as cat:
         rows = cat.list_ideas(stage=args.stage, verdict=args.verdict, market=args.market,
                               tag=args.tag, author=args.author, source_kind=args.source,
                               text=args.search, limit=args.limit)
@@ -233,7 +233,7 @@ def _summary_row(r: IdeaSummary) -> list[str]:
 
 
 def _ideas_show(args: argparse.Namespace) -> int:
-    with _open(args) as cat:
+    with open_catalogue(args) as cat:
         idea = cat.idea(args.idea)
         revisions, runs = cat.revisions(idea.id), cat.runs(idea.id)
         reviews, entries = cat.reviews(idea.id), cat.journal(idea.id)
@@ -288,13 +288,13 @@ def _idea_text(idea: Idea) -> str:
 def _ideas_add(args: argparse.Namespace) -> int:
     fields = _given_fields(args)
     rules_text = _read_text(args.rules) if args.rules else None
-    with _open(args, create=True) as cat, cat.transaction():
+    with open_catalogue(args, create=True) as cat, cat.transaction():
         idea_id = cat.add_idea(title=args.title, hypothesis=args.hypothesis,
-                               submitted_by=_by(args), **fields)
+                               submitted_by=author(args), **fields)
         if rules_text is not None:
-            cat.save_rules(idea_id, rules_text, by=_by(args))
+            cat.save_rules(idea_id, rules_text, by=author(args))
         if args.submit:
-            cat.set_stage(idea_id, "submitted", by=_by(args), reason="Submitted on creation.")
+            cat.set_stage(idea_id, "submitted", by=author(args), reason="Submitted on creation.")
     print(f"Idea {idea_id} written down" + (" and submitted for review." if args.submit
                                              else " (draft)."))
     return 0
@@ -317,16 +317,16 @@ def _ideas_edit(args: argparse.Namespace) -> int:
                    if getattr(args, k) is not None})
     if not fields:
         raise CatalogueError("nothing to change: give at least one field option")
-    with _open(args) as cat:
+    with open_catalogue(args) as cat:
         before = cat.idea(args.idea)
-        after = cat.update_idea(args.idea, by=_by(args), reason=args.reason, **fields)
+        after = cat.update_idea(args.idea, by=author(args), reason=args.reason, **fields)
     print(f"Idea {after.id} " + ("unchanged." if after == before else "updated."))
     return 0
 
 
 def _ideas_stage(args: argparse.Namespace) -> int:
-    with _open(args) as cat:
-        cat.set_stage(args.idea, args.stage, by=_by(args), reason=args.reason)
+    with open_catalogue(args) as cat:
+        cat.set_stage(args.idea, args.stage, by=author(args), reason=args.reason)
     print(f"Idea {args.idea} is now '{args.stage}'.")
     return 0
 
@@ -337,8 +337,8 @@ def _ideas_review(args: argparse.Namespace) -> int:
     if unknown:
         raise CatalogueError(f"unknown checklist item(s) {', '.join(unknown)}; items: "
                              f"{', '.join(CHECKLIST)}", field="--checked")
-    with _open(args) as cat:
-        review_id = cat.review(args.idea, reviewer=_by(args),
+    with open_catalogue(args) as cat:
+        review_id = cat.review(args.idea, reviewer=author(args),
                                checklist={k: k in checked for k in CHECKLIST},
                                decision=args.decision, comments=args.comments)
         stage = cat.idea(args.idea).stage
@@ -348,9 +348,9 @@ def _ideas_review(args: argparse.Namespace) -> int:
 
 def _ideas_rules(args: argparse.Namespace) -> int:
     text = _read_text(args.rules)
-    with _open(args) as cat:
+    with open_catalogue(args) as cat:
         before = cat.latest_revision(args.idea)
-        revision = cat.save_rules(args.idea, text, by=_by(args))
+        revision = cat.save_rules(args.idea, text, by=author(args))
     same = before is not None and before.id == revision.id
     print(f"Rule file {'unchanged since' if same else 'kept as'} revision {revision.number} "
           f"(sha256 {revision.sha256[:12]}).")
@@ -358,15 +358,15 @@ def _ideas_rules(args: argparse.Namespace) -> int:
 
 
 def _ideas_export(args: argparse.Namespace) -> int:
-    with _open(args) as cat:
+    with open_catalogue(args) as cat:
         cat.export_bundle(args.idea, args.bundle, overwrite=args.overwrite)
     print(f"Idea {args.idea} written to {args.bundle}")
     return 0
 
 
 def _ideas_import(args: argparse.Namespace) -> int:
-    with _open(args, create=True) as cat:
-        report = cat.import_bundle(args.bundle, by=_by(args))
+    with open_catalogue(args, create=True) as cat:
+        report = cat.import_bundle(args.bundle, by=author(args))
     verb = "created" if report.created else "already in the catalogue; appended to"
     added = ", ".join(f"{n} {k}" for k, n in report.added.items() if n) or "nothing new"
     print(f"Idea {report.idea_id} {verb}: {added}.")
@@ -377,14 +377,14 @@ def _ideas_import(args: argparse.Namespace) -> int:
 
 def _journal_add(args: argparse.Namespace) -> int:
     text = sys.stdin.read() if args.text == "-" else args.text
-    with _open(args) as cat:
-        entry_id = cat.add_entry(idea_id=args.idea, kind=args.kind, text=text, by=_by(args))
+    with open_catalogue(args) as cat:
+        entry_id = cat.add_entry(idea_id=args.idea, kind=args.kind, text=text, by=author(args))
     print(f"Journal entry {entry_id} added.")
     return 0
 
 
 def _journal_list(args: argparse.Namespace) -> int:
-    with _open(args) as cat:
+    with open_catalogue(args) as cat:
         entries = cat.journal(args.idea, kind=args.kind, limit=args.limit)
     for e in entries:
         print(_entry_line(e))
@@ -402,14 +402,14 @@ def _entry_line(e: Any) -> str:
 
 def _journal_correct(args: argparse.Namespace) -> int:
     text = sys.stdin.read() if args.text == "-" else args.text
-    with _open(args) as cat:
-        entry_id = cat.correct_entry(args.entry, text, by=_by(args))
+    with open_catalogue(args) as cat:
+        entry_id = cat.correct_entry(args.entry, text, by=author(args))
     print(f"Correction {entry_id} appended to entry {args.entry}.")
     return 0
 
 
 def _runs_list(args: argparse.Namespace) -> int:
-    with _open(args) as cat:
+    with open_catalogue(args) as cat:
         runs = cat.runs(args.idea)
     rows = [[str(r.id), str(r.idea_id), r.recorded_at[:10], str(r.revision_number),
              str(r.set_count), str(r.trial_count),
@@ -422,14 +422,14 @@ def _runs_list(args: argparse.Namespace) -> int:
 
 
 def _cat_backup(args: argparse.Namespace) -> int:
-    with _open(args) as cat:
+    with open_catalogue(args) as cat:
         cat.backup(args.destination)
     print(f"Catalogue copied to {args.destination}")
     return 0
 
 
 def _cat_check(args: argparse.Namespace) -> int:
-    with _open(args) as cat:
+    with open_catalogue(args) as cat:
         problems = cat.check()
         version = cat.schema_version()
     for problem in problems:

@@ -48,7 +48,7 @@ def test_summary_trading_and_cost_figures():
     daily["net_pnl"] = daily["gross_pnl"] - daily["cost"]
     s = summarise(daily)
     assert s["cost_total"] == pytest.approx(98.56)
-    assert s["cost_per_year"] == {2023: pytest.approx(24.64), 2024: pytest.approx(73.92)}
+    assert s["cost_per_year"] == {"2023": pytest.approx(24.64), "2024": pytest.approx(73.92)}
     assert s["cost_share_of_gross"] == pytest.approx(98.56 / 800.0)
     # break-even cost per contract: the cost at which net P&L is zero = gross / contracts
     assert s["break_even_cost"] == pytest.approx(800.0 / 8.0)

@@ -48,7 +48,7 @@ contracts = 1.3
 
 
 @pytest.fixture(scope="module")
-def study(tmp_path_factory):
+def folder(tmp_path_factory):
     folder = tmp_path_factory.mktemp("sweep")
     (folder / "markets.toml").write_text(LIBRARY)
     for market, seed, holidays in (("M1", 11, 8), ("M2", 12, 15)):
@@ -56,9 +56,18 @@ def study(tmp_path_factory):
         rows.assign(date=rows["date"].dt.strftime("%Y-%m-%d"),
                     expiry=rows["expiry"].dt.strftime("%Y-%m-%d")) \
             .to_csv(folder / f"{market}.csv", index=False)
-    (folder / "rules.toml").write_text(RULES)
+    return folder
+
+
+def _study(folder, text):
+    (folder / "rules.toml").write_text(text)
     rules = load_rules(folder / "rules.toml")
     return Study(rules, load_data(folder, list(rules.markets)))
+
+
+@pytest.fixture(scope="module")
+def study(folder):
+    return _study(folder, RULES)
 
 
 def _assert_same(summary, single):
@@ -113,3 +122,17 @@ def test_cancel_stops_the_sweep(study):
 
     with pytest.raises(SweepCancelled):
         run_sweep(study.backtest, study.parameter_sets(), workers=1, cancel=cancel)
+
+
+
+def test_one_calendar_takes_the_aligned_path(folder):
+    # one market and no start date: every bar is a union day, so no gather is needed
+    from hunchbook.core.sweep import _Aggregator
+
+    single = _study(folder, RULES.replace('markets = ["M1", "M2"]', 'markets = ["M1"]')
+                    .replace("start = 2020-03-02\n", ""))
+    assert _Aggregator(single.backtest).aligned
+    sets = single.parameter_sets()
+    outcome = run_sweep(single.backtest, sets, workers=1)
+    for params, summary in zip(sets, summarise_sweep(outcome), strict=True):
+        _assert_same(summary, single.run_set(params))

@@ -76,7 +76,7 @@ def summarise(daily: pd.DataFrame) -> dict[str, object]:
         "contracts_traded": contracts,
         "contracts_per_year": contracts / years if days else math.nan,
         "cost_total": cost_total,
-        "cost_per_year": {int(y): float(c) for y, c in yearly.items()},
+        "cost_per_year": {str(int(y)): float(c) for y, c in yearly.items()},
         "cost_share_of_gross": cost_total / gross_total if gross_total else math.nan,
         "break_even_cost": gross_total / contracts if contracts else math.nan,
     }

@@ -7,6 +7,7 @@ A contract-level CSV has the columns ``date, contract, expiry, close`` (required
 
 from __future__ import annotations
 
+import hashlib
 import os
 from collections.abc import Iterable
 from dataclasses import dataclass
@@ -97,6 +98,18 @@ def load_data(folder: str | os.PathLike[str], markets: Iterable[str] | None = No
                             file=str(root))
         bars[market] = read_market_csv(path, market)
     return MarketData(folder=str(root), library=library, bars=bars)
+
+
+def data_fingerprint(data: MarketData) -> str:
+    """SHA-256 over the market library and the price files read, in market order."""
+    digest = hashlib.sha256()
+    root = Path(data.folder)
+    for path in [root / LIBRARY_FILE, *(Path(b.file) for b in data.bars.values())]:
+        digest.update(path.name.encode() + b"\0")
+        with open(path, "rb") as handle:
+            for block in iter(lambda: handle.read(1 << 20), b""):
+                digest.update(block)
+    return digest.hexdigest()
 
 
 def read_market_csv(path: str | os.PathLike[str], market: str) -> MarketBars:

@@ -112,6 +112,9 @@ class _Aggregator:
         self.source = np.broadcast_to(padding, (self.days, markets)).copy()
         r, j = np.nonzero(window)
         self.source[panel.date_index[r, j], j] = r * markets + j
+        identity = np.arange(self.days * markets).reshape(self.days, markets)
+        # markets on one calendar with the whole of it in the window: bars are days already
+        self.aligned = bool(self.days < bars and np.array_equal(self.source, identity))
         self.open = np.zeros((self.days, markets), dtype=bool)  # market m has a bar on day d
         self.open[panel.date_index[r, j], j] = True
         self.any_open = self.open.any(axis=1)
@@ -126,6 +129,8 @@ class _Aggregator:
 
     def by_day(self, values: np.ndarray) -> np.ndarray:
         """(days, markets) view of ``values`` on the union dates (zero where no bar)."""
+        if self.aligned:  # bar t of every market is union day t: no gather needed
+            return values[:self.days]
         return values.ravel()[self.source]
 
     def used(self, first: np.ndarray) -> np.ndarray:

@@ -72,7 +72,7 @@ def summarise_sweep(outcome: SweepOutcome) -> list[dict[str, object]]:
             "contracts_traded": float(outcome.contracts[k]),
             "contracts_per_year": float(per_year_contracts[k]),
             "cost_total": float(cost_total[k]),
-            "cost_per_year": {int(year_of[s]): float(yearly[i, k])
+            "cost_per_year": {str(int(year_of[s])): float(yearly[i, k])
                               for i, s in enumerate(starts) if year_used[i, k]},
             "cost_share_of_gross": float(share[k]),
             "break_even_cost": float(break_even[k]),

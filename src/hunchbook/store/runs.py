@@ -181,6 +181,19 @@ def trial_sharpes(db: Database, idea_id: int) -> list[float]:
     return [float(r[0]) for r in rows]
 
 
+def prospective_trials(db: Database, idea_id: int, strategy_key: str,
+                       parameter_sets: Sequence[Mapping[str, float]]) -> tuple[int, list[float]]:
+    """The trial count once these sets run under this strategy, and the net Sharpe of every
+    *other* trial already recorded (the new run supplies its own sets' Sharpe ratios)."""
+    new = {(strategy_key, params_key(s)) for s in parameter_sets}
+    rows = db.execute(
+        "SELECT strategy_key, params, net_sharpe FROM (SELECT strategy_key, params, net_sharpe, "
+        "row_number() OVER (PARTITION BY strategy_key, params ORDER BY run_id DESC) AS newest "
+        "FROM trials WHERE idea_id = ?) WHERE newest = 1 ORDER BY rowid", [idea_id]).fetchall()
+    others = [float(r[2]) for r in rows if (r[0], r[1]) not in new and r[2] is not None]
+    return len({(r[0], r[1]) for r in rows} | new), others
+
+
 _SELECT = ("SELECT r.*, v.number AS revision_number FROM runs r "
            "JOIN rule_revisions v ON v.id = r.revision_id")
 

@@ -1,0 +1,74 @@
+"""Work that spans the engine and the catalogue, shared by the command line and the window."""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+from pathlib import Path
+
+from hunchbook import __version__
+from hunchbook.api import PORTFOLIO, SetResult, Study, SweepReport
+from hunchbook.catalogue import Catalogue
+from hunchbook.core.errors import RuleError
+from hunchbook.core.prices import data_fingerprint, load_data
+from hunchbook.core.rules import parse_rules
+from hunchbook.core.sweep import CancelCheck, Progress
+
+
+@dataclass(frozen=True)
+class IdeaRun:
+    """A recorded quick run of an idea: the sweep, the chosen set in detail, the run id."""
+
+    report: SweepReport
+    chosen: SetResult
+    run_id: int
+    revision_number: int
+
+
+def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
+             data_folder: str | os.PathLike[str], *, by: str, rule_file: str | None = None,
+             workers: int | None = None, progress: Progress | None = None,
+             cancel: CancelCheck | None = None, spa_reps: int = 1000) -> IdeaRun:
+    """Save the rule text as the idea's revision, run its whole declared space, judge it with
+    every trial the idea has ever had counted, and record the run on the idea.
+
+    Raises
+    ------
+    HunchbookError
+        Bad rules or data (nothing is recorded), or a catalogue refusal (for example an idea
+        that has not been accepted for testing).
+    """
+    try:
+        rules = parse_rules(rule_text, file=rule_file)
+        data = load_data(data_folder, list(rules.markets))
+        study = Study(rules, data)
+        sets = study.parameter_sets()
+    except RuleError as exc:
+        raise exc.located(file=rule_file) from None
+    n_trials, others = catalogue.prospective_trials(idea_id, rule_text, sets)
+    report = study.sweep(sets, workers=workers, progress=progress, cancel=cancel,
+                         n_trials=n_trials, other_trial_sharpes=others, spa_reps=spa_reps)
+    chosen = study.run_set(report.sets[report.chosen])
+    summary = {
+        "sets": [{"params": p, "net_sharpe": m[PORTFOLIO]["net"]["sharpe"],
+                  "gross_sharpe": m[PORTFOLIO]["gross"]["sharpe"],
+                  "net_total": m[PORTFOLIO]["net"]["total"],
+                  "contracts_per_year": m[PORTFOLIO]["contracts_per_year"]}
+                 for p, m in zip(report.sets, report.summaries, strict=True)],
+        "chosen": chosen.metrics,
+        "currency": study.panel.currency,
+        "data_folder": str(Path(data_folder)),
+    }
+    verdict = report.verdict
+    with catalogue.transaction():  # the revision and its run are kept together, or neither
+        revision = catalogue.save_rules(idea_id, rule_text, by=by)
+        run_id = catalogue.record_run(
+            idea_id, revision_id=revision.id, parameter_sets=list(report.sets),
+            data_fingerprint=data_fingerprint(data), engine_version=__version__,
+            summary=summary, statistics=report.statistics.to_dict(),
+            verdict={"outcome": verdict.outcome, "label": verdict.label,
+                     "action": verdict.action, "reasons": list(verdict.reasons),
+                     "numbers": verdict.numbers},
+            chosen_params=chosen.params,
+            daily_pnl=chosen.portfolio[["gross_pnl", "cost", "net_pnl"]], by=by)
+    return IdeaRun(report=report, chosen=chosen, run_id=run_id, revision_number=revision.number)

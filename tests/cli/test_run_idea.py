@@ -1,0 +1,88 @@
+"""``hunchbook run --idea``: the run, its trial count and verdict land on the idea."""
+
+from __future__ import annotations
+
+import json
+import shutil
+from pathlib import Path
+
+import pytest
+
+from hunchbook.catalogue import Catalogue
+from hunchbook.cli import main
+from hunchbook.core.stats import deflated_sharpe
+from hunchbook.demo import write_demo_data
+
+EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
+
+
+@pytest.fixture(scope="module")
+def demo_dir(tmp_path_factory):
+    """Invented demo data over a short window (test input only)."""
+    return write_demo_data(tmp_path_factory.mktemp("demo"), start="2015-01-02",
+                           end="2019-12-31")
+
+
+@pytest.fixture
+def catalogue_path(tmp_path):
+    path = tmp_path / "cat.sqlite"
+    with Catalogue(path) as cat:
+        idea = cat.add_idea(title="Breakout on the demo book", hypothesis="Channels break.",
+                            rationale="Slow diffusion of information.",
+                            rationale_kind="behavioural", submitted_by="Theo Brackwater",
+                            markets=("CRUDE", "GOLD"), stage="submitted")
+        cat.review(idea, reviewer="Ines Marwood", decision="accept", comments="Go.",
+                   checklist={"rationale_not_data_mined": True, "markets_named": True,
+                              "parameter_space_declared": True,
+                              "series_and_costs_stated": True})
+        cat.add_idea(title="A draft", hypothesis="Not yet reviewed.", submitted_by="Nia")
+    return path
+
+
+def _run(rules, demo_dir, catalogue_path, idea, tmp_path, capsys):
+    out = tmp_path / "run.json"
+    code = main(["run", str(rules), "--data", str(demo_dir), "--idea", str(idea),
+                 "--catalogue", str(catalogue_path), "--by", "Ines Marwood",
+                 "--workers", "1", "--json", str(out)])
+    captured = capsys.readouterr()
+    return code, captured, (json.loads(out.read_text()) if out.exists() else None)
+
+
+def test_trials_accumulate_across_revisions(demo_dir, catalogue_path, tmp_path, capsys):
+    rules = tmp_path / "breakout.toml"
+    shutil.copy(EXAMPLES / "breakout.toml", rules)
+    code, captured, first = _run(rules, demo_dir, catalogue_path, 1, tmp_path, capsys)
+    assert code == 0, captured.err
+    sets = first["parameter_sets"]
+    assert first["trials"] == sets and "now counts" in captured.out
+    # the same strategy again: no new trials
+    code, _, again = _run(rules, demo_dir, catalogue_path, 1, tmp_path, capsys)
+    assert again["trials"] == sets
+    # a changed signal is a new strategy: every set is a new trial, counted with the old ones
+    text = rules.read_text()
+    rules.write_text(text.replace("[signal]", "[signal]\ndelay = 1", 1))
+    code, captured, third = _run(rules, demo_dir, catalogue_path, 1, tmp_path, capsys)
+    assert code == 0, captured.err
+    assert third["trials"] == 2 * sets
+    with Catalogue(catalogue_path) as cat:
+        assert cat.trial_count(1) == 2 * sets
+        assert len(cat.revisions(1)) == 2 and len(cat.runs(1)) == 3
+        run = cat.run(cat.runs(1)[-1].id)
+        assert cat.idea(1).stage == "tested"
+        assert run.verdict_label == third["verdict"]["outcome"]
+    # the deflated Sharpe counts all trials (Bailey & Lopez de Prado 2014): recompute it from
+    # the recorded statistics with the trial count of every revision
+    net = third["statistics"]["net"]
+    expected = deflated_sharpe(net["sharpe_per_period"], third["statistics"]["n_days"],
+                               net["skew"], net["kurtosis"], 2 * sets,
+                               third["statistics"]["trial_sharpe_var"])
+    assert third["statistics"]["dsr"] == pytest.approx(expected)
+
+
+def test_unreviewed_idea_records_nothing(demo_dir, catalogue_path, tmp_path, capsys):
+    code, captured, _ = _run(EXAMPLES / "momentum.toml", demo_dir, catalogue_path, 2,
+                             tmp_path, capsys)
+    assert code == 1
+    assert "review it first" in captured.err and "Traceback" not in captured.err
+    with Catalogue(catalogue_path) as cat:
+        assert cat.revisions(2) == [] and cat.runs(2) == []
