@@ -1,0 +1,1 @@
+"""The desktop window: PySide6 widgets, item models and workers over the Python API."""

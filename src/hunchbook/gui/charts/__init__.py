@@ -1,0 +1,1 @@
+"""pyqtgraph charts of run results."""
