@@ -29,8 +29,21 @@ CAUTION = ("Hypothetical backtest results: not investment advice; past results d
            "future ones. Managing others' money is regulated - follow local rules.")
 
 
+#: Options that open the desktop window instead of running a command.
+WINDOW_OPTIONS = ("--demo", "--catalogue", "--data", "--screenshot", "--idea", "--section",
+                  "--size")
+
+
 def main(argv: Sequence[str] | None = None) -> int:
-    """Entry point of the ``hunchbook`` console script; returns the exit status."""
+    """Entry point of the ``hunchbook`` console script; returns the exit status.
+
+    With no command (or only window options such as ``--demo``) it opens the desktop window.
+    """
+    argv = list(sys.argv[1:] if argv is None else argv)
+    if not argv or argv[0].split("=")[0] in WINDOW_OPTIONS:
+        from hunchbook.gui.app import main as window_main
+
+        return window_main(argv)
     parser = _build_parser()
     args = parser.parse_args(argv)
     try:
