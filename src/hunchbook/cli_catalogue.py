@@ -18,6 +18,7 @@ from pathlib import Path
 from typing import Any
 
 from hunchbook.catalogue import Catalogue, default_catalogue_path
+from hunchbook.core.verdict import LABELS
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Idea, IdeaSummary
 from hunchbook.store.vocab import (
@@ -208,6 +209,11 @@ def open_catalogue(args: argparse.Namespace, *, create: bool = False) -> Catalog
     return Catalogue(path, create=create)
 
 
+def _verdict_label(outcome: str | None) -> str:
+    """The product label of a stored verdict outcome (older records may hold a label)."""
+    return LABELS.get(outcome, outcome) if outcome else ""
+
+
 def author(args: argparse.Namespace) -> str:
     return args.by or os.environ.get(USER_ENV) or getpass.getuser()
 
@@ -228,7 +234,7 @@ def _ideas_list(args: argparse.Namespace) -> int:
 
 def _summary_row(r: IdeaSummary) -> list[str]:
     sharpe = "" if r.last_net_sharpe is None else f"{r.last_net_sharpe:.2f}"
-    return [str(r.id), r.stage, r.last_verdict or "", sharpe, str(r.trial_count),
+    return [str(r.id), r.stage, _verdict_label(r.last_verdict), sharpe, str(r.trial_count),
             r.submitted_by, r.title]
 
 
@@ -270,8 +276,9 @@ def _ideas_show(args: argparse.Namespace) -> int:
 
 def _idea_text(idea: Idea) -> str:
     lines = [f"Idea {idea.id}: {idea.title}", f"  hypothesis : {idea.hypothesis}",
-             f"  stage      : {idea.stage}" + (f" (last verdict: {idea.last_verdict})"
-                                               if idea.last_verdict else ""),
+             f"  stage      : {idea.stage}"
+             + (f" (last verdict: {_verdict_label(idea.last_verdict)})"
+                if idea.last_verdict else ""),
              f"  rationale  : [{idea.rationale_kind}] {idea.rationale or '(none yet)'}",
              f"  source     : {idea.source_kind}" + (f"; {idea.citation}" if idea.citation
                                                       else "")

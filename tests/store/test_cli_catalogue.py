@@ -58,7 +58,7 @@ def test_the_review_workflow_from_the_command_line(path: Path, tmp_path: Path,
     assert "0.42" in out and "no_edge" in out and "1 run(s)" in out
     assert _run("ideas", "show", *c, "1") == 0
     out = capsys.readouterr().out
-    assert "stage      : tested (last verdict: no_edge)" in out and "trial count 1" in out
+    assert "stage      : tested (last verdict: No edge)" in out and "trial count 1" in out
     assert _run("ideas", "list", *c, "--json", "--verdict", "no_edge") == 0
     (row,) = json.loads(capsys.readouterr().out)
     assert (row["id"], row["trial_count"], row["last_net_sharpe"]) == (1, 1, 0.42)
