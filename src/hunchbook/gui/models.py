@@ -1,0 +1,399 @@
+"""Qt item models over the catalogue's records: ideas, runs and journal entries.
+
+The models are thin adapters over lists of the catalogue's frozen records; they never query
+the catalogue themselves. Each model keeps display text and raw sort values apart
+(``SORT_ROLE`` gives the raw value: numbers stay numbers, missing values sort last).
+
+Sorting 10,000 ideas through a proxy's Python ``lessThan`` costs about a third of a second
+(one Python call per comparison), so :class:`IdeaSortProxy` hands ``sort`` to the source
+model, which sorts its list once with the raw sort values as keys and reports a layout
+change; the proxy only filters, from a set of accepted idea ids computed in one pass.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Iterable, Sequence
+from typing import Any
+
+from PySide6.QtCore import (
+    QAbstractTableModel,
+    QModelIndex,
+    QPersistentModelIndex,
+    QSortFilterProxyModel,
+    Qt,
+)
+from PySide6.QtGui import QFont
+
+from hunchbook.core.verdict import LABELS
+from hunchbook.store.records import Entry, Idea, IdeaSummary, RunRecord
+
+#: Role giving a cell's raw value for sorting.
+SORT_ROLE = Qt.ItemDataRole.UserRole
+#: Role giving the id of the row's record (idea, run or journal entry).
+ID_ROLE = Qt.ItemDataRole.UserRole + 1
+
+Index = QModelIndex | QPersistentModelIndex
+
+
+def verdict_label(outcome: str | None) -> str:
+    """The product label of a verdict outcome key ('' when there is none)."""
+    if not outcome:
+        return ""
+    return LABELS.get(outcome, outcome)
+
+
+def short_time(stamp: str | None) -> str:
+    """A stored UTC timestamp as ``YYYY-MM-DD HH:MM`` ('' for none)."""
+    return "" if not stamp else stamp[:16].replace("T", " ")
+
+
+def format_sharpe(value: float | None) -> str:
+    """A Sharpe ratio with two decimals, or an en dash when unknown."""
+    if value is None or not math.isfinite(value):
+        return "\u2013"
+    return f"{value:.2f}"
+
+
+def summary_of(idea: Idea) -> IdeaSummary:
+    """The list line of a full idea record (to refresh one row without listing them all)."""
+    return IdeaSummary(
+        id=idea.id, uuid=idea.uuid, title=idea.title, hypothesis=idea.hypothesis,
+        stage=idea.stage, submitted_by=idea.submitted_by, reviewer=idea.reviewer,
+        source_kind=idea.source_kind, markets=idea.markets, tags=idea.tags,
+        last_verdict=idea.last_verdict, last_net_sharpe=idea.last_net_sharpe,
+        trial_count=idea.trial_count, updated_at=idea.updated_at)
+
+
+def _sort_key(value: Any, descending: bool) -> tuple[int, Any]:
+    """Missing values (None, NaN, '') last in either direction."""
+    missing = value is None or value == "" or (isinstance(value, float) and math.isnan(value))
+    if missing:
+        return (1, 0) if not descending else (-1, 0)
+    return (0, value.casefold() if isinstance(value, str) else value)
+
+
+class _RecordTableModel(QAbstractTableModel):
+    """A read-only table over a list of records, one row each, with named columns.
+
+    Subclasses define ``COLUMNS`` (header titles) and ``_display``/``_raw`` per column.
+    """
+
+    COLUMNS: tuple[str, ...] = ()
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self._rows: list[Any] = []
+        self._sort_column = -1
+        self._sort_order = Qt.SortOrder.AscendingOrder
+
+    # -- the Qt model API ---------------------------------------------------------------
+    def rowCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008, N802
+        return 0 if parent.isValid() else len(self._rows)
+
+    def columnCount(self, parent: Index = QModelIndex()) -> int:  # noqa: B008, N802
+        return 0 if parent.isValid() else len(self.COLUMNS)
+
+    def headerData(self, section: int, orientation: Qt.Orientation,  # noqa: N802
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if (orientation == Qt.Orientation.Horizontal and role == Qt.ItemDataRole.DisplayRole
+                and 0 <= section < len(self.COLUMNS)):
+            return self.COLUMNS[section]
+        return None
+
+    def data(self, index: Index, role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if not index.isValid() or index.row() >= len(self._rows):
+            return None
+        record = self._rows[index.row()]
+        column = index.column()
+        if role == Qt.ItemDataRole.DisplayRole:
+            return self._display(record, column)
+        if role == SORT_ROLE:
+            return self._raw(record, column)
+        if role == ID_ROLE:
+            return record.id
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return self._tooltip(record, column)
+        if role == Qt.ItemDataRole.TextAlignmentRole and self._is_number(column):
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        return self._extra(record, column, role)
+
+    def sort(self, column: int, order: Qt.SortOrder = Qt.SortOrder.AscendingOrder) -> None:
+        """Sort the rows by the raw values of ``column`` (missing values last)."""
+        if not 0 <= column < len(self.COLUMNS):
+            return
+        self._sort_column, self._sort_order = column, order
+        self.layoutAboutToBeChanged.emit()
+        before = self.persistentIndexList()
+        ids = [self._rows[i.row()].id for i in before]
+        self._sort_rows()
+        row_of = {r.id: n for n, r in enumerate(self._rows)}
+        self.changePersistentIndexList(
+            before, [self.index(row_of[i], p.column()) for i, p in zip(ids, before, strict=True)])
+        self.layoutChanged.emit()
+
+    # -- our API --------------------------------------------------------------------------
+    def set_records(self, records: Iterable[Any]) -> None:
+        """Replace every row (the current sort order is kept)."""
+        self.beginResetModel()
+        self._rows = list(records)
+        self._sort_rows()
+        self.endResetModel()
+
+    def records(self) -> list[Any]:
+        """The rows in display order."""
+        return list(self._rows)
+
+    def record_at(self, row: int) -> Any:
+        """The record on ``row``."""
+        return self._rows[row]
+
+    def row_of(self, record_id: int) -> int:
+        """The row holding the record with this id, or -1."""
+        return next((n for n, r in enumerate(self._rows) if r.id == record_id), -1)
+
+    # -- hooks ----------------------------------------------------------------------------
+    def _display(self, record: Any, column: int) -> Any:
+        return None
+
+    def _raw(self, record: Any, column: int) -> Any:
+        return self._display(record, column)
+
+    def _tooltip(self, record: Any, column: int) -> Any:
+        return None
+
+    def _is_number(self, column: int) -> bool:
+        return False
+
+    def _extra(self, record: Any, column: int, role: int) -> Any:
+        return None
+
+    def _sort_rows(self) -> None:
+        if self._sort_column < 0:
+            return
+        descending = self._sort_order == Qt.SortOrder.DescendingOrder
+        column = self._sort_column
+        self._rows.sort(key=lambda r: _sort_key(self._raw(r, column), descending),
+                        reverse=descending)
+
+
+class IdeaTableModel(_RecordTableModel):
+    """Ideas (``IdeaSummary`` lines): title, stage, last verdict, net Sharpe, trials, updated."""
+
+    COLUMNS = ("Title", "Stage", "Last verdict", "Net Sharpe", "Trials", "Updated")
+    TITLE, STAGE, VERDICT, SHARPE, TRIALS, UPDATED = range(6)
+
+    def set_ideas(self, ideas: Sequence[IdeaSummary]) -> None:
+        """Show these ideas."""
+        self.set_records(ideas)
+
+    def idea_at(self, row: int) -> IdeaSummary:
+        """The idea on ``row``."""
+        return self._rows[row]
+
+    def update_idea(self, idea: IdeaSummary) -> None:
+        """Replace one idea's line in place (or add it) and keep the sort order."""
+        row = self.row_of(idea.id)
+        if row < 0:
+            self.beginInsertRows(QModelIndex(), len(self._rows), len(self._rows))
+            self._rows.append(idea)
+            self.endInsertRows()
+        else:
+            self._rows[row] = idea
+            self.dataChanged.emit(self.index(row, 0), self.index(row, len(self.COLUMNS) - 1))
+        if self._sort_column >= 0:
+            self.sort(self._sort_column, self._sort_order)
+
+    def _display(self, idea: IdeaSummary, column: int) -> Any:
+        if column == self.TITLE:
+            return idea.title
+        if column == self.STAGE:
+            return idea.stage
+        if column == self.VERDICT:
+            return verdict_label(idea.last_verdict)
+        if column == self.SHARPE:
+            return "" if idea.last_verdict is None else format_sharpe(idea.last_net_sharpe)
+        if column == self.TRIALS:
+            return str(idea.trial_count) if idea.trial_count else ""
+        return idea.updated_at[:10]
+
+    def _raw(self, idea: IdeaSummary, column: int) -> Any:
+        if column == self.SHARPE:
+            return idea.last_net_sharpe
+        if column == self.TRIALS:
+            return idea.trial_count
+        if column == self.UPDATED:
+            return idea.updated_at
+        return self._display(idea, column)
+
+    def _tooltip(self, idea: IdeaSummary, column: int) -> Any:
+        markets = ", ".join(idea.markets) or "no markets yet"
+        return (f"{idea.title}\n{idea.hypothesis}\n\nBy {idea.submitted_by} \u00b7 {markets}"
+                f" \u00b7 updated {short_time(idea.updated_at)}")
+
+    def _is_number(self, column: int) -> bool:
+        return column in (self.SHARPE, self.TRIALS)
+
+
+class IdeaSortProxy(QSortFilterProxyModel):
+    """Filters ideas by stage, verdict, market, tag, author and an optional id set (the
+    full-text search result); sorting is done by the source model (see the module notes)."""
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self._accepted: frozenset[int] | None = None
+        self._filters: dict[str, str | None] = {}
+        self._ids: frozenset[int] | None = None
+
+    def sort(self, column: int, order: Qt.SortOrder = Qt.SortOrder.AscendingOrder) -> None:
+        """Ask the source model to sort itself (the proxy keeps its order)."""
+        source = self.sourceModel()
+        if source is not None:
+            source.sort(column, order)
+
+    def set_filters(self, *, stage: str | None = None, verdict: str | None = None,
+                    market: str | None = None, tag: str | None = None,
+                    author: str | None = None, ids: Iterable[int] | None = None) -> None:
+        """Show only ideas matching every filter given (``None`` means any); ``ids`` limits
+        the ideas to those ids (a search result)."""
+        self.beginFilterChange()
+        self._filters = {"stage": stage, "verdict": verdict, "market": market, "tag": tag,
+                         "author": author}
+        self._ids = None if ids is None else frozenset(ids)
+        self._recompute()
+        self.endFilterChange(QSortFilterProxyModel.Direction.Rows)
+
+    def refresh(self) -> None:
+        """Re-apply the filters after the source's ideas changed."""
+        self.beginFilterChange()
+        self._recompute()
+        self.endFilterChange(QSortFilterProxyModel.Direction.Rows)
+
+    def filterAcceptsRow(self, source_row: int, source_parent: Index) -> bool:  # noqa: N802
+        if self._accepted is None:
+            return True
+        source = self.sourceModel()
+        return source.record_at(source_row).id in self._accepted
+
+    def _recompute(self) -> None:
+        tests = _idea_tests(self._filters)
+        source = self.sourceModel()
+        if not tests and self._ids is None or source is None:
+            self._accepted = None
+            return
+        ids = self._ids
+        self._accepted = frozenset(
+            i.id for i in source.records()
+            if (ids is None or i.id in ids) and all(test(i) for test in tests))
+
+
+def _idea_tests(filters: dict[str, str | None]) -> list[Callable[[IdeaSummary], bool]]:
+    stage, verdict, market, tag, author = (filters.get(k) for k in
+                                           ("stage", "verdict", "market", "tag", "author"))
+    tests: list[Callable[[IdeaSummary], bool]] = []
+    if stage:
+        tests.append(lambda i: i.stage == stage)
+    if verdict:
+        tests.append(lambda i: i.last_verdict == verdict)
+    if market:
+        tests.append(lambda i: market in i.markets)
+    if tag:
+        tests.append(lambda i: tag in i.tags)
+    if author:
+        tests.append(lambda i: i.submitted_by == author)
+    return tests
+
+
+class RunTableModel(_RecordTableModel):
+    """An idea's runs: number, when, rule revision, sets, chosen set, net Sharpe, verdict,
+    trials counted."""
+
+    COLUMNS = ("Run", "Recorded", "Revision", "Sets", "Chosen set", "Net Sharpe", "Verdict",
+               "Trials")
+    RUN, RECORDED, REVISION, SETS, CHOSEN, SHARPE, VERDICT, TRIALS = range(8)
+
+    def set_runs(self, runs: Sequence[RunRecord]) -> None:
+        """Show these runs."""
+        self.set_records(runs)
+
+    def run_at(self, row: int) -> RunRecord:
+        """The run on ``row``."""
+        return self._rows[row]
+
+    def _display(self, run: RunRecord, column: int) -> Any:
+        if column == self.RUN:
+            return str(run.id)
+        if column == self.RECORDED:
+            return short_time(run.recorded_at)
+        if column == self.REVISION:
+            return str(run.revision_number)
+        if column == self.SETS:
+            return str(run.set_count)
+        if column == self.CHOSEN:
+            return ", ".join(f"{k}={v:g}" for k, v in run.chosen_params.items()) or "\u2013"
+        if column == self.SHARPE:
+            return format_sharpe(run.chosen_net_sharpe)
+        if column == self.VERDICT:
+            return run.verdict.get("label") or verdict_label(run.verdict_label)
+        return str(run.trial_count)
+
+    def _raw(self, run: RunRecord, column: int) -> Any:
+        raw = {self.RUN: run.id, self.RECORDED: run.recorded_at,
+               self.REVISION: run.revision_number, self.SETS: run.set_count,
+               self.SHARPE: run.chosen_net_sharpe, self.TRIALS: run.trial_count}
+        return raw[column] if column in raw else self._display(run, column)
+
+    def _tooltip(self, run: RunRecord, column: int) -> Any:
+        reasons = run.verdict.get("reasons") or []
+        return "\n".join(str(r) for r in reasons) or None
+
+    def _is_number(self, column: int) -> bool:
+        return column in (self.RUN, self.REVISION, self.SETS, self.SHARPE, self.TRIALS)
+
+
+class JournalModel(_RecordTableModel):
+    """An idea's journal, oldest first: when, kind, by whom, text. Entries that were later
+    corrected show in italics with the correction in their tooltip."""
+
+    COLUMNS = ("When", "Kind", "By", "Entry")
+    WHEN, KIND, BY, TEXT = range(4)
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self._by_id: dict[int, Entry] = {}
+
+    def set_entries(self, entries: Sequence[Entry]) -> None:
+        """Show these entries."""
+        self._by_id = {e.id: e for e in entries}
+        self.set_records(entries)
+
+    def entry_at(self, row: int) -> Entry:
+        """The entry on ``row``."""
+        return self._rows[row]
+
+    def _display(self, entry: Entry, column: int) -> Any:
+        if column == self.WHEN:
+            return short_time(entry.at)
+        if column == self.KIND:
+            return entry.kind
+        if column == self.BY:
+            return entry.by
+        if entry.corrects is not None:
+            return f"(correcting entry {entry.corrects}) {entry.text}"
+        return entry.text
+
+    def _raw(self, entry: Entry, column: int) -> Any:
+        return entry.at if column == self.WHEN else self._display(entry, column)
+
+    def _tooltip(self, entry: Entry, column: int) -> Any:
+        if entry.corrected_by is not None:
+            later = self._by_id.get(entry.corrected_by)
+            return f"Corrected later: {later.text}" if later else "Corrected later."
+        return entry.text if column == self.TEXT else None
+
+    def _extra(self, entry: Entry, column: int, role: int) -> Any:
+        if role == Qt.ItemDataRole.FontRole and entry.corrected_by is not None:
+            font = QFont()
+            font.setItalic(True)
+            return font
+        return None

@@ -1,0 +1,165 @@
+"""Long work off the UI thread: QRunnable workers on the global QThreadPool.
+
+Only plain data crosses the thread boundary: arguments go in, a result object comes out
+through ``finished``. A worker never touches widgets or models, and never uses the window's
+:class:`~hunchbook.catalogue.Catalogue` (SQLite connections belong to their thread): it opens
+its own from the path. Signals live on a separate QObject (a QRunnable is not one) created on
+the UI thread, so their slots run there (queued).
+
+Every worker ends with exactly one of ``finished(result)``, ``failed(message)`` or
+``cancelled()``. ``failed`` carries one line: the message of a
+:class:`~hunchbook.core.errors.HunchbookError` (bad rules, data, a catalogue refusal), or the
+kind and message of an unexpected error (whose traceback goes to the log).
+"""
+
+from __future__ import annotations
+
+import logging
+import os
+import threading
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import QObject, QRunnable, QThreadPool, Signal
+
+from hunchbook.core.errors import HunchbookError
+
+_log = logging.getLogger("hunchbook.gui")
+
+#: Workers started and not yet ended (kept so that Python does not collect them early).
+_RUNNING: set[Worker] = set()
+
+
+class WorkerSignals(QObject):
+    """What a worker reports: ``started``, ``progress(done, total)``, then one of
+    ``finished(result)``, ``failed(message)``, ``cancelled``."""
+
+    started = Signal()
+    progress = Signal(int, int)
+    finished = Signal(object)
+    failed = Signal(str)
+    cancelled = Signal()
+
+
+class Worker(QRunnable):
+    """Runs :meth:`work` on the thread pool and reports through :attr:`signals`.
+
+    Subclasses implement ``work(self) -> object``; they call :meth:`report_progress` and
+    poll :meth:`is_cancelled` (or pass it on as a cancel check).
+    """
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.setAutoDelete(False)
+        self.signals = WorkerSignals()
+        self._cancel = threading.Event()
+        self.done = threading.Event()
+
+    def start(self, pool: QThreadPool | None = None) -> None:
+        """Queue the worker on ``pool`` (default: the global pool)."""
+        _RUNNING.add(self)
+        (pool or QThreadPool.globalInstance()).start(self)
+
+    def cancel(self) -> None:
+        """Ask the work to stop at its next check (safe from any thread)."""
+        self._cancel.set()
+
+    def is_cancelled(self) -> bool:
+        """Whether :meth:`cancel` was called."""
+        return self._cancel.is_set()
+
+    def report_progress(self, done: int, total: int) -> None:
+        """Emit ``progress(done, total)`` (callable from the work)."""
+        self.signals.progress.emit(int(done), int(total))
+
+    def work(self) -> object:
+        """The work itself, run on a pool thread; returns the result."""
+        return None
+
+    def run(self) -> None:
+        """QRunnable entry point: run :meth:`work` and emit how it ended."""
+        try:
+            self.signals.started.emit()
+            try:
+                result = self.work()
+            except HunchbookError as exc:
+                if self.is_cancelled():
+                    self.signals.cancelled.emit()
+                else:
+                    self.signals.failed.emit(_first_line(str(exc)) or type(exc).__name__)
+            except Exception as exc:  # an unexpected error: log it whole, report one line
+                _log.exception("Worker %s failed", type(self).__name__)
+                self.signals.failed.emit(f"{type(exc).__name__}: {_first_line(str(exc))}")
+            else:
+                if self.is_cancelled():
+                    self.signals.cancelled.emit()
+                else:
+                    self.signals.finished.emit(result)
+        finally:
+            self.done.set()
+            _RUNNING.discard(self)
+
+
+class CallWorker(Worker):
+    """Runs one function with its arguments (plain data in, plain data out)."""
+
+    def __init__(self, function: Callable[..., Any], *args: Any, **kwargs: Any) -> None:
+        super().__init__()
+        self._call = (function, args, kwargs)
+
+    def work(self) -> object:
+        function, args, kwargs = self._call
+        return function(*args, **kwargs)
+
+
+class RunIdeaWorker(Worker):
+    """A quick run of an idea: :func:`hunchbook.services.run_idea` on its own catalogue
+    connection; ``finished`` carries the :class:`~hunchbook.services.IdeaRun`.
+
+    Parameters
+    ----------
+    catalogue_path
+        The catalogue file (the worker opens and closes its own connection).
+    idea_id, rule_text, data_folder, by
+        As in :func:`~hunchbook.services.run_idea`.
+    processes
+        Worker processes for the sweep (default: the sweep's own choice).
+    """
+
+    def __init__(self, catalogue_path: str | os.PathLike[str], idea_id: int, rule_text: str,
+                 data_folder: str | os.PathLike[str], *, by: str,
+                 processes: int | None = None) -> None:
+        super().__init__()
+        self.catalogue_path = Path(catalogue_path)
+        self.idea_id = idea_id
+        self.rule_text = rule_text
+        self.data_folder = Path(data_folder)
+        self.by = by
+        self.processes = processes
+
+    def work(self) -> object:
+        from hunchbook.catalogue import Catalogue
+        from hunchbook.services import run_idea
+
+        with Catalogue(self.catalogue_path, create=False) as catalogue:
+            return run_idea(catalogue, self.idea_id, self.rule_text, self.data_folder,
+                            by=self.by, workers=self.processes,
+                            progress=self.report_progress, cancel=self.is_cancelled)
+
+
+def set_curves(rule_text: str, data_folder: str | os.PathLike[str],
+               params: dict[str, float]) -> tuple[dict[str, float], Any]:
+    """Run one parameter set of a rule file over a data folder; returns ``(params, daily)``
+    with ``daily`` the set's daily portfolio P&L (for a results view's curves)."""
+    from hunchbook.api import Study, load_data
+    from hunchbook.core.rules import parse_rules
+
+    rules = parse_rules(rule_text)
+    study = Study(rules, load_data(data_folder, list(rules.markets)))
+    result = study.run_set(study.parameter_sets(params)[0])
+    return dict(result.params), result.portfolio
+
+
+def _first_line(text: str) -> str:
+    return next((line.strip() for line in text.splitlines() if line.strip()), "")

@@ -1,0 +1,165 @@
+"""Item models over catalogue records: Qt's model checks, sorting, filtering, row updates."""
+
+from __future__ import annotations
+
+import math
+import pytest
+from PySide6.QtCore import Qt
+
+from hunchbook.catalogue import Catalogue
+from hunchbook.gui.models import (
+    ID_ROLE,
+    SORT_ROLE,
+    IdeaSortProxy,
+    IdeaTableModel,
+    JournalModel,
+    RunTableModel,
+    summary_of,
+    verdict_label,
+)
+from tests.gui.desk_fixtures import _demo_catalogue_master, demo_catalogue  # noqa: F401
+
+
+@pytest.fixture
+def catalogue(demo_catalogue):  # noqa: F811
+    with Catalogue(demo_catalogue) as cat:
+        yield cat
+
+
+def _column(model, column: int, role=Qt.ItemDataRole.DisplayRole) -> list:
+    return [model.index(r, column).data(role) for r in range(model.rowCount())]
+
+
+def test_idea_model_passes_qt_model_checks(qtmodeltester, catalogue):
+    """Qt's QAbstractItemModelTester finds nothing wrong with the idea model or its proxy."""
+    model = IdeaTableModel()
+    model.set_ideas(catalogue.list_ideas())
+    qtmodeltester.check(model)
+    proxy = IdeaSortProxy()
+    proxy.setSourceModel(model)
+    proxy.set_filters(stage="tested")
+    qtmodeltester.check(proxy)
+
+
+def test_run_and_journal_models_pass_qt_model_checks(qtmodeltester, catalogue):
+    """The run and journal models pass Qt's model checks with real records."""
+    runs = RunTableModel()
+    runs.set_runs(catalogue.runs())
+    qtmodeltester.check(runs)
+    journal = JournalModel()
+    journal.set_entries(catalogue.journal())
+    qtmodeltester.check(journal)
+
+
+def test_idea_model_shows_every_idea_with_verdict_labels(catalogue):
+    """One row per idea; the verdict column shows the outcome's label, not its key."""
+    ideas = catalogue.list_ideas()
+    model = IdeaTableModel()
+    model.set_ideas(ideas)
+    assert model.rowCount() == len(ideas) == 15
+    labels = {i.id: verdict_label(i.last_verdict) for i in ideas}
+    shown = dict(zip(_column(model, 0, ID_ROLE), _column(model, IdeaTableModel.VERDICT),
+                     strict=True))
+    assert shown == labels
+    assert "Costs eat it" in shown.values()  # the lost_to_costs outcome's label
+
+
+def test_sorting_by_net_sharpe_uses_raw_values_and_puts_missing_last(catalogue):
+    """Descending net Sharpe: the order Python's sorted gives on the raw numbers (reference:
+    the standard library), with ideas that have no run after every number."""
+    model = IdeaTableModel()
+    model.set_ideas(catalogue.list_ideas())
+    model.sort(IdeaTableModel.SHARPE, Qt.SortOrder.DescendingOrder)
+    raw = _column(model, IdeaTableModel.SHARPE, SORT_ROLE)
+    numbers = [v for v in raw if v is not None]
+    assert numbers == sorted(numbers, reverse=True)
+    assert raw[:len(numbers)] == numbers and all(v is None for v in raw[len(numbers):])
+    model.sort(IdeaTableModel.SHARPE, Qt.SortOrder.AscendingOrder)
+    raw = _column(model, IdeaTableModel.SHARPE, SORT_ROLE)
+    assert [v for v in raw if v is not None] == sorted(numbers)
+    assert raw[-1] is None
+
+
+def test_proxy_sort_is_done_by_the_source_and_keeps_filters(catalogue):
+    """Sorting through the proxy sorts the source; the filtered rows stay filtered."""
+    model = IdeaTableModel()
+    model.set_ideas(catalogue.list_ideas())
+    proxy = IdeaSortProxy()
+    proxy.setSourceModel(model)
+    proxy.set_filters(stage="tested")
+    proxy.sort(IdeaTableModel.TRIALS, Qt.SortOrder.AscendingOrder)
+    trials = _column(proxy, IdeaTableModel.TRIALS, SORT_ROLE)
+    assert trials == sorted(trials)
+    assert len(trials) == len(catalogue.list_ideas(stage="tested"))
+
+
+@pytest.mark.parametrize("filters", [
+    {"stage": "submitted"}, {"verdict": "passes"}, {"market": "TNOTE10"}, {"tag": "trend"},
+    {"author": "Nia Oduya-Fell"}, {"market": "GOLD", "tag": "trend"},
+])
+def test_proxy_filters_match_the_catalogue_query(catalogue, filters):
+    """In-memory filters keep the same ideas as the catalogue's own SQL filters (the store's
+    list_ideas is the reference)."""
+    model = IdeaTableModel()
+    model.set_ideas(catalogue.list_ideas())
+    proxy = IdeaSortProxy()
+    proxy.setSourceModel(model)
+    proxy.set_filters(**filters)
+    expected = {i.id for i in catalogue.list_ideas(**filters)}
+    assert expected  # each filter keeps some demo ideas
+    assert set(_column(proxy, 0, ID_ROLE)) == expected
+
+
+def test_proxy_limits_to_search_ids(catalogue):
+    """An id set (a search result) is combined with the other filters."""
+    model = IdeaTableModel()
+    model.set_ideas(catalogue.list_ideas())
+    proxy = IdeaSortProxy()
+    proxy.setSourceModel(model)
+    found = [i.id for i in catalogue.list_ideas(text="grid")]
+    proxy.set_filters(ids=found)
+    assert sorted(_column(proxy, 0, ID_ROLE)) == sorted(found)
+    proxy.set_filters(ids=[])
+    assert proxy.rowCount() == 0
+    proxy.set_filters()
+    assert proxy.rowCount() == 15
+
+
+def test_update_idea_replaces_one_row_and_keeps_order(qtbot, catalogue):
+    """Refreshing one idea changes only its row (dataChanged) and keeps the sort."""
+    model = IdeaTableModel()
+    model.set_ideas(catalogue.list_ideas())
+    model.sort(IdeaTableModel.TITLE, Qt.SortOrder.AscendingOrder)
+    idea = catalogue.list_ideas()[0]
+    changed = summary_of(catalogue.idea(idea.id))._replace(title="AAA first now")
+    with qtbot.waitSignal(model.layoutChanged):
+        model.update_idea(changed)
+    assert model.rowCount() == 15
+    assert model.index(0, IdeaTableModel.TITLE).data() == "AAA first now"
+    assert model.index(0, 0).data(ID_ROLE) == idea.id
+
+
+def test_run_model_shows_verdict_label_and_sharpe(catalogue):
+    """Each run row shows its verdict label and chosen net Sharpe as stored."""
+    runs = catalogue.runs()
+    model = RunTableModel()
+    model.set_runs(runs)
+    assert model.rowCount() == len(runs)
+    for row, run in enumerate(runs):
+        assert model.index(row, RunTableModel.VERDICT).data() == run.verdict["label"]
+        shown = model.index(row, RunTableModel.SHARPE).data()
+        if run.chosen_net_sharpe is not None and math.isfinite(run.chosen_net_sharpe):
+            assert shown == f"{run.chosen_net_sharpe:.2f}"
+
+
+def test_journal_model_marks_corrected_entries(catalogue):
+    """An entry that was corrected later is shown in italics with the correction as tip."""
+    entries = catalogue.journal()
+    corrected = next(e for e in entries if e.corrected_by is not None)
+    model = JournalModel()
+    model.set_entries(entries)
+    row = model.row_of(corrected.id)
+    index = model.index(row, JournalModel.TEXT)
+    assert index.data(Qt.ItemDataRole.FontRole).italic()
+    correction = catalogue.entry(corrected.corrected_by)
+    assert correction.text in index.data(Qt.ItemDataRole.ToolTipRole)
