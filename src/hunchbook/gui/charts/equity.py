@@ -1,0 +1,79 @@
+"""Equity chart: cumulative gross and net P&L on a date axis, with overlays of other sets."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pyqtgraph as pg
+from PySide6.QtCore import Qt
+
+from hunchbook.gui.charts.axes import DATE_CHART_AXIS_WIDTH, AmountAxis
+from hunchbook.gui.charts.run_figures import equity_curves, format_params
+from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
+
+
+def smooth_long_series(item: pg.PlotItem) -> None:
+    """Keep long daily series fast: draw only what is in view, at most a peak envelope per
+    pixel."""
+    item.setClipToView(True)
+    item.setDownsampling(auto=True, mode="peak")
+
+
+class EquityChart(pg.PlotWidget):
+    """Cumulative gross and net P&L of the chosen set; ``add_overlay`` draws another set's
+    curves dashed, named in the legend."""
+
+    def __init__(self, parent=None, *, theme: ChartTheme | None = None) -> None:
+        super().__init__(parent, axisItems={"bottom": pg.DateAxisItem(),
+                                                 "left": AmountAxis("left")})
+        self.theme = theme or palette_theme()
+        style_plot(self, self.theme)
+        item = self.getPlotItem()
+        item.getAxis("left").setWidth(DATE_CHART_AXIS_WIDTH)
+        smooth_long_series(item)
+        self.legend = item.addLegend(offset=(10, 10), labelTextColor=self.theme.foreground,
+                                     brush=with_alpha(self.theme.background, 200))
+        self.gross_curve = item.plot(name="Gross", pen=pg.mkPen(self.theme.gross, width=1.5))
+        self.net_curve = item.plot(name="Net", pen=pg.mkPen(self.theme.net, width=2))
+        item.addLine(y=0, pen=pg.mkPen(with_alpha(self.theme.foreground, 90)))
+        self.overlays: list[pg.PlotDataItem] = []
+        self.has_data = False
+        set_title(self, "Cumulative P&L of the chosen set", self.theme)
+
+    def set_daily(self, daily: pd.DataFrame | None, *, currency: str = "") -> None:
+        """Show a daily P&L table (date index; gross_pnl and net_pnl columns)."""
+        self.clear_overlays()
+        x, gross, net = equity_curves(daily)
+        self.gross_curve.setData(x, gross)
+        self.net_curve.setData(x, net)
+        self.has_data = bool(x.size)
+        title = "Cumulative P&L of the chosen set"
+        set_title(self, f"{title} ({currency})" if currency else title, self.theme)
+        self.getPlotItem().enableAutoRange()
+
+    def add_overlay(self, params: dict[str, float], daily: pd.DataFrame) -> None:
+        """Draw a parameter set's gross and net equity dashed, named after the set."""
+        x, gross, net = equity_curves(daily)
+        name = format_params(params)
+        dash = Qt.PenStyle.DashLine
+        accent = self.theme.accent
+        net_item = self.getPlotItem().plot(x, net, name=f"Net, {name}",
+                                           pen=pg.mkPen(accent, width=2, style=dash))
+        gross_item = self.getPlotItem().plot(x, gross, name=f"Gross, {name}",
+                                             pen=pg.mkPen(with_alpha(accent, 140), width=1.5,
+                                                          style=Qt.PenStyle.DotLine))
+        self.overlays += [net_item, gross_item]
+
+    def clear_overlays(self) -> None:
+        """Remove every overlaid set."""
+        for overlay in self.overlays:
+            self.getPlotItem().removeItem(overlay)
+        self.overlays = []
+
+    def clear_data(self) -> None:
+        """Show nothing."""
+        self.clear_overlays()
+        empty = np.zeros(0)
+        self.gross_curve.setData(empty, empty)
+        self.net_curve.setData(empty, empty)
+        self.has_data = False

@@ -1,0 +1,255 @@
+"""Self-contained HTML report of a run, for sharing with a reviewer.
+
+The page carries everything inline: styles, the charts as PNG data URIs, the rule file and
+the run's provenance. Every text that comes from the catalogue (titles, rules, reasons) is
+escaped.
+"""
+
+from __future__ import annotations
+
+import base64
+import html
+import os
+import tempfile
+from pathlib import Path
+
+from PySide6.QtCore import QBuffer, QByteArray, QIODevice, Qt
+from PySide6.QtWidgets import QWidget
+
+from hunchbook.core.errors import HunchbookError
+from hunchbook.gui.charts.result_charts import ResultCharts
+from hunchbook.gui.charts.run_figures import (
+    FigureRow,
+    dig,
+    format_params,
+    format_value,
+    number,
+    parameter_space,
+    performance_rows,
+    statistic_rows,
+    verdict_text,
+)
+from hunchbook.gui.charts.theme import light_theme
+from hunchbook.store.records import Idea, RunRecord
+
+#: The usual caution, shown under every result.
+CAUTION = ("Hypothetical backtest results: not investment advice; past results do not predict "
+           "future ones. Managing other people's money is regulated - follow your local rules.")
+
+#: Pixel size of each chart image in the report (the sweep chart is narrower).
+CHART_SIZE = (960, 360)
+SWEEP_SIZE = (720, 400)
+
+#: Caption of each chart, by the names of :meth:`ResultCharts.named`.
+CAPTIONS = {
+    "equity": "Cumulative P&L of the chosen set, gross and net of costs.",
+    "drawdown": "Net drawdown: how far cumulative net P&L stood below its running peak.",
+    "sweep": "Net Sharpe ratio of every parameter set run (the chosen set outlined).",
+    "contribution": "Total P&L of the chosen set per market, gross and net.",
+    "costs": "Net Sharpe ratio of the chosen set with costs scaled by each multiple.",
+}
+
+_STYLE = """
+body { font-family: system-ui, -apple-system, "Segoe UI", sans-serif; color: #222;
+       max-width: 1000px; margin: 2em auto; padding: 0 1em; line-height: 1.45; }
+h1 { font-size: 1.6em; margin-bottom: 0.1em; }
+h2 { font-size: 1.15em; margin-top: 1.8em; border-bottom: 1px solid #ddd; }
+.meta, .caution, figcaption { color: #666; font-size: 0.9em; }
+.verdict { border-left: 6px solid #888; background: #f4f4f4; padding: 0.6em 1em;
+           border-radius: 4px; }
+.verdict .label { font-size: 1.5em; font-weight: bold; }
+.verdict.passes { border-color: #268c4a; background: #e9f4ec; }
+.verdict.selection_luck { border-color: #c48e00; background: #faf3e0; }
+.verdict.lost_to_costs { border-color: #d6661c; background: #fbeee4; }
+.verdict.too_little_data { border-color: #2c70c4; background: #e8f0fa; }
+.verdict.no_edge { border-color: #c03434; background: #f9e8e8; }
+table { border-collapse: collapse; margin: 0.5em 0; }
+th, td { padding: 0.2em 0.8em; border-bottom: 1px solid #eee; text-align: left; }
+td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
+dl { display: grid; grid-template-columns: max-content 1fr; gap: 0.2em 1em; }
+dt { font-weight: bold; } dd { margin: 0; white-space: pre-wrap; }
+pre { background: #f6f6f6; padding: 0.8em; overflow-x: auto; font-size: 0.9em; }
+figure { margin: 1em 0; } img { max-width: 100%; border: 1px solid #eee; }
+.caution { border-top: 1px solid #ddd; margin-top: 2em; padding-top: 0.6em; }
+"""
+
+
+def _e(value: object) -> str:
+    return html.escape("" if value is None else str(value), quote=True)
+
+
+def png_bytes(widget: QWidget, size: tuple[int, int] = CHART_SIZE) -> bytes:
+    """Render a widget offscreen at a size and return it as PNG bytes."""
+    widget.setAttribute(Qt.WidgetAttribute.WA_DontShowOnScreen, True)
+    widget.resize(*size)
+    widget.show()
+    try:
+        image = widget.grab()
+    finally:
+        widget.hide()
+    data = QByteArray()
+    buffer = QBuffer(data)
+    buffer.open(QIODevice.OpenModeFlag.WriteOnly)
+    image.save(buffer, "PNG")
+    buffer.close()
+    return bytes(data.data())
+
+
+def render_chart_images(run: RunRecord) -> dict[str, bytes]:
+    """PNG images of a run's charts in the light report theme, by chart name."""
+    charts = ResultCharts(light_theme())
+    charts.show_run(run)
+    images = {name: png_bytes(chart, SWEEP_SIZE if name == "sweep" else CHART_SIZE)
+              for name, chart in charts.named().items()}
+    for chart in (charts.equity, charts.drawdown, charts.contribution, charts.heatmap,
+                  charts.profile, charts.costs):
+        chart.deleteLater()
+    return images
+
+
+def _figures_table(rows: list[FigureRow]) -> str:
+    body = []
+    for row in rows:
+        gross = "" if row.gross is None and row.net is not None \
+            else format_value(row.gross, row.kind)
+        body.append(f'<tr title="{_e(row.note)}"><td>{_e(row.label)}</td>'
+                    f'<td class="num">{_e(gross)}</td>'
+                    f'<td class="num">{_e(format_value(row.net, row.kind))}</td></tr>')
+    return ('<table><thead><tr><th>Figure</th><th class="num">Gross</th>'
+            '<th class="num">Net</th></tr></thead><tbody>' + "".join(body) + "</tbody></table>")
+
+
+def _markets_table(run: RunRecord) -> str:
+    markets = dig(run.summary, "chosen", "markets")
+    if not isinstance(markets, dict) or not markets:
+        return "<p>No per-market figures were recorded for this run.</p>"
+    columns = [("Gross P&L", ("gross", "total"), "money"), ("Net P&L", ("net", "total"), "money"),
+               ("Gross Sharpe", ("gross", "sharpe"), "ratio"),
+               ("Net Sharpe", ("net", "sharpe"), "ratio"),
+               ("Contracts / year", ("contracts_per_year",), "count"),
+               ("Cost", ("cost_total",), "money"),
+               ("Break-even cost", ("break_even_cost",), "money")]
+    head = "".join(f'<th class="num">{_e(c[0])}</th>' for c in columns)
+    rows = []
+    for name, m in markets.items():
+        cells = "".join(f'<td class="num">{_e(format_value(number(dig(m, *keys)), kind))}</td>'
+                        for _, keys, kind in columns)
+        rows.append(f"<tr><td>{_e(name)}</td>{cells}</tr>")
+    return (f"<table><thead><tr><th>Market</th>{head}</tr></thead><tbody>"
+            + "".join(rows) + "</tbody></table>")
+
+
+def _sets_table(run: RunRecord) -> str:
+    space = parameter_space(run)
+    pairs = list(zip(space.params, space.net_sharpe, strict=True))
+    pairs.sort(key=lambda p: -p[1] if p[1] is not None else float("inf"))
+    rows = "".join(f'<tr><td>{_e(format_params(p))}</td>'
+                   f'<td class="num">{_e(format_value(s, "ratio"))}</td></tr>' for p, s in pairs)
+    return ('<table><thead><tr><th>Parameter set</th><th class="num">Net Sharpe</th></tr>'
+            f"</thead><tbody>{rows}</tbody></table>")
+
+
+def _idea_section(idea: Idea) -> str:
+    source = idea.source_kind + (f" — {idea.citation}" if idea.citation else "")
+    items = [("Hypothesis", idea.hypothesis),
+             (f"Rationale ({idea.rationale_kind})" if idea.rationale_kind else "Rationale",
+              idea.rationale),
+             ("Source", source), ("Submitted by", idea.submitted_by),
+             ("Reviewer", idea.reviewer or ""), ("Markets", ", ".join(idea.markets)),
+             ("Tags", ", ".join(idea.tags)), ("Stage", idea.stage)]
+    body = "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in items if v)
+    if idea.link:
+        link = _e(idea.link)
+        shown = (f'<a href="{link}">{link}</a>'
+                 if idea.link.lower().startswith(("https://", "http://")) else link)
+        body += f"<dt>Link</dt><dd>{shown}</dd>"
+    return f"<dl>{body}</dl>"
+
+
+def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str, bytes]) -> str:
+    """The report page as one HTML string (``images``: PNG bytes by chart name)."""
+    verdict = verdict_text(run)
+    title = f"{idea.title} — run {run.id}"
+    reasons = "".join(f"<li>{_e(r)}</li>" for r in verdict.reasons)
+    figures = "".join(
+        f'<figure><img alt="{_e(name)} chart" src="data:image/png;base64,'
+        f'{base64.b64encode(png).decode("ascii")}"><figcaption>{_e(CAPTIONS.get(name, ""))}'
+        "</figcaption></figure>" for name, png in images.items())
+    notes = dig(run.statistics, "notes")
+    notes_html = ("".join(f"<p>{_e(n)}</p>" for n in notes)
+                  if isinstance(notes, list) else "")
+    provenance = [("Run", f"{run.id} ({run.uuid})"),
+                  ("Recorded", f"{run.recorded_at} by {run.recorded_by}"),
+                  ("Rules revision", run.revision_number),
+                  ("Chosen set", format_params(dict(run.chosen_params))),
+                  ("Parameter sets run", run.set_count),
+                  ("Trials counted for the idea", run.trial_count),
+                  ("Data fingerprint", run.data_fingerprint),
+                  ("Engine version", run.engine_version)]
+    provenance_html = "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in provenance)
+    return f"""<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>{_e(title)}</title>
+<style>{_STYLE}</style>
+</head>
+<body>
+<h1>{_e(idea.title)}</h1>
+<p class="meta">Run {_e(run.id)} of {_e(run.recorded_at)} by {_e(run.recorded_by)}; rules
+revision {_e(run.revision_number)}; {_e(run.set_count)} parameter sets; {_e(run.trial_count)}
+trials counted for the idea.</p>
+<section class="verdict {_e(verdict.outcome)}">
+<div class="label">{_e(verdict.label)}</div>
+<p><strong>{_e(verdict.action)}</strong></p>
+<ul>{reasons}</ul>
+</section>
+<h2>Idea</h2>
+{_idea_section(idea)}
+<h2>Chosen set over its whole history</h2>
+<p>Chosen set: {_e(format_params(dict(run.chosen_params)))}.</p>
+{_figures_table(performance_rows(run))}
+<h2>How far to trust it (days all sets share)</h2>
+{_figures_table(statistic_rows(run))}
+{notes_html}
+<h2>Charts</h2>
+{figures}
+<h2>Markets</h2>
+{_markets_table(run)}
+<h2>Parameter sets</h2>
+{_sets_table(run)}
+<h2>Rule file</h2>
+<pre>{_e(rule_text)}</pre>
+<h2>Run record</h2>
+<dl>{provenance_html}</dl>
+<p class="caution">{_e(CAUTION)}</p>
+</body>
+</html>
+"""
+
+
+def write_html_report(path: str | os.PathLike[str], *, idea: Idea, run: RunRecord,
+                      rule_text: str, images: dict[str, bytes]) -> None:
+    """Write the report atomically (a temporary file beside the target, then a rename).
+
+    Raises
+    ------
+    HunchbookError
+        The folder is missing or the file cannot be written.
+    """
+    target = Path(path)
+    text = report_html(idea=idea, run=run, rule_text=rule_text, images=images)
+    tmp_name = None
+    try:
+        with tempfile.NamedTemporaryFile("w", encoding="utf-8", dir=target.parent,
+                                         prefix=f".{target.name}.", suffix=".tmp",
+                                         delete=False) as tmp:
+            tmp_name = tmp.name
+            tmp.write(text)
+        os.replace(tmp_name, target)
+    except OSError as exc:
+        if tmp_name is not None and os.path.exists(tmp_name):
+            os.unlink(tmp_name)
+        raise HunchbookError(f"report '{target}': could not write it ({exc.strerror or exc})"
+                             ) from None

@@ -1,0 +1,235 @@
+"""Results of one run: verdict banner, gross/net figures, statistics and charts."""
+
+from __future__ import annotations
+
+import os
+
+import pandas as pd
+from PySide6.QtCore import QEvent, Qt, Signal
+from PySide6.QtGui import QFont, QPalette
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QGridLayout,
+    QHeaderView,
+    QLabel,
+    QSplitter,
+    QStackedWidget,
+    QTableView,
+    QVBoxLayout,
+    QWidget,
+)
+
+from hunchbook.gui.charts.result_charts import ResultCharts
+from hunchbook.gui.charts.run_figures import (
+    format_params,
+    performance_rows,
+    statistic_rows,
+    verdict_text,
+)
+from hunchbook.gui.html_report import CAUTION, render_chart_images, write_html_report
+from hunchbook.gui.widgets.figures_model import FiguresModel
+from hunchbook.gui.widgets.verdict_banner import VerdictBanner, mix_colours
+from hunchbook.store.records import Idea, RunRecord
+
+
+def run_subtitle(run: RunRecord, title: str) -> str:
+    """One line naming a run: title, chosen set, sets and trials, date and author."""
+    parts = [title] if title else []
+    if run.chosen_params:
+        parts.append(f"chosen set {format_params(dict(run.chosen_params))}")
+    parts.append(f"{run.set_count} set{'s' if run.set_count != 1 else ''}, "
+                 f"{run.trial_count} trial{'s' if run.trial_count != 1 else ''} counted")
+    parts.append(f"rules revision {run.revision_number}")
+    parts.append(f"run {run.recorded_at[:16].replace('T', ' ')} by {run.recorded_by}")
+    return "  ·  ".join(parts)
+
+
+def _heading(text: str) -> QLabel:
+    label = QLabel(text)
+    font = QFont(label.font())
+    font.setBold(True)
+    label.setFont(font)
+    return label
+
+
+def _figures_table(model: FiguresModel) -> QTableView:
+    table = QTableView()
+    table.setModel(model)
+    table.verticalHeader().hide()
+    table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+    table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+    table.setAlternatingRowColors(True)
+    table.setShowGrid(False)
+    table.setWordWrap(False)
+    table.setFocusPolicy(Qt.FocusPolicy.NoFocus)
+    header = table.horizontalHeader()
+    header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+    for col in (1, 2):
+        header.setSectionResizeMode(col, QHeaderView.ResizeMode.ResizeToContents)
+    table.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+    table.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
+    return table
+
+
+class ChartSlot(QStackedWidget):
+    """A place for one of several charts, or a note saying why there is none."""
+
+    def __init__(self, charts: list[QWidget], note: str) -> None:
+        super().__init__()
+        self.note = QLabel(note)
+        self.note.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        self.note.setWordWrap(True)
+        self.note.setAutoFillBackground(True)
+        self.note.setBackgroundRole(QPalette.ColorRole.Base)
+        self.note.setMargin(12)
+        self.addWidget(self.note)
+        for chart in charts:
+            self.addWidget(chart)
+
+    def show_chart(self, chart: QWidget | None) -> None:
+        """Show a chart of this slot, or the note when ``chart`` is None."""
+        self.setCurrentWidget(self.note if chart is None else chart)
+
+
+class ResultsView(QWidget):
+    """What a run found, for deciding at a glance.
+
+    Signals: ``set_requested(dict)`` when a heatmap cell (or a point of the one-parameter
+    chart) is clicked, with that parameter set; the owner computes its daily P&L and calls
+    :meth:`show_set_curves`.
+    """
+
+    set_requested = Signal(dict)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.run: RunRecord | None = None
+        self.banner = VerdictBanner()
+        self.performance = FiguresModel(self)
+        self.statistics = FiguresModel(self)
+        self.performance_table = _figures_table(self.performance)
+        self.statistics_table = _figures_table(self.statistics)
+        self.charts = ResultCharts()
+        self.charts.heatmap.cell_clicked.connect(self.set_requested)
+        self.charts.profile.point_clicked.connect(self.set_requested)
+        c = self.charts
+        self.equity_slot = ChartSlot([c.equity], "No daily P&L was recorded for this run.")
+        self.drawdown_slot = ChartSlot([c.drawdown], "")
+        self.sweep_slot = ChartSlot([c.heatmap, c.profile],
+                                    "One parameter set: no sweep to compare.")
+        self.sweep_slot.setMinimumHeight(180)
+        self.contribution_slot = ChartSlot([c.contribution],
+                                           "No per-market figures were recorded for this run.")
+        self.costs_slot = ChartSlot([c.costs], "No cost sensitivity was recorded for this run.")
+        self.caution = QLabel(CAUTION)
+        self.caution.setWordWrap(True)
+        small = QFont(self.caution.font())
+        small.setPointSizeF(small.pointSizeF() * 0.85)
+        self.caution.setFont(small)
+
+        tables = QWidget()
+        left = QVBoxLayout(tables)
+        left.setContentsMargins(0, 0, 0, 0)
+        left.addWidget(_heading("Chosen set over its whole history"))
+        left.addWidget(self.performance_table)
+        left.addSpacing(6)
+        left.addWidget(_heading("How far to trust it (days all sets share)"))
+        left.addWidget(self.statistics_table)
+        left.addSpacing(6)
+        left.addWidget(self.sweep_slot, 1)
+
+        charts = QWidget()
+        grid = QGridLayout(charts)
+        grid.setContentsMargins(0, 0, 0, 0)
+        grid.setSpacing(6)
+        grid.addWidget(self.equity_slot, 0, 0, 1, 2)
+        grid.addWidget(self.drawdown_slot, 1, 0, 1, 2)
+        grid.addWidget(self.contribution_slot, 2, 0)
+        grid.addWidget(self.costs_slot, 2, 1)
+        for row, stretch in enumerate((5, 2, 4)):
+            grid.setRowStretch(row, stretch)
+        for col in range(2):
+            grid.setColumnStretch(col, 1)
+
+        splitter = QSplitter(Qt.Orientation.Horizontal)
+        splitter.addWidget(tables)
+        splitter.addWidget(charts)
+        splitter.setStretchFactor(0, 0)
+        splitter.setStretchFactor(1, 1)
+        splitter.setSizes([340, 860])
+        splitter.setChildrenCollapsible(False)
+
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(8, 8, 8, 6)
+        layout.setSpacing(8)
+        layout.addWidget(self.banner)
+        layout.addWidget(splitter, 1)
+        layout.addWidget(self.caution)
+        self._recolour()
+        self.clear()
+
+    def changeEvent(self, event: QEvent) -> None:  # noqa: N802 (Qt override)
+        """Follow palette changes (light/dark switch) in the muted caution line."""
+        super().changeEvent(event)
+        if event.type() == QEvent.Type.PaletteChange:
+            self._recolour()
+
+    def _recolour(self) -> None:
+        palette = self.caution.palette()
+        muted = mix_colours(self.palette().color(QPalette.ColorRole.Window),
+                            self.palette().color(QPalette.ColorRole.WindowText), 0.6)
+        palette.setColor(QPalette.ColorRole.WindowText, muted)
+        self.caution.setPalette(palette)
+
+    def _fit_tables(self) -> None:
+        for table in (self.performance_table, self.statistics_table):
+            table.resizeRowsToContents()
+            rows = sum(table.rowHeight(r) for r in range(table.model().rowCount()))
+            table.setFixedHeight(rows + table.horizontalHeader().sizeHint().height()
+                                 + 2 * table.frameWidth())
+
+    def show_run(self, run: RunRecord, *, title: str) -> None:
+        """Show a recorded run (from ``Catalogue.run``, daily P&L decoded)."""
+        self.run = run
+        self.banner.set_verdict(verdict_text(run), subtitle=run_subtitle(run, title))
+        self.performance.set_rows(performance_rows(run))
+        self.statistics.set_rows(statistic_rows(run))
+        self._fit_tables()
+        self.charts.show_run(run)
+        self._show_slots()
+
+    def _show_slots(self) -> None:
+        shown = self.charts.named()
+        for slot, name in ((self.equity_slot, "equity"), (self.drawdown_slot, "drawdown"),
+                           (self.sweep_slot, "sweep"), (self.contribution_slot, "contribution"),
+                           (self.costs_slot, "costs")):
+            slot.show_chart(shown.get(name))
+
+    def show_set_curves(self, params: dict, daily: pd.DataFrame) -> None:
+        """Overlay one parameter set's gross and net equity (dashed), replacing any earlier
+        overlay; ``daily`` has a date index and gross_pnl, cost, net_pnl columns."""
+        self.charts.equity.clear_overlays()
+        self.charts.equity.add_overlay(dict(params), daily)
+        self.charts.heatmap.mark_shown(dict(params))
+
+    def clear(self) -> None:
+        """Show no run."""
+        self.run = None
+        self.banner.clear()
+        self.performance.set_rows([])
+        self.statistics.set_rows([])
+        self._fit_tables()
+        self.charts.clear()
+        self._show_slots()
+
+    def export_html(self, path: str | os.PathLike[str], *, idea: Idea, run: RunRecord,
+                    rule_text: str) -> None:
+        """Write a self-contained HTML report of a run (charts embedded as PNG images).
+
+        Raises
+        ------
+        HunchbookError
+            The file could not be written.
+        """
+        write_html_report(path, idea=idea, run=run, rule_text=rule_text,
+                          images=render_chart_images(run))

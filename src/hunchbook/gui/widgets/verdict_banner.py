@@ -1,0 +1,136 @@
+"""Verdict banner: the run's verdict label, next action and reasons, coloured by outcome."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QEvent, QRectF, Qt
+from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPaintEvent, QPalette
+from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QVBoxLayout, QWidget
+
+from hunchbook.gui.charts.run_figures import VerdictText
+
+#: Hue of each verdict outcome; unknown outcomes are grey.
+OUTCOME_HUES = {
+    "passes": QColor(38, 140, 74),
+    "selection_luck": QColor(196, 142, 0),
+    "lost_to_costs": QColor(214, 102, 28),
+    "too_little_data": QColor(44, 112, 196),
+    "no_edge": QColor(192, 52, 52),
+}
+NEUTRAL_HUE = QColor(128, 128, 128)
+#: Width of the coloured stripe and corner radius, in pixels.
+STRIPE = 6
+RADIUS = 4
+
+
+def mix_colours(a: QColor, b: QColor, share_of_b: float) -> QColor:
+    """Blend of two colours with the given share of the second."""
+    s = share_of_b
+    return QColor(round(a.red() * (1 - s) + b.red() * s),
+                  round(a.green() * (1 - s) + b.green() * s),
+                  round(a.blue() * (1 - s) + b.blue() * s))
+
+
+def banner_colours(outcome: str, palette: QPalette) -> tuple[QColor, QColor, QColor]:
+    """Background, stripe and label colours of an outcome, readable on the given palette."""
+    hue = OUTCOME_HUES.get(outcome, NEUTRAL_HUE)
+    window = palette.color(QPalette.ColorRole.Window)
+    dark = window.lightnessF() < 0.5
+    background = mix_colours(window, hue, 0.26 if dark else 0.13)
+    label = hue.lighter(150) if dark else hue.darker(135)
+    return background, hue, label
+
+
+def _plain_label(text: str = "", *, wrap: bool = True) -> QLabel:
+    label = QLabel(text)
+    label.setTextFormat(Qt.TextFormat.PlainText)
+    label.setWordWrap(wrap)
+    label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+    return label
+
+
+class VerdictBanner(QFrame):
+    """Large verdict label with the action beside it, reasons as sentences below and a small
+    line naming the run; background and stripe follow the outcome and the palette."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("verdictBanner")
+        self.outcome = ""
+        self.label = _plain_label(wrap=False)
+        font = QFont(self.label.font())
+        font.setPointSizeF(font.pointSizeF() * 1.8)
+        font.setBold(True)
+        self.label.setFont(font)
+        self.action = _plain_label()
+        action_font = QFont(self.action.font())
+        action_font.setPointSizeF(action_font.pointSizeF() * 1.1)
+        action_font.setBold(True)
+        self.action.setFont(action_font)
+        self.reasons = _plain_label()
+        self.subtitle = _plain_label()
+        small = QFont(self.subtitle.font())
+        small.setPointSizeF(small.pointSizeF() * 0.9)
+        self.subtitle.setFont(small)
+
+        top = QHBoxLayout()
+        top.setSpacing(16)
+        top.addWidget(self.label, 0, Qt.AlignmentFlag.AlignVCenter)
+        top.addWidget(self.action, 1, Qt.AlignmentFlag.AlignVCenter)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(STRIPE + 12, 8, 12, 8)
+        layout.setSpacing(4)
+        layout.addWidget(self.subtitle)
+        layout.addLayout(top)
+        layout.addWidget(self.reasons)
+        self.clear()
+
+    def set_verdict(self, verdict: VerdictText, *, subtitle: str = "") -> None:
+        """Show a verdict; ``subtitle`` names the run (title, chosen set, date)."""
+        self.outcome = verdict.outcome
+        self.label.setText(verdict.label)
+        self.action.setText(verdict.action)
+        self.reasons.setText("\n".join(f"•  {r}" for r in verdict.reasons))
+        self.reasons.setVisible(bool(verdict.reasons))
+        self.subtitle.setText(subtitle)
+        self.subtitle.setVisible(bool(subtitle))
+        self._recolour()
+
+    def clear(self) -> None:
+        """Show that no run is open."""
+        self.set_verdict(VerdictText("", "No run shown", "Run an idea or choose one of its "
+                                     "runs to see the verdict here.", ()))
+
+    def changeEvent(self, event: QEvent) -> None:  # noqa: N802 (Qt override)
+        """Recolour the texts when the palette changes (light/dark switch)."""
+        super().changeEvent(event)
+        if event.type() == QEvent.Type.PaletteChange:
+            self._recolour()
+
+    def paintEvent(self, event: QPaintEvent) -> None:  # noqa: N802 (Qt override)
+        """Tinted rounded background with the outcome's stripe on the left."""
+        background, stripe, _ = banner_colours(self.outcome, self.palette())
+        painter = QPainter(self)
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing)
+        painter.setPen(Qt.PenStyle.NoPen)
+        rect = QRectF(self.rect())
+        path = QPainterPath()
+        path.addRoundedRect(rect, RADIUS, RADIUS)
+        painter.fillPath(path, background)
+        painter.setClipPath(path)
+        painter.fillRect(QRectF(rect.left(), rect.top(), STRIPE, rect.height()), stripe)
+        painter.end()
+
+    def _recolour(self) -> None:
+        background, _, label = banner_colours(self.outcome, self.palette())
+        text = self.palette().color(QPalette.ColorRole.WindowText)
+        _set_text_colour(self.label, label)
+        _set_text_colour(self.action, text)
+        _set_text_colour(self.reasons, text)
+        _set_text_colour(self.subtitle, mix_colours(background, text, 0.7))
+        self.update()
+
+
+def _set_text_colour(label: QLabel, colour: QColor) -> None:
+    palette = label.palette()
+    palette.setColor(QPalette.ColorRole.WindowText, colour)
+    label.setPalette(palette)
