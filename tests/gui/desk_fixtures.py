@@ -1,5 +1,5 @@
-"""Fixtures for the window's tests: a copy of the invented demo catalogue, short demo data and
-an open main window. Import the fixtures by name into a test module."""
+"""Helpers behind the window tests' fixtures: a copy of the invented demo catalogue, short
+demo data (each built once per test session) and an open main window."""
 
 from __future__ import annotations
 
@@ -10,42 +10,53 @@ import pytest
 
 #: Short demo data window: quick runs stay fast.
 SHORT_START, SHORT_END = "2015-01-02", "2018-12-31"
+#: The demo desk's accepted idea that has no rules yet.
+ACCEPTED_TITLE = "Ten-year note trend with a volatility filter"
+#: A submitted idea waiting for review.
+SUBMITTED_TITLE = "Copper carry from the curve slope"
+#: A tested idea with two runs.
+TESTED_TITLE = "Channel midpoint breakout"
+
+_BUILT: dict[tuple[str, Path], Path] = {}
 
 
-@pytest.fixture(scope="session")
-def _demo_catalogue_master(tmp_path_factory: pytest.TempPathFactory) -> Path:
-    from hunchbook.demo.catalogue import build_demo_catalogue
+def _once(kind: str, factory: pytest.TempPathFactory) -> Path:
+    key = (kind, factory.getbasetemp())
+    if key not in _BUILT:
+        if kind == "catalogue":
+            from hunchbook.demo.catalogue import build_demo_catalogue
 
-    return build_demo_catalogue(tmp_path_factory.mktemp("desk") / "demo.sqlite")
+            _BUILT[key] = build_demo_catalogue(factory.mktemp("desk") / "demo.sqlite")
+        else:
+            from hunchbook.demo import write_demo_data
+
+            _BUILT[key] = write_demo_data(factory.mktemp("data") / "data", start=SHORT_START,
+                                          end=SHORT_END)
+    return _BUILT[key]
 
 
-@pytest.fixture(scope="session")
-def short_data(tmp_path_factory: pytest.TempPathFactory) -> Path:
-    """Invented demo data for 2015-2018 (shared, read only)."""
-    from hunchbook.demo import write_demo_data
-
-    return write_demo_data(tmp_path_factory.mktemp("data") / "data", start=SHORT_START,
-                           end=SHORT_END)
-
-
-@pytest.fixture
-def demo_catalogue(_demo_catalogue_master: Path, tmp_path: Path) -> Path:
-    """A fresh copy of the demo catalogue for one test."""
-    path = tmp_path / "demo.sqlite"
-    shutil.copyfile(_demo_catalogue_master, path)
+def demo_catalogue_copy(factory: pytest.TempPathFactory, folder: Path) -> Path:
+    """A fresh copy of the demo catalogue in ``folder`` (the original is built once)."""
+    path = folder / "demo.sqlite"
+    shutil.copyfile(_once("catalogue", factory), path)
     return path
 
 
-@pytest.fixture
-def window(qtbot, demo_catalogue: Path, short_data: Path):
-    """The main window on a copy of the demo catalogue and the short demo data, shown."""
+def short_demo_data(factory: pytest.TempPathFactory) -> Path:
+    """Invented demo data for 2015-2018, written once per session (read only)."""
+    return _once("data", factory)
+
+
+def open_window(qtbot, catalogue: Path, data: Path):
+    """The main window on ``catalogue`` and ``data``, shown (quick runs in the worker thread,
+    no worker processes)."""
     from hunchbook.gui.main_window import MainWindow
 
     win = MainWindow(processes=1)
     qtbot.addWidget(win)
     win.resize(1400, 900)
-    assert win.open_catalogue(demo_catalogue)
-    win.set_data_folder(short_data)
+    assert win.open_catalogue(catalogue)
+    win.set_data_folder(data)
     win.show()
     qtbot.waitExposed(win)
     return win
@@ -54,11 +65,3 @@ def window(qtbot, demo_catalogue: Path, short_data: Path):
 def idea_id_by_title(win, title: str) -> int:
     """The id of the demo idea with this title."""
     return next(i.id for i in win.catalogue.list_ideas() if i.title == title)
-
-
-#: The demo desk's accepted idea that has no rules yet.
-ACCEPTED_TITLE = "Ten-year note trend with a volatility filter"
-#: A submitted idea waiting for review.
-SUBMITTED_TITLE = "Copper carry from the curve slope"
-#: A tested idea with two runs.
-TESTED_TITLE = "Channel midpoint breakout"

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+
 import pytest
 from PySide6.QtCore import Qt
 
@@ -17,12 +18,12 @@ from hunchbook.gui.models import (
     summary_of,
     verdict_label,
 )
-from tests.gui.desk_fixtures import _demo_catalogue_master, demo_catalogue  # noqa: F401
+from tests.gui.desk_fixtures import demo_catalogue_copy
 
 
 @pytest.fixture
-def catalogue(demo_catalogue):  # noqa: F811
-    with Catalogue(demo_catalogue) as cat:
+def catalogue(tmp_path_factory, tmp_path):
+    with Catalogue(demo_catalogue_copy(tmp_path_factory, tmp_path)) as cat:
         yield cat
 
 

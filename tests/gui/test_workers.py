@@ -11,12 +11,7 @@ from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import DataError
 from hunchbook.core.rules import parse_rules
 from hunchbook.gui.workers import CallWorker, RunIdeaWorker, Worker, set_curves
-from tests.gui.desk_fixtures import (  # noqa: F401
-    ACCEPTED_TITLE,
-    _demo_catalogue_master,
-    demo_catalogue,
-    short_data,
-)
+from tests.gui.desk_fixtures import ACCEPTED_TITLE, demo_catalogue_copy, short_demo_data
 
 RULES = """name = "Rates trend"
 markets = ["TNOTE10"]
@@ -27,6 +22,16 @@ n = [20, 60]
 [signal]
 position = "sign(close - mean(close, n))"
 """
+
+
+@pytest.fixture(scope="session")
+def short_data(tmp_path_factory):
+    return short_demo_data(tmp_path_factory)
+
+
+@pytest.fixture
+def demo_catalogue(tmp_path_factory, tmp_path):
+    return demo_catalogue_copy(tmp_path_factory, tmp_path)
 
 
 def _accepted_id(path) -> int:
@@ -80,7 +85,7 @@ def test_cancelled_work_ends_in_cancelled_not_finished(qtbot):
         worker.start()
 
 
-def test_run_worker_records_a_run_and_reports_progress(qtbot, demo_catalogue, short_data):  # noqa: F811
+def test_run_worker_records_a_run_and_reports_progress(qtbot, demo_catalogue, short_data):
     """The quick-run worker opens its own catalogue, reports sets done out of the total,
     and the run it returns is in the store."""
     idea_id = _accepted_id(demo_catalogue)
@@ -97,7 +102,7 @@ def test_run_worker_records_a_run_and_reports_progress(qtbot, demo_catalogue, sh
         assert cat.idea(idea_id).stage == "tested"
 
 
-def test_run_worker_cancelled_records_nothing(qtbot, demo_catalogue, short_data):  # noqa: F811
+def test_run_worker_cancelled_records_nothing(qtbot, demo_catalogue, short_data):
     """Cancelled before the sweep ends: ``cancelled``, no run and no revision stored."""
     idea_id = _accepted_id(demo_catalogue)
     worker = RunIdeaWorker(demo_catalogue, idea_id, RULES, short_data, by="Test Reviewer",
@@ -110,7 +115,7 @@ def test_run_worker_cancelled_records_nothing(qtbot, demo_catalogue, short_data)
         assert cat.revisions(idea_id) == []
 
 
-def test_run_worker_bad_data_folder_fails_clearly(qtbot, demo_catalogue, tmp_path):  # noqa: F811
+def test_run_worker_bad_data_folder_fails_clearly(qtbot, demo_catalogue, tmp_path):
     """A folder without price files fails with a one-line data error."""
     idea_id = _accepted_id(demo_catalogue)
     worker = RunIdeaWorker(demo_catalogue, idea_id, RULES, tmp_path, by="Test Reviewer")
@@ -120,7 +125,7 @@ def test_run_worker_bad_data_folder_fails_clearly(qtbot, demo_catalogue, tmp_pat
     assert "\n" not in message and str(tmp_path) in message
 
 
-def test_set_curves_gives_the_sets_daily_pnl(short_data):  # noqa: F811
+def test_set_curves_gives_the_sets_daily_pnl(short_data):
     """One set's curves: net = gross - cost on every day (common practice, no source), and
     the same days as the API's own run of that set."""
     params, daily = set_curves(RULES, short_data, {"n": 60.0})
@@ -133,7 +138,7 @@ def test_set_curves_gives_the_sets_daily_pnl(short_data):  # noqa: F811
     assert daily.index.equals(study.run_set({"n": 60.0}).portfolio.index)
 
 
-def test_set_curves_rejects_an_undeclared_value(short_data):  # noqa: F811
+def test_set_curves_rejects_an_undeclared_value(short_data):
     """A value the rule file does not declare is a rule error."""
     from hunchbook.core.errors import RuleError
 

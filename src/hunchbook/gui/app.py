@@ -1,0 +1,213 @@
+"""Start the desktop window: ``hunchbook`` (own catalogue), ``hunchbook --demo`` (a temporary
+copy of the invented demo desk), ``--screenshot PATH`` (render and exit).
+
+Options
+-------
+``--demo``
+    Write the demo catalogue and, on a worker, the invented demo data into a temporary
+    folder, and open the window on them (removed when the window closes).
+``--catalogue PATH``
+    The catalogue file (default: the last one opened, else
+    :func:`hunchbook.catalogue.default_catalogue_path`).
+``--data DIR``
+    The data folder (default: the last one chosen).
+``--screenshot PATH``
+    Render the window once everything has loaded, save it as PNG and exit 0 (works without a
+    display: the offscreen platform is used unless ``QT_QPA_PLATFORM`` says otherwise);
+    ``--idea ID`` and ``--section idea|rules|runs|journal|review`` choose what it shows.
+``--size WxH``
+    Window size in pixels.
+"""
+
+from __future__ import annotations
+
+import argparse
+import logging
+import os
+import shutil
+import sys
+import tempfile
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from PySide6.QtCore import QCoreApplication, QEventLoop, Qt, QTimer
+from PySide6.QtGui import QGuiApplication
+from PySide6.QtWidgets import QApplication
+
+from hunchbook.gui.feedback import install_excepthook
+from hunchbook.gui.main_window import SECTIONS, MainWindow
+from hunchbook.gui.workers import CallWorker
+
+#: Longest wait for the demo data before a screenshot is taken (ms).
+DEMO_DATA_TIMEOUT_MS = 120_000
+
+
+@dataclass
+class Session:
+    """A started window and what it needs cleaned up afterwards."""
+
+    app: QApplication
+    window: MainWindow
+    temp_dir: Path | None = None
+    demo_worker: CallWorker | None = None
+    started_at: float = field(default_factory=time.perf_counter)
+
+    def wait_for_demo_data(self, timeout_ms: int = DEMO_DATA_TIMEOUT_MS) -> bool:
+        """Run the event loop until the demo data is written (True) or the time is up."""
+        worker = self.demo_worker
+        if worker is None:
+            return True
+        loop = QEventLoop()
+        worker.signals.finished.connect(loop.quit)
+        worker.signals.failed.connect(loop.quit)
+        QTimer.singleShot(timeout_ms, loop.quit)
+        if not worker.done.is_set():
+            loop.exec()
+        QCoreApplication.processEvents()
+        return self.window.data_folder is not None
+
+    def cleanup(self) -> None:
+        """Remove the demo's temporary folder."""
+        if self.temp_dir is not None:
+            shutil.rmtree(self.temp_dir, ignore_errors=True)
+            self.temp_dir = None
+
+
+def parse_args(argv: Sequence[str] | None = None) -> argparse.Namespace:
+    """Parse the window's command-line options (see the module docstring)."""
+    parser = argparse.ArgumentParser(
+        prog="hunchbook", description="Open Hunchbook's desktop window.")
+    parser.add_argument("--demo", action="store_true",
+                        help="open a temporary copy of the invented demo desk and data")
+    parser.add_argument("--catalogue", type=Path, help="catalogue file to open")
+    parser.add_argument("--data", type=Path, help="data folder of price files")
+    parser.add_argument("--screenshot", type=Path, metavar="PATH",
+                        help="save the window as PNG after loading, then exit")
+    parser.add_argument("--idea", type=int, help="idea to show (with --screenshot or not)")
+    parser.add_argument("--section", choices=SECTIONS, help="section to show")
+    parser.add_argument("--size", type=_size, metavar="WxH", help="window size, e.g. 1400x900")
+    return parser.parse_args(list(argv) if argv is not None else None)
+
+
+def _size(text: str) -> tuple[int, int]:
+    try:
+        width, height = (int(part) for part in text.lower().split("x"))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected WIDTHxHEIGHT such as 1400x900, got "
+                                         f"'{text}'") from None
+    if not (200 <= width <= 10_000 and 200 <= height <= 10_000):
+        raise argparse.ArgumentTypeError("width and height must be between 200 and 10000")
+    return width, height
+
+
+def application(argv: Sequence[str] = ()) -> QApplication:
+    """The running QApplication, or a new one (high-DPI scaling as the screen says)."""
+    existing = QApplication.instance()
+    if isinstance(existing, QApplication):
+        return existing
+    QGuiApplication.setHighDpiScaleFactorRoundingPolicy(
+        Qt.HighDpiScaleFactorRoundingPolicy.PassThrough)
+    app = QApplication([sys.argv[0] if sys.argv else "hunchbook", *argv])
+    app.setApplicationName("Hunchbook")
+    app.setOrganizationName("hunchbook")
+    return app
+
+
+def start(options: argparse.Namespace) -> Session:
+    """Create the window for parsed options, open its catalogue and data and show it."""
+    if options.screenshot is not None:
+        os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+    app = application()
+    window = MainWindow(remember=not options.demo,
+                        keep_layout=options.screenshot is None)
+    session = Session(app=app, window=window)
+    if options.size:
+        window.resize(*options.size)
+    elif not window.has_saved_layout() or options.screenshot is not None:
+        window.resize(1440, 900)
+    if options.demo:
+        _start_demo(session, options)
+    else:
+        remembered_catalogue, remembered_data = window.remembered_paths()
+        catalogue = options.catalogue or remembered_catalogue or _default_catalogue()
+        catalogue.parent.mkdir(parents=True, exist_ok=True)
+        window.open_catalogue(catalogue)
+        data = options.data or remembered_data
+        if data is not None and data.is_dir():
+            window.set_data_folder(data)
+    if options.idea is not None and not window.select_idea(options.idea):
+        window.status_message(f"There is no idea {options.idea} in this catalogue.")
+    if options.section:
+        window.show_section(options.section)
+    window.show()
+    return session
+
+
+def _default_catalogue() -> Path:
+    from hunchbook.catalogue import default_catalogue_path
+
+    return default_catalogue_path()
+
+
+def _start_demo(session: Session, options: argparse.Namespace) -> None:
+    """Open a fresh copy of the demo catalogue; write the demo data on a worker."""
+    from hunchbook.demo import write_demo_data
+    from hunchbook.demo.catalogue import build_demo_catalogue
+
+    window = session.window
+    session.temp_dir = Path(tempfile.mkdtemp(prefix="hunchbook-demo-"))
+    window.open_catalogue(build_demo_catalogue(session.temp_dir / "demo-catalogue.sqlite"))
+    if options.data is not None:
+        window.set_data_folder(options.data)
+    else:
+        worker = CallWorker(write_demo_data, session.temp_dir / "data")
+        worker.signals.finished.connect(lambda folder: _demo_data_ready(window, folder))
+        worker.signals.failed.connect(lambda message: window.show_error(
+            "Demo data not written", message))
+        session.demo_worker = worker
+        window.status_message("Writing the invented demo data in the background\u2026")
+        worker.start()
+    if options.idea is None:
+        ready = [i.id for i in window.catalogue.list_ideas(stage="accepted")] \
+            if window.catalogue is not None else []
+        if ready:
+            window.select_idea(ready[0])
+
+
+def _demo_data_ready(window: MainWindow, folder: Path) -> None:
+    window.set_data_folder(folder)
+    window.status_message("Demo data ready (invented prices). Press Ctrl+R on an accepted "
+                          "idea for a quick run.")
+
+
+def take_screenshot(session: Session, path: Path) -> bool:
+    """Save the window as PNG once loading has finished; True when written."""
+    session.wait_for_demo_data()
+    window = session.window
+    for _ in range(5):  # let layouts settle and charts draw
+        QCoreApplication.processEvents()
+        time.sleep(0.02)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    return window.grab().save(str(path), "PNG")
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Open the window (see the module docstring for the options); returns the exit status."""
+    options = parse_args(argv)
+    logging.basicConfig(level=logging.WARNING, format="%(levelname)s %(name)s: %(message)s")
+    session = start(options)
+    try:
+        if options.screenshot is not None:
+            written = take_screenshot(session, options.screenshot)
+            session.window.close()
+            if not written:
+                print(f"hunchbook: could not write {options.screenshot}", file=sys.stderr)
+                return 1
+            print(f"Screenshot written to {options.screenshot}")
+            return 0
+        install_excepthook()
+        return int(session.app.exec())
+    finally:
+        session.cleanup()

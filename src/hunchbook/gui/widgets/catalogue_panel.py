@@ -1,0 +1,221 @@
+"""The catalogue side of the window: full-text search, filters and the sortable idea table."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from PySide6.QtCore import QItemSelectionModel, QModelIndex, Qt, QTimer, Signal
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QComboBox,
+    QGridLayout,
+    QHeaderView,
+    QLabel,
+    QLineEdit,
+    QTableView,
+    QVBoxLayout,
+    QWidget,
+)
+
+from hunchbook.catalogue import Catalogue
+from hunchbook.core.errors import HunchbookError
+from hunchbook.core.verdict import LABELS
+from hunchbook.gui.feedback import one_line
+from hunchbook.gui.models import ID_ROLE, IdeaSortProxy, IdeaTableModel, summary_of
+from hunchbook.store.records import IdeaSummary
+from hunchbook.store.vocab import STAGES
+
+#: Quiet time after the last key press before the search runs (ms).
+SEARCH_DELAY_MS = 200
+_ANY = "Any"
+
+
+class CataloguePanel(QWidget):
+    """Search box, filters (stage, verdict, market, tag, author) and the idea table.
+
+    Signals
+    -------
+    idea_selected(int)
+        The idea chosen in the table (-1 when none is).
+    """
+
+    idea_selected = Signal(int)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self._catalogue: Catalogue | None = None
+        self.model = IdeaTableModel(self)
+        self.proxy = IdeaSortProxy(self)
+        self.proxy.setSourceModel(self.model)
+
+        self.search = QLineEdit(self)
+        self.search.setObjectName("searchBox")
+        self.search.setPlaceholderText("Search titles, hypotheses, rationales and journal\u2026")
+        self.search.setClearButtonEnabled(True)
+        self._search_timer = QTimer(self, singleShot=True, interval=SEARCH_DELAY_MS)
+        self._search_timer.timeout.connect(self.apply_filters)
+        self.search.textChanged.connect(self._search_timer.start)
+        self.search.returnPressed.connect(self.apply_filters)
+
+        self.stage = self._combo("Stage", [(s.capitalize(), s) for s in STAGES])
+        self.verdict = self._combo("Verdict", [(label, key) for key, label in LABELS.items()])
+        self.market = self._combo("Market", [])
+        self.tag = self._combo("Tag", [])
+        self.author = self._combo("Author", [])
+
+        self.table = QTableView(self)
+        self.table.setObjectName("ideaTable")
+        self.table.setModel(self.proxy)
+        self.table.setSortingEnabled(True)
+        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        self.table.setAlternatingRowColors(True)
+        self.table.setWordWrap(False)
+        self.table.verticalHeader().hide()
+        self.table.setShowGrid(False)
+        header = self.table.horizontalHeader()
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        header.setSectionResizeMode(IdeaTableModel.TITLE, QHeaderView.ResizeMode.Stretch)
+        unit = self.fontMetrics().horizontalAdvance("0")
+        for column, chars in ((IdeaTableModel.STAGE, 10), (IdeaTableModel.VERDICT, 15),
+                              (IdeaTableModel.SHARPE, 10), (IdeaTableModel.TRIALS, 6),
+                              (IdeaTableModel.UPDATED, 11)):
+            header.resizeSection(column, chars * unit + 12)
+        header.setHighlightSections(False)
+        header.setMinimumSectionSize(40)
+        self.table.sortByColumn(IdeaTableModel.UPDATED, Qt.SortOrder.DescendingOrder)
+        self.table.selectionModel().currentRowChanged.connect(self._current_changed)
+
+        self.count = QLabel(self)
+        self.count.setObjectName("ideaCount")
+
+        filters = QGridLayout()
+        filters.setContentsMargins(0, 0, 0, 0)
+        for n, (label, combo) in enumerate((("Stage", self.stage), ("Verdict", self.verdict),
+                                            ("Market", self.market), ("Tag", self.tag),
+                                            ("Author", self.author))):
+            filters.addWidget(QLabel(label, self), (n // 3) * 2, n % 3)
+            filters.addWidget(combo, (n // 3) * 2 + 1, n % 3)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(6, 6, 6, 6)
+        layout.addWidget(self.search)
+        layout.addLayout(filters)
+        layout.addWidget(self.table, 1)
+        layout.addWidget(self.count)
+
+    # -- public API -----------------------------------------------------------------------
+    def set_catalogue(self, catalogue: Catalogue | None) -> None:
+        """Show this catalogue's ideas (the filters are reset)."""
+        self._catalogue = catalogue
+        self.reload()
+
+    def reload(self) -> None:
+        """Re-read every idea from the catalogue; keeps filters and the selected idea."""
+        current = self.current_idea_id()
+        ideas = self._catalogue.list_ideas() if self._catalogue is not None else []
+        self._fill_choices(ideas)
+        self.model.set_ideas(ideas)
+        self.apply_filters()
+        if current >= 0:
+            self.select_idea(current)
+
+    def refresh_idea(self, idea_id: int) -> None:
+        """Re-read one idea's line (after an edit, a run, a review)."""
+        if self._catalogue is None:
+            return
+        self.model.update_idea(summary_of(self._catalogue.idea(idea_id)))
+        self.proxy.refresh()
+        self._show_count()
+
+    def apply_filters(self) -> None:
+        """Filter the table by the search text and the chosen filters."""
+        self._search_timer.stop()
+        ids = None
+        text = self.search.text().strip()
+        if text and self._catalogue is not None:
+            try:
+                ids = [i.id for i in self._catalogue.list_ideas(text=text)]
+                self.search.setToolTip("")
+            except HunchbookError as exc:
+                ids = []
+                self.search.setToolTip(one_line(exc))
+        self.proxy.set_filters(stage=self.stage.currentData(), verdict=self.verdict.currentData(),
+                               market=self.market.currentData(), tag=self.tag.currentData(),
+                               author=self.author.currentData(), ids=ids)
+        self._show_count()
+
+    def focus_search(self) -> None:
+        """Put the keyboard in the search box with its text selected."""
+        self.search.setFocus(Qt.FocusReason.ShortcutFocusReason)
+        self.search.selectAll()
+
+    def current_idea_id(self) -> int:
+        """The selected idea's id, or -1."""
+        index = self.table.selectionModel().currentIndex()
+        return int(index.data(ID_ROLE)) if index.isValid() else -1
+
+    def select_idea(self, idea_id: int) -> bool:
+        """Select an idea in the table (clearing the filters if they hide it)."""
+        row = self._proxy_row(idea_id)
+        if row < 0 and self.model.row_of(idea_id) >= 0:
+            self.clear_filters()
+            row = self._proxy_row(idea_id)
+        if row < 0:
+            return False
+        index = self.proxy.index(row, 0)
+        self.table.selectionModel().setCurrentIndex(
+            index, QItemSelectionModel.SelectionFlag.ClearAndSelect
+            | QItemSelectionModel.SelectionFlag.Rows)
+        self.table.scrollTo(index)
+        return True
+
+    def clear_filters(self) -> None:
+        """Empty the search box and set every filter to any."""
+        for combo in (self.stage, self.verdict, self.market, self.tag, self.author):
+            combo.setCurrentIndex(0)
+        self.search.clear()
+        self.apply_filters()
+
+    def visible_ids(self) -> list[int]:
+        """Ids of the ideas the table shows, top to bottom."""
+        return [int(self.proxy.index(r, 0).data(ID_ROLE)) for r in range(self.proxy.rowCount())]
+
+    # -- internals ------------------------------------------------------------------------
+    def _combo(self, name: str, items: Sequence[tuple[str, str]]) -> QComboBox:
+        combo = QComboBox(self)
+        combo.setObjectName(f"{name.lower()}Filter")
+        combo.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
+        combo.setMinimumContentsLength(6)
+        combo.addItem(_ANY, None)
+        for label, value in items:
+            combo.addItem(label, value)
+        combo.currentIndexChanged.connect(self.apply_filters)
+        return combo
+
+    def _fill_choices(self, ideas: Sequence[IdeaSummary]) -> None:
+        for combo, values in (
+            (self.market, sorted({m for i in ideas for m in i.markets})),
+            (self.tag, sorted({t for i in ideas for t in i.tags})),
+            (self.author, sorted({i.submitted_by for i in ideas})),
+        ):
+            chosen = combo.currentData()
+            combo.blockSignals(True)
+            combo.clear()
+            combo.addItem(_ANY, None)
+            for value in values:
+                combo.addItem(value, value)
+            combo.setCurrentIndex(max(0, combo.findData(chosen)) if chosen else 0)
+            combo.blockSignals(False)
+
+    def _proxy_row(self, idea_id: int) -> int:
+        source_row = self.model.row_of(idea_id)
+        if source_row < 0:
+            return -1
+        return self.proxy.mapFromSource(self.model.index(source_row, 0)).row()
+
+    def _show_count(self) -> None:
+        shown, total = self.proxy.rowCount(), self.model.rowCount()
+        self.count.setText(f"{total} ideas" if shown == total else f"{shown} of {total} ideas")
+
+    def _current_changed(self, current: QModelIndex, previous: QModelIndex) -> None:
+        self.idea_selected.emit(int(current.data(ID_ROLE)) if current.isValid() else -1)

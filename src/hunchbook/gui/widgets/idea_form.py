@@ -1,0 +1,356 @@
+"""The Idea section: an idea's own fields, autosaved through ``Catalogue.update_idea``.
+
+Edits are saved after a short quiet time (and before another idea is shown). After the first
+run, pre-registration freezes the rationale and the markets: they show read-only with a note,
+and the "Amend with reason" dialog changes them with a written reason (which the catalogue
+keeps as a new pre-registration version).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from typing import Any
+
+from PySide6.QtCore import Qt, QTime, QTimer, Signal
+from PySide6.QtWidgets import (
+    QComboBox,
+    QDialog,
+    QDialogButtonBox,
+    QFormLayout,
+    QFrame,
+    QHBoxLayout,
+    QLabel,
+    QLineEdit,
+    QListWidget,
+    QListWidgetItem,
+    QPlainTextEdit,
+    QPushButton,
+    QScrollArea,
+    QVBoxLayout,
+    QWidget,
+)
+
+from hunchbook.catalogue import Catalogue
+from hunchbook.core.errors import HunchbookError
+from hunchbook.gui.feedback import one_line
+from hunchbook.store.records import Idea
+from hunchbook.store.vocab import RATIONALE_KINDS, SOURCE_KINDS
+
+#: Quiet time after the last edit before the idea is saved (ms).
+AUTOSAVE_DELAY_MS = 700
+
+RATIONALE_LABELS = {"risk_premium": "Risk premium", "behavioural": "Behavioural",
+                    "structural": "Structural or flow", "other": "Other"}
+SOURCE_LABELS = {"own": "Own idea", "paper": "Paper", "book": "Book", "web": "Web",
+                 "colleague": "Colleague"}
+
+
+class MarketPicker(QListWidget):
+    """Checkable markets: the data folder's market library plus any market already chosen
+    (those not in the library are marked)."""
+
+    changed = Signal()
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("marketPicker")
+        self.setMaximumHeight(150)
+        self.itemChanged.connect(lambda _item: self.changed.emit())
+
+    def set_markets(self, library: Iterable[str], chosen: Iterable[str]) -> None:
+        """List ``library`` ∪ ``chosen`` with ``chosen`` ticked (no signal)."""
+        chosen = tuple(chosen)
+        known = list(library)
+        self.blockSignals(True)
+        self.clear()
+        for symbol in [*known, *(m for m in chosen if m not in known)]:
+            label = symbol if symbol in known or not known else f"{symbol} (not in library)"
+            item = QListWidgetItem(label, self)
+            item.setData(Qt.ItemDataRole.UserRole, symbol)
+            item.setFlags(item.flags() | Qt.ItemFlag.ItemIsUserCheckable)
+            item.setCheckState(Qt.CheckState.Checked if symbol in chosen
+                               else Qt.CheckState.Unchecked)
+        self.blockSignals(False)
+
+    def chosen(self) -> tuple[str, ...]:
+        """The ticked markets, in list order."""
+        return tuple(self.item(n).data(Qt.ItemDataRole.UserRole) for n in range(self.count())
+                     if self.item(n).checkState() == Qt.CheckState.Checked)
+
+    def set_checked(self, symbol: str, checked: bool) -> None:
+        """Tick or untick one market."""
+        for n in range(self.count()):
+            if self.item(n).data(Qt.ItemDataRole.UserRole) == symbol:
+                self.item(n).setCheckState(Qt.CheckState.Checked if checked
+                                           else Qt.CheckState.Unchecked)
+
+
+class AmendDialog(QDialog):
+    """Change the frozen rationale and markets, with the reason for the change."""
+
+    def __init__(self, idea: Idea, library: Iterable[str], parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setWindowTitle("Amend the pre-registration")
+        self.setObjectName("amendDialog")
+        self.rationale = QPlainTextEdit(idea.rationale, self)
+        self.markets = MarketPicker(self)
+        self.markets.set_markets(library, idea.markets)
+        self.reason = QLineEdit(self)
+        self.reason.setPlaceholderText("Why the pre-registered idea changes (required)")
+        note = QLabel("The trial count keeps counting: amending after testing is recorded as "
+                      "a new pre-registration version.", self)
+        note.setWordWrap(True)
+        buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Ok
+                                   | QDialogButtonBox.StandardButton.Cancel, self)
+        buttons.accepted.connect(self.accept)
+        buttons.rejected.connect(self.reject)
+        self._ok = buttons.button(QDialogButtonBox.StandardButton.Ok)
+        self._ok.setEnabled(False)
+        self.reason.textChanged.connect(lambda t: self._ok.setEnabled(bool(t.strip())))
+        form = QFormLayout(self)
+        form.addRow(note)
+        form.addRow("Rationale", self.rationale)
+        form.addRow("Markets", self.markets)
+        form.addRow("Reason", self.reason)
+        form.addRow(buttons)
+
+    def changes(self) -> dict[str, Any]:
+        """The new rationale and markets."""
+        return {"rationale": self.rationale.toPlainText(), "markets": self.markets.chosen()}
+
+
+class IdeaForm(QScrollArea):
+    """Title, hypothesis, rationale and its kind, source, submitted by, markets and tags.
+
+    Signals
+    -------
+    idea_saved(int)
+        An edit of the idea was saved.
+    message(str)
+        A line for the status bar.
+    """
+
+    idea_saved = Signal(int)
+    message = Signal(str)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setWidgetResizable(True)
+        self.setFrameShape(QFrame.Shape.NoFrame)
+        self._catalogue: Catalogue | None = None
+        self._user = ""
+        self._idea: Idea | None = None
+        self._library: list[str] = []
+        self._timer = QTimer(self, singleShot=True, interval=AUTOSAVE_DELAY_MS)
+        self._timer.timeout.connect(self.save_now)
+
+        body = QWidget(self)
+        self.title = QLineEdit(body)
+        self.title.setObjectName("titleEdit")
+        self.hypothesis = QLineEdit(body)
+        self.hypothesis.setObjectName("hypothesisEdit")
+        self.rationale = QPlainTextEdit(body)
+        self.rationale.setObjectName("rationaleEdit")
+        self.rationale.setTabChangesFocus(True)
+        self.rationale.setMinimumHeight(70)
+        self.rationale.setMaximumHeight(130)
+        self.rationale_kind = _choice(body, RATIONALE_KINDS, RATIONALE_LABELS)
+        self.source_kind = _choice(body, SOURCE_KINDS, SOURCE_LABELS)
+        self.citation = QLineEdit(body)
+        self.citation.setPlaceholderText("Author, title, year \u2014 where the idea comes from")
+        self.link = QLineEdit(body)
+        self.link.setPlaceholderText("https://\u2026")
+        self.submitted_by = QLabel(body)
+        self.reviewer = QLabel(body)
+        self.markets = MarketPicker(body)
+        self.tags = QLineEdit(body)
+        self.tags.setObjectName("tagsEdit")
+        self.tags.setPlaceholderText("Comma-separated, e.g. trend, energy")
+        self.frozen_note = QLabel(body)
+        self.frozen_note.setObjectName("frozenNote")
+        self.frozen_note.setWordWrap(True)
+        self.amend = QPushButton("Amend with reason\u2026", body)
+        self.amend.setObjectName("amendButton")
+        self.amend.clicked.connect(self.open_amend_dialog)
+        self.saved_label = QLabel(body)
+        self.saved_label.setObjectName("savedLabel")
+        self.saved_label.setWordWrap(True)
+
+        frozen_row = QHBoxLayout()
+        frozen_row.addWidget(self.frozen_note, 1)
+        frozen_row.addWidget(self.amend)
+        form = QFormLayout()
+        form.setFieldGrowthPolicy(QFormLayout.FieldGrowthPolicy.ExpandingFieldsGrow)
+        form.addRow("Title", self.title)
+        form.addRow("Hypothesis", self.hypothesis)
+        form.addRow("Rationale", self.rationale)
+        form.addRow("Kind of rationale", self.rationale_kind)
+        form.addRow("Source", self.source_kind)
+        form.addRow("Citation", self.citation)
+        form.addRow("Link", self.link)
+        form.addRow("Markets", self.markets)
+        form.addRow("Tags", self.tags)
+        form.addRow("Submitted by", self.submitted_by)
+        form.addRow("Reviewer", self.reviewer)
+        layout = QVBoxLayout(body)
+        layout.addLayout(frozen_row)
+        layout.addLayout(form)
+        layout.addWidget(self.saved_label)
+        layout.addStretch(1)
+        self.setWidget(body)
+
+        for edit in (self.title, self.hypothesis, self.citation, self.link, self.tags):
+            edit.textEdited.connect(self._edited)
+        self.rationale.textChanged.connect(self._edited)
+        self.rationale_kind.currentIndexChanged.connect(self._edited)
+        self.source_kind.currentIndexChanged.connect(self._edited)
+        self.markets.changed.connect(self._edited)
+        self._set_enabled(False)
+
+    # -- public API -----------------------------------------------------------------------
+    def set_context(self, catalogue: Catalogue | None, user: str) -> None:
+        """The catalogue edits are saved to and the name they are saved under."""
+        self.save_now()
+        self._catalogue, self._user, self._idea = catalogue, user, None
+        self._set_enabled(False)
+
+    def set_market_choices(self, symbols: Iterable[str]) -> None:
+        """The market library the markets are picked from."""
+        self._library = list(symbols)
+        if self._idea is not None:
+            self.markets.set_markets(self._library, self.markets.chosen())
+
+    def show_idea(self, idea_id: int | None) -> None:
+        """Show an idea (saving pending edits of the previous one first); None clears."""
+        self.save_now()
+        if idea_id is None or self._catalogue is None:
+            self._idea = None
+            self._set_enabled(False)
+            return
+        self._fill(self._catalogue.idea(idea_id))
+
+    def idea(self) -> Idea | None:
+        """The idea shown, as last saved."""
+        return self._idea
+
+    def has_pending_edits(self) -> bool:
+        """Whether an edit waits for the autosave."""
+        return self._timer.isActive()
+
+    def save_now(self) -> bool:
+        """Save pending edits now; True when nothing is left unsaved."""
+        self._timer.stop()
+        if self._idea is None or self._catalogue is None:
+            return True
+        changes = self._changes()
+        if not changes:
+            return True
+        try:
+            idea = self._catalogue.update_idea(self._idea.id, by=self._user, **changes)
+        except HunchbookError as exc:
+            self.saved_label.setText(f"Not saved: {one_line(exc)}")
+            self.message.emit(f"Idea not saved: {one_line(exc)}")
+            return False
+        self._idea = idea
+        self._show_frozen(idea)
+        self.saved_label.setText(f"Saved at {QTime.currentTime().toString('HH:mm:ss')}.")
+        self.idea_saved.emit(idea.id)
+        return True
+
+    def open_amend_dialog(self) -> AmendDialog | None:
+        """Open the dialog that changes frozen fields with a reason (window-modal)."""
+        if self._idea is None:
+            return None
+        dialog = AmendDialog(self._idea, self._library, self)
+        dialog.accepted.connect(lambda: self.amend_frozen(dialog.reason.text(),
+                                                          **dialog.changes()))
+        dialog.open()
+        return dialog
+
+    def amend_frozen(self, reason: str, **changes: Any) -> bool:
+        """Change frozen fields with a reason (a new pre-registration version)."""
+        if self._idea is None or self._catalogue is None:
+            return False
+        try:
+            idea = self._catalogue.update_idea(self._idea.id, by=self._user, reason=reason,
+                                               **changes)
+        except HunchbookError as exc:
+            self.message.emit(f"Not amended: {one_line(exc)}")
+            return False
+        self._fill(idea)
+        self.message.emit("Pre-registration amended; the reason is in the journal.")
+        self.idea_saved.emit(idea.id)
+        return True
+
+    # -- internals ------------------------------------------------------------------------
+    def _fill(self, idea: Idea) -> None:
+        self._idea = idea
+        widgets = (self.title, self.hypothesis, self.rationale, self.rationale_kind,
+                   self.source_kind, self.citation, self.link, self.tags, self.markets)
+        for widget in widgets:
+            widget.blockSignals(True)
+        self.title.setText(idea.title)
+        self.hypothesis.setText(idea.hypothesis)
+        self.rationale.setPlainText(idea.rationale)
+        self.rationale_kind.setCurrentIndex(max(0, self.rationale_kind.findData(
+            idea.rationale_kind)))
+        self.source_kind.setCurrentIndex(max(0, self.source_kind.findData(idea.source_kind)))
+        self.citation.setText(idea.citation or "")
+        self.link.setText(idea.link or "")
+        self.tags.setText(", ".join(idea.tags))
+        self.markets.set_markets(self._library, idea.markets)
+        for widget in widgets:
+            widget.blockSignals(False)
+        self.submitted_by.setText(idea.submitted_by)
+        self.reviewer.setText(idea.reviewer or "not reviewed yet")
+        self.saved_label.setText("Edits are saved as you type.")
+        self._set_enabled(True)
+        self._show_frozen(idea)
+
+    def _show_frozen(self, idea: Idea) -> None:
+        frozen = idea.frozen_at is not None
+        self.rationale.setReadOnly(frozen)
+        self.markets.setEnabled(not frozen)
+        self.frozen_note.setVisible(frozen)
+        self.amend.setVisible(frozen)
+        if frozen:
+            self.frozen_note.setText(
+                f"Rationale and markets were frozen by pre-registration at the first run "
+                f"({idea.frozen_at[:10]}). Changing them needs a reason.")
+
+    def _changes(self) -> dict[str, Any]:
+        idea = self._idea
+        assert idea is not None
+        now: dict[str, Any] = {
+            "title": self.title.text().strip(),
+            "hypothesis": self.hypothesis.text().strip(),
+            "rationale_kind": self.rationale_kind.currentData(),
+            "source_kind": self.source_kind.currentData(),
+            "citation": self.citation.text().strip() or None,
+            "link": self.link.text().strip() or None,
+            "tags": tuple(t.strip() for t in self.tags.text().split(",") if t.strip()),
+        }
+        if idea.frozen_at is None:
+            now["rationale"] = self.rationale.toPlainText()
+            now["markets"] = self.markets.chosen()
+        return {k: v for k, v in now.items() if getattr(idea, k) != v}
+
+    def _edited(self, *_: object) -> None:
+        if self._idea is not None:
+            self.saved_label.setText("Editing\u2026")
+            self._timer.start()
+
+    def _set_enabled(self, enabled: bool) -> None:
+        for widget in (self.title, self.hypothesis, self.rationale, self.rationale_kind,
+                       self.source_kind, self.citation, self.link, self.markets, self.tags):
+            widget.setEnabled(enabled)
+        if not enabled:
+            self.frozen_note.hide()
+            self.amend.hide()
+
+
+def _choice(parent: QWidget, keys: Iterable[str], labels: dict[str, str]) -> QComboBox:
+    combo = QComboBox(parent)
+    for key in keys:
+        combo.addItem(labels.get(key, key), key)
+    return combo

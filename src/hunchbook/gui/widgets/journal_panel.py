@@ -1,0 +1,186 @@
+"""The Journal section: an idea's timeline, a note box and stage changes with a reason."""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QComboBox,
+    QGroupBox,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QLineEdit,
+    QPlainTextEdit,
+    QPushButton,
+    QTableView,
+    QVBoxLayout,
+    QWidget,
+)
+
+from hunchbook.catalogue import Catalogue
+from hunchbook.core.errors import HunchbookError
+from hunchbook.gui.feedback import one_line
+from hunchbook.gui.models import JournalModel
+from hunchbook.store.vocab import TRANSITIONS
+
+#: Stage changes that need a confirmation (they put an idea away).
+DESTRUCTIVE_STAGES = ("shelved",)
+
+
+class JournalPanel(QWidget):
+    """Timeline of one idea's journal, with "Add note" and "Change stage".
+
+    Parameters
+    ----------
+    confirm
+        Asks a yes/no question before a destructive stage change (shelving).
+
+    Signals
+    -------
+    idea_changed(int)
+        The idea's journal or stage changed.
+    message(str)
+        A line for the status bar.
+    """
+
+    idea_changed = Signal(int)
+    message = Signal(str)
+
+    def __init__(self, confirm: Callable[[str, str], bool],
+                 parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self._confirm = confirm
+        self._catalogue: Catalogue | None = None
+        self._user = ""
+        self._idea_id: int | None = None
+        self.model = JournalModel(self)
+        self.table = QTableView(self)
+        self.table.setObjectName("journalTable")
+        self.table.setModel(self.model)
+        self.table.setWordWrap(True)
+        self.table.setAlternatingRowColors(True)
+        self.table.setShowGrid(False)
+        self.table.verticalHeader().hide()
+        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.table.setVerticalScrollMode(QAbstractItemView.ScrollMode.ScrollPerPixel)
+        header = self.table.horizontalHeader()
+        for column in range(3):
+            header.setSectionResizeMode(column, QHeaderView.ResizeMode.ResizeToContents)
+        header.setSectionResizeMode(JournalModel.TEXT, QHeaderView.ResizeMode.Stretch)
+        header.sectionResized.connect(lambda *_: self.table.resizeRowsToContents())
+
+        self.note = QPlainTextEdit(self)
+        self.note.setObjectName("noteEdit")
+        self.note.setPlaceholderText("Write a note: what you saw, what you will try next\u2026")
+        self.note.setMaximumHeight(80)
+        self.note.setTabChangesFocus(True)
+        self.decision = QComboBox(self)
+        self.decision.addItem("Note", "note")
+        self.decision.addItem("Decision", "decision")
+        self.add = QPushButton("Add to journal", self)
+        self.add.setObjectName("addNoteButton")
+        self.add.clicked.connect(self.add_note)
+
+        self.stage = QComboBox(self)
+        self.stage.setObjectName("stageChoice")
+        self.reason = QLineEdit(self)
+        self.reason.setObjectName("stageReason")
+        self.reason.setPlaceholderText("Reason for the change (required)")
+        self.move = QPushButton("Change stage", self)
+        self.move.setObjectName("changeStageButton")
+        self.move.clicked.connect(self.change_stage)
+        self.current_stage = QLabel(self)
+
+        notes = QGroupBox("Add to the journal", self)
+        note_row = QHBoxLayout()
+        note_row.addWidget(self.decision)
+        note_row.addStretch(1)
+        note_row.addWidget(self.add)
+        notes_layout = QVBoxLayout(notes)
+        notes_layout.addWidget(self.note)
+        notes_layout.addLayout(note_row)
+        stages = QGroupBox("Stage", self)
+        stage_row = QHBoxLayout(stages)
+        stage_row.addWidget(self.current_stage)
+        stage_row.addWidget(QLabel("\u2192", self))
+        stage_row.addWidget(self.stage)
+        stage_row.addWidget(self.reason, 1)
+        stage_row.addWidget(self.move)
+        layout = QVBoxLayout(self)
+        layout.addWidget(self.table, 1)
+        layout.addWidget(notes)
+        layout.addWidget(stages)
+        self.setEnabled(False)
+
+    def set_context(self, catalogue: Catalogue | None, user: str) -> None:
+        """The catalogue written to and the name entries are written under."""
+        self._catalogue, self._user = catalogue, user
+        self.show_idea(None)
+
+    def show_idea(self, idea_id: int | None) -> None:
+        """Show an idea's journal and the stages it may move to (None clears)."""
+        self._idea_id = idea_id
+        if idea_id is None or self._catalogue is None:
+            self.model.set_entries([])
+            self.setEnabled(False)
+            return
+        self.setEnabled(True)
+        self.model.set_entries(self._catalogue.journal(idea_id))
+        self.table.resizeRowsToContents()
+        self.table.scrollToBottom()
+        stage = self._catalogue.idea(idea_id).stage
+        self.current_stage.setText(f"Now <b>{stage}</b>")
+        self.stage.clear()
+        for target in TRANSITIONS[stage]:
+            if target != "tested":  # reached by recording a run
+                self.stage.addItem(target, target)
+        self.stage.setEnabled(self.stage.count() > 0)
+        self.move.setEnabled(self.stage.count() > 0)
+
+    def add_note(self) -> bool:
+        """Append the note box's text as a note or decision."""
+        text = self.note.toPlainText().strip()
+        if self._idea_id is None or self._catalogue is None:
+            return False
+        if not text:
+            self.message.emit("Write the note first.")
+            return False
+        try:
+            self._catalogue.add_entry(idea_id=self._idea_id, kind=self.decision.currentData(),
+                                      text=text, by=self._user)
+        except HunchbookError as exc:
+            self.message.emit(f"Note not added: {one_line(exc)}")
+            return False
+        self.note.clear()
+        self.show_idea(self._idea_id)
+        self.message.emit("Added to the journal.")
+        self.idea_changed.emit(self._idea_id)
+        return True
+
+    def change_stage(self) -> bool:
+        """Move the idea to the chosen stage with the reason given (confirming shelving)."""
+        target = self.stage.currentData()
+        reason = self.reason.text().strip()
+        if self._idea_id is None or self._catalogue is None or target is None:
+            return False
+        if not reason:
+            self.message.emit("Give a reason for the stage change.")
+            self.reason.setFocus(Qt.FocusReason.OtherFocusReason)
+            return False
+        if target in DESTRUCTIVE_STAGES and not self._confirm(
+                "Shelve the idea?", "Shelve this idea? It leaves the active pipeline (it can "
+                "be brought back as a draft later)."):
+            return False
+        try:
+            self._catalogue.set_stage(self._idea_id, target, by=self._user, reason=reason)
+        except HunchbookError as exc:
+            self.message.emit(f"Stage not changed: {one_line(exc)}")
+            return False
+        self.reason.clear()
+        self.show_idea(self._idea_id)
+        self.message.emit(f"Moved to {target}.")
+        self.idea_changed.emit(self._idea_id)
+        return True

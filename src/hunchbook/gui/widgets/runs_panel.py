@@ -1,0 +1,137 @@
+"""The Runs section: an idea's run history with verdicts; the chosen run's results below."""
+
+from __future__ import annotations
+
+from PySide6.QtCore import QItemSelectionModel, QModelIndex, Qt, Signal
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QFrame,
+    QHeaderView,
+    QLabel,
+    QScrollArea,
+    QSplitter,
+    QTableView,
+    QVBoxLayout,
+    QWidget,
+)
+
+from hunchbook.catalogue import Catalogue
+from hunchbook.gui.models import ID_ROLE, RunTableModel
+from hunchbook.gui.widgets.results_view import ResultsView
+from hunchbook.store.records import RunRecord
+
+
+class RunsPanel(QWidget):
+    """Run history table (newest first) over a :class:`ResultsView` of the chosen run.
+
+    Signals
+    -------
+    run_shown(int)
+        The results of this run are now shown.
+    """
+
+    run_shown = Signal(int)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self._catalogue: Catalogue | None = None
+        self._idea_id: int | None = None
+        self._title = ""
+        self._run: RunRecord | None = None
+        self.model = RunTableModel(self)
+        self.table = QTableView(self)
+        self.table.setObjectName("runTable")
+        self.table.setModel(self.model)
+        self.table.setSortingEnabled(True)
+        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        self.table.setAlternatingRowColors(True)
+        self.table.setShowGrid(False)
+        self.table.setWordWrap(False)
+        self.table.verticalHeader().hide()
+        header = self.table.horizontalHeader()
+        header.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        header.setSectionResizeMode(RunTableModel.VERDICT, QHeaderView.ResizeMode.Stretch)
+        header.setHighlightSections(False)
+        self.table.sortByColumn(RunTableModel.RUN, Qt.SortOrder.DescendingOrder)
+        self.table.selectionModel().currentRowChanged.connect(self._current_changed)
+        self.empty = QLabel("No runs yet. Write the rules, then press Ctrl+R for a quick run.",
+                            self)
+        self.empty.setObjectName("noRunsLabel")
+        self.empty.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        self.results = ResultsView(self)
+        # the results' charts need room: on a small screen they scroll instead of forcing a
+        # tall window
+        self.results_area = QScrollArea(self)
+        self.results_area.setObjectName("resultsArea")
+        self.results_area.setWidgetResizable(True)
+        self.results_area.setFrameShape(QFrame.Shape.NoFrame)
+        self.results_area.setWidget(self.results)
+
+        self.top = top = QWidget(self)
+        top_layout = QVBoxLayout(top)
+        top_layout.setContentsMargins(0, 0, 0, 0)
+        top_layout.addWidget(self.table)
+        top_layout.addWidget(self.empty)
+        self.splitter = QSplitter(Qt.Orientation.Vertical, self)
+        self.splitter.setObjectName("runsSplitter")
+        self.splitter.addWidget(top)
+        self.splitter.addWidget(self.results_area)
+        self.splitter.setStretchFactor(0, 0)
+        self.splitter.setStretchFactor(1, 1)
+        self.splitter.setSizes([130, 700])
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.addWidget(self.splitter)
+        self.show_idea(None)
+
+    def set_context(self, catalogue: Catalogue | None) -> None:
+        """The catalogue runs are read from."""
+        self._catalogue = catalogue
+        self.show_idea(None)
+
+    def show_idea(self, idea_id: int | None, *, run_id: int | None = None) -> None:
+        """List an idea's runs and show one (``run_id``, else the newest)."""
+        self._idea_id = idea_id
+        runs = [] if idea_id is None or self._catalogue is None else self._catalogue.runs(idea_id)
+        self._title = (self._catalogue.idea(idea_id).title
+                       if idea_id is not None and self._catalogue is not None else "")
+        self.model.set_runs(runs)
+        self.table.setVisible(bool(runs))
+        self.empty.setVisible(not runs)
+        rows = self.table.verticalHeader().defaultSectionSize() * min(max(len(runs), 1), 6)
+        self.top.setMaximumHeight(self.table.horizontalHeader().sizeHint().height() + rows
+                                  + 2 * self.table.frameWidth() + 2)
+        if not runs:
+            self._run = None
+            self.results.clear()
+            return
+        wanted = run_id if run_id is not None else max(r.id for r in runs)
+        self.select_run(wanted)
+
+    def select_run(self, run_id: int) -> bool:
+        """Choose a run in the history (its results are shown)."""
+        row = self.model.row_of(run_id)
+        if row < 0:
+            return False
+        self.table.selectionModel().setCurrentIndex(
+            self.model.index(row, 0), QItemSelectionModel.SelectionFlag.ClearAndSelect
+            | QItemSelectionModel.SelectionFlag.Rows)
+        if self._run is None or self._run.id != run_id:
+            self._show_run(run_id)
+        return True
+
+    def current_run(self) -> RunRecord | None:
+        """The run whose results are shown (daily P&L decoded), if any."""
+        return self._run
+
+    def _current_changed(self, current: QModelIndex, previous: QModelIndex) -> None:
+        if current.isValid():
+            self._show_run(int(current.data(ID_ROLE)))
+
+    def _show_run(self, run_id: int) -> None:
+        if self._catalogue is None:
+            return
+        self._run = self._catalogue.run(run_id)
+        self.results.show_run(self._run, title=self._title)
+        self.run_shown.emit(run_id)
