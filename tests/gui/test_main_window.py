@@ -478,6 +478,7 @@ def test_demo_opens_on_the_accepted_idea_with_its_data(qtbot, tmp_path):
         assert (win.data_folder / "markets.toml").is_file()
         assert len(win.library) == 8
         assert not win.remembered_paths()[0]
+        assert win.user == "Test Reviewer"  # $HUNCHBOOK_USER wins over the demo's lead
     finally:
         session.window.close()
         session.cleanup()

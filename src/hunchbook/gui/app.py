@@ -5,7 +5,8 @@ Options
 -------
 ``--demo``
     Write the demo catalogue and, on a worker, the invented demo data into a temporary
-    folder, and open the window on them (removed when the window closes).
+    folder, and open the window on them (removed when the window closes). You act as the
+    invented desk's research lead unless ``$HUNCHBOOK_USER`` names someone.
 ``--catalogue PATH``
     The catalogue file (default: the last one opened, else
     :func:`hunchbook.catalogue.default_catalogue_path`).
@@ -36,7 +37,7 @@ from PySide6.QtCore import QCoreApplication, QEventLoop, Qt, QTimer
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication
 
-from hunchbook.gui.feedback import install_excepthook
+from hunchbook.gui.feedback import USER_ENV, install_excepthook
 from hunchbook.gui.main_window import SECTIONS, MainWindow
 from hunchbook.gui.workers import CallWorker
 
@@ -120,8 +121,8 @@ def start(options: argparse.Namespace) -> Session:
     if options.screenshot is not None:
         os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
     app = application()
-    window = MainWindow(remember=not options.demo,
-                        keep_layout=options.screenshot is None)
+    window = MainWindow(remember=not options.demo, keep_layout=options.screenshot is None,
+                        user=_demo_user() if options.demo else None)
     session = Session(app=app, window=window)
     if options.size:
         window.resize(*options.size)
@@ -143,6 +144,13 @@ def start(options: argparse.Namespace) -> Session:
         window.show_section(options.section)
     window.show()
     return session
+
+
+def _demo_user() -> str:
+    """In the demo you act as the invented desk's research lead (unless $HUNCHBOOK_USER)."""
+    from hunchbook.demo import DESK
+
+    return os.environ.get(USER_ENV) or DESK.lead.name
 
 
 def _default_catalogue() -> Path:

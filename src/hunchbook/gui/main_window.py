@@ -78,7 +78,7 @@ def starter_rules(idea: Idea) -> str:
     title = idea.title.replace("\\", "\\\\").replace('"', '\\"')
     markets = ", ".join(f'"{m}"' for m in idea.markets)
     note = "" if markets else "# Name the markets this idea trades, e.g. [\"CRUDE\"].\n"
-    return (f"# First rule file for this idea: edit the signal and the grid, then press Ctrl+R.\n"
+    return (f"# A starting point: edit the signal and the grid, then press Ctrl+R.\n"
             f'name = "{title}"\n{note}markets = [{markets}]\n\n'
             "[parameters]\nn = [20, 60, 120]\n\n"
             "[signal]\nposition = \"sign(close - mean(close, n))\"\n\n"
@@ -160,6 +160,9 @@ class MainWindow(QMainWindow):
         do not, so that they always look the same).
     processes
         Worker processes for quick-run sweeps (default: the sweep's own choice).
+    user
+        The name edits, reviews and runs are written under (default:
+        :func:`~hunchbook.gui.feedback.current_user`).
 
     Signals
     -------
@@ -182,7 +185,8 @@ class MainWindow(QMainWindow):
     curves_shown = Signal(dict)
 
     def __init__(self, *, remember: bool = True, keep_layout: bool = True,
-                 processes: int | None = None, parent: QWidget | None = None) -> None:
+                 processes: int | None = None, user: str | None = None,
+                 parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.setObjectName("hunchbookMainWindow")
         self.setWindowTitle("Hunchbook")
@@ -190,7 +194,7 @@ class MainWindow(QMainWindow):
         self.remember = remember
         self.keep_layout = keep_layout
         self.processes = processes
-        self.user = feedback.current_user()
+        self.user = user or feedback.current_user()
         self.catalogue: Catalogue | None = None
         self.data_folder: Path | None = None
         self.library: list[str] = []
@@ -273,7 +277,7 @@ class MainWindow(QMainWindow):
         self.splitter.addWidget(right)
         self.splitter.setStretchFactor(0, 0)
         self.splitter.setStretchFactor(1, 1)
-        self.splitter.setSizes([560, 880])
+        self.splitter.setSizes([600, 840])
         self.splitter.setChildrenCollapsible(False)
         self.setCentralWidget(self.splitter)
 
@@ -382,6 +386,9 @@ class MainWindow(QMainWindow):
             bar.addPermanentWidget(widget)
             widget.hide()
         bar.addPermanentWidget(self.data_label)
+        self.user_label = QLabel(f"Working as {self.user}", self)
+        self.user_label.setObjectName("userLabel")
+        bar.addPermanentWidget(self.user_label)
         self._show_data_folder()
 
     # -- catalogue and data folder --------------------------------------------------------

@@ -180,8 +180,19 @@ class _RecordTableModel(QAbstractTableModel):
 class IdeaTableModel(_RecordTableModel):
     """Ideas (``IdeaSummary`` lines): title, stage, last verdict, net Sharpe, trials, updated."""
 
-    COLUMNS = ("Title", "Stage", "Last verdict", "Net Sharpe", "Trials", "Updated")
+    COLUMNS = ("Title", "Stage", "Last verdict", "Sharpe", "Trials", "Updated")
     TITLE, STAGE, VERDICT, SHARPE, TRIALS, UPDATED = range(6)
+    #: Header tooltips, one per column.
+    TIPS = ("The idea's title", "Where the idea is in the pipeline",
+            "Verdict of the latest run", "Net Sharpe ratio of the latest run's chosen set",
+            "Distinct parameter sets ever run (the trial count)", "Last change")
+
+    def headerData(self, section: int, orientation: Qt.Orientation,  # noqa: N802
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if (role == Qt.ItemDataRole.ToolTipRole and orientation == Qt.Orientation.Horizontal
+                and 0 <= section < len(self.TIPS)):
+            return self.TIPS[section]
+        return super().headerData(section, orientation, role)
 
     def set_ideas(self, ideas: Sequence[IdeaSummary]) -> None:
         """Show these ideas."""

@@ -77,10 +77,10 @@ class CataloguePanel(QWidget):
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setSectionResizeMode(IdeaTableModel.TITLE, QHeaderView.ResizeMode.Stretch)
         unit = self.fontMetrics().horizontalAdvance("0")
-        for column, chars in ((IdeaTableModel.STAGE, 10), (IdeaTableModel.VERDICT, 15),
-                              (IdeaTableModel.SHARPE, 10), (IdeaTableModel.TRIALS, 6),
-                              (IdeaTableModel.UPDATED, 11)):
-            header.resizeSection(column, chars * unit + 12)
+        for column, chars in ((IdeaTableModel.STAGE, 9), (IdeaTableModel.VERDICT, 14),
+                              (IdeaTableModel.SHARPE, 7), (IdeaTableModel.TRIALS, 6),
+                              (IdeaTableModel.UPDATED, 10)):
+            header.resizeSection(column, chars * unit + 10)
         header.setHighlightSections(False)
         header.setMinimumSectionSize(40)
         self.table.sortByColumn(IdeaTableModel.UPDATED, Qt.SortOrder.DescendingOrder)

@@ -100,8 +100,10 @@ class RunsPanel(QWidget):
         self.table.setVisible(bool(runs))
         self.empty.setVisible(not runs)
         rows = self.table.verticalHeader().defaultSectionSize() * min(max(len(runs), 1), 6)
-        self.top.setMaximumHeight(self.table.horizontalHeader().sizeHint().height() + rows
-                                  + 2 * self.table.frameWidth() + 2)
+        height = (self.table.horizontalHeader().sizeHint().height() + rows
+                  + 2 * self.table.frameWidth() + 2)
+        total = sum(self.splitter.sizes()) or 800
+        self.splitter.setSizes([height, max(total - height, 100)])
         if not runs:
             self._run = None
             self.results.clear()
