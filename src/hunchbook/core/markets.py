@@ -2,14 +2,20 @@
 
 from __future__ import annotations
 
+import contextlib
 import math
 import os
+import stat
+import tempfile
 from collections.abc import Mapping
 from dataclasses import dataclass, replace
 from pathlib import Path
 
 import tomlkit
-from tomlkit.exceptions import ParseError
+from tomlkit.container import Container
+from tomlkit.exceptions import ParseError, TOMLKitError
+from tomlkit.items import Item, Table
+from tomlkit.toml_document import TOMLDocument
 
 from hunchbook.core.errors import MarketSpecError
 
@@ -132,3 +138,167 @@ def _market_from_table(symbol: str, table: dict, file: str | None) -> MarketSpec
             raise fail(key, f"expected {REQUIRED_KEYS[key]}, got {value!r}")
         values[key] = number
     return MarketSpec(symbol=symbol, **values)  # type: ignore[arg-type]
+
+
+#: Keys of a market table in the order the writer puts them.
+LIBRARY_KEY_ORDER = ("name", "sector", "multiplier", "tick_size", "currency", "commission",
+                     "exchange_fee", "regulatory_fee", "slippage_ticks")
+#: Whole floats below this size are written as integers (1000, not 1000.0).
+_EXACT_INTEGER_LIMIT = 2**53
+
+
+def dump_market_library(specs: Mapping[str, MarketSpec], *, original: str | None = None) -> str:
+    """Render market specifications as market library TOML text.
+
+    Parameters
+    ----------
+    specs
+        Specifications keyed by symbol, in the order they are written.
+    original
+        The library text ``specs`` were loaded from. When given, that document is updated in
+        place: only values that differ are rewritten and keys or tables are added or removed as
+        needed, so the user's comments and layout survive.
+
+    Returns
+    -------
+    str
+        TOML text; :func:`parse_market_library` of it gives back ``specs``. Should the original's
+        layout defeat an in-place update, the canonical text is returned instead.
+
+    Raises
+    ------
+    MarketSpecError
+        If a specification is invalid (naming market and key), a key differs from its
+        specification's symbol, ``specs`` is empty, or ``original`` is not valid TOML.
+    """
+    wanted = {symbol: _library_values(symbol, spec) for symbol, spec in specs.items()}
+    canonical = tomlkit.document()
+    for symbol, values in wanted.items():
+        table = tomlkit.table()
+        for key, value in values.items():
+            table[key] = _library_item(value)
+        canonical[symbol] = table
+    text = canonical.as_string()
+    meaning = parse_market_library(text)
+    if original is None:
+        return text
+    try:
+        document = tomlkit.parse(original.removeprefix("\ufeff"))
+    except (TOMLKitError, ValueError, RecursionError) as err:
+        raise MarketSpecError(f"the original market library text is not valid TOML: {err}"
+                              ) from None
+    try:
+        _update_library(document, wanted)
+        edited = document.as_string()
+        if parse_market_library(edited) == meaning:
+            return edited
+    except Exception:  # tomlkit cannot edit some layouts in place: use the canonical text
+        pass
+    return text
+
+
+def write_market_library(specs: Mapping[str, MarketSpec], path: str | os.PathLike[str], *,
+                         original: str | None = None) -> None:
+    """Write market specifications to a library file atomically (temporary file, then rename).
+
+    Parameters
+    ----------
+    specs
+        Specifications keyed by symbol.
+    path
+        Destination file; an existing file keeps its permissions.
+    original
+        The library text to update in place, as for :func:`dump_market_library`.
+
+    Raises
+    ------
+    MarketSpecError
+        If a specification is invalid or the file cannot be written; the error names the file.
+    """
+    name = os.fspath(path)
+    try:
+        data = dump_market_library(specs, original=original).encode("utf-8")
+    except MarketSpecError as err:
+        raise replace(err, file=err.file or name) from None
+    folder = os.path.dirname(os.path.abspath(name))
+    temporary = None
+    try:
+        handle, temporary = tempfile.mkstemp(dir=folder, prefix=f".{os.path.basename(name)}.",
+                                             suffix=".tmp")
+        with os.fdopen(handle, "wb") as stream:
+            stream.write(data)
+            stream.flush()
+            os.fsync(stream.fileno())
+        mode = stat.S_IMODE(os.stat(name).st_mode) if os.path.exists(name) else 0o644
+        os.chmod(temporary, mode)
+        os.replace(temporary, name)
+    except OSError as err:
+        if temporary is not None:
+            with contextlib.suppress(OSError):
+                os.unlink(temporary)
+        raise MarketSpecError(f"cannot write market library: {err.strerror or err}",
+                              file=name) from None
+
+
+def _library_values(symbol: str, spec: MarketSpec) -> dict[str, str | float]:
+    """One market's table content as plain values, in writing order (absent names left out)."""
+    if symbol != spec.symbol:
+        raise MarketSpecError(f"listed under '{symbol}' but its symbol is '{spec.symbol}'",
+                              market=symbol)
+    values = {key: getattr(spec, key) for key in LIBRARY_KEY_ORDER}
+    return {key: value for key, value in values.items() if value is not None}
+
+
+def _library_item(value: str | float) -> Item:
+    """A tomlkit item for a plain value; whole floats become integers."""
+    if isinstance(value, float) and value.is_integer() and abs(value) < _EXACT_INTEGER_LIMIT:
+        return tomlkit.integer(int(value))
+    return tomlkit.item(value)
+
+
+def _update_library(document: TOMLDocument, wanted: dict[str, dict[str, str | float]]) -> None:
+    """Make ``document`` hold ``wanted``, touching only what differs."""
+    for symbol in [s for s in document if s not in wanted]:
+        del document[symbol]
+    for symbol, values in wanted.items():
+        if symbol not in document:
+            table = tomlkit.table()
+            for key, value in values.items():
+                table[key] = _library_item(value)
+            document[symbol] = table
+            continue
+        table = document[symbol]
+        for key in [k for k in table if k not in values]:
+            del table[key]
+        for key, value in values.items():
+            if key not in table:
+                _insert_in_order(table, key, _library_item(value))
+            elif not _same_value(_plain(table[key]), value):
+                table[key] = _library_item(value)
+
+
+def _insert_in_order(table: Table, key: str, item: Item) -> None:
+    """Add a key after the nearest key that precedes it in writing order (before trailing
+    comments that belong to the next table)."""
+    before = LIBRARY_KEY_ORDER[:LIBRARY_KEY_ORDER.index(key)]
+    present = [k for k in before if k in table]
+    body = table.value
+    if present:
+        body._insert_after(present[-1], key, item)
+        return
+    first = next((i for i, (k, _) in enumerate(body.body) if k is not None), None)
+    if first is None:
+        table[key] = item
+    else:
+        body._insert_at(first, key, item)
+
+
+def _plain(value: object) -> object:
+    return value.unwrap() if isinstance(value, Item | Container) else value
+
+
+def _same_value(have: object, want: str | float) -> bool:
+    """Whether a value in the file already means ``want`` (1000 == 1000.0)."""
+    if isinstance(want, str):
+        return isinstance(have, str) and have == want
+    return isinstance(have, int | float) and not isinstance(have, bool) and have == want
