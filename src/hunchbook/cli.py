@@ -17,6 +17,7 @@ from hunchbook import __version__
 from hunchbook.api import SetResult, Study, SweepReport, load_data, load_rules
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
+from hunchbook.core.data_check import check_data_folder, format_data_check
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.pnl_file import read_pnl_csv
 from hunchbook.core.stats import first_pass_statistics
@@ -112,6 +113,19 @@ def _build_parser() -> argparse.ArgumentParser:
     stats.set_defaults(handler=_cmd_stats)
 
     register_catalogue_commands(commands)
+
+    data = commands.add_parser(
+        "data", help="data folder tools",
+        description="Data folder tools: check that every market's file reads and splices.")
+    data_commands = data.add_subparsers(dest="data_command", required=True, metavar="COMMAND")
+    check = data_commands.add_parser(
+        "check", help="check a data folder: library, files, rows, dates, continuous series",
+        description="Check a data folder: the market library loads, every market has a file "
+                    "that reads, and each series splices with the default roll. Exits 1 when "
+                    "any problem is found.",
+        epilog="Example: hunchbook data check build/demo-data")
+    check.add_argument("folder", metavar="DIR", type=Path)
+    check.set_defaults(handler=_cmd_data_check)
 
     demo = commands.add_parser(
         "demo-data", help="write the invented demo desk's market library and price files",
@@ -248,6 +262,12 @@ def _cmd_stats(args: argparse.Namespace) -> int:
                    "statistics": stats.to_dict(), "verdict": dataclasses.asdict(verdict)}
         _write_atomic(args.json, lambda f: json.dump(_json_safe(payload), f, indent=2))
     return 0
+
+
+def _cmd_data_check(args: argparse.Namespace) -> int:
+    report = check_data_folder(args.folder)
+    print(format_data_check(report))
+    return 0 if report.ok else 1
 
 
 def _cmd_demo_data(args: argparse.Namespace) -> int:

@@ -91,3 +91,15 @@ def test_stats_bad_files(tmp_path, capsys, text, message):
     assert main(["stats", str(path)]) == 1
     err = capsys.readouterr().err
     assert message in err and str(path) in err and err.count("\n") == 1
+
+
+def test_data_check_command(demo_dir, tmp_path, capsys):
+    assert main(["data", "check", str(demo_dir)]) == 0
+    assert "8 ok" in capsys.readouterr().out
+    broken = tmp_path / "broken"
+    shutil.copytree(demo_dir, broken)
+    lines = (broken / "GOLD.csv").read_text().splitlines()
+    (broken / "GOLD.csv").write_text("\n".join([*lines, lines[-1]]) + "\n")  # a duplicate row
+    assert main(["data", "check", str(broken)]) == 1
+    out = capsys.readouterr().out
+    assert "GOLD.csv" in out and f"line {len(lines) + 1}" in out and "duplicate row" in out

@@ -19,3 +19,24 @@ def _isolated_settings(tmp_path, monkeypatch):
                       str(tmp_path / "settings"))
     monkeypatch.setenv("HUNCHBOOK_CATALOGUE", str(tmp_path / "user-catalogue.sqlite"))
     monkeypatch.setenv("HUNCHBOOK_USER", "Test Reviewer")
+
+
+@pytest.fixture(autouse=True)
+def _no_blocking_message_boxes(monkeypatch):
+    """A blocking question or warning box would hang a headless run: answer the safe way
+    (No / Cancel / Ok) and record what was asked. Tests that need another answer patch again."""
+    from PySide6.QtWidgets import QMessageBox
+
+    asked: list[tuple[str, str]] = []
+
+    def answer(kind, default):
+        def box(parent, title, text, *args, **kwargs):
+            asked.append((kind, title))
+            return default
+        return staticmethod(box)
+
+    button = QMessageBox.StandardButton
+    monkeypatch.setattr(QMessageBox, "question", answer("question", button.Cancel))
+    for kind in ("warning", "critical", "information"):
+        monkeypatch.setattr(QMessageBox, kind, answer(kind, button.Ok))
+    return asked
