@@ -33,7 +33,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from PySide6.QtCore import QCoreApplication, QEventLoop, Qt, QTimer
+from PySide6.QtCore import QCoreApplication, QEventLoop, Qt
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication
 
@@ -60,13 +60,11 @@ class Session:
         worker = self.demo_worker
         if worker is None:
             return True
-        loop = QEventLoop()
-        worker.signals.finished.connect(loop.quit)
-        worker.signals.failed.connect(loop.quit)
-        QTimer.singleShot(timeout_ms, loop.quit)
-        if not worker.done.is_set():
-            loop.exec()
-        QCoreApplication.processEvents()
+        deadline = time.monotonic() + timeout_ms / 1000
+        while not worker.done.is_set() and time.monotonic() < deadline:
+            QCoreApplication.processEvents(QEventLoop.ProcessEventsFlag.AllEvents, 50)
+            worker.done.wait(0.01)
+        QCoreApplication.processEvents()  # deliver the worker's last (queued) signals
         return self.window.data_folder is not None
 
     def cleanup(self) -> None:
