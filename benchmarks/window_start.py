@@ -33,6 +33,7 @@ QCoreApplication.processEvents()
 print("shown", time.time(), flush=True)
 session.wait_for_demo_data()
 print("data", time.time(), flush=True)
+window.keep_layout = False  # leave the user's saved window layout alone
 window.close()
 session.cleanup()
 """
