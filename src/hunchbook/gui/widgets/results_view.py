@@ -176,8 +176,9 @@ class ResultsView(QWidget):
 
     def _recolour(self) -> None:
         palette = self.caution.palette()
-        muted = mix_colours(self.palette().color(QPalette.ColorRole.Window),
-                            self.palette().color(QPalette.ColorRole.WindowText), 0.6)
+        active = QPalette.ColorGroup.Active  # a disabled moment must not fix a grey colour
+        muted = mix_colours(self.palette().color(active, QPalette.ColorRole.Window),
+                            self.palette().color(active, QPalette.ColorRole.WindowText), 0.6)
         palette.setColor(QPalette.ColorRole.WindowText, muted)
         self.caution.setPalette(palette)
 

@@ -33,7 +33,7 @@ def mix_colours(a: QColor, b: QColor, share_of_b: float) -> QColor:
 def banner_colours(outcome: str, palette: QPalette) -> tuple[QColor, QColor, QColor]:
     """Background, stripe and label colours of an outcome, readable on the given palette."""
     hue = OUTCOME_HUES.get(outcome, NEUTRAL_HUE)
-    window = palette.color(QPalette.ColorRole.Window)
+    window = palette.color(QPalette.ColorGroup.Active, QPalette.ColorRole.Window)
     dark = window.lightnessF() < 0.5
     background = mix_colours(window, hue, 0.26 if dark else 0.13)
     label = hue.lighter(150) if dark else hue.darker(135)
@@ -122,7 +122,7 @@ class VerdictBanner(QFrame):
 
     def _recolour(self) -> None:
         background, _, label = banner_colours(self.outcome, self.palette())
-        text = self.palette().color(QPalette.ColorRole.WindowText)
+        text = self.palette().color(QPalette.ColorGroup.Active, QPalette.ColorRole.WindowText)
         _set_text_colour(self.label, label)
         _set_text_colour(self.action, text)
         _set_text_colour(self.reasons, text)
