@@ -17,9 +17,12 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 from hunchbook.core.errors import HunchbookError
-from hunchbook.core.stats.first_pass import FirstPassStats
+
+if TYPE_CHECKING:  # labels are read by the window at start-up: keep scipy out of this import
+    from hunchbook.core.stats.first_pass import FirstPassStats
 
 #: Short product label of each outcome.
 LABELS = {
