@@ -2,7 +2,6 @@
 VENV   := .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed-$(shell python3 -c "import hashlib,sys;print(hashlib.sha1(open('pyproject.toml','rb').read()).hexdigest()[:12])")
-export QT_QPA_PLATFORM ?= offscreen
 
 .PHONY: demo test setup
 
@@ -15,10 +14,9 @@ $(STAMP): pyproject.toml
 	rm -f $(VENV)/.installed-* && touch $(STAMP)
 
 demo: $(STAMP)
-	$(VENV)/bin/hunchbook demo-data build/demo-data
-	$(VENV)/bin/hunchbook run examples/demo.toml --data build/demo-data
+	$(VENV)/bin/hunchbook --demo
 
 test: $(STAMP)
 	$(VENV)/bin/ruff check src tests benchmarks
 	$(VENV)/bin/lint-imports
-	$(PY) -m pytest
+	QT_QPA_PLATFORM=offscreen $(PY) -m pytest
