@@ -4,11 +4,10 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
+import io
 import json
 import math
-import os
 import sys
-import tempfile
 from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
@@ -17,6 +16,7 @@ from hunchbook import __version__
 from hunchbook.api import SetResult, Study, SweepReport, load_data, load_rules
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
+from hunchbook.core.atomic import write_atomically
 from hunchbook.core.data_check import check_data_folder, format_data_check
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.pnl_file import read_pnl_csv
@@ -280,16 +280,10 @@ def _cmd_demo_data(args: argparse.Namespace) -> int:
 
 
 def _write_atomic(path: Path, write: Callable[[Any], None]) -> None:
-    """Write a file through a temporary sibling so that a failure never leaves half a file."""
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(dir=path.parent if str(path.parent) else ".", prefix=".hunchbook-")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            write(handle)
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+    """Write a text file whole or not at all (``write`` fills a text buffer)."""
+    buffer = io.StringIO(newline="")
+    write(buffer)
+    write_atomically(path, buffer.getvalue().encode("utf-8"))
 
 
 def _json_safe(value: Any) -> Any:

@@ -2,11 +2,8 @@
 
 from __future__ import annotations
 
-import contextlib
 import math
 import os
-import stat
-import tempfile
 from collections.abc import Mapping
 from dataclasses import dataclass, replace
 from pathlib import Path
@@ -17,6 +14,7 @@ from tomlkit.exceptions import ParseError, TOMLKitError
 from tomlkit.items import Item, Table
 from tomlkit.toml_document import TOMLDocument
 
+from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import MarketSpecError
 
 #: Keys every market table must have, with the kind of value expected.
@@ -220,22 +218,9 @@ def write_market_library(specs: Mapping[str, MarketSpec], path: str | os.PathLik
         data = dump_market_library(specs, original=original).encode("utf-8")
     except MarketSpecError as err:
         raise replace(err, file=err.file or name) from None
-    folder = os.path.dirname(os.path.abspath(name))
-    temporary = None
     try:
-        handle, temporary = tempfile.mkstemp(dir=folder, prefix=f".{os.path.basename(name)}.",
-                                             suffix=".tmp")
-        with os.fdopen(handle, "wb") as stream:
-            stream.write(data)
-            stream.flush()
-            os.fsync(stream.fileno())
-        mode = stat.S_IMODE(os.stat(name).st_mode) if os.path.exists(name) else 0o644
-        os.chmod(temporary, mode)
-        os.replace(temporary, name)
+        write_atomically(name, data)
     except OSError as err:
-        if temporary is not None:
-            with contextlib.suppress(OSError):
-                os.unlink(temporary)
         raise MarketSpecError(f"cannot write market library: {err.strerror or err}",
                               file=name) from None
 

@@ -10,12 +10,12 @@ from __future__ import annotations
 import base64
 import html
 import os
-import tempfile
 from pathlib import Path
 
 from PySide6.QtCore import QBuffer, QByteArray, QIODevice, Qt
 from PySide6.QtWidgets import QWidget
 
+from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.charts.result_charts import ResultCharts
 from hunchbook.gui.charts.run_figures import (
@@ -240,16 +240,8 @@ def write_html_report(path: str | os.PathLike[str], *, idea: Idea, run: RunRecor
     """
     target = Path(path)
     text = report_html(idea=idea, run=run, rule_text=rule_text, images=images)
-    tmp_name = None
     try:
-        with tempfile.NamedTemporaryFile("w", encoding="utf-8", dir=target.parent,
-                                         prefix=f".{target.name}.", suffix=".tmp",
-                                         delete=False) as tmp:
-            tmp_name = tmp.name
-            tmp.write(text)
-        os.replace(tmp_name, target)
+        write_atomically(target, text.encode("utf-8"))
     except OSError as exc:
-        if tmp_name is not None and os.path.exists(tmp_name):
-            os.unlink(tmp_name)
         raise HunchbookError(f"report '{target}': could not write it ({exc.strerror or exc})"
                              ) from None

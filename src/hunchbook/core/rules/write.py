@@ -2,11 +2,8 @@
 
 from __future__ import annotations
 
-import contextlib
 import datetime as dt
 import os
-import stat
-import tempfile
 from typing import Any
 
 import tomlkit
@@ -14,6 +11,7 @@ from tomlkit.container import Container
 from tomlkit.exceptions import TOMLKitError
 from tomlkit.items import Item, Table
 
+from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import RuleError
 from hunchbook.core.rules.model import ParamRange, RollSpec, RuleSpec, SizingSpec
 from hunchbook.core.rules.parse import CONSTRAINT_KEY, parse_rules
@@ -104,22 +102,9 @@ def write_rules(spec: RuleSpec, path: str | os.PathLike[str], *,
         data = dump_rules(spec, original=original).encode("utf-8")
     except RuleError as err:
         raise err.located(file=name) from None
-    folder = os.path.dirname(os.path.abspath(name))
-    temporary = None
     try:
-        handle, temporary = tempfile.mkstemp(dir=folder, prefix=f".{os.path.basename(name)}.",
-                                             suffix=".tmp")
-        with os.fdopen(handle, "wb") as stream:
-            stream.write(data)
-            stream.flush()
-            os.fsync(stream.fileno())
-        mode = stat.S_IMODE(os.stat(name).st_mode) if os.path.exists(name) else 0o644
-        os.chmod(temporary, mode)
-        os.replace(temporary, name)
+        write_atomically(name, data)
     except OSError as err:
-        if temporary is not None:
-            with contextlib.suppress(OSError):
-                os.unlink(temporary)
         raise RuleError(f"cannot write rule file: {err.strerror or err}", file=name) from None
 
 
