@@ -12,6 +12,27 @@ import math
 import numpy as np
 import pandas as pd
 
+#: Market library of the generated two-market test data (test input only).
+TWO_MARKET_LIBRARY = """
+[M1]
+multiplier = 1000
+tick_size = 0.01
+currency = "USD"
+commission = 0.85
+exchange_fee = 1.45
+regulatory_fee = 0.02
+slippage_ticks = 1
+
+[M2]
+multiplier = 50
+tick_size = 0.25
+currency = "USD"
+commission = 0.5
+exchange_fee = 1.2
+regulatory_fee = 0.02
+slippage_ticks = 2
+"""
+
 
 def held_contracts(rows: pd.DataFrame, days_before_expiry: int) -> pd.Series:
     """Contract held at each close: the earliest-expiring contract not yet rolled by that date."""

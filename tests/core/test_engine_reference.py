@@ -12,27 +12,14 @@ import pandas as pd
 import pytest
 
 from hunchbook.api import run
-from tests.reference_impl import backtest, continuous, random_contract_rows
+from tests.reference_impl import (
+    TWO_MARKET_LIBRARY,
+    backtest,
+    continuous,
+    random_contract_rows,
+)
 
-LIBRARY = """
-[M1]
-multiplier = 1000
-tick_size = 0.01
-currency = "USD"
-commission = 0.85
-exchange_fee = 1.45
-regulatory_fee = 0.02
-slippage_ticks = 1
-
-[M2]
-multiplier = 50
-tick_size = 0.25
-currency = "USD"
-commission = 0.5
-exchange_fee = 1.2
-regulatory_fee = 0.02
-slippage_ticks = 2
-"""
+LIBRARY = TWO_MARKET_LIBRARY
 COST = {"M1": 0.85 + 1.45 + 0.02 + 1 * 0.01 * 1000, "M2": 0.5 + 1.2 + 0.02 + 2 * 0.25 * 50}
 MULT = {"M1": 1000.0, "M2": 50.0}
 

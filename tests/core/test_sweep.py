@@ -9,27 +9,9 @@ import pytest
 from hunchbook.api import Study, load_data, load_rules
 from hunchbook.core.sweep import SweepCancelled, run_sweep
 from hunchbook.core.sweep_summary import summarise_sweep
-from tests.reference_impl import random_contract_rows
+from tests.reference_impl import TWO_MARKET_LIBRARY, random_contract_rows
 
-LIBRARY = """
-[M1]
-multiplier = 1000
-tick_size = 0.01
-currency = "USD"
-commission = 0.85
-exchange_fee = 1.45
-regulatory_fee = 0.02
-slippage_ticks = 1
-
-[M2]
-multiplier = 50
-tick_size = 0.25
-currency = "USD"
-commission = 0.5
-exchange_fee = 1.2
-regulatory_fee = 0.02
-slippage_ticks = 2
-"""
+LIBRARY = TWO_MARKET_LIBRARY
 RULES = """
 name = "sweep check"
 markets = ["M1", "M2"]
