@@ -153,22 +153,24 @@ def run_chunk(backtest: Backtest, sets: Sequence[dict[str, float]], daily: _Dail
     market = {name: np.zeros((k, m)) for name in
               ("gross", "cost", "gross_sq", "net_sq", "days", "contracts", "span_days")}
     cost_per_contract = backtest.panel.cost_per_contract
+    ones_d, ones_m = np.ones(agg.days), np.ones(m)
     for i, params in enumerate(sets):
         if cancel is not None and cancel():
             raise SweepCancelled("sweep cancelled")
         out = backtest.run(params)
         g, t = agg.by_day(out.gross), agg.by_day(out.traded)
         row = offset + i
-        daily.gross[row] = g.sum(axis=1)
+        # sums as matrix-vector products: much faster than reductions along an axis
+        daily.gross[row] = g @ ones_m
         daily.cost[row] = t @ cost_per_contract
         daily.used[row] = agg.used(out.first)
-        market_traded = np.einsum("ij->j", t)
+        market_traded = ones_d @ t
         contracts[i] = market_traded.sum()
-        trades[i] = np.count_nonzero(t)
-        gross_sq = np.einsum("ij,ij->j", g, g)
-        gross_traded = np.einsum("ij,ij->j", g, t)
-        traded_sq = np.einsum("ij,ij->j", t, t)
-        market["gross"][i] = np.einsum("ij->j", g)
+        trades[i] = np.count_nonzero(t > 0)
+        gross_sq = ones_d @ (g * g)
+        gross_traded = ones_d @ (g * t)
+        traded_sq = ones_d @ (t * t)
+        market["gross"][i] = ones_d @ g
         market["cost"][i] = market_traded * cost_per_contract
         market["gross_sq"][i] = gross_sq
         # sum of (gross - traded x cost)^2, expanded
