@@ -24,6 +24,7 @@ from typing import Any
 from PySide6.QtCore import QObject, QRunnable, QThreadPool, Signal
 
 from hunchbook.core.errors import HunchbookError
+from hunchbook.gui.collector import collect_on_ui_thread
 
 _log = logging.getLogger("hunchbook.gui")
 
@@ -58,6 +59,7 @@ class Worker(QRunnable):
 
     def start(self, pool: QThreadPool | None = None) -> None:
         """Queue the worker on ``pool`` (default: the global pool)."""
+        collect_on_ui_thread()
         _RUNNING.add(self)
         (pool or QThreadPool.globalInstance()).start(self)
 

@@ -41,6 +41,7 @@ from hunchbook.core.data_check import (
     format_data_check,
     report_cells,
 )
+from hunchbook.gui.collector import collect_on_ui_thread
 
 #: Column headers, in the order of :func:`~hunchbook.core.data_check.report_cells`.
 HEADERS = ("Market", "File", "Rows", "Contracts", "First", "Last", "Status", "Message")
@@ -219,6 +220,7 @@ class DataCheckDialog(QDialog):
         self.progress_bar.show()
         self.copy_button.setEnabled(False)
         self.rerun_button.setEnabled(False)
+        collect_on_ui_thread()
         QThreadPool.globalInstance().start(worker)
 
     def copy_report(self) -> None:
