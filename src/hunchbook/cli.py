@@ -7,6 +7,7 @@ import dataclasses
 import io
 import json
 import math
+import os
 import sys
 from collections.abc import Callable, Sequence
 from pathlib import Path
@@ -52,8 +53,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     except HunchbookError as exc:
         print(f"hunchbook: error: {exc}", file=sys.stderr)
         return 1
+    except BrokenPipeError:  # the reader went away (`... | head`): stop quietly
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 141
     except OSError as exc:
-        print(f"hunchbook: error: {exc.filename or ''}: {exc.strerror or exc}", file=sys.stderr)
+        where = f"{exc.filename}: " if exc.filename else ""
+        print(f"hunchbook: error: {where}{exc.strerror or exc}", file=sys.stderr)
         return 1
     except KeyboardInterrupt:
         print("hunchbook: interrupted", file=sys.stderr)
