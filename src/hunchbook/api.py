@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 import os
 from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
@@ -19,6 +18,7 @@ from hunchbook.core.metrics import summarise
 from hunchbook.core.panel import Panel, build_panel
 from hunchbook.core.prices import MarketData
 from hunchbook.core.prices import load_data as _load_data
+from hunchbook.core.results import RunSummary, build_run_summary
 from hunchbook.core.rules import read_rules
 from hunchbook.core.rules.model import SERIES_NAMES, RuleSpec
 from hunchbook.core.stats import FirstPassStats, first_pass_statistics
@@ -88,13 +88,13 @@ class SweepReport:
         """The parameter sets run, in grid order."""
         return self.outcome.sets
 
-    def ranked(self) -> list[int]:
-        """Set indices from the best net Sharpe ratio down (undefined ones last)."""
-        def key(k: int) -> float:
-            value = self.summaries[k][PORTFOLIO]["net"]["sharpe"]
-            return value if math.isfinite(value) else -math.inf
-
-        return sorted(range(len(self.summaries)), key=key, reverse=True)
+    def summarise(self, chosen: SetResult, *, currency: str, data_folder: str) -> RunSummary:
+        """The run record: every set's figures, the chosen set in full (``chosen``, from
+        :meth:`Study.run_set` on ``sets[self.chosen]``), the statistics and the verdict."""
+        return build_run_summary(
+            name=self.rules.name, markets=self.rules.markets, currency=currency,
+            data_folder=data_folder, parameter_sets=self.sets, set_metrics=self.summaries,
+            chosen_metrics=chosen.metrics, statistics=self.statistics, verdict=self.verdict)
 
 
 class Study:

@@ -33,14 +33,10 @@ recording a run) -> promoted | shelved (see ``TRANSITIONS``).
 
 What ``record_run`` expects
 ---------------------------
-``parameter_sets``: ``[{name: value}, ...]``, every set the run tried. ``summary``:
-``{"sets": [{"params": {name: value}, "net_sharpe": annualised net Sharpe or None, ...},
-...], ...}`` with one entry per set; other keys are stored as given. ``statistics``: any table
-of plain values. ``verdict``: ``{"outcome": key, "label": text, "reasons": [sentences],
-...}`` (``outcome`` optional; it is what ``Idea.last_verdict`` holds and ``list_ideas(
-verdict=...)`` filters on). ``chosen_params``: one of the sets; ``daily_pnl``: its daily P&L,
-a DataFrame with a date index and columns ``gross_pnl``, ``cost``, ``net_pnl``. Values may be
-numpy scalars; NaN and infinities are stored as null.
+``summary``: the run's :class:`~hunchbook.core.results.RunSummary` (every set's figures, the
+chosen set, statistics and verdict; its ``verdict.outcome`` is what ``Idea.last_verdict``
+holds and ``list_ideas(verdict=...)`` filters on). ``daily_pnl``: the chosen set's daily P&L,
+a DataFrame with a date index and columns ``gross_pnl``, ``cost``, ``net_pnl``.
 
 Trials
 ------
@@ -59,10 +55,13 @@ import json
 import os
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import pandas as pd
 import platformdirs
+
+if TYPE_CHECKING:
+    from hunchbook.core.results import RunSummary
 
 from hunchbook.store import (
     bundles,
@@ -299,28 +298,22 @@ class Catalogue:
         return revmod.get(self.db, validate.integer(revision_id, "revision id"))
 
     # -- runs -----------------------------------------------------------------------------
-    def record_run(self, idea_id: int, *, revision_id: int,
-                   parameter_sets: Sequence[Mapping[str, float]], data_fingerprint: str,
-                   engine_version: str, summary: Mapping[str, Any],
-                   statistics: Mapping[str, Any], verdict: Mapping[str, Any],
-                   chosen_params: Mapping[str, float], daily_pnl: pd.DataFrame,
+    def record_run(self, idea_id: int, *, revision_id: int, summary: RunSummary,
+                   data_fingerprint: str, engine_version: str, daily_pnl: pd.DataFrame,
                    by: str) -> int:
         """Record a run of an accepted idea and return its id.
 
-        Shapes are documented in :func:`hunchbook.store.runs.clean`: ``summary["sets"]`` holds
-        ``{"params": ..., "net_sharpe": ...}`` for every parameter set; ``verdict`` holds
-        ``label`` and ``reasons``; ``daily_pnl`` is the chosen set's daily P&L (date index;
-        columns ``gross_pnl``, ``cost``, ``net_pnl``).
+        ``summary`` is the run's results record; ``daily_pnl`` the chosen set's daily P&L
+        (date index; columns ``gross_pnl``, ``cost``, ``net_pnl``); see
+        :func:`hunchbook.store.runs.clean`.
 
         The first run freezes the pre-registration (rationale, markets, parameter space); a
         run on a revision with another parameter space writes a new pre-registration version.
         A run moves an ``accepted`` idea to ``tested``. A ``run`` journal entry carries the
         verdict, its reasons and the trial count.
         """
-        clean = runmod.clean(parameter_sets=parameter_sets, data_fingerprint=data_fingerprint,
-                             engine_version=engine_version, summary=summary,
-                             statistics=statistics, verdict=verdict,
-                             chosen_params=chosen_params, daily_pnl=daily_pnl)
+        clean = runmod.clean(summary=summary, data_fingerprint=data_fingerprint,
+                             engine_version=engine_version, daily_pnl=daily_pnl)
         by = validate.name(by, "by")
         at = self._now()
         with dbmod.write(self.db):
@@ -465,13 +458,9 @@ def _space(space: dict[str, Any]) -> str:
 def _run_text(run_id: int, revision: Revision, run: runmod.RunInput, trials: int) -> str:
     chosen = ", ".join(f"{k}={v:g}" for k, v in run.chosen_params.items()) or "no parameters"
     sharpe = ("n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}")
-    verdict = json.loads(run.verdict)
-    label = verdict.get("label", run.verdict_label)
-    shown = label if label == run.verdict_label else f"{label} ({run.verdict_label})"
-    reasons = " ".join(verdict["reasons"])
-    action = verdict.get("action")
+    verdict = run.result.verdict
     return (f"Run {run_id} on rule revision {revision.number}: {len(run.parameter_sets)} "
             f"parameter set(s), trial count now {trials}; data {run.data_fingerprint[:12]}, "
             f"engine {run.engine_version}. Chosen set {chosen}, net Sharpe {sharpe}. "
-            f"Verdict: {shown}. {reasons}"
-            + (f" Next: {action}" if isinstance(action, str) else "")).strip()
+            f"Verdict: {verdict.label}. {' '.join(verdict.reasons)} Next: {verdict.action}"
+            ).strip()

@@ -6,7 +6,6 @@ import argparse
 import dataclasses
 import io
 import json
-import math
 import os
 import sys
 from collections.abc import Callable, Sequence
@@ -14,13 +13,15 @@ from pathlib import Path
 from typing import Any
 
 from hunchbook import __version__
-from hunchbook.api import SetResult, Study, SweepReport, load_data, load_rules
+from hunchbook.api import SetResult, Study, load_data, load_rules
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
 from hunchbook.core.atomic import write_atomically
 from hunchbook.core.data_check import check_data_folder, format_data_check
 from hunchbook.core.errors import HunchbookError, RuleError
+from hunchbook.core.plain import json_safe
 from hunchbook.core.pnl_file import read_pnl_csv
+from hunchbook.core.results import RunSummary
 from hunchbook.core.stats import first_pass_statistics
 from hunchbook.core.verdict import decide
 from hunchbook.report import format_judgement, format_single, format_statistics, format_sweep
@@ -183,7 +184,8 @@ def _cmd_run(args: argparse.Namespace) -> int:
                         file=str(args.rules), key="parameters")
     report = study.sweep(sets, workers=args.workers, progress=_progress_printer(len(sets)))
     chosen = study.run_set(report.sets[report.chosen])
-    _print_and_write(args, report, chosen, study.panel.currency)
+    run = report.summarise(chosen, currency=study.panel.currency, data_folder=str(args.data))
+    _print_and_write(args, run, chosen)
     return 0
 
 
@@ -201,38 +203,22 @@ def _run_for_idea(args: argparse.Namespace) -> int:
         outcome = run_idea(catalogue, args.idea, text, args.data, by=author(args),
                            rule_file=str(path), workers=args.workers,
                            progress=_progress_printer(2))
-    _print_and_write(args, outcome.report, outcome.chosen,
-                     outcome.chosen.output.panel.currency)
+    _print_and_write(args, outcome.summary, outcome.chosen)
     print(f"Recorded as run {outcome.run_id} of idea {args.idea} (rule revision "
-          f"{outcome.revision_number}); the idea now counts {outcome.report.statistics.n_trials} "
+          f"{outcome.revision_number}); the idea now counts {outcome.summary.statistics.n_trials} "
           "trials.")
     return 0
 
 
-def _print_and_write(args: argparse.Namespace, report: SweepReport, chosen: SetResult,
-                     currency: str) -> None:
-    rules = report.rules
-    sets = report.sets
-    if len(sets) == 1:
-        print(format_single(rules, chosen, currency))
-    else:
-        print(format_sweep(report, currency))
+def _print_and_write(args: argparse.Namespace, run: RunSummary, chosen: SetResult) -> None:
+    """Print a run's tables, statistics and verdict; write the JSON record and daily P&L."""
+    print(format_single(run) if len(run.sets) == 1 else format_sweep(run))
     print()
-    print(format_judgement(report))
+    print(format_judgement(run))
     print(CAUTION)
     if args.json:
-        payload = {
-            "rules": rules.name, "rule_file": str(args.rules), "data": str(args.data),
-            "currency": currency, "markets": list(rules.markets),
-            "parameter_sets": len(sets), "trials": report.statistics.n_trials,
-            "chosen": {"params": chosen.params, **chosen.metrics},
-            "statistics": report.statistics.to_dict(),
-            "verdict": dataclasses.asdict(report.verdict),
-            "sets": [{"params": p, **m} for p, m in zip(report.sets, report.summaries,
-                                                         strict=True)],
-            "caution": CAUTION,
-        }
-        _write_atomic(args.json, lambda f: json.dump(_json_safe(payload), f, indent=2))
+        payload = {**run.to_dict(), "caution": CAUTION}
+        _write_atomic(args.json, lambda f: json.dump(payload, f, indent=2, allow_nan=False))
     if args.pnl_csv:
         table = chosen.pnl.assign(date=lambda t: t["date"].dt.strftime("%Y-%m-%d"))
         _write_atomic(args.pnl_csv, lambda f: table.to_csv(f, index=False, float_format="%.10g"))
@@ -265,7 +251,7 @@ def _cmd_stats(args: argparse.Namespace) -> int:
     if args.json:
         payload = {"file": str(args.pnl), "days": len(daily),
                    "statistics": stats.to_dict(), "verdict": dataclasses.asdict(verdict)}
-        _write_atomic(args.json, lambda f: json.dump(_json_safe(payload), f, indent=2))
+        _write_atomic(args.json, lambda f: json.dump(json_safe(payload), f, indent=2))
     return 0
 
 
@@ -289,17 +275,6 @@ def _write_atomic(path: Path, write: Callable[[Any], None]) -> None:
     buffer = io.StringIO(newline="")
     write(buffer)
     write_atomically(path, buffer.getvalue().encode("utf-8"))
-
-
-def _json_safe(value: Any) -> Any:
-    """NaN and infinities become null (JSON has no such numbers)."""
-    if isinstance(value, dict):
-        return {str(k): _json_safe(v) for k, v in value.items()}
-    if isinstance(value, list | tuple):
-        return [_json_safe(v) for v in value]
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    return value
 
 
 if __name__ == "__main__":

@@ -263,7 +263,7 @@ def _ideas_show(args: argparse.Namespace) -> int:
         sharpe = "n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}"
         print(f"  run {run.id}  {run.recorded_at[:10]}  revision {run.revision_number}  "
               f"{run.set_count} set(s)  net SR {sharpe}  verdict {run.verdict_label}")
-        for reason in run.verdict.get("reasons", []):
+        for reason in (run.result.verdict.reasons if run.result else ()):
             print(f"      - {reason}")
     print(f"\nReviews ({len(reviews)}):")
     for v in reviews:

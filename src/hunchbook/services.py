@@ -7,19 +7,20 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from hunchbook import __version__
-from hunchbook.api import PORTFOLIO, SetResult, Study, SweepReport
+from hunchbook.api import SetResult, Study
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import RuleError
 from hunchbook.core.prices import data_fingerprint, load_data
+from hunchbook.core.results import RunSummary
 from hunchbook.core.rules import parse_rules
 from hunchbook.core.sweep import CancelCheck, Progress
 
 
 @dataclass(frozen=True)
 class IdeaRun:
-    """A recorded quick run of an idea: the sweep, the chosen set in detail, the run id."""
+    """A recorded quick run of an idea: its record, the chosen set's engine output, the run id."""
 
-    report: SweepReport
+    summary: RunSummary
     chosen: SetResult
     run_id: int
     revision_number: int
@@ -49,26 +50,13 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     report = study.sweep(sets, workers=workers, progress=progress, cancel=cancel,
                          n_trials=n_trials, other_trial_sharpes=others, spa_reps=spa_reps)
     chosen = study.run_set(report.sets[report.chosen])
-    summary = {
-        "sets": [{"params": p, "net_sharpe": m[PORTFOLIO]["net"]["sharpe"],
-                  "gross_sharpe": m[PORTFOLIO]["gross"]["sharpe"],
-                  "net_total": m[PORTFOLIO]["net"]["total"],
-                  "contracts_per_year": m[PORTFOLIO]["contracts_per_year"]}
-                 for p, m in zip(report.sets, report.summaries, strict=True)],
-        "chosen": chosen.metrics,
-        "currency": study.panel.currency,
-        "data_folder": str(Path(data_folder)),
-    }
-    verdict = report.verdict
+    summary = report.summarise(chosen, currency=study.panel.currency,
+                               data_folder=str(Path(data_folder)))
     with catalogue.transaction():  # the revision and its run are kept together, or neither
         revision = catalogue.save_rules(idea_id, rule_text, by=by)
         run_id = catalogue.record_run(
-            idea_id, revision_id=revision.id, parameter_sets=list(report.sets),
+            idea_id, revision_id=revision.id, summary=summary,
             data_fingerprint=data_fingerprint(data), engine_version=__version__,
-            summary=summary, statistics=report.statistics.to_dict(),
-            verdict={"outcome": verdict.outcome, "label": verdict.label,
-                     "action": verdict.action, "reasons": list(verdict.reasons),
-                     "numbers": verdict.numbers},
-            chosen_params=chosen.params,
             daily_pnl=chosen.portfolio[["gross_pnl", "cost", "net_pnl"]], by=by)
-    return IdeaRun(report=report, chosen=chosen, run_id=run_id, revision_number=revision.number)
+    return IdeaRun(summary=summary, chosen=chosen, run_id=run_id,
+                   revision_number=revision.number)

@@ -11,6 +11,7 @@ import pandas as pd
 import pytest
 
 from hunchbook.cli import main
+from hunchbook.core.results import RunSummary
 from tests.reference_impl import backtest
 
 WTI_LIBRARY = """
@@ -77,12 +78,16 @@ def test_wti_through_cli_matches_pandas_reference(tmp_path, wti_dir, capsys):
         np.testing.assert_allclose(got[col], expected[col], rtol=1e-9, atol=1e-6)
 
     payload = json.loads(out_json.read_text())
-    assert payload["parameter_sets"] == 1
     (only,) = payload["sets"]
     assert only["params"] == {"fast": 20, "slow": 100}
-    assert only["portfolio"]["net"]["total"] == pytest.approx(expected["net_pnl"].sum())
-    assert only["portfolio"]["gross"]["total"] == pytest.approx(expected["gross_pnl"].sum())
-    assert set(only["markets"]) == {"WTI"}
+    assert only["net_total"] == pytest.approx(expected["net_pnl"].sum())
+    assert only["gross_total"] == pytest.approx(expected["gross_pnl"].sum())
+    assert payload["chosen"]["performance"]["net"]["total"] == pytest.approx(
+        expected["net_pnl"].sum())
+    assert [m["market"] for m in payload["chosen"]["markets"]] == ["WTI"]
+    # the JSON is the run record itself: it reads back into the same record
+    assert RunSummary.from_dict(payload).to_dict() == {k: v for k, v in payload.items()
+                                                       if k != "caution"}
 
 
 def test_sweep_summary_and_pnl_needs_params(tmp_path, wti_dir, capsys):
@@ -91,7 +96,7 @@ def test_sweep_summary_and_pnl_needs_params(tmp_path, wti_dir, capsys):
     rules.write_text(RULE)
     out_json = tmp_path / "sweep.json"
     assert main(["run", str(rules), "--data", str(folder), "--json", str(out_json)]) == 0
-    assert json.loads(out_json.read_text())["parameter_sets"] == 2
+    assert len(json.loads(out_json.read_text())["sets"]) == 2
     assert "2 parameter sets" in capsys.readouterr().out
     code = main(["run", str(rules), "--data", str(folder), "--pnl-csv", str(tmp_path / "p.csv")])
     assert code == 1

@@ -53,17 +53,17 @@ def test_trials_accumulate_across_revisions(demo_dir, catalogue_path, tmp_path, 
     shutil.copy(EXAMPLES / "breakout.toml", rules)
     code, captured, first = _run(rules, demo_dir, catalogue_path, 1, tmp_path, capsys)
     assert code == 0, captured.err
-    sets = first["parameter_sets"]
-    assert first["trials"] == sets and "now counts" in captured.out
+    sets = len(first["sets"])
+    assert first["statistics"]["n_trials"] == sets and "now counts" in captured.out
     # the same strategy again: no new trials
     code, _, again = _run(rules, demo_dir, catalogue_path, 1, tmp_path, capsys)
-    assert again["trials"] == sets
+    assert again["statistics"]["n_trials"] == sets
     # a changed signal is a new strategy: every set is a new trial, counted with the old ones
     text = rules.read_text()
     rules.write_text(text.replace("[signal]", "[signal]\ndelay = 1", 1))
     code, captured, third = _run(rules, demo_dir, catalogue_path, 1, tmp_path, capsys)
     assert code == 0, captured.err
-    assert third["trials"] == 2 * sets
+    assert third["statistics"]["n_trials"] == 2 * sets
     with Catalogue(catalogue_path) as cat:
         assert cat.trial_count(1) == 2 * sets
         assert len(cat.revisions(1)) == 2 and len(cat.runs(1)) == 3

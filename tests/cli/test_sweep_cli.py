@@ -30,17 +30,17 @@ def test_every_example_gives_sweep_statistics_and_verdict(example, demo_dir, tmp
     assert main(["run", str(EXAMPLES / example), "--data", str(demo_dir), "--json",
                  str(out), "--workers", "1"]) == 0
     printed = capsys.readouterr().out
-    assert "Verdict:" in printed and "Deflated Sharpe ratio" in printed
+    assert "Verdict:" in printed and "Deflated Sharpe (" in printed
     payload = json.loads(out.read_text())
-    assert payload["parameter_sets"] == len(payload["sets"]) >= 1
-    assert payload["trials"] == payload["parameter_sets"]
+    assert len(payload["sets"]) >= 1
+    assert payload["statistics"]["n_trials"] == len(payload["sets"])
     assert payload["verdict"]["outcome"] in {"no_edge", "too_little_data", "lost_to_costs",
                                              "selection_luck", "passes"}
     assert payload["verdict"]["reasons"]
     chosen = payload["chosen"]
-    best = max(payload["sets"], key=lambda s: s["portfolio"]["net"]["sharpe"] or -1e9)
+    best = max(payload["sets"], key=lambda s: s["net_sharpe"] or -1e9)
     assert chosen["params"] == best["params"]
-    assert chosen["portfolio"]["net"]["total"] == pytest.approx(best["portfolio"]["net"]["total"])
+    assert chosen["performance"]["net"]["total"] == pytest.approx(best["net_total"])
 
 
 def test_stats_on_a_run_pnl_file(demo_dir, tmp_path, capsys):
@@ -53,7 +53,7 @@ def test_stats_on_a_run_pnl_file(demo_dir, tmp_path, capsys):
     assert main(["stats", str(pnl), "--trials", "40", "--trial-sharpe-var", "0.1",
                  "--json", str(out)]) == 0
     printed = capsys.readouterr().out
-    assert "over 40 trials" in printed
+    assert "Deflated Sharpe (40 trials)" in printed
     payload = json.loads(out.read_text())
     # the same numbers as the statistics functions on the markets' rows summed by date
     table = pd.read_csv(pnl)

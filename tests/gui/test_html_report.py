@@ -61,17 +61,17 @@ def test_report_carries_the_verdict_statistics_and_caution(report, runs):
     """Verdict label, action and reasons, the statistics, provenance and the caution."""
     _, text = report
     run = runs.two
-    assert LABELS[run.verdict["outcome"]] in text
-    for reason in run.verdict["reasons"]:
+    assert LABELS[run.result.verdict.outcome] in text
+    for reason in run.result.verdict.reasons:
         assert html.escape(reason) in text
     assert html.escape(CAUTION) in text
     assert run.data_fingerprint in text and run.engine_version in text
     assert run.recorded_at in text
-    assert f"Deflated Sharpe ({run.statistics['n_trials']} trials)" in text
-    assert f"{100 * run.statistics['dsr']:.1f} %" in text
-    for market, m in run.summary["chosen"]["markets"].items():
-        assert f"<td>{market}</td>" in text
-        assert f"{m['net']['total']:,.0f}" in text
+    assert f"Deflated Sharpe ({run.result.statistics.n_trials} trials)" in text
+    assert f"{100 * run.result.statistics.dsr:.1f} %" in text
+    for m in run.result.chosen.markets:
+        assert f"<td>{m.market}</td>" in text
+        assert f"{m.net_total:,.0f}" in text
     assert html.escape(runs.idea.hypothesis) in text and html.escape(runs.idea.rationale) in text
 
 
@@ -103,15 +103,14 @@ def test_report_embeds_every_chart_as_a_png(report):
 
 
 def test_report_of_an_old_record_still_writes(view, runs, tmp_path):
-    """A record without market figures, costs or daily P&L gives a report without charts."""
-    old = dataclasses.replace(runs.one, summary={}, statistics={}, daily_pnl=None,
-                              verdict={"label": "Old label", "reasons": ["Because <b>."]})
+    """A run recorded by an earlier version in another shape, without daily P&L, gives a
+    report with its outcome, the note why no figures show, and no charts."""
+    old = dataclasses.replace(runs.one, result=None, daily_pnl=None, verdict_label="no_edge")
     path = tmp_path / "old.html"
     view.export_html(path, idea=runs.idea, run=old, rule_text="")
     text = path.read_text(encoding="utf-8")
-    assert "Old label" in text and "Because &lt;b&gt;." in text
+    assert LABELS["no_edge"] in text and "earlier version" in text
     assert _images(text) == []
-    assert "No per-market figures were recorded" in text
 
 
 def test_export_replaces_a_file_whole_and_leaves_no_temporary_file(view, runs, tmp_path):

@@ -154,9 +154,9 @@ def test_quick_run_shows_the_verdict_everywhere(qtbot, window, demo_catalogue):
         assert [r.id for r in runs] == [run_id]
         stored = runs[0]
         assert cat.idea(idea_id).stage == "tested"
-        assert cat.idea(idea_id).last_verdict == stored.verdict["outcome"]
-    label = stored.verdict["label"]
-    assert label == verdict_label(stored.verdict["outcome"])
+        assert cat.idea(idea_id).last_verdict == stored.result.verdict.outcome
+    label = stored.result.verdict.label
+    assert label == verdict_label(stored.result.verdict.outcome)
 
     assert window.current_section() == "runs"
     panel = window.runs_panel
@@ -415,7 +415,7 @@ def test_pnl_csv_and_report_exports(qtbot, window, tmp_path):
     assert back["net_pnl"].sum() == pytest.approx(run.daily_pnl["net_pnl"].sum())
     assert window.export_report(tmp_path / "report.html")
     html = (tmp_path / "report.html").read_text(encoding="utf-8")
-    assert run.verdict["label"] in html
+    assert run.result.verdict.label in html
 
 
 def test_heatmap_cell_shows_that_sets_curves(qtbot, window):

@@ -147,7 +147,7 @@ def test_run_model_shows_verdict_label_and_sharpe(catalogue):
     model.set_runs(runs)
     assert model.rowCount() == len(runs)
     for row, run in enumerate(runs):
-        assert model.index(row, RunTableModel.VERDICT).data() == run.verdict["label"]
+        assert model.index(row, RunTableModel.VERDICT).data() == run.result.verdict.label
         shown = model.index(row, RunTableModel.SHARPE).data()
         if run.chosen_net_sharpe is not None and math.isfinite(run.chosen_net_sharpe):
             assert shown == f"{run.chosen_net_sharpe:.2f}"

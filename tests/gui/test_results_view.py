@@ -53,11 +53,11 @@ def test_banner_shows_the_stored_verdict(view, runs):
     """Label and action are the standard ones of the stored outcome; every reason is shown."""
     run = runs.two
     view.show_run(run, title=HOSTILE_TITLE)
-    outcome = run.verdict["outcome"]
+    outcome = run.result.verdict.outcome
     assert view.banner.label.text() == LABELS[outcome]
     assert view.banner.action.text() == ACTIONS[outcome]
-    assert run.verdict["reasons"]
-    for reason in run.verdict["reasons"]:
+    assert run.result.verdict.reasons
+    for reason in run.result.verdict.reasons:
         assert reason in view.banner.reasons.text()
     # the title is user input: shown verbatim as plain text, never as markup
     assert view.banner.subtitle.textFormat() == Qt.TextFormat.PlainText
@@ -70,27 +70,27 @@ def test_performance_table_holds_the_stored_portfolio_figures(view, runs, qtmode
     view.show_run(run, title="t")
     model = view.performance
     qtmodeltester.check(model)
-    portfolio = run.summary["chosen"]["portfolio"]
+    portfolio = run.result.chosen.performance
     gross, net = _cells(model, COL_GROSS), _cells(model, COL_NET)
     for label, key in [("Total P&L", "total"), ("Annual mean", "ann_mean"),
                        ("Annual volatility", "ann_vol"), ("Sharpe ratio", "sharpe"),
                        ("t-statistic", "t_stat"), ("Max drawdown", "max_drawdown")]:
-        assert gross[label] == portfolio["gross"][key]
-        assert net[label] == portfolio["net"][key]
+        assert gross[label] == getattr(portfolio.gross, key)
+        assert net[label] == getattr(portfolio.net, key)
     for label, key in [("Trades per year", "trades_per_year"),
                        ("Contracts per year", "contracts_per_year"),
                        ("Total cost", "cost_total"), ("Cost share of gross", "cost_share_of_gross"),
                        ("Break-even cost per contract", "break_even_cost")]:
-        assert net[label] == portfolio[key]
+        assert net[label] == getattr(portfolio, key)
         assert gross[label] is None
     # the stored totals are the sums of the stored daily P&L (reference: pandas sum)
     assert net["Total P&L"] == pytest.approx(run.daily_pnl["net_pnl"].sum())
     assert gross["Total P&L"] == pytest.approx(run.daily_pnl["gross_pnl"].sum())
     # shown text: two decimals for ratios, thousands separators for money (common practice)
     row = [model.index(r, COL_LABEL).data() for r in range(model.rowCount())].index("Sharpe ratio")
-    assert model.index(row, COL_NET).data() == f"{portfolio['net']['sharpe']:.2f}"
+    assert model.index(row, COL_NET).data() == f"{portfolio.net.sharpe:.2f}"
     row = [model.index(r, COL_LABEL).data() for r in range(model.rowCount())].index("Total P&L")
-    assert model.index(row, COL_NET).data() == f"{portfolio['net']['total']:,.0f}"
+    assert model.index(row, COL_NET).data() == f"{portfolio.net.total:,.0f}"
 
 
 def test_statistics_table_holds_psr_dsr_spa_and_min_trl(view, runs, qtmodeltester):
@@ -99,15 +99,15 @@ def test_statistics_table_holds_psr_dsr_spa_and_min_trl(view, runs, qtmodelteste
     view.show_run(run, title="t")
     model = view.statistics
     qtmodeltester.check(model)
-    stats = run.statistics
+    stats = run.result.statistics
     gross, net = _cells(model, COL_GROSS), _cells(model, COL_NET)
-    assert gross["Probabilistic Sharpe (vs 0)"] == stats["gross"]["psr"]
-    assert net["Probabilistic Sharpe (vs 0)"] == stats["net"]["psr"]
-    assert net[f"Deflated Sharpe ({stats['n_trials']} trials)"] == stats["dsr"]
-    assert net[f"SPA p-value ({stats['n_sets']} sets)"] == stats["spa"]["consistent"]
-    assert net["Min. track record (years)"] == stats["net"]["min_trl_years"]
-    assert net["Break-even cost multiple"] == stats["costs"]["break_even_multiple"]
-    assert stats["n_trials"] == run.trial_count == 12
+    assert gross["Probabilistic Sharpe (vs 0)"] == stats.gross.psr
+    assert net["Probabilistic Sharpe (vs 0)"] == stats.net.psr
+    assert net[f"Deflated Sharpe ({stats.n_trials} trials)"] == stats.dsr
+    assert net[f"SPA p-value ({stats.n_sets} sets)"] == stats.spa.consistent
+    assert net["Min. track record (years)"] == stats.net.min_trl_years
+    assert net["Break-even cost multiple"] == stats.costs.break_even_multiple
+    assert stats.n_trials == run.trial_count == 12
 
 
 def test_equity_and_drawdown_curves_follow_the_daily_pnl(view, runs):
@@ -129,7 +129,7 @@ def test_equity_and_drawdown_curves_follow_the_daily_pnl(view, runs):
     dd_ref = (equity - equity.clip(lower=0.0).cummax()).to_numpy()
     _, dd = view.charts.drawdown.curve.getOriginalDataset()
     np.testing.assert_allclose(dd, dd_ref, rtol=1e-12, atol=1e-6)
-    assert -dd.min() == pytest.approx(run.summary["chosen"]["portfolio"]["net"]["max_drawdown"])
+    assert -dd.min() == pytest.approx(run.result.chosen.performance.net.max_drawdown)
     item = view.charts.equity.getPlotItem()
     assert item.clipToViewMode() and item.downsampleMode()[1]  # clip to view, auto downsample
 
@@ -138,23 +138,23 @@ def test_contribution_bars_are_the_stored_market_totals(view, runs):
     """One gross and one net bar per market, as long as the stored per-market totals."""
     run = runs.two
     view.show_run(run, title="t")
-    markets = run.summary["chosen"]["markets"]
-    assert view.charts.contribution.markets == list(markets)
+    markets = run.result.chosen.markets
+    assert view.charts.contribution.markets == [m.market for m in markets]
     gross, net = view.charts.contribution.bar_widths()
-    assert gross == [m["gross"]["total"] for m in markets.values()]
-    assert net == [m["net"]["total"] for m in markets.values()]
+    assert gross == [m.gross_total for m in markets]
+    assert net == [m.net_total for m in markets]
 
 
 def test_cost_curve_is_the_stored_cost_sensitivity(view, runs):
     """Net Sharpe against cost multiple as stored; the break-even lies where it crosses 0."""
     run = runs.two
     view.show_run(run, title="t")
-    costs = run.statistics["costs"]
+    costs = run.result.statistics.costs
     x, y = view.charts.costs.curve.getOriginalDataset()
-    np.testing.assert_array_equal(x, costs["multiples"])
-    np.testing.assert_array_equal(y, costs["net_sharpe"])
+    np.testing.assert_array_equal(x, costs.multiples)
+    np.testing.assert_array_equal(y, costs.net_sharpe)
     # net Sharpe at 1x equals the chosen set's net Sharpe over the statistics' days
-    assert y[list(x).index(1.0)] == pytest.approx(run.statistics["net"]["sharpe"])
+    assert y[list(x).index(1.0)] == pytest.approx(run.result.statistics.net.sharpe)
 
 
 def test_heatmap_is_the_grid_of_stored_net_sharpes(view, runs):
@@ -166,10 +166,10 @@ def test_heatmap_is_the_grid_of_stored_net_sharpes(view, runs):
     image = heatmap.image.image
     fast, slow = [10.0, 20.0, 40.0], [60.0, 120.0, 180.0, 240.0]  # the rule file's grid
     assert image.shape == (len(fast), len(slow))
-    assert len(run.summary["sets"]) == image.size
-    for s in run.summary["sets"]:
-        i, j = fast.index(s["params"]["fast"]), slow.index(s["params"]["slow"])
-        assert image[i, j] == s["net_sharpe"]
+    assert len(run.result.sets) == image.size
+    for s in run.result.sets:
+        i, j = fast.index(s.params["fast"]), slow.index(s.params["slow"])
+        assert image[i, j] == s.net_sharpe
     # the chosen set is outlined on its cell (cells centred on their ticks)
     rect = heatmap.outline.rect()
     chosen = run.chosen_params
@@ -208,8 +208,8 @@ def test_hovering_a_heatmap_cell_names_its_set_and_value(view, runs, qtbot):
     qtbot.wait(50)
     qtbot.mouseMove(heatmap.viewport(), _cell_point(heatmap, 0, 3))
     qtbot.waitUntil(lambda: heatmap.toolTip() != "", timeout=2000)
-    value = next(s["net_sharpe"] for s in run.summary["sets"]
-                 if s["params"] == {"fast": 10.0, "slow": 240.0})
+    value = next(s.net_sharpe for s in run.result.sets
+                 if s.params == {"fast": 10.0, "slow": 240.0})
     assert heatmap.toolTip() == f"fast=10, slow=240: net Sharpe {value:.2f}"
 
 
@@ -243,7 +243,7 @@ def test_one_parameter_space_shows_net_sharpe_against_the_parameter(view, runs, 
     profile = view.charts.profile
     assert view.sweep_slot.currentWidget() is profile
     x, y = profile.line.getOriginalDataset()
-    stored = sorted((s["params"]["n"], s["net_sharpe"]) for s in run.summary["sets"])
+    stored = sorted((s.params["n"], s.net_sharpe) for s in run.result.sets)
     np.testing.assert_array_equal(x, [n for n, _ in stored])
     np.testing.assert_array_equal(y, [s for _, s in stored])
     qtbot.wait(50)
@@ -255,39 +255,32 @@ def test_one_parameter_space_shows_net_sharpe_against_the_parameter(view, runs, 
     assert blocker.args == [{"n": n}]
 
 
-def test_a_run_missing_optional_records_still_shows(view, runs):
-    """An old record with only a label, no portfolio metrics, costs or daily P&L shows dashes
-    and notes instead of failing."""
-    old = dataclasses.replace(
-        runs.two, summary={"sets": [{"params": {"n": 1.0}}]}, verdict={"label": "Old label"},
-        statistics={"n_trials": 4, "spa_pvalue": 0.2, "gross": {"sharpe": 0.5}},
-        verdict_label="", daily_pnl=None, chosen_params={})
+def test_a_run_recorded_in_an_earlier_shape_still_shows(view, runs):
+    """A run whose results record an earlier version wrote in another shape shows its
+    outcome's standard words, a note why no figures are shown, and dashes, never made-up
+    figures."""
+    old = dataclasses.replace(runs.two, result=None, verdict_label="no_edge", daily_pnl=None)
     view.show_run(old, title="Old run")
-    assert view.banner.label.text() == "Old label"
-    assert view.banner.action.text() == ""
-    net = _cells(view.statistics, COL_NET)
-    assert next(v for k, v in net.items() if k.startswith("SPA p-value")) == 0.2
-    assert net["Deflated Sharpe (4 trials)"] is None
-    assert _cells(view.performance, COL_NET)["Total P&L"] is None
-    for slot in (view.equity_slot, view.sweep_slot, view.contribution_slot, view.costs_slot):
-        assert slot.currentWidget() is slot.note
-    # the demo catalogue's shape: statistics without SPA details, outcome only in verdict
-    demo_like = dataclasses.replace(runs.one, verdict={"outcome": "no_edge"},
-                                    summary={"sets": runs.one.summary["sets"]})
-    view.show_run(demo_like, title="Demo")
     assert view.banner.label.text() == LABELS["no_edge"]
     assert view.banner.action.text() == ACTIONS["no_edge"]
-    assert view.equity_slot.currentWidget() is view.charts.equity
+    assert "earlier version" in view.banner.reasons.text()
+    assert view.performance.rowCount() == view.statistics.rowCount() == 0
+    for slot in (view.equity_slot, view.sweep_slot, view.contribution_slot, view.costs_slot):
+        assert slot.currentWidget() is slot.note
 
 
 def test_missing_figures_show_a_dash(view, runs):
-    """Undefined figures (None, NaN) are shown as a dash, not as 'nan' or '0'."""
+    """Undefined figures (NaN) are shown as a dash, not as 'nan' or '0'."""
     assert format_value(None, "money") == format_value(math.nan, "ratio") == "—"
-    old = dataclasses.replace(runs.two, statistics={})
-    view.show_run(old, title="t")
-    model = view.statistics
-    texts = [model.index(r, COL_NET).data() for r in range(model.rowCount())]
-    assert texts and set(texts) == {"—"}
+    result = runs.two.result
+    nan = float("nan")
+    blank = dataclasses.replace(result.statistics, dsr=nan, costs=dataclasses.replace(
+        result.statistics.costs, break_even_multiple=nan))
+    view.show_run(dataclasses.replace(runs.two, result=dataclasses.replace(
+        result, statistics=blank)), title="t")
+    net = {view.statistics.index(r, COL_LABEL).data(): view.statistics.index(r, COL_NET).data()
+           for r in range(view.statistics.rowCount())}
+    assert net["Deflated Sharpe (12 trials)"] == net["Break-even cost multiple"] == "—"
 
 
 def test_clear_empties_the_view(view, runs):

@@ -8,6 +8,10 @@ import numpy as np
 import pandas as pd
 
 from hunchbook.catalogue import CHECKLIST, Catalogue
+from hunchbook.core.metrics import summarise
+from hunchbook.core.results import ChosenSet, Performance, PnlFigures, RunSummary, SetSummary
+from hunchbook.core.stats import first_pass_statistics
+from hunchbook.core.verdict import Verdict
 
 RULES = """name = "Two averages"
 markets = ["CORN", "SOYBEAN"]
@@ -41,19 +45,44 @@ def daily_pnl(days: int = 300, seed: int = 1) -> pd.DataFrame:
                         index=pd.bdate_range("2021-01-04", periods=days, name="date"))
 
 
+def run_summary(sets: list[dict[str, float]], sharpes: list[float | None], *,
+                chosen: int = 0, outcome: str = "no_edge", seed: int = 1) -> RunSummary:
+    """A results record for the store tests: statistics computed by the engine's code on
+    generated P&L (one column per set, the chosen one being ``daily_pnl(seed=seed)``), the
+    given per-set net Sharpe ratios and a verdict with the given outcome."""
+    daily = daily_pnl(seed=seed)
+    rng = np.random.default_rng(seed + 100)
+    gross = np.column_stack([daily["gross_pnl"].to_numpy() if k == chosen
+                             else rng.normal(50.0, 1_000.0, len(daily))
+                             for k in range(len(sets))])
+    cost = np.column_stack([daily["cost"].to_numpy()] * len(sets))
+    stats = first_pass_statistics(gross, cost, chosen=chosen, spa_reps=0)
+    nan = float("nan")
+    set_summaries = tuple(SetSummary(
+        params=dict(s), gross_sharpe=nan, net_sharpe=nan if x is None else float(x),
+        gross_total=nan, net_total=nan, net_max_drawdown=nan, trades_per_year=nan,
+        contracts_per_year=nan, cost_total=nan, break_even_cost=nan)
+        for s, x in zip(sets, sharpes, strict=True))
+    frame = daily.assign(contracts_traded=2.0, trades=1.0)
+    performance = summarise(frame)
+    performance = Performance(**{**performance, "gross": PnlFigures(**performance["gross"]),
+                                 "net": PnlFigures(**performance["net"])})
+    verdict = Verdict(outcome=outcome, label=outcome.replace("_", " "), action="Do something.",
+                      reasons=("Gross result not significant.",), numbers={})
+    return RunSummary(name="Two averages", markets=("CORN", "SOYBEAN"), currency="USD",
+                      data_folder="", sets=set_summaries,
+                      chosen=ChosenSet(params=dict(sets[chosen]) if sets else {},
+                                       performance=performance, markets=()),
+                      statistics=stats, verdict=verdict)
+
+
 def run_args(sets: list[dict[str, float]], sharpes: list[float | None], *,
              chosen: int = 0, outcome: str = "no_edge", seed: int = 1) -> dict[str, Any]:
     """Keyword arguments of ``Catalogue.record_run`` (apart from the idea, revision, by)."""
     return {
-        "parameter_sets": sets,
+        "summary": run_summary(sets, sharpes, chosen=chosen, outcome=outcome, seed=seed),
         "data_fingerprint": "f" * 64,
         "engine_version": "0.1.0",
-        "summary": {"sets": [{"params": s, "net_sharpe": x}
-                             for s, x in zip(sets, sharpes, strict=True)]},
-        "statistics": {"psr": 0.5, "n_days": 300},
-        "verdict": {"outcome": outcome, "label": outcome.replace("_", " "),
-                    "reasons": ["Gross result not significant."]},
-        "chosen_params": sets[chosen],
         "daily_pnl": daily_pnl(seed=seed),
     }
 

@@ -170,6 +170,14 @@ def _run_json_edit(members: dict[str, bytes]) -> dict[str, bytes]:
     return members | {name: members[name].replace(b'"engine_version"', b'"engine_versions"')}
 
 
+def _results_edit(old: bytes, new: bytes) -> Any:
+    def edit(members: dict[str, bytes]) -> dict[str, bytes]:
+        name = next(n for n in members if n.endswith(".json"))
+        assert old in members[name]
+        return members | {name: members[name].replace(old, new, 1)}
+    return edit
+
+
 def _pnl_edit(members: dict[str, bytes]) -> dict[str, bytes]:
     name = next(n for n in members if n.endswith(".csv"))
     lines = members[name].split(b"\n")
@@ -203,7 +211,10 @@ HOSTILE = {
     "broken toml": (lambda m: m | {"bundle.toml": m["bundle.toml"][:-40]}, "not valid TOML"),
     "bad run json": (_run_json_edit, "expected exactly the keys"),
     "bad pnl csv": (_pnl_edit, "line 6"),
-    "wrong format version": (_manifest_edit("format_version = 1", "format_version = 9"),
+    "results of another schema": (_results_edit(b'"schema": 1', b'"schema": 7'), "schema 1"),
+    "results field of the wrong kind": (_results_edit(b'"currency": "USD"', b'"currency": 5'),
+                                        "field 'currency': expected text"),
+    "wrong format version": (_manifest_edit("format_version = 2", "format_version = 9"),
                              "not supported"),
 }
 

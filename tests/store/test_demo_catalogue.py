@@ -36,10 +36,20 @@ def test_the_demo_covers_every_stage_and_every_verdict(demo: Catalogue) -> None:
 def test_demo_runs_are_consistent_with_the_catalogue(demo: Catalogue) -> None:
     for summary in demo.runs():
         run = demo.run(summary.id)
-        assert run.statistics["n_trials"] == run.trial_count
-        assert run.verdict["label"] == LABELS[run.verdict_label]
-        assert "invented" in run.engine_version and run.summary["note"] == "invented demo record"
-        assert len(run.daily_pnl) == run.statistics["n_days"]
+        stats = run.result.statistics
+        assert stats.n_trials == run.trial_count
+        assert run.result.verdict.label == LABELS[run.verdict_label]
+        assert "invented" in run.engine_version
+        assert len(run.daily_pnl) == stats.n_days
+        assert run.result.chosen.params == run.chosen_params
+
+
+def test_demo_runs_reach_the_verdict_each_story_tells(demo: Catalogue) -> None:
+    """The demo's invented P&L goes through the engine's own statistics and verdict; each
+    run must land on the outcome its story (and its journal notes) describe."""
+    assert [r.verdict_label for r in demo.runs()] == [
+        "passes", "selection_luck", "selection_luck", "lost_to_costs", "too_little_data",
+        "no_edge", "lost_to_costs", "passes"]
 
 
 def test_demo_psr_matches_scipy(demo: Catalogue) -> None:
@@ -51,8 +61,8 @@ def test_demo_psr_matches_scipy(demo: Catalogue) -> None:
         sr = x.mean() / x.std(ddof=1)
         g3, g4 = skew(x, bias=False), kurtosis(x, fisher=False, bias=False)
         psr = norm.cdf(sr * math.sqrt(len(x) - 1) / math.sqrt(1 - g3 * sr + (g4 - 1) / 4 * sr**2))
-        assert run.statistics["net"]["psr"] == pytest.approx(psr, abs=1e-4)
-        assert run.statistics["net"]["sharpe"] == pytest.approx(sr * math.sqrt(252), abs=1e-4)
+        assert run.result.statistics.net.psr == pytest.approx(psr, abs=1e-4)
+        assert run.result.statistics.net.sharpe == pytest.approx(sr * math.sqrt(252), abs=1e-4)
 
 
 def test_the_journal_reads_like_a_desk(demo: Catalogue) -> None:

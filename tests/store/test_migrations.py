@@ -71,6 +71,8 @@ def test_migrating_from_an_earlier_version_keeps_every_record(tmp_path: Path,
             "Processors hedge the crush margin ahead of harvest"]
         assert [r.decision for r in cat.reviews(1)] == ["accept"]
         assert cat.run(2).daily_pnl.equals(old["frame"])
+        # runs recorded in an earlier shape keep their provenance; their figures are not made up
+        assert cat.run(2).result is None and cat.run(2).verdict_label == "passes"
         # Version 3 derived the summary columns from the old runs (fast 5, 10, 20: 3 trials;
         # the latest run by time decides the last verdict); later versions keep them.
         assert (idea.trial_count, idea.last_verdict, idea.last_net_sharpe) == (3, "passes", 0.6)

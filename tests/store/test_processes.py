@@ -16,12 +16,14 @@ from hunchbook.catalogue import Catalogue
 from tests.store.helpers import RULES, accepted_idea
 
 SRC = str(Path(hunchbook.__file__).resolve().parents[1])
+ROOT = str(Path(__file__).resolve().parents[2])
 BATCH = 20
 
 WRITER = f"""
 import sys, numpy as np, pandas as pd
-sys.path.insert(0, {SRC!r})
+sys.path[:0] = [{SRC!r}, {ROOT!r}]
 from hunchbook.catalogue import Catalogue
+from tests.store.helpers import run_summary
 cat = Catalogue(sys.argv[1], create=False)
 idea, revision = int(sys.argv[2]), int(sys.argv[3])
 days = pd.bdate_range("2020-01-01", periods=2000)
@@ -33,12 +35,9 @@ for batch in range(100000):
         if batch % 3 == 0:
             pnl = pd.DataFrame(np.full((2000, 3), float(batch)), index=days,
                                columns=["gross_pnl", "cost", "net_pnl"])
-            cat.record_run(idea, revision_id=revision, by="writer",
-                           parameter_sets=[{{"b": float(batch)}}], data_fingerprint="x",
-                           engine_version="t", summary={{"sets": [{{"params": {{"b": float(batch)}},
-                           "net_sharpe": 0.1}}]}}, statistics={{}},
-                           verdict={{"label": "t", "reasons": []}},
-                           chosen_params={{"b": float(batch)}}, daily_pnl=pnl)
+            cat.record_run(idea, revision_id=revision, by="writer", data_fingerprint="x",
+                           engine_version="t", summary=run_summary([{{"b": float(batch)}}], [0.1]),
+                           daily_pnl=pnl)
     print(batch, flush=True)
 """
 

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 import numpy as np
 import pandas as pd
@@ -11,7 +12,7 @@ from scipy.stats import norm
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.store.errors import CatalogueError
-from tests.store.helpers import RULES, accepted_idea, daily_pnl, run_args
+from tests.store.helpers import RULES, accepted_idea, daily_pnl, run_args, run_summary
 
 
 def _grid(fast: list[float], slow: float = 50.0) -> list[dict[str, float]]:
@@ -22,8 +23,6 @@ def test_a_run_is_stored_whole_and_its_pnl_round_trips_exactly(cat: Catalogue) -
     idea = accepted_idea(cat)
     rev = cat.save_rules(idea, RULES, by="Nia")
     args = run_args(_grid([5.0, 10.0]), [0.25, float("nan")], chosen=0)
-    args["statistics"] = {"psr": np.float64(0.91), "series": [1, 2.5, None],
-                          "sharpe_se": float("inf")}
     run_id = cat.record_run(idea, revision_id=rev.id, by="Theo", **args)
     run = cat.run(run_id)
     assert (run.idea_id, run.revision_id, run.revision_number, run.set_count) == (
@@ -31,9 +30,12 @@ def test_a_run_is_stored_whole_and_its_pnl_round_trips_exactly(cat: Catalogue) -
     assert run.parameter_sets == tuple(_grid([5.0, 10.0]))
     assert (run.data_fingerprint, run.engine_version, run.recorded_by) == ("f" * 64, "0.1.0",
                                                                            "Theo")
-    # NaN and infinities are stored as null; numpy scalars as plain numbers.
-    assert run.summary["sets"][1]["net_sharpe"] is None
-    assert run.statistics == {"psr": 0.91, "series": [1, 2.5, None], "sharpe_se": None}
+    # The results record comes back equal field by field (NaN read back as NaN), and the
+    # stored JSON holds null for NaN (JSON has no NaN: RFC 8259, section 6).
+    assert run.result.to_dict() == args["summary"].to_dict()
+    assert math.isnan(run.result.sets[1].net_sharpe)
+    stored = cat.db.execute("SELECT summary FROM runs WHERE id = ?", [run_id]).fetchone()[0]
+    assert '"net_sharpe":null' in stored and "NaN" not in stored
     assert (run.verdict_label, run.chosen_params, run.chosen_net_sharpe) == (
         "no_edge", {"fast": 5.0, "slow": 50.0}, 0.25)
     # Exact round trip of the chosen set's daily P&L (pandas equality as the reference).
@@ -46,7 +48,7 @@ def test_a_run_is_stored_whole_and_its_pnl_round_trips_exactly(cat: Catalogue) -
     assert (idea_row.last_verdict, idea_row.last_net_sharpe, idea_row.trial_count) == (
         "no_edge", 0.25, 2)
     run_entry = cat.journal(idea, kind="run")[-1]
-    assert "Verdict: no edge (no_edge)" in run_entry.text
+    assert "Verdict: no edge. Gross result not significant." in run_entry.text
     assert "trial count now 2" in run_entry.text
 
 
@@ -126,16 +128,29 @@ def _dsr(sharpe: float, trials: int, trial_sharpes: list[float], days: int = 1_0
                           / math.sqrt(1 + sr * sr / 2)))
 
 
+def _bad_summary(kind: str) -> object:
+    good = run_summary([{"fast": 5.0}, {"fast": 10.0}], [0.2, 0.1])
+    if kind == "no sets":
+        return replace(good, sets=())
+    if kind == "twice":
+        return replace(good, sets=(good.sets[0], good.sets[0]))
+    if kind == "text":
+        return replace(good, sets=(replace(good.sets[0], params={"fast": "five"}),
+                                   good.sets[1]))
+    if kind == "label":
+        return replace(good, verdict=replace(good.verdict, label="two\nlines"))
+    if kind == "chosen":
+        return replace(good, chosen=replace(good.chosen, params={"fast": 7.0}))
+    return good.to_dict()  # a plain table instead of the record
+
+
 @pytest.mark.parametrize(("change", "message"), [
-    ({"parameter_sets": []}, "1 to"),
-    ({"parameter_sets": [{"fast": 5.0}, {"fast": 5}]}, "listed twice"),
-    ({"parameter_sets": [{"fast": "five"}]}, "expected a number"),
-    ({"summary": {"sets": []}}, "have no summary"),
-    ({"summary": {"rows": []}}, "'sets'"),
-    ({"verdict": {"reasons": []}}, "verdict.label"),
-    ({"verdict": {"label": "ok", "reasons": "fine"}}, "list of sentences"),
-    ({"chosen_params": {"fast": 7.0}}, "not one of the parameter sets"),
-    ({"statistics": {"odd": object()}}, "cannot store"),
+    ({"summary": "no sets"}, "1 to"),
+    ({"summary": "twice"}, "listed twice"),
+    ({"summary": "text"}, "expected a number"),
+    ({"summary": "label"}, "verdict.label"),
+    ({"summary": "chosen"}, "not the set the statistics judge"),
+    ({"summary": "plain"}, "results record"),
     ({"daily_pnl": pd.DataFrame({"gross_pnl": [1.0]})}, "missing column"),
     ({"daily_pnl": daily_pnl().iloc[::-1]}, "increasing"),
     ({"daily_pnl": daily_pnl().assign(cost=np.inf)}, "infinite"),
@@ -145,11 +160,9 @@ def test_bad_run_input_is_refused_and_nothing_is_written(cat: Catalogue, change:
                                                         message: str) -> None:
     idea = accepted_idea(cat)
     rev = cat.save_rules(idea, RULES, by="Nia")
-    args = run_args([{"fast": 5.0}], [0.2]) | change
-    if "parameter_sets" in change and change["parameter_sets"]:
-        args["summary"] = {"sets": [{"params": s, "net_sharpe": 0.1}
-                                    for s in change["parameter_sets"]]}
-        args["chosen_params"] = change["parameter_sets"][0]
+    args = run_args([{"fast": 5.0}, {"fast": 10.0}], [0.2, 0.1]) | change
+    if "summary" in change:
+        args["summary"] = _bad_summary(change["summary"])
     with pytest.raises(CatalogueError, match=message):
         cat.record_run(idea, revision_id=rev.id, by="Nia", **args)
     assert cat.runs() == [] and cat.preregistrations(idea) == []

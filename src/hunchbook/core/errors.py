@@ -70,3 +70,18 @@ class MarketSpecError(HunchbookError):
         where = [p for p in (self.file, self.market and f"market '{self.market}'",
                              self.key and f"key '{self.key}'") if p]
         return f"{', '.join(where)}: {self.problem}" if where else self.problem
+
+
+@dataclass(eq=False)
+class RecordError(HunchbookError):
+    """A stored or exchanged run record that does not have the expected shape; ``field`` is
+    the dotted path of the field at fault (for example ``"statistics.net.sharpe"``)."""
+
+    problem: str
+    field: str | None = None
+
+    def __post_init__(self) -> None:
+        super().__init__(self.problem)
+
+    def __str__(self) -> str:
+        return f"field '{self.field}': {self.problem}" if self.field else self.problem

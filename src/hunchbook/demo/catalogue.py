@@ -3,8 +3,8 @@ reviews, rule revisions and runs carrying verdicts of each kind.
 
 Everything here is invented: the firm (Fernhollow Lane Partners, see :data:`DESK`), its people,
 their ideas, citations, notes, dates and the stored run records (daily P&L drawn from a seeded
-random generator and scaled to the stated Sharpe ratios, statistics computed from it with the
-textbook formulas). Each idea carries the tag ``invented-demo``.
+random generator and scaled to the stated Sharpe ratios; statistics, verdict and record made
+from it by the engine's own code, as for a real run). Each idea carries the tag ``invented-demo``.
 """
 
 from __future__ import annotations
@@ -18,14 +18,16 @@ from collections.abc import Iterator
 from dataclasses import dataclass
 from itertools import product
 from pathlib import Path
-from statistics import NormalDist
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
 from hunchbook.catalogue import CHECKLIST, Catalogue
-from hunchbook.core.verdict import ACTIONS, LABELS
+from hunchbook.core.metrics import summarise
+from hunchbook.core.results import build_run_summary
+from hunchbook.core.stats import first_pass_statistics
+from hunchbook.core.verdict import decide
 from hunchbook.demo.desk import DESK
 from hunchbook.store.errors import CatalogueError
 
@@ -38,8 +40,8 @@ DEMO_SEED = 20_240
 DEMO_TAG = "invented-demo"
 _ENGINE = "0.1.0 (invented demo record)"
 _FINGERPRINT = hashlib.sha256(b"hunchbook invented demo data, seed 20240").hexdigest()
-_NORMAL = NormalDist()
-_EULER = 0.5772156649015329
+#: Bootstrap replications of the SPA test in the invented run records.
+DEMO_SPA_REPS = 500
 
 
 class _Clock:
@@ -69,13 +71,11 @@ def _rules(name: str, description: str, markets: list[str], parameters: str, sig
 
 @dataclass(frozen=True)
 class _RunPlan:
-    outcome: str
+    outcome: str  # the verdict the invented P&L is drawn to reach (checked by the tests)
     grid: dict[str, list[float]]
     gross_sr: float
     net_sr: float
     days: int
-    spa_p: float
-    reasons: tuple[str, ...]
     chosen: int = 0
     repeats: int = 0  # sets already counted as trials by an earlier run of the same strategy
 
@@ -164,9 +164,7 @@ class _Builder:
             "sign(ewm(close, fast) - ewm(close, slow))"))
         yield "2025-01-13T17"
         self.run(i, rev, INES, _RunPlan(
-            "passes", {"fast": [8, 16, 32], "slow": [64, 128]}, 0.95, 0.82, 2600, 0.012,
-            ("The neighbours of the chosen set are close to it: a plateau, not a spike.",),
-            chosen=2))
+            "passes", {"fast": [8, 16, 32], "slow": [64, 128]}, 0.95, 0.82, 2600, chosen=2))
         yield "2025-01-14T14"
         self.note(i, INES, "Equity curve is smooth apart from 2019; gains spread "
                   "over energy, metals and rates. Costs about 14 % of gross.")
@@ -195,8 +193,7 @@ class _Builder:
         grid = {"n": [20.0, 40.0, 60.0, 80.0, 100.0, 120.0]}
         yield "2025-01-21T17"
         self.run(i, rev, NIA, _RunPlan(
-            "selection_luck", grid, 0.66, 0.52, 2600, 0.18,
-            ("Warning: the chosen set is an isolated spike on the grid.",), chosen=1))
+            "selection_luck", grid, 0.66, 0.52, 2600, chosen=1))
         yield "2025-01-22T14"
         self.note(i, NIA, "Best length is 40 but 20 and 60 are much weaker. "
                   "Trying shorter channels in case the edge sits below 20.")
@@ -208,7 +205,7 @@ class _Builder:
         yield "2025-01-24T17"
         self.run(i, rev2, NIA, _RunPlan(
             "selection_luck", {"n": [5.0, 10.0, 15.0, 20.0, 25.0, 30.0]}, 0.71, 0.55, 2600,
-            0.24, (), chosen=2, repeats=1))
+            chosen=2, repeats=1))
         yield "2025-01-27T14"
         entry = self.note(i, INES, "Twelve lengths tried now, and the trial count "
                           "says so. Stop widening the grid.", kind="decision")
@@ -239,8 +236,7 @@ class _Builder:
             "-sign(zscore(close, n)) if abs(zscore(close, n)) > entry else 0"))
         yield "2025-02-07T17"
         self.run(i, rev, THEO, _RunPlan(
-            "lost_to_costs", {"n": [3, 5, 10], "entry": [0.5, 1.0]}, 0.92, 0.08, 2600, 0.61,
-            ()))
+            "lost_to_costs", {"n": [3, 5, 10], "entry": [0.5, 1.0]}, 0.92, 0.08, 2600))
         yield "2025-02-10T14"
         self.note(i, THEO, "Gross looks great, net is nothing. Each round trip "
                   "costs about a tick and a half; the edge per trade is about the same.")
@@ -266,7 +262,7 @@ class _Builder:
             "hold = [1, 2, 3]", "sign(close - delay(close, hold))"))
         yield "2025-02-18T17"
         self.run(i, rev, THEO, _RunPlan(
-            "too_little_data", {"hold": [1, 2, 3]}, 0.9, 0.78, 500, 0.09, ()))
+            "too_little_data", {"hold": [1, 2, 3]}, 0.9, 0.78, 500))
         yield "2025-02-19T14"
         self.note(i, INES, "Promising but two years is not enough. Theo to look "
                   "for a longer storage-day calendar.", kind="decision")
@@ -292,8 +288,7 @@ class _Builder:
             "sign(zscore(close, window)) if abs(zscore(close, window)) > threshold else 0"))
         yield "2025-03-06T17"
         self.run(i, rev, INES, _RunPlan(
-            "no_edge", {"window": [10, 20], "threshold": [1.5, 2.0]}, 0.11, -0.09, 2600, 0.88,
-            ()))
+            "no_edge", {"window": [10, 20], "threshold": [1.5, 2.0]}, 0.11, -0.09, 2600))
         yield "2025-03-07T11"
         self.stage(i, "shelved", INES, "No edge before costs. Shelved; the paper's "
                    "sample probably ended at a lucky time.")
@@ -317,8 +312,7 @@ class _Builder:
             "sign(close - mean(close, n)) if abs(zscore(close, n)) > buffer else 0"))
         yield "2025-03-13T17"
         self.run(i, rev, NIA, _RunPlan(
-            "lost_to_costs", {"n": [10, 20, 40], "buffer": [0.0, 0.5]}, 0.84, 0.21, 2600, 0.4,
-            ()))
+            "lost_to_costs", {"n": [10, 20, 40], "buffer": [0.0, 0.5]}, 0.84, 0.21, 2600))
         yield "2025-03-14T14"
         self.note(i, NIA, "As the verdict says: slower windows and a wider "
                   "buffer. Changing the grid, and the trial count keeps counting.")
@@ -329,7 +323,7 @@ class _Builder:
             "sign(close - mean(close, n)) if abs(zscore(close, n)) > buffer else 0"))
         yield "2025-03-18T17"
         self.run(i, rev2, NIA, _RunPlan(
-            "passes", {"n": [60, 120, 250], "buffer": [1.0, 1.5]}, 0.95, 0.86, 2600, 0.03, ()))
+            "passes", {"n": [60, 120, 250], "buffer": [1.0, 1.5]}, 0.95, 0.86, 2600))
         yield "2025-03-19T14"
         self.note(i, INES, "Passes with 12 trials counted. Promotion decision at "
                   "the April meeting.", kind="decision")
@@ -401,99 +395,55 @@ class _Builder:
 
 
 def _run_record(rng: np.random.Generator, plan: _RunPlan, trials_before: int) -> dict[str, Any]:
-    """A stored run for the plan: daily P&L scaled to the stated Sharpe ratios, per-set
-    Sharpe ratios around the chosen one, statistics from the textbook formulas."""
+    """A stored run for the plan, built by the engine's own statistics, verdict and record
+    builder from invented daily P&L: the chosen set's scaled to the stated Sharpe ratios, the
+    other sets' correlated with it and a little weaker."""
     names = list(plan.grid)
     sets = [dict(zip(names, map(float, combo), strict=True))
             for combo in product(*plan.grid.values())]
-    chosen = plan.chosen
-    pnl = _daily_pnl(rng, plan.days, plan.gross_sr, plan.net_sr)
-    net_sr = _sharpe(pnl["net_pnl"].to_numpy())
-    gross_sr = _sharpe(pnl["gross_pnl"].to_numpy())
-    set_rows = []
-    for k, params in enumerate(sets):
-        step = 0 if k == chosen else rng.uniform(0.05, 0.45)
-        set_rows.append({"params": params, "net_sharpe": round(net_sr - step, 4),
-                         "gross_sharpe": round(gross_sr - step, 4),
-                         "trades_per_year": round(float(rng.uniform(4, 60)), 1)})
-    trials = trials_before + len(sets) - plan.repeats
-    stats = _statistics(pnl, [r["net_sharpe"] for r in set_rows], trials, plan.spa_p)
-    reasons = list(_reasons(plan.outcome, stats)) + list(plan.reasons)
-    verdict = {"outcome": plan.outcome, "label": LABELS[plan.outcome],
-               "action": ACTIONS[plan.outcome], "reasons": reasons,
-               "numbers": {k: stats[k] for k in ("dsr", "n_trials", "spa_pvalue")}}
-    return {"parameter_sets": sets, "data_fingerprint": _FINGERPRINT, "engine_version": _ENGINE,
-            "summary": {"sets": set_rows, "note": "invented demo record",
-                        "chosen": {"params": sets[chosen], "gross_sharpe": round(gross_sr, 4),
-                                   "net_sharpe": round(net_sr, 4)}},
-            "statistics": stats, "verdict": verdict, "chosen_params": sets[chosen],
-            "daily_pnl": pnl}
+    daily = [_daily_pnl(rng, plan.days, plan.gross_sr - step, plan.net_sr - step, base)
+             for step, base in _set_shapes(rng, plan, len(sets))]
+    gross = np.column_stack([d["gross_pnl"].to_numpy() for d in daily])
+    cost = np.column_stack([d["cost"].to_numpy() for d in daily])
+    contracts = np.array([d["contracts_traded"].sum() for d in daily])
+    stats = first_pass_statistics(
+        gross, cost, grid_shape=tuple(len(v) for v in plan.grid.values()),
+        n_trials=trials_before + len(sets) - plan.repeats, contracts_traded=contracts,
+        spa_reps=DEMO_SPA_REPS, seed=DEMO_SEED)
+    verdict = decide(stats)
+    metrics = [{"portfolio": summarise(d)} for d in daily]
+    summary = build_run_summary(
+        name=f"Invented demo run ({', '.join(names)})", markets=(), currency="USD",
+        data_folder="", parameter_sets=sets, set_metrics=metrics,
+        chosen_metrics=metrics[stats.chosen], statistics=stats, verdict=verdict)
+    return {"summary": summary, "data_fingerprint": _FINGERPRINT, "engine_version": _ENGINE,
+            "daily_pnl": daily[stats.chosen][["gross_pnl", "cost", "net_pnl"]]}
 
 
-def _daily_pnl(rng: np.random.Generator, days: int, gross_sr: float,
-               net_sr: float) -> pd.DataFrame:
+def _set_shapes(rng: np.random.Generator, plan: _RunPlan,
+                n_sets: int) -> Iterator[tuple[float, np.ndarray]]:
+    """Per set: how much weaker than the chosen set it is, and its standard normal draws
+    (the chosen set's, mixed with the set's own for the others)."""
+    base = rng.standard_normal(plan.days)
+    for k in range(n_sets):
+        if k == plan.chosen:
+            yield 0.0, base
+        else:
+            own = rng.standard_normal(plan.days)
+            yield float(rng.uniform(0.1, 0.45)), 0.8 * base + 0.6 * own
+
+
+def _daily_pnl(rng: np.random.Generator, days: int, gross_sr: float, net_sr: float,
+               z: np.ndarray) -> pd.DataFrame:
+    """Daily gross P&L with exactly the stated Sharpe ratio, contracts drawn around 6 a day
+    and a cost per contract that brings the net Sharpe ratio near ``net_sr``."""
     dates = pd.bdate_range(end="2024-12-31", periods=days)
-    z = rng.standard_normal(days)
     z = (z - z.mean()) / z.std(ddof=1)
     sigma = 12_000.0
     gross = sigma * (z + gross_sr / math.sqrt(252))
-    cost_mean = sigma * (gross_sr - net_sr) / math.sqrt(252)
-    cost = cost_mean * rng.gamma(4.0, 0.25, days)
-    return pd.DataFrame({"gross_pnl": gross, "cost": cost, "net_pnl": gross - cost},
+    contracts = rng.poisson(6.0, days).astype(float)
+    per_contract = sigma * (gross_sr - net_sr) / math.sqrt(252) / 6.0
+    cost = contracts * per_contract
+    return pd.DataFrame({"gross_pnl": gross, "cost": cost, "net_pnl": gross - cost,
+                         "contracts_traded": contracts, "trades": (contracts > 0) * 1.0},
                         index=pd.DatetimeIndex(dates, name="date"))
-
-
-def _sharpe(x: np.ndarray) -> float:
-    return float(x.mean() / x.std(ddof=1) * math.sqrt(252))
-
-
-def _statistics(pnl: pd.DataFrame, set_sharpes: list[float], trials: int,
-                spa_p: float) -> dict[str, Any]:
-    """PSR and minimum track record (Bailey & Lopez de Prado 2012) and DSR (2014)."""
-    out: dict[str, Any] = {"n_days": len(pnl), "n_trials": trials, "spa_pvalue": spa_p}
-    for side in ("gross", "net"):
-        x = pnl[f"{side}_pnl"].to_numpy()
-        sr = x.mean() / x.std(ddof=1)
-        skew = float(pd.Series(x).skew())
-        kurt = float(pd.Series(x).kurt()) + 3.0
-        scale = math.sqrt(1 - skew * sr + (kurt - 1) / 4 * sr * sr)
-        psr = _NORMAL.cdf(sr * math.sqrt(len(x) - 1) / scale)
-        min_trl = 1 + (scale * _NORMAL.inv_cdf(0.95) / sr) ** 2 if sr > 0 else math.inf
-        out[side] = {"sharpe": round(sr * math.sqrt(252), 4), "psr": round(psr, 4),
-                     "min_trl_days": None if math.isinf(min_trl) else round(min_trl, 1),
-                     "skew": round(skew, 4), "kurtosis": round(kurt, 4)}
-    variance = float(np.var(np.asarray(set_sharpes) / math.sqrt(252), ddof=1)) \
-        if len(set_sharpes) > 1 else 0.0
-    n = max(trials, 2)
-    expected_max = math.sqrt(variance) * ((1 - _EULER) * _NORMAL.inv_cdf(1 - 1 / n)
-                                          + _EULER * _NORMAL.inv_cdf(1 - 1 / (n * math.e)))
-    x = pnl["net_pnl"].to_numpy()
-    sr = x.mean() / x.std(ddof=1)
-    skew, kurt = out["net"]["skew"], out["net"]["kurtosis"]
-    scale = math.sqrt(1 - skew * sr + (kurt - 1) / 4 * sr * sr)
-    out["dsr"] = round(_NORMAL.cdf((sr - expected_max) * math.sqrt(len(x) - 1) / scale), 4)
-    out["expected_max_sharpe"] = round(expected_max * math.sqrt(252), 4)
-    return out
-
-
-def _reasons(outcome: str, s: dict[str, Any]) -> tuple[str, ...]:
-    g, n = s["gross"], s["net"]
-    return {
-        "no_edge": (f"Gross Sharpe ratio {g['sharpe']:.2f} a year is below the 0.30 worth "
-                    "pursuing.",),
-        "too_little_data": (f"Gross Sharpe ratio {g['sharpe']:.2f} a year, but {s['n_days']} "
-                            f"days give only {g['psr']:.0%} confidence that it is above zero "
-                            "(PSR; 95% needed).",
-                            f"About {g['min_trl_days']:.0f} days would be needed at this "
-                            "Sharpe ratio (minimum track record length)."),
-        "lost_to_costs": (f"Before costs the edge is clear (gross PSR {g['psr']:.0%}), but the "
-                          f"net Sharpe ratio is {n['sharpe']:.2f} a year and net PSR only "
-                          f"{n['psr']:.0%}.",),
-        "selection_luck": (f"Deflated Sharpe ratio {s['dsr']:.0%} is below 95%: the best of "
-                           f"{s['n_trials']} trials would reach a Sharpe ratio near "
-                           f"{s['expected_max_sharpe']:.2f} a year by luck alone.",
-                           f"SPA test p-value {s['spa_pvalue']:.3f} is above 0.050."),
-        "passes": (f"Net Sharpe ratio {n['sharpe']:.2f} a year holds after costs (net PSR "
-                   f"{n['psr']:.0%}) and after selection (DSR {s['dsr']:.0%}, SPA p-value "
-                   f"{s['spa_pvalue']:.3f}).",),
-    }[outcome]

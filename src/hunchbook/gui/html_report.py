@@ -17,14 +17,12 @@ from PySide6.QtWidgets import QWidget
 
 from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.presenter import Table, market_table, set_table
 from hunchbook.gui.charts.result_charts import ResultCharts
 from hunchbook.gui.charts.run_figures import (
     FigureRow,
-    dig,
     format_params,
     format_value,
-    number,
-    parameter_space,
     performance_rows,
     statistic_rows,
     verdict_text,
@@ -119,34 +117,18 @@ def _figures_table(rows: list[FigureRow]) -> str:
             '<th class="num">Net</th></tr></thead><tbody>' + "".join(body) + "</tbody></table>")
 
 
-def _markets_table(run: RunRecord) -> str:
-    markets = dig(run.summary, "chosen", "markets")
-    if not isinstance(markets, dict) or not markets:
-        return "<p>No per-market figures were recorded for this run.</p>"
-    columns = [("Gross P&L", ("gross", "total"), "money"), ("Net P&L", ("net", "total"), "money"),
-               ("Gross Sharpe", ("gross", "sharpe"), "ratio"),
-               ("Net Sharpe", ("net", "sharpe"), "ratio"),
-               ("Contracts / year", ("contracts_per_year",), "count"),
-               ("Cost", ("cost_total",), "money"),
-               ("Break-even cost", ("break_even_cost",), "money")]
-    head = "".join(f'<th class="num">{_e(c[0])}</th>' for c in columns)
-    rows = []
-    for name, m in markets.items():
-        cells = "".join(f'<td class="num">{_e(format_value(number(dig(m, *keys)), kind))}</td>'
-                        for _, keys, kind in columns)
-        rows.append(f"<tr><td>{_e(name)}</td>{cells}</tr>")
-    return (f"<table><thead><tr><th>Market</th>{head}</tr></thead><tbody>"
-            + "".join(rows) + "</tbody></table>")
-
-
-def _sets_table(run: RunRecord) -> str:
-    space = parameter_space(run)
-    pairs = list(zip(space.params, space.net_sharpe, strict=True))
-    pairs.sort(key=lambda p: -p[1] if p[1] is not None else float("inf"))
-    rows = "".join(f'<tr><td>{_e(format_params(p))}</td>'
-                   f'<td class="num">{_e(format_value(s, "ratio"))}</td></tr>' for p, s in pairs)
-    return ('<table><thead><tr><th>Parameter set</th><th class="num">Net Sharpe</th></tr>'
-            f"</thead><tbody>{rows}</tbody></table>")
+def _table(table: Table, empty: str) -> str:
+    if not table.rows:
+        return f"<p>{_e(empty)}</p>"
+    head = "".join(f'<th class="num" title="{_e(c.note)}">{_e(c.label)}</th>'
+                   for c in table.columns)
+    rows = "".join(
+        f"<tr><td>{_e(name)}</td>" + "".join(
+            f'<td class="num">{_e(format_value(v, c.kind))}</td>'
+            for v, c in zip(values, table.columns, strict=True)) + "</tr>"
+        for name, values in table.rows)
+    return (f"<table><thead><tr><th>{_e(table.head)}</th>{head}</tr></thead><tbody>{rows}"
+            "</tbody></table>")
 
 
 def _idea_section(idea: Idea) -> str:
@@ -175,9 +157,12 @@ def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str,
         f'<figure><img alt="{_e(name)} chart" src="data:image/png;base64,'
         f'{base64.b64encode(png).decode("ascii")}"><figcaption>{_e(CAPTIONS.get(name, ""))}'
         "</figcaption></figure>" for name, png in images.items())
-    notes = dig(run.statistics, "notes")
-    notes_html = ("".join(f"<p>{_e(n)}</p>" for n in notes)
-                  if isinstance(notes, list) else "")
+    result = run.result
+    notes_html = "".join(f"<p>{_e(n)}</p>" for n in result.statistics.notes) if result else ""
+    markets_html = _table(market_table(result), "No per-market figures were recorded for this "
+                          "run.") if result else ""
+    sets_html = _table(set_table(result), "No parameter sets were recorded for this "
+                       "run.") if result else ""
     provenance = [("Run", f"{run.id} ({run.uuid})"),
                   ("Recorded", f"{run.recorded_at} by {run.recorded_by}"),
                   ("Rules revision", run.revision_number),
@@ -216,9 +201,9 @@ trials counted for the idea.</p>
 <h2>Charts</h2>
 {figures}
 <h2>Markets</h2>
-{_markets_table(run)}
+{markets_html}
 <h2>Parameter sets</h2>
-{_sets_table(run)}
+{sets_html}
 <h2>Rule file</h2>
 <pre>{_e(rule_text)}</pre>
 <h2>Run record</h2>

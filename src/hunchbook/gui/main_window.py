@@ -50,6 +50,7 @@ from hunchbook.core.markets import read_market_library
 from hunchbook.core.prices import LIBRARY_FILE
 from hunchbook.core.rules import parse_rules
 from hunchbook.gui import feedback
+from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.models import verdict_label
 from hunchbook.gui.widgets.catalogue_panel import CataloguePanel
@@ -696,7 +697,7 @@ class MainWindow(QMainWindow):
         idea_id = worker.idea_id if worker is not None else self._idea_id
         assert self.catalogue is not None and idea_id is not None
         run = self.catalogue.run(run_id)
-        label = run.verdict.get("label") or verdict_label(run.verdict_label)
+        label = verdict_text(run).label
         self.catalogue_panel.refresh_idea(idea_id)
         if idea_id == self._idea_id:
             self._rule_drafts.pop(idea_id, None)
@@ -709,7 +710,7 @@ class MainWindow(QMainWindow):
             self._show_revision()
             self.show_section("runs")
         self.status_message(f"Run {run_id} recorded (rule revision {result.revision_number}, "
-                            f"{len(result.report.sets)} sets): {label}.")
+                            f"{len(result.summary.sets)} sets): {label}.")
         self.run_finished.emit(run_id)
 
     def _run_failed(self, message: str) -> None:
@@ -728,7 +729,7 @@ class MainWindow(QMainWindow):
         run = self.runs_panel.current_run()
         if run is None or self.catalogue is None:
             return None
-        folder = self.data_folder or run.summary.get("data_folder")
+        folder = self.data_folder or (run.result.data_folder if run.result else None)
         if not folder:
             self.status_message("Choose a data folder to see that set's curves.")
             return None

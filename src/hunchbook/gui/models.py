@@ -26,6 +26,7 @@ from PySide6.QtCore import (
 from PySide6.QtGui import QFont
 
 from hunchbook.core.verdict import LABELS
+from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.store.records import Entry, Idea, IdeaSummary, RunRecord
 
 #: Role giving a cell's raw value for sorting.
@@ -345,7 +346,7 @@ class RunTableModel(_RecordTableModel):
         if column == self.SHARPE:
             return format_sharpe(run.chosen_net_sharpe)
         if column == self.VERDICT:
-            return run.verdict.get("label") or verdict_label(run.verdict_label)
+            return verdict_text(run).label
         return str(run.trial_count)
 
     def _raw(self, run: RunRecord, column: int) -> Any:
@@ -355,8 +356,7 @@ class RunTableModel(_RecordTableModel):
         return raw[column] if column in raw else self._display(run, column)
 
     def _tooltip(self, run: RunRecord, column: int) -> Any:
-        reasons = run.verdict.get("reasons") or []
-        return "\n".join(str(r) for r in reasons) or None
+        return "\n".join(verdict_text(run).reasons) or None
 
     def _is_number(self, column: int) -> bool:
         return column in (self.RUN, self.REVISION, self.SETS, self.SHARPE, self.TRIALS)

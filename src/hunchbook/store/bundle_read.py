@@ -8,7 +8,8 @@ A bundle is a zip archive holding plain-text files only:
 ``rules/<number>-<sha256>.toml``
     the text of each rule revision.
 ``runs/<uuid>.json``
-    a run's parameter sets, summary, statistics, verdict and chosen set.
+    a run's data fingerprint, engine version and results record (every set, the chosen set,
+    statistics and verdict; :class:`hunchbook.core.results.RunSummary`).
 ``runs/<uuid>.csv``
     the chosen set's daily P&L: ``date,gross_pnl,cost,net_pnl``.
 
@@ -42,7 +43,7 @@ from hunchbook.store.vocab import DECISIONS, ENTRY_KINDS
 
 #: Name and version written in every bundle.
 FORMAT = "hunchbook-idea-bundle"
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2
 #: The manifest member.
 MANIFEST = "bundle.toml"
 #: Largest bundle file accepted (bytes).
@@ -330,12 +331,14 @@ def _run(t: _Table, members: dict[str, str], used: set[str],
         raise CatalogueError(f"not valid JSON: {exc}", field=name) from None
     if not isinstance(body, Mapping):
         raise CatalogueError("expected a JSON object", field=name)
-    keys = ("parameter_sets", "data_fingerprint", "engine_version", "summary", "statistics",
-            "verdict", "chosen_params")
+    keys = ("data_fingerprint", "engine_version", "results")
     if sorted(body) != sorted(keys):
         raise CatalogueError(f"expected exactly the keys {', '.join(keys)}", field=name)
     try:
-        cleaned = runs.clean(**body, daily_pnl=_pnl_csv(members[pnl_name], pnl_name))
+        result = runs.read_result(body["results"], where="results")
+        cleaned = runs.clean(summary=result, data_fingerprint=body["data_fingerprint"],
+                             engine_version=body["engine_version"],
+                             daily_pnl=_pnl_csv(members[pnl_name], pnl_name))
     except CatalogueError as exc:
         exc.field = f"{name}: {exc.field}" if exc.field else name
         raise

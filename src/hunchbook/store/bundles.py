@@ -73,10 +73,11 @@ def export(db: Database, idea_id: int, path: str | os.PathLike[str], *, at: str,
                                "comments": v.comments, "at": v.at, "checklist": v.checklist})
     for summary in runs.of_idea(db, idea.id):
         run = runs.get(db, summary.id)
-        body = {"parameter_sets": list(run.parameter_sets),
-                "data_fingerprint": run.data_fingerprint, "engine_version": run.engine_version,
-                "summary": run.summary, "statistics": run.statistics, "verdict": run.verdict,
-                "chosen_params": run.chosen_params}
+        if run.result is None:
+            raise CatalogueError(f"run {run.id} was recorded by an earlier version of Hunchbook "
+                                 "and cannot be exported; re-run the idea first", field="runs")
+        body = {"data_fingerprint": run.data_fingerprint, "engine_version": run.engine_version,
+                "results": run.result.to_dict()}
         files[f"runs/{run.uuid}.json"] = json.dumps(body, indent=1, allow_nan=False)
         files[f"runs/{run.uuid}.csv"] = _pnl_text(run.daily_pnl)
         doc["runs"].append({"uuid": run.uuid, "revision": rev_uuid[run.revision_id],

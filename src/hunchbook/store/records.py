@@ -3,9 +3,13 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any, NamedTuple
+from typing import TYPE_CHECKING, Any, NamedTuple
 
 import pandas as pd
+
+if TYPE_CHECKING:
+    from hunchbook.core.results import RunSummary
+
 
 
 @dataclass(frozen=True)
@@ -99,7 +103,9 @@ class Preregistration:
 
 @dataclass(frozen=True)
 class RunRecord:
-    """One recorded run of an idea. ``daily_pnl`` is decoded only by ``Catalogue.run``.
+    """One recorded run of an idea: its provenance and its results record (``result``; None
+    for a run recorded by an earlier version in another shape). ``daily_pnl`` is decoded only
+    by ``Catalogue.run``.
 
     ``trial_count`` is the idea's trial count just after this run was recorded.
     """
@@ -112,9 +118,7 @@ class RunRecord:
     parameter_sets: tuple[dict[str, float], ...]
     data_fingerprint: str
     engine_version: str
-    summary: dict[str, Any]
-    statistics: dict[str, Any]
-    verdict: dict[str, Any]
+    result: RunSummary | None
     verdict_label: str
     chosen_params: dict[str, float]
     chosen_net_sharpe: float | None

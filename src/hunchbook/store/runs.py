@@ -1,7 +1,8 @@
 """Runs of an idea and the trials they count.
 
 A run stores its rule revision, the parameter sets tried, the data fingerprint, the engine
-version, the summary, statistics and verdict (as JSON) and the chosen set's daily P&L
+version, its results record (:class:`~hunchbook.core.results.RunSummary`, as JSON in three
+columns: statistics, verdict and the rest) and the chosen set's daily P&L
 (see :mod:`hunchbook.store.pnl`).
 
 Trials
@@ -19,6 +20,7 @@ trial, trials with no Sharpe (a flat series) left out.
 from __future__ import annotations
 
 import json
+import math
 import uuid as uuidlib
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
@@ -27,6 +29,8 @@ from typing import Any
 import pandas as pd
 from sqlite_utils import Database
 
+from hunchbook.core.errors import RecordError
+from hunchbook.core.results import RunSummary
 from hunchbook.store import pnl, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Revision, RunRecord
@@ -39,6 +43,7 @@ MAX_LABEL = 80
 class RunInput:
     """A run's values after validation, ready to insert."""
 
+    result: RunSummary
     parameter_sets: list[dict[str, float]]
     data_fingerprint: str
     engine_version: str
@@ -57,86 +62,62 @@ def params_key(params: Mapping[str, float]) -> str:
     return json.dumps({k: float(v) for k, v in params.items()}, sort_keys=True)
 
 
-def clean(*, parameter_sets: Any, data_fingerprint: Any, engine_version: Any, summary: Any,
-          statistics: Any, verdict: Any, chosen_params: Any, daily_pnl: Any) -> RunInput:
+def clean(*, summary: Any, data_fingerprint: Any, engine_version: Any,
+          daily_pnl: Any) -> RunInput:
     """Validate everything about a run before anything is written.
 
-    Expected shapes
-    ---------------
-    parameter_sets
-        list of ``{name: value}``, one per set tried, no repeats.
-    summary
-        ``{"sets": [{"params": {name: value}, "net_sharpe": float | None, ...}, ...], ...}``
-        with one entry per parameter set (any order); other keys and per-set keys are stored
-        as given (numbers, text, lists, tables; NaN stored as null).
-    statistics
-        any table of plain values.
-    verdict
-        ``{"outcome": short key, "label": short text, "reasons": [text, ...], ...}``;
-        ``outcome`` (optional, defaults to ``label``) is what ideas are filtered by and what
-        ``RunRecord.verdict_label`` and ``Idea.last_verdict`` hold.
-    chosen_params
-        one of ``parameter_sets``; its daily P&L is ``daily_pnl``.
+    ``summary`` is the run's :class:`~hunchbook.core.results.RunSummary`; its parameter sets
+    must be distinct and between 1 and ``validate.MAX_SETS``; ``daily_pnl`` is the chosen
+    set's daily P&L (date index; columns ``gross_pnl``, ``cost``, ``net_pnl``). The record is
+    stored in three JSON columns: ``statistics``, ``verdict`` and the rest (``summary``).
     """
-    if isinstance(parameter_sets, str | bytes) or not isinstance(parameter_sets, Sequence):
-        raise CatalogueError("expected a list of parameter sets", field="parameter_sets")
-    if not 1 <= len(parameter_sets) <= validate.MAX_SETS:
+    if not isinstance(summary, RunSummary):
+        raise CatalogueError("expected the run's results record", field="summary")
+    sets = [validate.param_set(s, f"sets[{i}].params") for i, s in
+            enumerate(summary.parameter_sets)]
+    if not 1 <= len(sets) <= validate.MAX_SETS:
         raise CatalogueError(f"expected 1 to {validate.MAX_SETS:,} parameter sets, found "
-                             f"{len(parameter_sets):,}", field="parameter_sets")
-    sets = [validate.param_set(s, f"parameter_sets[{i}]") for i, s in enumerate(parameter_sets)]
+                             f"{len(sets):,}", field="sets")
     keys = [params_key(s) for s in sets]
     if len(set(keys)) != len(keys):
-        raise CatalogueError("a parameter set is listed twice", field="parameter_sets")
-    sharpes = _set_sharpes(summary, set(keys))
-    chosen = validate.param_set(chosen_params, "chosen_params")
-    if params_key(chosen) not in sharpes:
-        raise CatalogueError("the chosen set is not one of the parameter sets",
-                             field="chosen_params")
-    if not isinstance(verdict, Mapping):
-        raise CatalogueError("expected a table with 'label' and 'reasons'", field="verdict")
-    label = validate.text(verdict.get("label"), "verdict.label", limit=MAX_LABEL, one_line=True)
-    if "outcome" in verdict:
-        label = validate.text(verdict["outcome"], "verdict.outcome", limit=MAX_LABEL,
-                              one_line=True)
-    reasons = verdict.get("reasons")
-    if not isinstance(reasons, list):
-        raise CatalogueError("expected a list of sentences", field="verdict.reasons")
-    for i, reason in enumerate(reasons):
+        raise CatalogueError("a parameter set is listed twice", field="sets")
+    chosen = validate.param_set(summary.chosen.params, "chosen.params")
+    if params_key(chosen) != keys[summary.statistics.chosen]:
+        raise CatalogueError("the chosen set is not the set the statistics judge",
+                             field="chosen.params")
+    verdict = summary.verdict
+    label = validate.text(verdict.outcome, "verdict.outcome", limit=MAX_LABEL, one_line=True)
+    validate.text(verdict.label, "verdict.label", limit=MAX_LABEL, one_line=True)
+    for i, reason in enumerate(verdict.reasons):
         validate.text(reason, f"verdict.reasons[{i}]")
-    if not isinstance(statistics, Mapping):
-        raise CatalogueError("expected a table of statistics", field="statistics")
+    record = summary.to_dict()
+    statistics, verdict_json = record.pop("statistics"), record.pop("verdict")
+    sharpes = [validate.optional_number(_finite(s.net_sharpe), f"sets[{i}].net_sharpe")
+               for i, s in enumerate(summary.sets)]
     return RunInput(
-        parameter_sets=sets,
+        result=summary, parameter_sets=sets,
         data_fingerprint=validate.name(data_fingerprint, "data_fingerprint"),
         engine_version=validate.name(engine_version, "engine_version"),
-        summary=validate.to_json(summary, "summary"),
+        summary=validate.to_json(record, "summary"),
         statistics=validate.to_json(statistics, "statistics"),
-        verdict=validate.to_json(verdict, "verdict"),
+        verdict=validate.to_json(verdict_json, "verdict"),
         verdict_label=label, chosen_params=chosen,
-        chosen_net_sharpe=sharpes[params_key(chosen)],
-        set_sharpes=[(k, sharpes[k]) for k in keys],
+        chosen_net_sharpe=sharpes[summary.statistics.chosen],
+        set_sharpes=list(zip(keys, sharpes, strict=True)),
         daily_pnl=pnl.encode(pnl.clean(daily_pnl)))
 
 
-def _set_sharpes(summary: Any, keys: set[str]) -> dict[str, float | None]:
-    if not isinstance(summary, Mapping) or not isinstance(summary.get("sets"), list):
-        raise CatalogueError("expected a table with 'sets': a list of {params, net_sharpe}",
-                             field="summary")
-    out: dict[str, float | None] = {}
-    for i, item in enumerate(summary["sets"]):
-        field = f"summary.sets[{i}]"
-        if not isinstance(item, Mapping) or "params" not in item or "net_sharpe" not in item:
-            raise CatalogueError("expected a table with 'params' and 'net_sharpe'", field=field)
-        key = params_key(validate.param_set(item["params"], f"{field}.params"))
-        if key not in keys:
-            raise CatalogueError(f"set {key} is not among the parameter sets", field=field)
-        if key in out:
-            raise CatalogueError(f"set {key} appears twice", field=field)
-        out[key] = validate.optional_number(item["net_sharpe"], f"{field}.net_sharpe")
-    if len(out) != len(keys):
-        raise CatalogueError(f"{len(keys) - len(out)} parameter set(s) have no summary",
-                             field="summary.sets")
-    return out
+def read_result(data: Any, *, where: str) -> RunSummary:
+    """A results record read from plain JSON values (stored or exchanged), or a
+    CatalogueError naming ``where`` and the field at fault."""
+    try:
+        return RunSummary.from_dict(data)
+    except RecordError as exc:
+        raise CatalogueError(str(exc), field=where) from None
+
+
+def _finite(x: float) -> float | None:
+    return x if math.isfinite(x) else None
 
 
 def insert(db: Database, idea_id: int, revision: Revision, run: RunInput, *, by: str, at: str,
@@ -217,13 +198,17 @@ def get(db: Database, run_id: int) -> RunRecord:
 
 def _record(row: dict[str, Any], *, with_pnl: bool) -> RunRecord:
     frame: pd.DataFrame | None = pnl.decode(row["daily_pnl"]) if with_pnl else None
+    try:
+        result = read_result({**json.loads(row["summary"]), "statistics": json.loads(
+            row["statistics"]), "verdict": json.loads(row["verdict"])}, where=f"run {row['id']}")
+    except CatalogueError:  # written by an earlier version: provenance and P&L still show
+        result = None
     return RunRecord(
         id=row["id"], uuid=row["uuid"], idea_id=row["idea_id"], revision_id=row["revision_id"],
         revision_number=row["revision_number"],
         parameter_sets=tuple(json.loads(row["parameter_sets"])),
         data_fingerprint=row["data_fingerprint"], engine_version=row["engine_version"],
-        summary=json.loads(row["summary"]), statistics=json.loads(row["statistics"]),
-        verdict=json.loads(row["verdict"]), verdict_label=row["verdict_label"],
+        result=result, verdict_label=row["verdict_label"],
         chosen_params=json.loads(row["chosen_params"]),
         chosen_net_sharpe=row["chosen_net_sharpe"], trial_count=row["trial_count"],
         recorded_at=row["recorded_at"], recorded_by=row["recorded_by"], daily_pnl=frame)

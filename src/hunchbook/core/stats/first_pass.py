@@ -14,6 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.plain import json_safe
 from hunchbook.core.stats.costs import (
     COST_MULTIPLES,
     break_even_cost_multiple,
@@ -135,7 +136,7 @@ class FirstPassStats:
 
     def to_dict(self) -> dict[str, object]:
         """JSON-safe nested dict: NaN and infinities become None, tuples become lists."""
-        return _json_safe(dataclasses.asdict(self))
+        return json_safe(dataclasses.asdict(self))
 
 
 def first_pass_statistics(
@@ -313,17 +314,3 @@ def _cost_stats(gross: np.ndarray, cost: np.ndarray, multiples: tuple[float, ...
         contracts_traded=contracts,
         break_even_cost_per_contract=(None if contracts is None
                                       else break_even_cost_per_contract(gross, contracts)))
-
-
-def _json_safe(value: object) -> object:
-    if isinstance(value, dict):
-        return {str(k): _json_safe(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_json_safe(v) for v in value]
-    if isinstance(value, (bool, np.bool_)):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        return float(value) if math.isfinite(value) else None
-    return value

@@ -12,7 +12,6 @@ from hunchbook.gui.charts.heatmap import SweepHeatmap
 from hunchbook.gui.charts.run_figures import (
     ParameterSpace,
     cost_curve,
-    dig,
     market_totals,
     parameter_space,
 )
@@ -46,8 +45,7 @@ class ResultCharts:
 
     def show_run(self, run: RunRecord) -> None:
         """Fill every chart from a run (charts without data are left empty)."""
-        currency = dig(run.summary, "currency")
-        currency = currency if isinstance(currency, str) else ""
+        currency = run.result.currency if run.result else ""
         self.equity.set_daily(run.daily_pnl, currency=currency)
         self.drawdown.set_daily(run.daily_pnl)
         self.contribution.set_totals(market_totals(run), currency=currency)

@@ -9,9 +9,11 @@ from PySide6.QtCore import QEvent, Qt, Signal
 from PySide6.QtGui import QFont, QPalette
 from PySide6.QtWidgets import (
     QAbstractItemView,
+    QFrame,
     QGridLayout,
     QHeaderView,
     QLabel,
+    QScrollArea,
     QSplitter,
     QStackedWidget,
     QTableView,
@@ -151,8 +153,13 @@ class ResultsView(QWidget):
         for col in range(2):
             grid.setColumnStretch(col, 1)
 
+        scroll = QScrollArea()  # the tables keep their height; a short window scrolls them
+        scroll.setWidget(tables)
+        scroll.setWidgetResizable(True)
+        scroll.setFrameShape(QFrame.Shape.NoFrame)
+        scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         splitter = QSplitter(Qt.Orientation.Horizontal)
-        splitter.addWidget(tables)
+        splitter.addWidget(scroll)
         splitter.addWidget(charts)
         splitter.setStretchFactor(0, 0)
         splitter.setStretchFactor(1, 1)

@@ -1,0 +1,268 @@
+"""The one shape of a run's results: typed, frozen records with a schema number.
+
+A :class:`RunSummary` is built in one place (:func:`build_run_summary`) from a sweep's per-set
+figures, the chosen set's full figures, the first-pass statistics and the verdict. The command
+line writes its ``to_dict`` as JSON, the catalogue stores and returns it, and the presenter
+(:mod:`hunchbook.core.presenter`) turns it into the rows that the command line, the window and
+the HTML report show.
+
+``to_dict`` gives plain JSON values (NaN and infinities become ``None``, tuples lists);
+``from_dict`` reads them back, checking every field's type and naming the field at fault.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import types
+import typing
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from functools import cache
+from typing import Any
+
+from hunchbook.core.errors import RecordError
+from hunchbook.core.plain import json_safe
+from hunchbook.core.stats.first_pass import FirstPassStats
+from hunchbook.core.verdict import Verdict
+
+#: Version of the record's shape; raised whenever a field is added, removed or renamed.
+SCHEMA = 1
+
+
+@dataclass(frozen=True)
+class PnlFigures:
+    """Figures of one daily P&L series (gross or net), as
+    :func:`hunchbook.core.metrics.pnl_stats` defines them; NaN when undefined."""
+
+    total: float
+    ann_mean: float
+    ann_vol: float
+    sharpe: float
+    t_stat: float
+    max_drawdown: float
+
+
+@dataclass(frozen=True)
+class Performance:
+    """The chosen set's portfolio figures over its whole history (see
+    :func:`hunchbook.core.metrics.summarise`); ``cost_per_year`` maps a year to its cost."""
+
+    days: int
+    first_date: str | None
+    last_date: str | None
+    years: float
+    gross: PnlFigures
+    net: PnlFigures
+    trades: float
+    trades_per_year: float
+    contracts_traded: float
+    contracts_per_year: float
+    cost_total: float
+    cost_per_year: dict[str, float]
+    cost_share_of_gross: float
+    break_even_cost: float
+
+
+@dataclass(frozen=True)
+class MarketFigures:
+    """One market's part of the chosen set: P&L, Sharpe ratios, cost and trading."""
+
+    market: str
+    gross_total: float
+    net_total: float
+    gross_sharpe: float
+    net_sharpe: float
+    cost_total: float
+    contracts_traded: float
+    contracts_per_year: float
+    break_even_cost: float
+
+
+@dataclass(frozen=True)
+class SetSummary:
+    """One parameter set of a sweep: its portfolio figures over its own history."""
+
+    params: dict[str, float]
+    gross_sharpe: float
+    net_sharpe: float
+    gross_total: float
+    net_total: float
+    net_max_drawdown: float
+    trades_per_year: float
+    contracts_per_year: float
+    cost_total: float
+    break_even_cost: float
+
+
+@dataclass(frozen=True)
+class ChosenSet:
+    """The set the statistics judge, in full: portfolio figures and one row per market."""
+
+    params: dict[str, float]
+    performance: Performance
+    markets: tuple[MarketFigures, ...]
+
+
+@dataclass(frozen=True)
+class RunSummary:
+    """A whole quick run: what ran, every set's figures, the chosen set, statistics, verdict.
+
+    ``sets`` are in grid order; ``statistics.chosen`` is the chosen set's position in them.
+    """
+
+    name: str
+    markets: tuple[str, ...]
+    currency: str
+    data_folder: str
+    sets: tuple[SetSummary, ...]
+    chosen: ChosenSet
+    statistics: FirstPassStats
+    verdict: Verdict
+    schema: int = SCHEMA
+
+    @property
+    def parameter_sets(self) -> list[dict[str, float]]:
+        """The parameter sets run, in grid order."""
+        return [dict(s.params) for s in self.sets]
+
+    def ranked(self) -> list[int]:
+        """Set positions from the best net Sharpe ratio down (undefined ones last)."""
+        def key(k: int) -> float:
+            value = self.sets[k].net_sharpe
+            return value if math.isfinite(value) else -math.inf
+
+        return sorted(range(len(self.sets)), key=key, reverse=True)
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain JSON values: NaN and infinities become None, tuples become lists."""
+        return json_safe(dataclasses.asdict(self))
+
+    @classmethod
+    def from_dict(cls, data: Any) -> RunSummary:
+        """Read a record written by :meth:`to_dict`, checking every field.
+
+        Raises
+        ------
+        RecordError
+            A field is missing or of the wrong kind, or the schema is not this version's.
+        """
+        if not isinstance(data, Mapping):
+            raise RecordError("expected a table of run results", field="run")
+        schema = data.get("schema")
+        if schema != SCHEMA:
+            raise RecordError(f"expected results of schema {SCHEMA}, found {schema!r} (written "
+                              "by another version of Hunchbook)", field="schema")
+        return _read(cls, data, "")
+
+
+def build_run_summary(*, name: str, markets: Sequence[str], currency: str, data_folder: str,
+                      parameter_sets: Sequence[Mapping[str, float]],
+                      set_metrics: Sequence[Mapping[str, Any]], chosen_metrics: Mapping[str, Any],
+                      statistics: FirstPassStats, verdict: Verdict) -> RunSummary:
+    """The run record of a sweep: the one place where the engine's figures become a record.
+
+    ``set_metrics[k]`` holds set k's metrics as :func:`hunchbook.core.sweep_summary.
+    summarise_sweep` gives them; ``chosen_metrics`` the chosen set's full metrics (``portfolio``
+    as :func:`hunchbook.core.metrics.summarise` gives them, ``markets`` per market).
+    """
+    sets = tuple(_set_summary(p, m["portfolio"])
+                 for p, m in zip(parameter_sets, set_metrics, strict=True))
+    chosen = ChosenSet(
+        params=dict(parameter_sets[statistics.chosen]),
+        performance=_read(Performance, json_safe(chosen_metrics["portfolio"]), "portfolio"),
+        markets=tuple(_market_figures(market, m)
+                      for market, m in chosen_metrics.get("markets", {}).items()))
+    return RunSummary(name=name, markets=tuple(markets), currency=currency,
+                      data_folder=data_folder, sets=sets, chosen=chosen, statistics=statistics,
+                      verdict=verdict)
+
+
+def _set_summary(params: Mapping[str, float], p: Mapping[str, Any]) -> SetSummary:
+    return SetSummary(
+        params={k: float(v) for k, v in params.items()},
+        gross_sharpe=p["gross"]["sharpe"], net_sharpe=p["net"]["sharpe"],
+        gross_total=p["gross"]["total"], net_total=p["net"]["total"],
+        net_max_drawdown=p["net"]["max_drawdown"], trades_per_year=p["trades_per_year"],
+        contracts_per_year=p["contracts_per_year"], cost_total=p["cost_total"],
+        break_even_cost=p["break_even_cost"])
+
+
+def _market_figures(market: str, m: Mapping[str, Any]) -> MarketFigures:
+    return MarketFigures(
+        market=market, gross_total=m["gross"]["total"], net_total=m["net"]["total"],
+        gross_sharpe=m["gross"]["sharpe"], net_sharpe=m["net"]["sharpe"],
+        cost_total=m["cost_total"], contracts_traded=m["contracts_traded"],
+        contracts_per_year=m["contracts_per_year"], break_even_cost=m["break_even_cost"])
+
+
+@cache
+def _hints(cls: type) -> dict[str, Any]:
+    return typing.get_type_hints(cls)
+
+
+def _read(kind: Any, value: Any, field: str) -> Any:
+    """``value`` read as ``kind`` (a record class, or a plain type hint), or a RecordError."""
+    origin = typing.get_origin(kind)
+    args = typing.get_args(kind)
+    if dataclasses.is_dataclass(kind):
+        if not isinstance(value, Mapping):
+            raise RecordError("expected a table", field=field or "run")
+        out = {}
+        for f in dataclasses.fields(kind):
+            name = f"{field}.{f.name}" if field else f.name
+            if f.name not in value:
+                if f.default is not dataclasses.MISSING:
+                    continue
+                raise RecordError("missing", field=name)
+            out[f.name] = _read(_hints(kind)[f.name], value[f.name], name)
+        return kind(**out)
+    if origin in (typing.Union, types.UnionType):
+        if value is None and type(None) in args:
+            return None
+        options = [a for a in args if a is not type(None)]
+        if len(options) == 1:
+            return _read(options[0], value, field)
+        if any(_is(value, a) for a in options):
+            return value
+        raise RecordError(f"expected one of {', '.join(_name(a) for a in options)}, "
+                          f"got {_shown(value)}", field=field)
+    if origin is tuple:
+        if not isinstance(value, list | tuple):
+            raise RecordError(f"expected a list, got {_shown(value)}", field=field)
+        return tuple(_read(args[0], v, f"{field}[{i}]") for i, v in enumerate(value))
+    if origin is dict:
+        if not isinstance(value, Mapping):
+            raise RecordError(f"expected a table, got {_shown(value)}", field=field)
+        return {str(k): _read(args[1], v, f"{field}.{k}") for k, v in value.items()}
+    if kind is float:
+        if value is None:
+            return math.nan
+        if not _is(value, float):
+            raise RecordError(f"expected a number, got {_shown(value)}", field=field)
+        return float(value)
+    if not _is(value, kind):
+        raise RecordError(f"expected {_name(kind)}, got {_shown(value)}", field=field)
+    return value
+
+
+def _is(value: Any, kind: Any) -> bool:
+    if kind is float:
+        return isinstance(value, int | float) and not isinstance(value, bool)
+    if kind is int:
+        return isinstance(value, int) and not isinstance(value, bool)
+    return isinstance(value, kind)
+
+
+def _name(kind: Any) -> str:
+    return {float: "a number", int: "a whole number", str: "text", bool: "true or false"}.get(
+        kind, getattr(kind, "__name__", str(kind)))
+
+
+def _shown(value: Any) -> str:
+    text = repr(value)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+__all__ = ["SCHEMA", "ChosenSet", "MarketFigures", "Performance", "PnlFigures", "RunSummary",
+           "SetSummary", "build_run_summary"]
