@@ -39,11 +39,6 @@ class TextSpan:
     end_line: int
     end_column: int
 
-    @property
-    def is_empty(self) -> bool:
-        """Whether the span is a point between two characters."""
-        return (self.line, self.column) == (self.end_line, self.end_column)
-
 
 @dataclass(eq=False)
 class RuleError(HunchbookError):

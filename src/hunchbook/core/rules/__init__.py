@@ -12,9 +12,7 @@ from hunchbook.core.rules.model import (
 from hunchbook.core.rules.parse import parse_rules, read_rules
 from hunchbook.core.rules.roll import (
     ADJUST_METHOD_TABLE,
-    ADJUST_METHODS,
     ROLL_RULE_TABLE,
-    ROLL_RULES,
     AdjustMethod,
     RollRule,
     RollSetting,
@@ -22,10 +20,8 @@ from hunchbook.core.rules.roll import (
 from hunchbook.core.rules.write import dump_rules, write_rules
 
 __all__ = [
-    "ADJUST_METHODS",
     "ADJUST_METHOD_TABLE",
     "COST_KEYS",
-    "ROLL_RULES",
     "ROLL_RULE_TABLE",
     "SERIES_NAMES",
     "AdjustMethod",

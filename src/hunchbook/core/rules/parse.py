@@ -17,6 +17,7 @@ from typing import Any
 from tomlkit.exceptions import ParseError
 
 from hunchbook.core.errors import RuleError, TextSpan
+from hunchbook.core.rules import roll
 from hunchbook.core.rules.model import (
     COST_KEYS,
     SERIES_NAMES,
@@ -27,18 +28,7 @@ from hunchbook.core.rules.model import (
     SizingSpec,
 )
 from hunchbook.core.rules.places import TomlPositionError, parse_with_places
-from hunchbook.core.rules.roll import (
-    ADJUST_KEY,
-    ADJUST_METHODS,
-    DEFAULT_ADJUST,
-    DEFAULT_ROLL_RULE,
-    ROLL_KEYS,
-    ROLL_RULE_TABLE,
-    SWITCH_KEY,
-    SWITCH_RULES,
-    RollRule,
-    roll_rule,
-)
+from hunchbook.core.rules.roll import ADJUST_KEY, SWITCH_KEY, RollRule
 from hunchbook.core.rules.spans import error_span, point_span
 
 #: Largest rule file accepted, in bytes (1 MB).
@@ -405,23 +395,23 @@ def _signal(table: _Table, parameters: tuple[Parameter, ...]) -> tuple[str, int]
 def _roll(table: _Table | None) -> RollSpec:
     if table is None:
         return RollSpec()
-    table.check_keys(ROLL_KEYS)
+    table.check_keys(roll.roll_keys())
     rule = _chosen_roll_rule(table)
     settings = {s.key: table.integer(s.key, s.default, s.minimum) for s in rule.settings}
-    return RollSpec(rule=rule.name, adjust=table.choice(ADJUST_KEY, ADJUST_METHODS,
-                                                        DEFAULT_ADJUST.name), **settings)
+    adjust = table.choice(ADJUST_KEY, roll.adjust_method_names(), roll.DEFAULT_ADJUST.name)
+    return RollSpec(rule=rule.name, adjust=adjust, **settings)
 
 
 def _chosen_roll_rule(table: _Table) -> RollRule:
     """The roll rule a ``[roll]`` table chooses by its settings or its switch (the default rule
     when it names none)."""
-    choosers = [(s.key, rule) for rule in ROLL_RULE_TABLE for s in rule.settings
+    choosers = [(s.key, rule) for rule in roll.ROLL_RULE_TABLE for s in rule.settings
                 if s.key in table.data]
-    switch = table.choice(SWITCH_KEY, SWITCH_RULES, None)
-    if switch is not None and (switched := roll_rule(switch)) is not None:
+    switch = table.choice(SWITCH_KEY, roll.switch_rule_names(), None)
+    if switch is not None and (switched := roll.roll_rule(switch)) is not None:
         choosers.append((SWITCH_KEY, switched))
     if not choosers:
-        return DEFAULT_ROLL_RULE
+        return roll.DEFAULT_ROLL_RULE
     first_key, rule = choosers[0]
     for key, other in choosers[1:]:
         if other is not rule:

@@ -41,10 +41,11 @@ class RollSetting:
 class RollRule:
     """One way of choosing the contract held on each date.
 
-    ``name`` is the value of ``RollSpec.rule`` (and, for a switch, of ``switch`` in the file).
-    ``method`` is how contracts are chosen: ``"expiry"`` holds each contract until a number of
-    business days before its expiry, ``"switch"`` moves to the next contract once its figure in
-    data ``column`` is the larger. ``settings`` are the rule's own settings.
+    ``name`` is the value of ``RollSpec.rule`` (and, for a switch, of ``switch`` in the file);
+    ``label`` names it in the form and ``help`` says in one sentence what it does. ``method`` is
+    how contracts are chosen: ``"expiry"`` holds each contract until a number of business days
+    before its expiry, ``"switch"`` moves to the next contract once its figure in data
+    ``column`` is the larger. ``settings`` are the rule's own settings.
     """
 
     name: str
@@ -69,6 +70,7 @@ class RollRule:
 class AdjustMethod:
     """A back-adjustment of the series the rules read (P&L never uses it).
 
+    ``label`` names it in the form, ``help`` says in one sentence what it does;
     ``needs_positive_prices``: the method divides by prices, so every price it reads must be > 0.
     """
 
@@ -85,36 +87,31 @@ DAYS_BEFORE_EXPIRY = RollSetting(
 #: Every roll rule; the first is the one a file gets when ``[roll]`` chooses none.
 ROLL_RULE_TABLE: tuple[RollRule, ...] = (
     RollRule("days_before_expiry", "Days before expiry",
-             "roll a fixed number of business days before expiry", "expiry",
+             "Roll a fixed number of business days before expiry.", "expiry",
              settings=(DAYS_BEFORE_EXPIRY,)),
     RollRule("volume", "Switch on volume",
-             "roll when the next contract's volume exceeds the held one's", "switch",
+             "Roll when the next contract's volume exceeds the held one's.", "switch",
              column="volume"),
     RollRule("open_interest", "Switch on open interest",
-             "roll when the next contract's open interest exceeds the held one's", "switch",
+             "Roll when the next contract's open interest exceeds the held one's.", "switch",
              column="open_interest"),
 )
 
 #: Every back-adjustment method; the first is the default.
 ADJUST_METHOD_TABLE: tuple[AdjustMethod, ...] = (
     AdjustMethod("difference", "Difference (add the gap)",
-                 "earlier prices are shifted by the gap at each roll"),
+                 "Earlier prices are shifted by the gap at each roll."),
     AdjustMethod("ratio", "Ratio (scale by new/old)",
-                 "earlier prices are multiplied by new / old at each roll",
+                 "Earlier prices are multiplied by new / old at each roll.",
                  needs_positive_prices=True),
-    AdjustMethod("none", "None (keep the jumps)", "prices are left as traded, jumps included"),
+    AdjustMethod("none", "None (keep the jumps)", "Prices are left as traded, jumps included."),
 )
 
 DEFAULT_ROLL_RULE = ROLL_RULE_TABLE[0]
 DEFAULT_ADJUST = ADJUST_METHOD_TABLE[0]
-#: Names of the roll rules and of the adjustment methods, in table order.
-ROLL_RULES = tuple(rule.name for rule in ROLL_RULE_TABLE)
-ADJUST_METHODS = tuple(method.name for method in ADJUST_METHOD_TABLE)
-SWITCH_RULES = tuple(rule.name for rule in ROLL_RULE_TABLE if rule.is_switch)
-#: Every roll setting once, in table order.
-ROLL_SETTINGS = tuple({s.key: s for rule in ROLL_RULE_TABLE for s in rule.settings}.values())
-#: Every key a ``[roll]`` table may hold.
-ROLL_KEYS = (*(s.key for s in ROLL_SETTINGS), SWITCH_KEY, ADJUST_KEY)
+
+# The look-ups below read the tables on every call, so everything that uses them follows the
+# tables as they are (a test may extend them).
 
 
 def roll_rule(name: str) -> RollRule | None:
@@ -125,3 +122,28 @@ def roll_rule(name: str) -> RollRule | None:
 def adjust_method(name: str) -> AdjustMethod | None:
     """The back-adjustment method called ``name``, or ``None`` when there is none."""
     return next((method for method in ADJUST_METHOD_TABLE if method.name == name), None)
+
+
+def roll_rule_names() -> tuple[str, ...]:
+    """Names of the roll rules, in table order."""
+    return tuple(rule.name for rule in ROLL_RULE_TABLE)
+
+
+def switch_rule_names() -> tuple[str, ...]:
+    """Names of the rules a file chooses with ``switch = "<name>"``."""
+    return tuple(rule.name for rule in ROLL_RULE_TABLE if rule.is_switch)
+
+
+def adjust_method_names() -> tuple[str, ...]:
+    """Names of the back-adjustment methods, in table order."""
+    return tuple(method.name for method in ADJUST_METHOD_TABLE)
+
+
+def roll_settings() -> tuple[RollSetting, ...]:
+    """Every roll setting once, in table order."""
+    return tuple({s.key: s for rule in ROLL_RULE_TABLE for s in rule.settings}.values())
+
+
+def roll_keys() -> tuple[str, ...]:
+    """Every key a ``[roll]`` table may hold."""
+    return (*(s.key for s in roll_settings()), SWITCH_KEY, ADJUST_KEY)

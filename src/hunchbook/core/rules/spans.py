@@ -69,10 +69,7 @@ def expression_stretch(text: str, value: Stretch, column: int | None) -> Stretch
     if column is None or decoded is None:
         return value
     chars, places = decoded
-    index = min(max(column - 1, 0), len(chars))
-    if index == len(chars):
-        closing = places[-1]
-        return closing, min(closing + 1, value[1])
+    index = min(max(column - 1, 0), len(chars))  # past the end: the closing quote
     word = _WORD.match(chars, index)
     last = (word.end() if word else index + 1) - 1
     width = _raw_length(text, places[last]) if text.startswith('"', value[0]) else 1
