@@ -17,7 +17,8 @@ from PySide6.QtGui import QKeySequence, QShortcut, QTextCursor, QTextFormat
 from PySide6.QtWidgets import QComboBox, QMainWindow
 
 from hunchbook.core.expr import FUNCTIONS
-from hunchbook.core.rules import parse_rules
+from hunchbook.core.rules import parse_rules, roll
+from hunchbook.core.rules.roll import RollRule
 from hunchbook.gui.widgets import rule_editor as rule_editor_module
 from hunchbook.gui.widgets.rule_editor import RuleEditor
 
@@ -223,6 +224,31 @@ def test_roll_costs_delay_and_dates_from_form(editor):
     assert reference["costs"] == {"slippage_ticks": 2}
     assert reference["signal"]["delay"] == 1
     assert "start" in reference
+
+
+def test_roll_choices_come_from_the_registry(qtbot, monkeypatch):
+    """The form lists each roll rule and adjustment of core/rules/roll.py with its label, has a
+    field per rule setting (enabled only for the rule that has it), and a rule added to the
+    registry alone is offered and written (read back with tomllib)."""
+    added = RollRule("interest_switch", "Switch on interest", "Roll on open interest.",
+                     "switch", column="open_interest")
+    monkeypatch.setattr(roll, "ROLL_RULE_TABLE", (*roll.ROLL_RULE_TABLE, added))
+    editor = RuleEditor()
+    qtbot.addWidget(editor)
+    load(editor, SMALL)
+    form = editor.form
+    combo = form.roll_combo
+    assert [(combo.itemText(i), combo.itemData(i)) for i in range(combo.count())] == [
+        (rule.label, rule.name) for rule in roll.ROLL_RULE_TABLE]
+    adjust = form.adjust_combo
+    assert [(adjust.itemText(i), adjust.itemData(i)) for i in range(adjust.count())] == [
+        (method.label, method.name) for method in roll.ADJUST_METHOD_TABLE]
+    assert list(form.roll_setting_spins) == [s.key for s in roll.roll_settings()]
+    for rule in roll.ROLL_RULE_TABLE:
+        combo.setCurrentIndex(combo.findData(rule.name))
+        own = {s.key for s in rule.settings}
+        assert {k for k, spin in form.roll_setting_spins.items() if spin.isEnabled()} == own
+    assert tomllib.loads(editor.text())["roll"] == {"switch": "interest_switch"}
 
 
 def test_kind_switch_turns_values_into_range(editor):

@@ -124,11 +124,6 @@ def adjust_method(name: str) -> AdjustMethod | None:
     return next((method for method in ADJUST_METHOD_TABLE if method.name == name), None)
 
 
-def roll_rule_names() -> tuple[str, ...]:
-    """Names of the roll rules, in table order."""
-    return tuple(rule.name for rule in ROLL_RULE_TABLE)
-
-
 def switch_rule_names() -> tuple[str, ...]:
     """Names of the rules a file chooses with ``switch = "<name>"``."""
     return tuple(rule.name for rule in ROLL_RULE_TABLE if rule.is_switch)
