@@ -13,6 +13,8 @@ from __future__ import annotations
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from hunchbook.core.errors import RULE_ERROR_KINDS, RuleError, TextSpan
 from hunchbook.core.rules import RuleSpec, dump_rules, parse_rules, read_rules
@@ -227,3 +229,20 @@ def test_places_of_keys_values_and_tables():
     assert places.values["costs.ES.M.commission"] == at("2.5")
     assert places.enclosing("costs.ES.M.fee") == at('[costs."ES.M"]')
     assert places.enclosing("sizing.contracts") is None
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.integers(0, len(DEMO) - 1), st.integers(0, 5), st.text(max_size=4))
+def test_any_damage_gives_a_span_inside_the_text(at: int, cut: int, insert: str) -> None:
+    """Robustness (common practice, no source): wherever the demo file is damaged, an error's
+    span starts no later than it ends and both lie inside the text."""
+    text = DEMO[:at] + insert + DEMO[at + cut:]
+    try:
+        parse_rules(text)
+    except RuleError as error:
+        span = error.span
+        if span is not None:
+            lines = text.removeprefix("\ufeff").split("\n")
+            assert (span.line, span.column) <= (span.end_line, span.end_column)
+            for line, column in ((span.line, span.column), (span.end_line, span.end_column)):
+                assert 1 <= line <= len(lines) and 1 <= column <= len(lines[line - 1]) + 1
