@@ -156,7 +156,7 @@ def _syntax_error(text: str, err: TomlPositionError) -> RuleError:
         span = point_span(text, err.index)
     if isinstance(cause, ParseError):
         reason = reason.rsplit(" at line ", 1)[0]
-        if span is None:  # tomlkit counts columns from 0
+        if span is None:  # built outside tomlkit's source: its own position, columns from 0
             span = TextSpan(cause.line, cause.col + 1, cause.line, cause.col + 1)
     return RuleError(f"TOML syntax error: {reason}", kind="toml-syntax", span=span)
 
