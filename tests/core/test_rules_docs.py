@@ -1,4 +1,5 @@
-"""The rule-file documentation stays true: its examples load and it lists every function.
+"""The rule-file documentation stays true: its examples load, it lists every function and
+every roll rule, and its error messages are the parser's.
 
 Source: docs/rule-files.md itself (the examples and the hand-worked grid count in it).
 """
@@ -8,8 +9,11 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
+import pytest
+
+from hunchbook.core.errors import RuleError
 from hunchbook.core.expr import FUNCTIONS, parse_expression
-from hunchbook.core.rules import ParamRange, parse_rules
+from hunchbook.core.rules import ParamRange, parse_rules, roll
 
 DOC = (Path(__file__).parents[2] / "docs" / "rule-files.md").read_text(encoding="utf-8")
 EXAMPLES = [block for block in re.findall(r"```toml\n(.*?)```", DOC, flags=re.S)
@@ -48,3 +52,43 @@ def test_worked_example_loads_as_explained() -> None:
 def test_every_function_is_documented() -> None:
     for name in FUNCTIONS:
         assert f"`{name}(" in DOC, name
+
+
+def _section(title: str) -> str:
+    start = DOC.index(f"\n{title}\n")
+    return DOC[start: DOC.index("\n#", start + 1)]
+
+
+def test_every_roll_rule_and_adjustment_is_documented() -> None:
+    """The [roll] section lists what the roll registry (core/rules/roll.py) holds: each rule,
+    how a file chooses it, its settings with their defaults, and each adjustment."""
+    section = _section("### `[roll]`")
+    for rule in roll.ROLL_RULE_TABLE:
+        assert f"| `{rule.name}`" in section and rule.help in section, rule.name
+        if rule.is_switch:
+            assert f'`switch = "{rule.name}"`' in section, rule.name
+        for setting in rule.settings:
+            assert f"`{setting.key} = N` (default `{setting.default}`" in section, setting.key
+    assert f'`adjust` (default `"{roll.DEFAULT_ADJUST.name}"`)' in section
+    for method in roll.ADJUST_METHOD_TABLE:
+        assert f'| `"{method.name}"` | {method.help.rstrip(".")}' in section, method.name
+
+
+def test_error_examples_are_what_the_parser_says() -> None:
+    """The messages in the Errors section, for the changes it lists to the intro example (an
+    example ending in "..." is shortened there)."""
+    block = re.search(r"```text\n(.*?)```", _section("## Errors"), flags=re.S)
+    assert block is not None
+    changes = [("step = 50", "step = 0"),
+               ('position = "sign', 'delay = true\nposition = "sign'),
+               ('GASOIL"]\n', 'GASOIL"]\nslippage = 2\n'),
+               ("mean(close, slow)", "mean(close, slowest)"),
+               ("fast = [10, 20, 50]", "fast = [10,, 20, 50]")]
+    lines = block.group(1).splitlines()
+    assert len(lines) == len(changes)
+    for line, (old, new) in zip(lines, changes, strict=True):
+        assert old in EXAMPLES[0]
+        with pytest.raises(RuleError) as caught:
+            parse_rules(EXAMPLES[0].replace(old, new, 1), file="rules/cross.toml")
+        shown = line.removesuffix("...")
+        assert str(caught.value).startswith(shown) if shown != line else str(caught.value) == line

@@ -251,8 +251,8 @@ def test_duplicate_key_is_a_syntax_error_with_line() -> None:
     # TOML 1.0.0: "Defining a key multiple times is invalid."
     # (tomlkit reports the position where it noticed, just after the repeated key's line.)
     err = _error(MINIMAL.replace("[signal]", 'name = "again"\n[signal]'))
-    assert str(err).startswith("rules.toml: TOML syntax error at line ")
-    assert '"name" already exists' in str(err)
+    assert str(err).startswith("rules.toml, line ")
+    assert 'TOML syntax error: Key "name" already exists' in str(err)
 
 
 def test_bad_position_expression_names_key_and_column() -> None:
@@ -262,7 +262,11 @@ def test_bad_position_expression_names_key_and_column() -> None:
     assert err.key == "signal.position" and err.file == "rules.toml"
     # The column is the 1-based offset of the unknown name in the expression (errors.py contract).
     assert err.column == position.index("slowest") + 1
-    assert str(err).startswith(f"rules.toml, key 'signal.position', column {err.column}")
+    # The message names the line and column of the name in the file (counted with str.index).
+    at = text.index("slowest")
+    line, column = text.count("\n", 0, at) + 1, at - text.rindex("\n", 0, at)
+    assert str(err).startswith(f"rules.toml, key 'signal.position', line {line}, column {column}: "
+                               "unknown name 'slowest'")
 
 
 def test_bad_constraint_expression_names_key() -> None:

@@ -1,9 +1,9 @@
 """The spec editor: form and rule text kept in sync, errors shown and underlined where they are.
 
 Reference points outside the project: the Python standard library's ``tomllib`` reads the rule
-files independently of our parser (expected form values and edited values), ``str.index`` and
-Qt's own ``QTextDocument.find`` give the expected positions of underlined characters, and the
-TOML 1.0 specification defines the string escapes and line-ending backslashes being mapped.
+files independently of our parser (expected form values and edited values); ``str.index`` on
+the text and Qt's own ``QTextDocument.find`` give the expected positions of underlined
+characters, and Qt's blocks give the line and column a message must name.
 """
 
 from __future__ import annotations
@@ -13,14 +13,14 @@ from pathlib import Path
 
 import pytest
 from PySide6.QtCore import Qt
-from PySide6.QtGui import QKeySequence, QShortcut, QTextCursor
+from PySide6.QtGui import QKeySequence, QShortcut, QTextCursor, QTextFormat
 from PySide6.QtWidgets import QComboBox, QMainWindow
 
-from hunchbook.core.errors import RuleError
 from hunchbook.core.expr import FUNCTIONS
-from hunchbook.core.rules import parse_rules
+from hunchbook.core.rules import parse_rules, roll
+from hunchbook.core.rules.roll import RollRule
 from hunchbook.gui.widgets import rule_editor as rule_editor_module
-from hunchbook.gui.widgets.rule_editor import RuleEditor, error_span
+from hunchbook.gui.widgets.rule_editor import RuleEditor
 
 EXAMPLES = sorted((Path(__file__).parents[2] / "examples").glob("*.toml"))
 DEMO_MARKETS = ["CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN", "TNOTE10", "EQIDX"]
@@ -226,6 +226,31 @@ def test_roll_costs_delay_and_dates_from_form(editor):
     assert "start" in reference
 
 
+def test_roll_choices_come_from_the_registry(qtbot, monkeypatch):
+    """The form lists each roll rule and adjustment of core/rules/roll.py with its label, has a
+    field per rule setting (enabled only for the rule that has it), and a rule added to the
+    registry alone is offered and written (read back with tomllib)."""
+    added = RollRule("interest_switch", "Switch on interest", "Roll on open interest.",
+                     "switch", column="open_interest")
+    monkeypatch.setattr(roll, "ROLL_RULE_TABLE", (*roll.ROLL_RULE_TABLE, added))
+    editor = RuleEditor()
+    qtbot.addWidget(editor)
+    load(editor, SMALL)
+    form = editor.form
+    combo = form.roll_combo
+    assert [(combo.itemText(i), combo.itemData(i)) for i in range(combo.count())] == [
+        (rule.label, rule.name) for rule in roll.ROLL_RULE_TABLE]
+    adjust = form.adjust_combo
+    assert [(adjust.itemText(i), adjust.itemData(i)) for i in range(adjust.count())] == [
+        (method.label, method.name) for method in roll.ADJUST_METHOD_TABLE]
+    assert list(form.roll_setting_spins) == [s.key for s in roll.roll_settings()]
+    for rule in roll.ROLL_RULE_TABLE:
+        combo.setCurrentIndex(combo.findData(rule.name))
+        own = {s.key for s in rule.settings}
+        assert {k for k, spin in form.roll_setting_spins.items() if spin.isEnabled()} == own
+    assert tomllib.loads(editor.text())["roll"] == {"switch": "interest_switch"}
+
+
 def test_kind_switch_turns_values_into_range(editor):
     """Switching a list parameter to a range covers its values (10, 20 -> 10 to 20 by 10)."""
     load(editor, SMALL)
@@ -357,7 +382,7 @@ def test_toml_syntax_error_underlined_on_its_line(qtbot, editor):
     with qtbot.waitSignal(editor.validity_changed, timeout=3000) as blocker:
         type_over(qtbot, editor, "fast = [10, 20]", "fast = = [10, 20]")
     valid, message = blocker.args
-    assert not valid and "TOML syntax error at line 6, column 8" in message
+    assert not valid and message.startswith("line 6, column 8: TOML syntax error")
     document = editor.text_edit.toPlainText()
     line_start = document.index("fast = = [")
     assert editor.error_range() == (line_start + 7, line_start + 8)  # the second '='
@@ -369,7 +394,8 @@ def test_set_text_with_error_shows_it_and_form_waits(editor):
     """Loading an invalid revision reports it at once; the form shows it has no valid state."""
     with_error = SMALL.replace('name = "Cross"', 'name = "Cross')
     load(editor, with_error)
-    assert "TOML syntax error at line 2" in editor.error_message()
+    # the string runs to the end of line 2, 42 characters long: the line break is column 43
+    assert editor.error_message().startswith("line 2, column 43: TOML syntax error")
     assert editor.form.is_out_of_date()
     assert editor.text() == with_error
 
@@ -387,67 +413,88 @@ def test_blank_text_empties_the_form(editor):
 
 # --- where errors point -------------------------------------------------------------------------
 
-
-def _span_of(text: str) -> tuple[int, int] | None:
-    with pytest.raises(RuleError) as caught:
-        parse_rules(text)
-    return error_span(text, caught.value)
+DEMO = EXAMPLES[[p.name for p in EXAMPLES].index("demo.toml")].read_text(encoding="utf-8")
 
 
-HEAD = 'name = "x"\nmarkets = ["A"]\n'
+def _changed(old: str, new: str) -> str:
+    assert DEMO.count(old) == 1
+    return DEMO.replace(old, new)
 
 
-@pytest.mark.parametrize(("text", "expected"), [
-    # plain basic string
-    (HEAD + '[signal]\nposition = "sign(clsoe)"\n', "clsoe"),
-    # literal string
-    (HEAD + "[signal]\nposition = 'sign(clsoe)'\n", "clsoe"),
-    # a \u escape before the error: 6 characters in the text, 1 in the expression (TOML 1.0)
-    (HEAD + '[signal]\nposition = "sign(\\u0063lose) + clsoe"\n', "clsoe"),
-    # multi-line basic string: first newline trimmed, line-ending backslash (TOML 1.0)
-    (HEAD + '[signal]\nposition = """\nsign(close) + \\\n      clsoe"""\n', "clsoe"),
-    # dotted key at top level instead of a [signal] header
-    (HEAD + 'signal.position = "abs(clsoe)"\n', "clsoe"),
-    # inline table
-    (HEAD + 'signal = { position = "abs(clsoe)" }\n', "clsoe"),
-    # constraint expression, after a comment holding the same word
-    (HEAD + '# slwo is a typo\n[parameters]\nfast = [1]\nslow = [2]\n'
-            'constraint = "fast < slwo"\n[signal]\nposition = "close"\n', "slwo"),
-])
-def test_error_span_points_at_the_word(text, expected):
-    """The span covers the offending word where it is written (found with str.rindex)."""
-    start = text.rindex(expected)
-    assert _span_of(text) == (start, start + len(expected))
+# (the demo file with one error, the text the underline must cover, a unique stretch of the
+# text that starts with it, and how far into that stretch it starts)
+UNDERLINED = {
+    "toml-syntax": (_changed("fast = [16]", "fast = = [16]"), "=", "= [16]", 0),
+    "unknown-key": (_changed("days_before_expiry = 5", "days_before_expiri = 5"),
+                    "days_before_expiri", "days_before_expiri", 0),
+    "bad-value": (_changed("vol_window = 25", "vol_window = 1"), "1", "vol_window = 1", 13),
+    "bad-name": (_changed("fast = [16]", "close = [16]"), "close", "close = [16]", 0),
+    "missing-key": (_changed("capital = 1_000_000\n", ""), "[sizing]", "[sizing]", 0),
+    "expression": (_changed("ewm(close, fast)", "ewm(clsoe, fast)"), "clsoe", "clsoe", 0),
+    "expression over lines": (
+        _changed('"sign(ewm(close, fast) - ewm(close, slow))"',
+                 '"""\nsign(ewm(close, fast)\n     - ewm(clsoe, slow))"""'),
+        "clsoe", "clsoe", 0),
+    "constraint": (_changed('"fast < slow"', '"fast < slwo"'), "slwo", "slwo", 0),
+}
 
 
-def test_error_span_for_plain_keys():
-    """Errors without a column underline the value, an unknown key its name, a missing key the
-    table it belongs in."""
-    base = HEAD + '[signal]\nposition = "close"\n'
-    text = base + "[parameters.slow]\nstart = 1\nstop = 5\nstep = 0\n"
-    start = text.rindex("0")
-    assert _span_of(text) == (start, start + 1)
-    text = base + "[costs]\nslippage = 1\n"
-    start = text.index("slippage")
-    assert _span_of(text) == (start, start + len("slippage"))
-    text = HEAD + "[signal]\ndelay = 1\n"
-    start = text.index("[signal]")
-    assert _span_of(text) == (start, start + len("[signal]"))
+@pytest.mark.parametrize("case", list(UNDERLINED))
+def test_editor_underlines_exactly_the_error_span(editor, case):
+    """Each kind of error in a real rule file is underlined over exactly the characters it is
+    about (found with str.index), and the message names that line and column (Qt's block
+    number and position in the block, counted from 1)."""
+    text, underlined, anchor, offset = UNDERLINED[case]
+    load(editor, text)
+    document = editor.text_edit.toPlainText()
+    start = document.index(anchor) + offset
+    assert editor.error_range() == (start, start + len(underlined))
+    assert document[start: start + len(underlined)] == underlined
+    block = editor.text_edit.document().findBlock(start)
+    where = f"line {block.blockNumber() + 1}, column {start - block.position() + 1}: "
+    assert where in editor.error_message()
+    assert editor.message.text() == editor.error_message()
 
 
-def test_error_span_for_toml_syntax_at_line_end():
-    """A syntax error reported just past a line's end points at that line's last character."""
+def test_error_at_a_line_end_marks_the_whole_line(editor):
+    """A string left open at the end of its line has no character to underline: the editor
+    marks that whole line (an empty range at the line's end, drawn full width)."""
     text = 'name = "x\nmarkets = ["A"]\n'
-    start = text.index("x\n")
-    assert _span_of(text) == (start, start + 1)
+    load(editor, text)
+    end_of_line = text.index("\n")
+    assert editor.error_range() == (end_of_line, end_of_line)
+    selection = editor.text_edit.extraSelections()[0]
+    assert selection.format.property(QTextFormat.Property.FullWidthSelection) is True
+    assert editor.error_message().startswith(f"line 1, column {end_of_line + 1}: ")
+
+
+def test_file_level_error_is_not_underlined(editor):
+    """An error about the text as a whole (a required top-level key missing) has no place in
+    the text: nothing is underlined, the message still says what is wrong."""
+    load(editor, 'name = "x"\n[signal]\nposition = "close"\n')
+    assert editor.error_range() is None
+    assert editor.error_message() == "key 'markets': this key is required but missing"
 
 
 def test_underline_position_counts_like_qt_after_wide_characters(editor):
-    """Characters outside the Basic Multilingual Plane count twice in Qt documents; the
-    underline still sits on the word (expected position from QTextDocument.find)."""
-    text = HEAD.replace('"x"', '"rocket \U0001F680 idea"') + (
-        '[signal]\nposition = "sign(clsoe)"  # \U0001F680\n')
-    load(editor, text)
+    """Characters outside the Basic Multilingual Plane count twice in Qt documents (once in
+    the error's columns); the underline still sits on the character or word the error is
+    about, on a later line and on the same line (expected positions from QTextDocument.find)."""
+    head = 'name = "rocket \U0001F680 idea"\nmarkets = ["A"]\n'
+    load(editor, head + '[signal]\nposition = "sign(clsoe)"  # \U0001F680\n')
+    found = editor.text_edit.document().find("clsoe")
+    assert editor.error_range() == (found.selectionStart(), found.selectionEnd())
+    load(editor, head.replace("idea\"", "idea\" = 1") + '[signal]\nposition = "close"\n')
+    found = editor.text_edit.document().find("= 1")
+    assert editor.error_range() == (found.selectionStart(), found.selectionStart() + 1)
+
+
+@pytest.mark.parametrize("variant", ["byte-order mark", "CRLF line ends"])
+def test_underline_in_files_with_a_bom_or_crlf(editor, variant):
+    """Qt drops a byte-order mark and splits lines at CRLF; the error's line and column count
+    the same way, so the underline sits on the word (expected from QTextDocument.find)."""
+    text = UNDERLINED["expression over lines"][0]
+    load(editor, "\ufeff" + text if variant == "byte-order mark" else text.replace("\n", "\r\n"))
     found = editor.text_edit.document().find("clsoe")
     assert editor.error_range() == (found.selectionStart(), found.selectionEnd())
 

@@ -15,6 +15,7 @@ import pandas as pd
 from hunchbook.core.errors import DataError
 from hunchbook.core.prices import ACTIVITY_COLUMNS, PRICE_COLUMNS, MarketBars
 from hunchbook.core.rules.model import RollSpec
+from hunchbook.core.rules.roll import DEFAULT_ADJUST, adjust_method, roll_rule
 
 
 @dataclass(frozen=True)
@@ -66,26 +67,33 @@ def build_continuous(bars: MarketBars, roll: RollSpec) -> ContinuousSeries:
     bars
         The market's rows as read by :func:`hunchbook.core.prices.read_market_csv`.
     roll
-        Roll rule and adjustment method.
+        Roll rule and adjustment method, named as in :mod:`hunchbook.core.rules.roll`.
 
     Raises
     ------
     DataError
         A held contract with no close on a date it is held, a switch roll without the needed
-        column, or a non-positive price where the ratio adjustment is asked for.
+        column, or a non-positive price where the adjustment needs positive prices.
+    ValueError
+        A roll rule or adjustment method that :mod:`hunchbook.core.rules.roll` does not name
+        (a rule file never gives one: the parser refuses it).
     """
+    rule, method = roll_rule(roll.rule), adjust_method(roll.adjust)
+    if rule is None or method is None:
+        raise ValueError(f"unknown roll rule '{roll.rule}' or adjustment '{roll.adjust}'")
     frame = bars.frame
     dates = np.unique(frame["date"].to_numpy().astype("datetime64[D]"))
     table = _ContractTable.from_frame(frame, dates)
     if bars.continuous:
         held = np.zeros(len(dates), dtype=np.int64)
-    elif roll.rule == "days_before_expiry":
+    elif rule.method == "expiry":
         held = _held_by_expiry(table, dates, roll.days_before_expiry)
     else:
-        if roll.rule not in frame:
-            raise DataError(f"roll switch '{roll.rule}' needs a '{roll.rule}' column",
+        column = rule.column
+        if column is None or column not in frame:
+            raise DataError(f"roll switch '{rule.name}' needs a '{column}' column",
                             file=bars.file)
-        held = _held_by_switch(table, dates, roll.rule)
+        held = _held_by_switch(table, dates, column)
 
     rows = np.flatnonzero(held >= 0)
     if rows.size == 0:
@@ -115,9 +123,9 @@ def build_continuous(bars: MarketBars, roll: RollSpec) -> ContinuousSeries:
         raise DataError(f"contract '{table.names[prev_held[at]]}' is rolled on {dates_used[at]} "
                         "but has no row for that date", file=bars.file)
 
-    if roll.adjust == "ratio":
-        _check_positive(table, idx, held, is_roll, bars.file)
-    scale, shift = _adjustment(close, close_prev_contract, is_roll, roll.adjust)
+    if method.needs_positive_prices:
+        _check_positive(table, idx, held, is_roll, bars.file, method.name)
+    scale, shift = _ADJUSTMENTS[method.name](close, close_prev_contract, is_roll)
     adjusted = {column: table.values[column][idx, held] * scale + shift
                 for column in ("close", *PRICE_COLUMNS) if column in table.values}
     for column in ACTIVITY_COLUMNS:
@@ -193,25 +201,37 @@ def _held_by_switch(table: _ContractTable, dates: np.ndarray, column: str) -> np
     return held
 
 
-def _adjustment(close: np.ndarray, close_prev_contract: np.ndarray, is_roll: np.ndarray,
-                method: str) -> tuple[np.ndarray | float, np.ndarray | float]:
-    """Scale and shift that move each segment so that no roll leaves a jump.
+Scaling = tuple[np.ndarray | float, np.ndarray | float]
 
-    At a roll at the close of r from A to B the gap is B_r - A_r (difference) or B_r / A_r
-    (ratio); every price before r is moved by the gaps of all later rolls.
-    """
-    if method == "difference":
-        gaps = np.where(is_roll, close - close_prev_contract, 0.0)
-        return 1.0, np.concatenate((np.cumsum(gaps[::-1])[::-1][1:], [0.0]))
-    if method == "ratio":
-        ratios = np.where(is_roll, close / np.where(is_roll, close_prev_contract, 1.0), 1.0)
-        return np.concatenate((np.cumprod(ratios[::-1])[::-1][1:], [1.0])), 0.0
+
+def _difference(close: np.ndarray, close_prev_contract: np.ndarray,
+                is_roll: np.ndarray) -> Scaling:
+    """Scale and shift adding to every price before a roll at the close of r from A to B the
+    gap B_r - A_r, summed over all later rolls."""
+    gaps = np.where(is_roll, close - close_prev_contract, 0.0)
+    return 1.0, np.concatenate((np.cumsum(gaps[::-1])[::-1][1:], [0.0]))
+
+
+def _ratio(close: np.ndarray, close_prev_contract: np.ndarray, is_roll: np.ndarray) -> Scaling:
+    """Scale and shift multiplying every price before a roll at the close of r from A to B by
+    B_r / A_r, over all later rolls."""
+    ratios = np.where(is_roll, close / np.where(is_roll, close_prev_contract, 1.0), 1.0)
+    return np.concatenate((np.cumprod(ratios[::-1])[::-1][1:], [1.0])), 0.0
+
+
+def _unadjusted(close: np.ndarray, close_prev_contract: np.ndarray,
+                is_roll: np.ndarray) -> Scaling:
+    """Prices as traded: every roll leaves its jump."""
     return 1.0, 0.0
 
 
+#: The computation of each back-adjustment method of :mod:`hunchbook.core.rules.roll`.
+_ADJUSTMENTS = {"difference": _difference, "ratio": _ratio, "none": _unadjusted}
+
+
 def _check_positive(table: _ContractTable, idx: np.ndarray, held: np.ndarray,
-                    is_roll: np.ndarray, file: str) -> None:
-    """The ratio adjustment needs every price it reads to be positive."""
+                    is_roll: np.ndarray, file: str, method: str) -> None:
+    """An adjustment that divides by prices needs every price it reads to be positive."""
     prev_held = np.concatenate(([held[0]], held[:-1]))
     for column in ("close", *PRICE_COLUMNS):
         if column not in table.values:
@@ -223,5 +243,5 @@ def _check_positive(table: _ContractTable, idx: np.ndarray, held: np.ndarray,
                 at = np.flatnonzero(bad)[0]
                 line = int(table.lines[rows[at], contracts[at]])
                 raise DataError(f"column '{column}': price {values[at]:g} is not positive, "
-                                "which the ratio adjustment needs (use adjust = \"difference\")",
-                                file=file, line=line)
+                                f"which the {method} adjustment needs (use adjust = "
+                                f"\"{DEFAULT_ADJUST.name}\")", file=file, line=line)

@@ -3,35 +3,77 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from typing import Literal
+
+#: What a :class:`RuleError` is about; the parser sets it, and with it where ``span`` points:
+#: ``file`` the file or text as a whole (missing, unreadable, too large, not UTF-8), no span;
+#: ``toml-syntax`` the text is not TOML, span at the character where reading stopped;
+#: ``unknown-key`` a key the format does not have, span on the key;
+#: ``bad-name`` a name the user chose (a parameter) that is not allowed, span on the key;
+#: ``missing-key`` a required key is absent, span on the table it belongs in;
+#: ``bad-value`` a value of the wrong type or out of range, span on the value (or table header);
+#: ``expression`` an expression that cannot be read, span on the offending token in the string.
+RuleErrorKind = Literal["file", "toml-syntax", "unknown-key", "bad-name", "missing-key",
+                        "bad-value", "expression"]
+RULE_ERROR_KINDS: tuple[RuleErrorKind, ...] = (
+    "file", "toml-syntax", "unknown-key", "bad-name", "missing-key", "bad-value", "expression")
 
 
 class HunchbookError(Exception):
     """Base class of every error caused by user input (shown to users without a traceback)."""
 
 
+@dataclass(frozen=True)
+class TextSpan:
+    """A stretch of a rule text, as an editor counts it.
+
+    ``line`` and ``column`` (both from 1) name the first character; ``end_line`` and
+    ``end_column`` the position just after the last one, so an empty span (end equal to start)
+    is a point, such as a missing value at the end of a line. Lines are separated by ``\\n``;
+    columns count characters (code points) from the start of the line, without a leading
+    byte-order mark.
+    """
+
+    line: int
+    column: int
+    end_line: int
+    end_column: int
+
+
 @dataclass(eq=False)
 class RuleError(HunchbookError):
     """A problem in a rule file or in one of its expressions.
 
-    ``file`` is the rule file, ``key`` the TOML key (for example ``"signal.position"``) and
-    ``column`` the 1-based column of the offending token inside that key's expression.
+    ``file`` is the rule file, ``key`` the TOML key (for example ``"signal.position"``),
+    ``column`` the 1-based column of the offending token inside that key's expression, ``kind``
+    what the problem is about and ``span`` where it sits in the rule text (both set by the
+    rule-file parser; ``None`` where the error did not come from a rule text).
     """
 
     problem: str
     file: str | None = None
     key: str | None = None
     column: int | None = None
+    kind: RuleErrorKind | None = None
+    span: TextSpan | None = None
 
     def __post_init__(self) -> None:
         super().__init__(self.problem)
 
-    def located(self, *, file: str | None = None, key: str | None = None) -> RuleError:
-        """Return a copy with the file and key filled in where they were still unknown."""
-        return replace(self, file=self.file or file, key=self.key or key)
+    def located(self, *, file: str | None = None, key: str | None = None,
+                kind: RuleErrorKind | None = None) -> RuleError:
+        """Return a copy with the file, key and kind filled in where they were still unknown."""
+        return replace(self, file=self.file or file, key=self.key or key, kind=self.kind or kind)
+
+    def at(self, span: TextSpan | None) -> RuleError:
+        """Return a copy pointing at ``span`` of the rule text (``None``: at no place)."""
+        return replace(self, span=span)
 
     def __str__(self) -> str:
         where = [p for p in (self.file, self.key and f"key '{self.key}'") if p]
-        if self.column is not None:
+        if self.span is not None:
+            where.append(f"line {self.span.line}, column {self.span.column}")
+        elif self.column is not None:
             where.append(f"column {self.column}")
         return f"{', '.join(where)}: {self.problem}" if where else self.problem
 

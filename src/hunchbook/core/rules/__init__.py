@@ -1,9 +1,7 @@
 """Rule files: the TOML format, its parser and its writer."""
 
 from hunchbook.core.rules.model import (
-    ADJUST_METHODS,
     COST_KEYS,
-    ROLL_RULES,
     SERIES_NAMES,
     Parameter,
     ParamRange,
@@ -12,15 +10,25 @@ from hunchbook.core.rules.model import (
     SizingSpec,
 )
 from hunchbook.core.rules.parse import parse_rules, read_rules
+from hunchbook.core.rules.roll import (
+    ADJUST_METHOD_TABLE,
+    ROLL_RULE_TABLE,
+    AdjustMethod,
+    RollRule,
+    RollSetting,
+)
 from hunchbook.core.rules.write import dump_rules, write_rules
 
 __all__ = [
-    "ADJUST_METHODS",
+    "ADJUST_METHOD_TABLE",
     "COST_KEYS",
-    "ROLL_RULES",
+    "ROLL_RULE_TABLE",
     "SERIES_NAMES",
+    "AdjustMethod",
     "Parameter",
     "ParamRange",
+    "RollRule",
+    "RollSetting",
     "RollSpec",
     "RuleSpec",
     "SizingSpec",

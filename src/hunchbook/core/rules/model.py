@@ -6,19 +6,13 @@ import datetime as dt
 import itertools
 from collections.abc import Iterator, Mapping
 from dataclasses import dataclass, field
-from typing import Literal
 
-#: Back-adjustment methods for the continuous series the rules read.
-ADJUST_METHODS = ("difference", "ratio", "none")
-#: Roll rules: a fixed number of business days before expiry, or a switch on volume / open interest.
-ROLL_RULES = ("days_before_expiry", "volume", "open_interest")
+from hunchbook.core.rules.roll import DAYS_BEFORE_EXPIRY, DEFAULT_ADJUST, DEFAULT_ROLL_RULE
+
 #: Contract-specification keys a rule file may override under ``[costs]``.
 COST_KEYS = ("commission", "exchange_fee", "regulatory_fee", "slippage_ticks")
 #: Price series a position expression may read (the engine checks availability per market).
 SERIES_NAMES = ("close", "open", "high", "low", "volume")
-
-Adjust = Literal["difference", "ratio", "none"]
-RollRule = Literal["days_before_expiry", "volume", "open_interest"]
 
 
 @dataclass(frozen=True)
@@ -51,11 +45,16 @@ class Parameter:
 
 @dataclass(frozen=True)
 class RollSpec:
-    """How contracts are spliced into one continuous series per market."""
+    """How contracts are spliced into one continuous series per market.
 
-    rule: RollRule = "days_before_expiry"
-    days_before_expiry: int = 5
-    adjust: Adjust = "difference"
+    ``rule`` names a roll rule and ``adjust`` a back-adjustment method of
+    :mod:`hunchbook.core.rules.roll`; the other fields are the rules' settings (each used only
+    by the rules that list it), with the defaults given there.
+    """
+
+    rule: str = DEFAULT_ROLL_RULE.name
+    days_before_expiry: int = DAYS_BEFORE_EXPIRY.default
+    adjust: str = DEFAULT_ADJUST.name
 
 
 @dataclass(frozen=True)

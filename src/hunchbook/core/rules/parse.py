@@ -1,6 +1,7 @@
 """Read rule files (TOML) and validate them into a :class:`RuleSpec`.
 
-Every problem is reported as a :class:`RuleError` naming the file and the offending key.
+Every problem is reported as a :class:`RuleError` naming the file and the offending key, with
+its kind and the span of the rule text it is about.
 """
 
 from __future__ import annotations
@@ -13,12 +14,11 @@ import re
 from collections.abc import Collection
 from typing import Any
 
-import tomlkit
-from tomlkit.exceptions import ParseError, TOMLKitError
+from tomlkit.exceptions import ParseError
 
-from hunchbook.core.errors import RuleError
+from hunchbook.core.errors import RuleError, TextSpan
+from hunchbook.core.rules import roll
 from hunchbook.core.rules.model import (
-    ADJUST_METHODS,
     COST_KEYS,
     SERIES_NAMES,
     Parameter,
@@ -27,6 +27,9 @@ from hunchbook.core.rules.model import (
     RuleSpec,
     SizingSpec,
 )
+from hunchbook.core.rules.places import TomlPositionError, parse_with_places
+from hunchbook.core.rules.roll import ADJUST_KEY, SWITCH_KEY, RollRule
+from hunchbook.core.rules.spans import error_span, point_span
 
 #: Largest rule file accepted, in bytes (1 MB).
 MAX_FILE_BYTES = 1024 * 1024
@@ -40,8 +43,6 @@ MAX_INTEGER_SETTING = 100_000
 TOP_KEYS = ("name", "description", "markets", "start", "end",
             "parameters", "signal", "roll", "sizing", "costs")
 SIGNAL_KEYS = ("position", "delay")
-ROLL_KEYS = ("days_before_expiry", "switch", "adjust")
-SWITCH_RULES = ("volume", "open_interest")
 SIZING_KEYS = ("contracts", "target_vol", "capital", "vol_window")
 RANGE_KEYS = ("start", "stop", "step")
 #: Reserved key under ``[parameters]`` holding the optional constraint expression.
@@ -52,7 +53,6 @@ EXPRESSION_WORDS = tuple(keyword.kwlist)
 _MARKET_RE = re.compile(r"[A-Za-z0-9_.\-]+\Z")
 _IDENTIFIER_RE = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 _DATE_RE = re.compile(r"\d{4}-\d{2}-\d{2}\Z")
-_DEFAULT_ROLL = RollSpec()
 _DEFAULT_VOL_WINDOW = SizingSpec().vol_window
 
 
@@ -80,20 +80,21 @@ def read_rules(path: str | os.PathLike[str]) -> RuleSpec:
         with open(name, "rb") as handle:
             data = handle.read(MAX_FILE_BYTES + 1)
     except FileNotFoundError:
-        raise RuleError("rule file not found", file=name) from None
+        raise RuleError("rule file not found", file=name, kind="file") from None
     except IsADirectoryError:
-        raise RuleError("expected a rule file, found a folder", file=name) from None
+        raise RuleError("expected a rule file, found a folder", file=name, kind="file") from None
     except OSError as err:
-        raise RuleError(f"cannot read rule file: {err.strerror or err}", file=name) from None
+        raise RuleError(f"cannot read rule file: {err.strerror or err}", file=name,
+                        kind="file") from None
     if len(data) > MAX_FILE_BYTES:
         raise RuleError(f"rule file is larger than the limit of {MAX_FILE_BYTES} bytes (1 MB)",
-                        file=name)
+                        file=name, kind="file")
     try:
         text = data.decode("utf-8")
     except UnicodeDecodeError as err:
         line = data[:err.start].count(b"\n") + 1
         raise RuleError(f"rule file is not UTF-8 text (bad byte at line {line})",
-                        file=name) from None
+                        file=name, kind="file") from None
     return parse_rules(text, file=name)
 
 
@@ -115,32 +116,49 @@ def parse_rules(text: str, *, file: str | None = None) -> RuleSpec:
     Raises
     ------
     RuleError
-        For any problem: TOML syntax (with line and column), unknown keys, wrong types,
-        values out of range or invalid expressions.
+        For any problem: TOML syntax, unknown keys, wrong types, values out of range or invalid
+        expressions. Its ``kind`` says which, and ``span`` where in the text (line and column,
+        both from 1, not counting a byte-order mark) it is.
     """
     try:
-        return _spec_from_data(_load_toml(text))
+        body = _checked_text(text)
+        try:
+            data, places = parse_with_places(body)
+        except TomlPositionError as err:
+            raise _syntax_error(body, err) from None
+        try:
+            return _spec_from_data(data)
+        except RuleError as err:
+            raise err.at(error_span(body, places, err)) from None
     except RuleError as err:
         raise err.located(file=file) from None
 
 
-def _load_toml(text: str) -> dict[str, Any]:
-    """Check size and encoding, then parse TOML into plain Python values."""
+def _checked_text(text: str) -> str:
+    """Check size and encoding; return the text without a byte-order mark."""
     try:
         size = len(text.encode("utf-8"))
     except UnicodeEncodeError:
-        raise RuleError("the text contains characters that cannot be stored as UTF-8") from None
+        raise RuleError("the text contains characters that cannot be stored as UTF-8",
+                        kind="file") from None
     if size > MAX_FILE_BYTES:
-        raise RuleError(f"rule file is {size} bytes; the limit is {MAX_FILE_BYTES} bytes (1 MB)")
-    try:
-        return tomlkit.parse(text.removeprefix("\ufeff")).unwrap()
-    except ParseError as err:
-        reason = str(err).rsplit(" at line ", 1)[0]
-        # tomlkit counts columns from 0; editors (and our messages) count from 1.
-        raise RuleError(f"TOML syntax error at line {err.line}, column {err.col + 1}: "
-                        f"{reason}") from None
-    except (TOMLKitError, ValueError, RecursionError) as err:
-        raise RuleError(f"TOML syntax error: {err}") from None
+        raise RuleError(f"rule file is {size} bytes; the limit is {MAX_FILE_BYTES} bytes (1 MB)",
+                        kind="file")
+    return text.removeprefix("\ufeff")
+
+
+def _syntax_error(text: str, err: TomlPositionError) -> RuleError:
+    """The error for text tomlkit cannot read, pointing where it stopped."""
+    cause = err.error
+    reason = str(cause)
+    span: TextSpan | None = None
+    if err.index is not None:
+        span = point_span(text, err.index)
+    if isinstance(cause, ParseError):
+        reason = reason.rsplit(" at line ", 1)[0]
+        if span is None:  # built outside tomlkit's source: its own position, columns from 0
+            span = TextSpan(cause.line, cause.col + 1, cause.line, cause.col + 1)
+    return RuleError(f"TOML syntax error: {reason}", kind="toml-syntax", span=span)
 
 
 class _Table:
@@ -157,11 +175,12 @@ class _Table:
         for name in self.data:
             if name not in allowed:
                 raise RuleError(f"unknown key '{name}'; allowed keys: {', '.join(allowed)}",
-                                key=self.key(name))
+                                key=self.key(name), kind="unknown-key")
 
     def require(self, name: str) -> None:
         if name not in self.data:
-            raise RuleError("this key is required but missing", key=self.key(name))
+            raise RuleError("this key is required but missing", key=self.key(name),
+                            kind="missing-key")
 
     def required_string(self, name: str) -> str:
         self.require(name)
@@ -179,7 +198,7 @@ class _Table:
 
     def wrong_type(self, name: str, expected: str) -> RuleError:
         return RuleError(f"expected {expected}, found {_describe(self.data[name])}",
-                         key=self.key(name))
+                         key=self.key(name), kind="bad-value")
 
     def string(self, name: str) -> str | None:
         value = self.data.get(name)
@@ -193,7 +212,7 @@ class _Table:
             return default
         if value not in options:
             raise RuleError(f"expected one of {_quoted(options)}, found '{value}'",
-                            key=self.key(name))
+                            key=self.key(name), kind="bad-value")
         return value
 
     def integer(self, name: str, default: int, minimum: int) -> int:
@@ -202,7 +221,7 @@ class _Table:
             raise self.wrong_type(name, f"an integer >= {minimum}")
         if not minimum <= value <= MAX_INTEGER_SETTING:
             raise RuleError(f"expected an integer from {minimum} to {MAX_INTEGER_SETTING}, "
-                            f"found {value}", key=self.key(name))
+                            f"found {value}", key=self.key(name), kind="bad-value")
         return value
 
     def number(self, name: str, *, positive: bool) -> float:
@@ -210,7 +229,7 @@ class _Table:
         if value < 0 or (positive and value == 0):
             condition = "> 0" if positive else ">= 0"
             raise RuleError(f"expected a number {condition}, found {_show(value)}",
-                            key=self.key(name))
+                            key=self.key(name), kind="bad-value")
         return float(value)
 
     def table(self, name: str) -> _Table | None:
@@ -231,7 +250,8 @@ class _Table:
             try:
                 return dt.date.fromisoformat(value)
             except ValueError:
-                raise RuleError(f"'{value}' is not a calendar date", key=self.key(name)) from None
+                raise RuleError(f"'{value}' is not a calendar date", key=self.key(name),
+                                kind="bad-value") from None
         raise self.wrong_type(name, "a date (2012-01-01 or \"2012-01-01\")")
 
 
@@ -241,11 +261,11 @@ def _spec_from_data(data: dict[str, Any]) -> RuleSpec:
     top.check_keys(TOP_KEYS)
     name = top.required_string("name")
     if not name.strip():
-        raise RuleError("the name must not be empty", key="name")
+        raise RuleError("the name must not be empty", key="name", kind="bad-value")
     markets = _markets(top)
     start, end = top.date("start"), top.date("end")
     if start is not None and end is not None and end < start:
-        raise RuleError(f"end ({end}) is before start ({start})", key="end")
+        raise RuleError(f"end ({end}) is before start ({start})", key="end", kind="bad-value")
     parameters, constraint = _parameters(top.table("parameters"))
     position, delay = _signal(top.required_table("signal"), parameters)
     return RuleSpec(
@@ -270,14 +290,14 @@ def _markets(top: _Table) -> tuple[str, ...]:
     if not isinstance(value, list):
         raise top.wrong_type("markets", "an array of market names")
     if not value:
-        raise RuleError("list at least one market", key="markets")
+        raise RuleError("list at least one market", key="markets", kind="bad-value")
     seen: set[str] = set()
     for i, market in enumerate(value, start=1):
         if not isinstance(market, str) or not _MARKET_RE.match(market):
             raise RuleError(f"item {i}: expected a market name made of letters, digits, '_', '.' "
-                            f"or '-', found {_describe(market)}", key="markets")
+                            f"or '-', found {_describe(market)}", key="markets", kind="bad-value")
         if market in seen:
-            raise RuleError(f"market '{market}' is listed twice", key="markets")
+            raise RuleError(f"market '{market}' is listed twice", key="markets", kind="bad-value")
         seen.add(market)
     return tuple(value)
 
@@ -303,7 +323,7 @@ def _parameters(table: _Table | None) -> tuple[tuple[Parameter, ...], str | None
         size *= len(parameter.values())
     if size > MAX_GRID_SIZE:
         raise RuleError(f"the parameter grid has {size:,} sets; the limit is {MAX_GRID_SIZE:,}",
-                        key=table.path)
+                        key=table.path, kind="bad-value")
     names = tuple(p.name for p in parameters)
     constraint = table.string(CONSTRAINT_KEY)
     if constraint is not None:
@@ -315,25 +335,26 @@ def _parameters(table: _Table | None) -> tuple[tuple[Parameter, ...], str | None
 def _check_parameter_name(name: str, key: str, reserved: Collection[str]) -> None:
     if not _IDENTIFIER_RE.match(name):
         raise RuleError(f"parameter name '{name}' must be made of letters, digits and '_' and "
-                        "must not start with a digit", key=key)
+                        "must not start with a digit", key=key, kind="bad-name")
     if name in SERIES_NAMES:
         raise RuleError(f"'{name}' is a price series name; choose another parameter name",
-                        key=key)
+                        key=key, kind="bad-name")
     if name in reserved:
-        raise RuleError(f"'{name}' is a function name; choose another parameter name", key=key)
+        raise RuleError(f"'{name}' is a function name; choose another parameter name", key=key,
+                        kind="bad-name")
     if name in EXPRESSION_WORDS:
         raise RuleError(f"'{name}' is a reserved word of the expression language; choose "
-                        "another parameter name", key=key)
+                        "another parameter name", key=key, kind="bad-name")
 
 
 def _value_list(values: list[Any], key: str) -> tuple[float, ...]:
     if not values:
-        raise RuleError("list at least one value", key=key)
+        raise RuleError("list at least one value", key=key, kind="bad-value")
     out: list[float] = []
     for i, value in enumerate(values, start=1):
         number = float(_number(value, key, f"item {i}: "))
         if number in out:
-            raise RuleError(f"value {_show(number)} is listed twice", key=key)
+            raise RuleError(f"value {_show(number)} is listed twice", key=key, kind="bad-value")
         out.append(number)
     return tuple(out)
 
@@ -344,12 +365,13 @@ def _value_range(table: _Table) -> ParamRange:
         table.require(name)
     start, stop, step = (float(_number(table.data[n], table.key(n))) for n in RANGE_KEYS)
     if step <= 0:
-        raise RuleError(f"step must be > 0, found {_show(step)}", key=table.key("step"))
+        raise RuleError(f"step must be > 0, found {_show(step)}", key=table.key("step"),
+                        kind="bad-value")
     if stop < start:
         raise RuleError(f"stop ({_show(stop)}) must be >= start ({_show(start)})",
-                        key=table.key("stop"))
+                        key=table.key("stop"), kind="bad-value")
     too_many = RuleError(f"the range has more than {MAX_VALUES_PER_PARAMETER:,} values",
-                         key=table.path)
+                         key=table.path, kind="bad-value")
     if not (stop - start) / step <= 2 * MAX_VALUES_PER_PARAMETER:  # also catches overflow to inf
         raise too_many
     result = ParamRange(start, stop, step)
@@ -358,7 +380,7 @@ def _value_range(table: _Table) -> ParamRange:
         raise too_many
     if len(set(values)) != len(values):
         raise RuleError("the step is too small: values repeat after rounding to 10 decimals",
-                        key=table.key("step"))
+                        key=table.key("step"), kind="bad-value")
     return result
 
 
@@ -373,16 +395,29 @@ def _signal(table: _Table, parameters: tuple[Parameter, ...]) -> tuple[str, int]
 def _roll(table: _Table | None) -> RollSpec:
     if table is None:
         return RollSpec()
-    table.check_keys(ROLL_KEYS)
-    if "switch" in table.data and "days_before_expiry" in table.data:
-        raise RuleError("give either 'days_before_expiry' or 'switch', not both", key=table.path)
-    switch = table.choice("switch", SWITCH_RULES, None)
-    return RollSpec(
-        rule=switch or "days_before_expiry",
-        days_before_expiry=table.integer("days_before_expiry",
-                                         _DEFAULT_ROLL.days_before_expiry, 0),
-        adjust=table.choice("adjust", ADJUST_METHODS, _DEFAULT_ROLL.adjust),
-    )
+    table.check_keys(roll.roll_keys())
+    rule = _chosen_roll_rule(table)
+    settings = {s.key: table.integer(s.key, s.default, s.minimum) for s in rule.settings}
+    adjust = table.choice(ADJUST_KEY, roll.adjust_method_names(), roll.DEFAULT_ADJUST.name)
+    return RollSpec(rule=rule.name, adjust=adjust, **settings)
+
+
+def _chosen_roll_rule(table: _Table) -> RollRule:
+    """The roll rule a ``[roll]`` table chooses by its settings or its switch (the default rule
+    when it names none)."""
+    choosers = [(s.key, rule) for rule in roll.ROLL_RULE_TABLE for s in rule.settings
+                if s.key in table.data]
+    switch = table.choice(SWITCH_KEY, roll.switch_rule_names(), None)
+    if switch is not None and (switched := roll.roll_rule(switch)) is not None:
+        choosers.append((SWITCH_KEY, switched))
+    if not choosers:
+        return roll.DEFAULT_ROLL_RULE
+    first_key, rule = choosers[0]
+    for key, other in choosers[1:]:
+        if other is not rule:
+            raise RuleError(f"give either '{first_key}' or '{key}', not both", key=table.path,
+                            kind="bad-value")
+    return rule
 
 
 def _sizing(table: _Table | None) -> SizingSpec:
@@ -394,14 +429,15 @@ def _sizing(table: _Table | None) -> SizingSpec:
         if has_target:
             raise RuleError("choose one sizing: 'contracts', or 'target_vol' with 'capital' "
                             f"(and optional 'vol_window'), not both; found {_quoted(has_target)} "
-                            "next to 'contracts'", key=table.path)
+                            "next to 'contracts'", key=table.path, kind="bad-value")
         return SizingSpec(contracts=table.number("contracts", positive=True))
     if not has_target:
-        raise RuleError("give 'contracts', or 'target_vol' with 'capital'", key=table.path)
+        raise RuleError("give 'contracts', or 'target_vol' with 'capital'", key=table.path,
+                        kind="missing-key")
     for name in ("target_vol", "capital"):
         if name not in table.data:
             raise RuleError("volatility-target sizing needs both 'target_vol' and 'capital'",
-                            key=table.key(name))
+                            key=table.key(name), kind="missing-key")
     return SizingSpec(
         contracts=None,
         target_vol=table.number("target_vol", positive=True),
@@ -426,10 +462,11 @@ def _costs(table: _Table | None, markets: tuple[str, ...]) -> dict[str, dict[str
             common[name] = table.number(name, positive=False)
         elif isinstance(value, dict):
             raise RuleError(f"market '{name}' is not listed in markets ({', '.join(markets)})",
-                            key=table.key(name))
+                            key=table.key(name), kind="unknown-key")
         else:
             raise RuleError(f"unknown key '{name}'; allowed keys: {', '.join(COST_KEYS)}, "
-                            "or a table [costs.MARKET] per market", key=table.key(name))
+                            "or a table [costs.MARKET] per market", key=table.key(name),
+                            kind="unknown-key")
     return {"*": common, **costs} if common else costs
 
 
@@ -440,7 +477,7 @@ def _check_expression(text: str, key: str, *, series_names: tuple[str, ...],
     try:
         parse_expression(text, series_names=series_names, param_names=param_names)
     except RuleError as err:
-        raise err.located(key=key) from None
+        raise err.located(key=key, kind="expression") from None
 
 
 def _function_names() -> frozenset[str]:
@@ -451,9 +488,11 @@ def _function_names() -> frozenset[str]:
 
 def _number(value: Any, key: str, where: str = "") -> int | float:
     if isinstance(value, bool) or not isinstance(value, int | float):
-        raise RuleError(f"{where}expected a number, found {_describe(value)}", key=key)
+        raise RuleError(f"{where}expected a number, found {_describe(value)}", key=key,
+                        kind="bad-value")
     if not math.isfinite(value):
-        raise RuleError(f"{where}expected a finite number, found {value}", key=key)
+        raise RuleError(f"{where}expected a finite number, found {value}", key=key,
+                        kind="bad-value")
     return value
 
 

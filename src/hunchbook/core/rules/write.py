@@ -15,13 +15,21 @@ from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import RuleError
 from hunchbook.core.rules.model import ParamRange, RollSpec, RuleSpec, SizingSpec
 from hunchbook.core.rules.parse import CONSTRAINT_KEY, parse_rules
+from hunchbook.core.rules.roll import (
+    ADJUST_KEY,
+    DEFAULT_ADJUST,
+    DEFAULT_ROLL_RULE,
+    SWITCH_KEY,
+    roll_rule,
+)
 
-_ROLL = RollSpec()
 _SIZING = SizingSpec()
-#: Keys that may stay out of a hand-written file while they hold their default value.
+#: Keys that may stay out of a hand-written file while they hold their default value (a
+#: setting only of the default roll rule: another rule's settings are what choose it).
 _OMITTABLE: dict[str, Any] = {
     "signal": {"delay": 0},
-    "roll": {"days_before_expiry": _ROLL.days_before_expiry, "adjust": _ROLL.adjust},
+    "roll": {**{s.key: s.default for s in DEFAULT_ROLL_RULE.settings},
+             ADJUST_KEY: DEFAULT_ADJUST.name},
     "sizing": {"contracts": _SIZING.contracts, "vol_window": _SIZING.vol_window},
 }
 #: Keys the canonical file leaves out while they hold their default value.
@@ -61,13 +69,17 @@ def dump_rules(spec: RuleSpec, *, original: str | None = None) -> str:
     canonical = tomlkit.document()
     _merge(canonical, _wanted(spec), _CANONICAL_OMITTABLE)
     text = canonical.as_string()
-    meaning = parse_rules(text)
+    try:
+        meaning = parse_rules(text)
+    except RuleError as err:  # the text is ours, not the user's: no place in it to point at
+        raise err.at(None) from None
     if original is None:
         return text
     try:
         document = tomlkit.parse(original.removeprefix("\ufeff"))
     except (TOMLKitError, ValueError, RecursionError) as err:
-        raise RuleError(f"the original rule text is not valid TOML: {err}") from None
+        raise RuleError(f"the original rule text is not valid TOML: {err}",
+                        kind="toml-syntax") from None
     try:
         _merge(document, _wanted(spec), _OMITTABLE)
         _order_parameters(document, spec)
@@ -105,7 +117,8 @@ def write_rules(spec: RuleSpec, path: str | os.PathLike[str], *,
     try:
         write_atomically(name, data)
     except OSError as err:
-        raise RuleError(f"cannot write rule file: {err.strerror or err}", file=name) from None
+        raise RuleError(f"cannot write rule file: {err.strerror or err}", file=name,
+                        kind="file") from None
 
 
 def _wanted(spec: RuleSpec) -> dict[str, Any]:
@@ -121,10 +134,7 @@ def _wanted(spec: RuleSpec) -> dict[str, Any]:
     parameters[CONSTRAINT_KEY] = spec.constraint
     top["parameters"] = parameters
     top["signal"] = {"position": spec.position, "delay": spec.delay}
-    roll = spec.roll
-    top["roll"] = ({"days_before_expiry": roll.days_before_expiry}
-                   if roll.rule == "days_before_expiry" else {"switch": roll.rule})
-    top["roll"]["adjust"] = roll.adjust
+    top["roll"] = {**_roll_choice(spec.roll), ADJUST_KEY: spec.roll.adjust}
     sizing = spec.sizing
     top["sizing"] = ({"contracts": sizing.contracts} if sizing.contracts is not None else
                      {"target_vol": sizing.target_vol, "capital": sizing.capital,
@@ -133,6 +143,15 @@ def _wanted(spec: RuleSpec) -> dict[str, Any]:
     costs.update({market: dict(values) for market, values in spec.costs.items() if market != "*"})
     top["costs"] = costs
     return _without_empty(top)
+
+
+def _roll_choice(roll: RollSpec) -> dict[str, Any]:
+    """The ``[roll]`` keys choosing the rule: its settings, or its switch (an unknown rule is
+    written as a switch, which reading then refuses with a clear error)."""
+    rule = roll_rule(roll.rule)
+    if rule is None or rule.is_switch:
+        return {SWITCH_KEY: roll.rule}
+    return {s.key: getattr(roll, s.key) for s in rule.settings}
 
 
 def _without_empty(values: dict[str, Any]) -> dict[str, Any]:

@@ -2,13 +2,11 @@
 
 Typing in the text re-reads it after a short pause and, when it is valid, refills the form;
 changing the form rewrites the text through :func:`hunchbook.core.rules.dump_rules`, which keeps
-the user's comments and layout. Errors are shown below the text and underlined where they are.
+the user's comments and layout. Errors are shown below the text and underlined where the parser
+says they are (their span).
 """
 
 from __future__ import annotations
-
-import re
-from typing import NamedTuple
 
 from PySide6.QtCore import QEvent, Qt, QTimer, Signal
 from PySide6.QtGui import (
@@ -32,7 +30,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from hunchbook.core.errors import RuleError
+from hunchbook.core.errors import RuleError, TextSpan
 from hunchbook.core.rules import RuleSpec, dump_rules, parse_rules
 from hunchbook.gui.widgets.rule_form import RuleForm
 from hunchbook.gui.widgets.toml_highlighter import TomlHighlighter
@@ -304,31 +302,41 @@ class RuleEditor(QWidget):
         message = str(error)
         self.message.setText(message)
         self.message.setStyleSheet(f"color: {self._error_colour.name()};")
-        plain = self.text_edit.toPlainText()
-        span = error_span(plain, error)
         selections = []
-        if span is not None:
-            start, end = (_qt_position(plain, i) for i in span)
-            if error.key:  # syntax errors already name their line
-                line = self.text_edit.document().findBlock(start).blockNumber() + 1
-                self.message.setText(f"Line {line}: {message}")
-            selection = QTextEdit.ExtraSelection()
-            cursor = QTextCursor(self.text_edit.document())
-            cursor.setPosition(start)
-            cursor.setPosition(max(end, start), QTextCursor.MoveMode.KeepAnchor)
-            selection.cursor = cursor
-            fmt = QTextCharFormat()
-            fmt.setUnderlineStyle(QTextCharFormat.UnderlineStyle.WaveUnderline)
-            fmt.setUnderlineColor(self._error_colour)
-            background = QColor(self._error_colour)
-            background.setAlpha(40)
-            fmt.setBackground(background)
-            if end <= start:
-                fmt.setProperty(QTextFormat.Property.FullWidthSelection, True)
-            selection.format = fmt
-            selections.append(selection)
+        if error.span is not None:
+            selections.append(self._underline(error.span))
         self.text_edit.setExtraSelections(selections)
         self._report(False, message)
+
+    def _underline(self, span: TextSpan) -> QTextEdit.ExtraSelection:
+        """A wavy underline over ``span``; an empty span (nothing to underline, such as a
+        missing value at a line's end) marks its whole line instead."""
+        start = self._document_position(span.line, span.column)
+        end = self._document_position(span.end_line, span.end_column)
+        cursor = QTextCursor(self.text_edit.document())
+        cursor.setPosition(start)
+        cursor.setPosition(max(end, start), QTextCursor.MoveMode.KeepAnchor)
+        fmt = QTextCharFormat()
+        fmt.setUnderlineStyle(QTextCharFormat.UnderlineStyle.WaveUnderline)
+        fmt.setUnderlineColor(self._error_colour)
+        background = QColor(self._error_colour)
+        background.setAlpha(40)
+        fmt.setBackground(background)
+        if end <= start:
+            fmt.setProperty(QTextFormat.Property.FullWidthSelection, True)
+        selection = QTextEdit.ExtraSelection()
+        selection.cursor = cursor
+        selection.format = fmt
+        return selection
+
+    def _document_position(self, line: int, column: int) -> int:
+        """The document position of a 1-based line and column of the rule text (columns count
+        characters; Qt counts UTF-16 code units, and drops a byte-order mark on loading)."""
+        document = self.text_edit.document()
+        block = document.findBlockByNumber(line - 1)
+        if not block.isValid():
+            return document.characterCount() - 1
+        return block.position() + _qt_length(block.text()[: max(column - 1, 0)])
 
     def _show_valid(self, spec: RuleSpec) -> None:
         self._error = None
@@ -355,331 +363,14 @@ class RuleEditor(QWidget):
 
 def _qt_position(text: str, index: int) -> int:
     """A Python string index as a Qt document position (Qt counts UTF-16 code units)."""
-    return index + sum(1 for char in text[:index] if ord(char) > 0xFFFF)
+    return _qt_length(text[:index])
+
+
+def _qt_length(text: str) -> int:
+    """The length of ``text`` in UTF-16 code units, as Qt counts it."""
+    return len(text) + sum(1 for char in text if ord(char) > 0xFFFF)
 
 
 def _error_colour(palette: QPalette) -> QColor:
     dark = palette.color(QPalette.ColorRole.Base).lightness() < 128
     return QColor("#ff7b72" if dark else "#c62828")
-
-
-# --- Where an error sits in the text ---------------------------------------------------------
-
-_SYNTAX_AT = re.compile(r"line (\d+), column (\d+)")
-_EXPRESSION_WORD = re.compile(r"\w+")
-_ESCAPE_LENGTHS = {"u": 6, "U": 10, "x": 4}
-_BARE_KEY = re.compile(r"[A-Za-z0-9_\-]+")
-_SIMPLE_ESCAPES = {"b": "\b", "t": "\t", "n": "\n", "f": "\f", "r": "\r", '"': '"', "\\": "\\",
-                   "e": "\x1b"}
-
-
-class _KeySpan(NamedTuple):
-    """Where one key and its value sit in the text (indices into the text)."""
-
-    key_start: int
-    key_end: int
-    value_start: int
-    value_end: int
-
-
-def error_span(text: str, error: RuleError) -> tuple[int, int] | None:
-    """The part of ``text`` an error points at, as (start, end) indices into the string.
-
-    TOML syntax errors carry "line N, column M" in their message; other errors name a key and,
-    for expressions, a 1-based column inside the expression string, which is mapped through the
-    string's quoting and escapes to the character in the text. An error naming a key that is
-    not in the text points at the nearest table that is. ``None`` when nothing can be located.
-    """
-    problem = error.problem
-    if problem.startswith("TOML syntax error"):
-        match = _SYNTAX_AT.search(problem)
-        return _line_column_span(text, int(match[1]), int(match[2])) if match else None
-    if not error.key:
-        return None
-    keys, tables = _key_spans(text)
-    found = keys.get(error.key)
-    if found is None:
-        return _table_span(error.key, keys, tables)
-    if error.column is not None:
-        return _expression_span(text, found, error.column)
-    if problem.startswith("unknown key"):
-        return found.key_start, found.key_end
-    return found.value_start, found.value_end
-
-
-def _line_column_span(text: str, line: int, column: int) -> tuple[int, int]:
-    """One character at a 1-based line and column; a position past the end of a line is
-    moved back onto the line's last character."""
-    body_offset = 1 if text.startswith("\ufeff") else 0
-    starts = [0, *(i + 1 for i, char in enumerate(text) if char == "\n")]
-    row = min(max(line, 1), len(starts)) - 1
-    line_start = starts[row]
-    line_end = starts[row + 1] - 1 if row + 1 < len(starts) else len(text)
-    if line_end > line_start and text[line_end - 1] == "\r":
-        line_end -= 1
-    at = line_start + max(column, 1) - 1 + (body_offset if row == 0 else 0)
-    if at >= line_end:
-        at = max(line_end - 1, line_start)
-    return at, at + 1 if at < line_end else at
-
-
-def _table_span(key: str, keys: dict[str, _KeySpan],
-                tables: dict[str, tuple[int, int]]) -> tuple[int, int] | None:
-    """The header (or inline table key) of ``key`` or of its nearest enclosing table."""
-    parts = key.split(".")
-    while parts:
-        path = ".".join(parts)
-        if path in tables:
-            return tables[path]
-        if path in keys:
-            span = keys[path]
-            return span.key_start, span.key_end
-        parts.pop()
-    return None
-
-
-def _expression_span(text: str, found: _KeySpan, column: int) -> tuple[int, int]:
-    """The word (or single character) at a 1-based column of the expression string value."""
-    offsets = _string_offsets(text, found.value_start, found.value_end)
-    if offsets is None:
-        return found.value_start, found.value_end
-    decoded, places = offsets
-    index = min(max(column - 1, 0), len(decoded))
-    if index == len(decoded):
-        closing = places[-1]
-        return closing, min(closing + 1, found.value_end)
-    word = _EXPRESSION_WORD.match(decoded, index)
-    last = (word.end() if word else index + 1) - 1
-    basic = text.startswith('"', found.value_start)
-    width = _raw_length(text, places[last]) if basic else 1
-    return places[index], places[last] + width
-
-
-def _raw_length(text: str, at: int) -> int:
-    """How many characters of a basic string's text write the one character at ``at``."""
-    if text[at] != "\\":
-        return 1
-    return _ESCAPE_LENGTHS.get(text[at + 1: at + 2], 2)
-
-
-def _string_offsets(text: str, start: int, end: int) -> tuple[str, list[int]] | None:
-    """Decode the TOML string ``text[start:end]``, giving its characters and, for each, the index
-    in ``text`` where it is written, plus one final entry for the closing quote. ``None`` when
-    the value is not a string."""
-    for delimiter in ('"""', "'''", '"', "'"):
-        if text.startswith(delimiter, start):
-            break
-    else:
-        return None
-    basic = delimiter[0] == '"'
-    i = start + len(delimiter)
-    stop = end - len(delimiter) if text.endswith(delimiter, start, end) else end
-    if len(delimiter) == 3:
-        if text.startswith("\r\n", i):
-            i += 2
-        elif text.startswith("\n", i):
-            i += 1
-    chars: list[str] = []
-    places: list[int] = []
-    while i < stop:
-        char = text[i]
-        if basic and char == "\\":
-            after = i + 1
-            while after < stop and text[after] in " \t":
-                after += 1
-            if len(delimiter) == 3 and text.startswith(("\n", "\r\n"), after):
-                # A line-ending backslash swallows the line break and the blanks that follow.
-                i = after
-                while i < stop and text[i] in " \t\r\n":
-                    i += 1
-                continue
-            length = _raw_length(text, i)
-            chars.append(_decoded_escape(text[i: i + length]))
-            places.append(i)
-            i += length
-            continue
-        chars.append(char)
-        places.append(i)
-        i += 1
-    places.append(stop)
-    return "".join(chars), places
-
-
-def _decoded_escape(escape: str) -> str:
-    """The character a basic-string escape such as ``\\n`` or ``\\u00e9`` stands for."""
-    code = escape[1:2]
-    if code in _SIMPLE_ESCAPES:
-        return _SIMPLE_ESCAPES[code]
-    try:
-        return chr(int(escape[2:], 16))
-    except ValueError:
-        return "?"
-
-
-def _key_spans(text: str) -> tuple[dict[str, _KeySpan], dict[str, tuple[int, int]]]:
-    """Every key of a TOML text with its position, and every table header's position.
-
-    Keys are named by their dotted path as the rule errors name them (``"signal.position"``,
-    ``"costs.ZINC.X.commission"``). The scan is forgiving: a line it cannot read is skipped.
-    """
-    keys: dict[str, _KeySpan] = {}
-    tables: dict[str, tuple[int, int]] = {}
-    table: list[str] = []
-    i = 1 if text.startswith("\ufeff") else 0
-    n = len(text)
-    while i < n:
-        i = _skip_blank(text, i, newlines=True)
-        if i >= n:
-            break
-        if text[i] == "[":
-            header_start = i
-            double = text.startswith("[[", i)
-            path, after = _read_key(text, i + (2 if double else 1))
-            close = "]]" if double else "]"
-            if path is not None and text.startswith(close, after):
-                table = path
-                tables.setdefault(".".join(path), (header_start, after + len(close)))
-                i = after + len(close)
-            else:
-                i = _next_line(text, i)
-            continue
-        i = _read_pair(text, i, table, keys, tables)
-    return keys, tables
-
-
-def _read_pair(text: str, i: int, table: list[str], keys: dict[str, _KeySpan],
-               tables: dict[str, tuple[int, int]]) -> int:
-    """Read ``key = value`` at ``i`` under ``table``; return where reading stopped."""
-    key_start = i
-    path, after = _read_key(text, i)
-    if path is None:
-        return _next_line(text, i)
-    equals = _skip_blank(text, after)
-    if not text.startswith("=", equals):
-        return _next_line(text, i)
-    value_start = _skip_blank(text, equals + 1)
-    full = [*table, *path]
-    if text.startswith("{", value_start):
-        value_end = _read_inline_table(text, value_start, full, keys, tables)
-    else:
-        value_end = _skip_value(text, value_start)
-    keys.setdefault(".".join(full), _KeySpan(key_start, after, value_start, value_end))
-    return value_end
-
-
-def _read_inline_table(text: str, i: int, path: list[str], keys: dict[str, _KeySpan],
-                       tables: dict[str, tuple[int, int]]) -> int:
-    """Read ``{ a = 1, b = 2 }`` at ``i``, recording its keys under ``path``; return its end."""
-    i += 1
-    while i < len(text):
-        i = _skip_blank(text, i, newlines=True)
-        if text.startswith("}", i):
-            return i + 1
-        if text.startswith(",", i):
-            i += 1
-            continue
-        before = i
-        i = _read_pair(text, i, path, keys, tables)
-        if i <= before:
-            return i + 1
-    return len(text)
-
-
-def _read_key(text: str, i: int) -> tuple[list[str] | None, int]:
-    """Read a (dotted, possibly quoted) key at ``i``; return its parts and the index after it."""
-    parts: list[str] = []
-    while True:
-        i = _skip_blank(text, i)
-        if text.startswith(('"', "'"), i):
-            quote = text[i]
-            close = i + 1
-            while close < len(text) and text[close] != quote and text[close] != "\n":
-                close += 2 if quote == '"' and text[close] == "\\" else 1
-            if close >= len(text) or text[close] != quote:
-                return None, i
-            parts.append(text[i + 1: close])
-            i = close + 1
-        else:
-            match = _BARE_KEY.match(text, i)
-            if not match:
-                return None, i
-            parts.append(match.group())
-            i = match.end()
-        after = _skip_blank(text, i)
-        if not text.startswith(".", after):
-            return parts, i
-        i = after + 1
-
-
-def _skip_value(text: str, i: int) -> int:
-    """Index just after the TOML value starting at ``i`` (string, array, inline table, scalar)."""
-    n = len(text)
-    for delimiter in ('"""', "'''"):
-        if text.startswith(delimiter, i):
-            j = i + 3
-            while j < n:
-                if delimiter[0] == '"' and text[j] == "\\":
-                    j += 2
-                    continue
-                if text.startswith(delimiter, j):
-                    end = j + 3
-                    while end < n and end < j + 5 and text[end] == delimiter[0]:
-                        end += 1
-                    return end
-                j += 1
-            return n
-    if i < n and text[i] in "\"'":
-        quote = text[i]
-        j = i + 1
-        while j < n and text[j] != "\n":
-            if quote == '"' and text[j] == "\\":
-                j += 2
-                continue
-            if text[j] == quote:
-                return j + 1
-            j += 1
-        return j
-    if i < n and text[i] in "[{":
-        depth = 0
-        j = i
-        while j < n:
-            char = text[j]
-            if char in "\"'":
-                j = _skip_value(text, j)
-                continue
-            if char == "#":
-                j = _next_line(text, j) - 1
-            elif char in "[{":
-                depth += 1
-            elif char in "]}":
-                depth -= 1
-                if depth == 0:
-                    return j + 1
-            j += 1
-        return n
-    j = i
-    while j < n and text[j] not in ",]}#\n":
-        j += 1
-    while j > i and text[j - 1] in " \t\r":
-        j -= 1
-    return j
-
-
-def _skip_blank(text: str, i: int, *, newlines: bool = False) -> int:
-    """Skip spaces and tabs (and, with ``newlines``, line breaks and comments)."""
-    n = len(text)
-    while i < n:
-        char = text[i]
-        if char in " \t" or (newlines and char in "\r\n"):
-            i += 1
-        elif newlines and char == "#":
-            i = _next_line(text, i)
-        else:
-            break
-    return i
-
-
-def _next_line(text: str, i: int) -> int:
-    """Index of the start of the line after the one holding ``i``."""
-    newline = text.find("\n", i)
-    return len(text) if newline < 0 else newline + 1

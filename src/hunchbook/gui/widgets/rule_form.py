@@ -40,7 +40,6 @@ from PySide6.QtWidgets import (
 from hunchbook.core.errors import RuleError
 from hunchbook.core.expr import FUNCTIONS
 from hunchbook.core.rules import (
-    ADJUST_METHODS,
     COST_KEYS,
     SERIES_NAMES,
     Parameter,
@@ -48,15 +47,11 @@ from hunchbook.core.rules import (
     RollSpec,
     RuleSpec,
     SizingSpec,
+    roll,
 )
 
 #: Largest value of the whole-number settings (delay, days before expiry, volatility window).
 _MAX_SETTING = 100_000
-_ROLL_CHOICES = (("days_before_expiry", "Days before expiry"),
-                 ("volume", "Switch on volume"),
-                 ("open_interest", "Switch on open interest"))
-_ADJUST_LABELS = {"difference": "Difference (add the gap)", "ratio": "Ratio (scale by new/old)",
-                  "none": "None (keep the jumps)"}
 _COST_LABELS = {"commission": "Commission", "exchange_fee": "Exchange fee",
                 "regulatory_fee": "Regulatory fee", "slippage_ticks": "Slippage (ticks)"}
 _COLUMNS = ("Name", "Kind", "Values / start", "Stop", "Step")
@@ -319,22 +314,31 @@ class RuleForm(QWidget):
         group = QGroupBox("Roll")
         form = _form_layout(group)
         self.roll_combo = QComboBox()
-        for rule, label in _ROLL_CHOICES:
-            self.roll_combo.addItem(label, rule)
+        for rule in roll.ROLL_RULE_TABLE:
+            self.roll_combo.addItem(rule.label, rule.name)
+            self.roll_combo.setItemData(self.roll_combo.count() - 1, rule.help,
+                                        Qt.ItemDataRole.ToolTipRole)
         self.roll_combo.setToolTip("When each market moves from one contract to the next.")
         self.roll_combo.currentIndexChanged.connect(self._roll_rule_changed)
-        self.roll_days_spin = QSpinBox()
-        self.roll_days_spin.setRange(0, _MAX_SETTING)
-        self.roll_days_spin.setSuffix(" business days")
-        self.roll_days_spin.setSizePolicy(QSizePolicy.Policy.Fixed, QSizePolicy.Policy.Fixed)
-        self.roll_days_spin.setToolTip("Roll this many business days before the held "
-                                       "contract's expiry.")
-        self.roll_days_spin.valueChanged.connect(self._changed)
         form.addRow("Rule", self.roll_combo)
-        form.addRow("Days before expiry", self.roll_days_spin)
+        #: One spin box per roll-rule setting, enabled while the chosen rule has that setting.
+        self.roll_setting_spins: dict[str, QSpinBox] = {}
+        for setting in roll.roll_settings():
+            spin = QSpinBox()
+            spin.setRange(setting.minimum, _MAX_SETTING)
+            spin.setValue(setting.default)
+            spin.setSuffix(f" {setting.unit}")
+            spin.setSizePolicy(QSizePolicy.Policy.Fixed, QSizePolicy.Policy.Fixed)
+            spin.setToolTip(setting.help)
+            spin.valueChanged.connect(self._changed)
+            self.roll_setting_spins[setting.key] = spin
+            form.addRow(setting.label, spin)
         self.adjust_combo = QComboBox()
-        for method in ADJUST_METHODS:
-            self.adjust_combo.addItem(_ADJUST_LABELS.get(method, method), method)
+        for method in roll.ADJUST_METHOD_TABLE:
+            self.adjust_combo.addItem(method.label, method.name)
+            self.adjust_combo.setItemData(self.adjust_combo.count() - 1,
+                                          method.help,
+                                          Qt.ItemDataRole.ToolTipRole)
         self.adjust_combo.setToolTip("How earlier prices are shifted at each roll in the series "
                                      "the expressions read.")
         self.adjust_combo.currentIndexChanged.connect(self._changed)
@@ -440,8 +444,8 @@ class RuleForm(QWidget):
             constraint=constraint or None,
             delay=self.delay_spin.value(),
             roll=RollSpec(rule=self.roll_combo.currentData(),
-                          days_before_expiry=self.roll_days_spin.value(),
-                          adjust=self.adjust_combo.currentData()),
+                          adjust=self.adjust_combo.currentData(),
+                          **{key: spin.value() for key, spin in self.roll_setting_spins.items()}),
             sizing=sizing,
             costs=costs,
             start=_read_date(self.start_check, self.start_date),
@@ -508,8 +512,9 @@ class RuleForm(QWidget):
         self.position_edit.setText(spec.position)
         self.delay_spin.setValue(spec.delay)
         self.roll_combo.setCurrentIndex(self.roll_combo.findData(spec.roll.rule))
-        self.roll_days_spin.setValue(spec.roll.days_before_expiry)
-        self.roll_days_spin.setEnabled(spec.roll.rule == "days_before_expiry")
+        for key, spin in self.roll_setting_spins.items():
+            spin.setValue(getattr(spec.roll, key))
+        self._enable_roll_settings()
         self.adjust_combo.setCurrentIndex(self.adjust_combo.findData(spec.roll.adjust))
         sizing = spec.sizing
         fixed = sizing.contracts is not None
@@ -702,8 +707,14 @@ class RuleForm(QWidget):
         self.edited.emit()
 
     def _roll_rule_changed(self) -> None:
-        self.roll_days_spin.setEnabled(self.roll_combo.currentData() == "days_before_expiry")
+        self._enable_roll_settings()
         self._changed()
+
+    def _enable_roll_settings(self) -> None:
+        rule = roll.roll_rule(self.roll_combo.currentData())
+        used = {s.key for s in rule.settings} if rule is not None else set()
+        for key, spin in self.roll_setting_spins.items():
+            spin.setEnabled(key in used)
 
     def _sizing_mode_changed(self) -> None:
         self.sizing_stack.setCurrentIndex(self.sizing_combo.currentIndex())
