@@ -6,7 +6,7 @@ import math
 import os
 from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
@@ -21,10 +21,12 @@ from hunchbook.core.prices import MarketData
 from hunchbook.core.prices import load_data as _load_data
 from hunchbook.core.rules import parse_rules, read_rules
 from hunchbook.core.rules.model import SERIES_NAMES, RuleSpec
-from hunchbook.core.stats import FirstPassStats, first_pass_statistics
 from hunchbook.core.sweep import CancelCheck, Progress, SweepOutcome, SweepRunner, run_sweep
 from hunchbook.core.sweep_summary import summarise_sweep
 from hunchbook.core.verdict import Verdict, decide
+
+if TYPE_CHECKING:  # the statistics (and scipy) are imported when a sweep is judged
+    from hunchbook.core.stats import FirstPassStats
 
 #: Row label of the portfolio in metric tables.
 PORTFOLIO = "portfolio"
@@ -220,6 +222,8 @@ class Study:
         # statistics compare the sets on their common period: from the day all have started
         start = int(outcome.used.argmax(axis=0).max())
         shape, cells = self._grid_cells(sets)
+        from hunchbook.core.stats import first_pass_statistics
+
         statistics = first_pass_statistics(
             outcome.gross[start:], outcome.cost[start:], grid_shape=shape, cell_index=cells,
             chosen=chosen, n_trials=n_trials, trial_sharpe_var=trial_sharpe_var,

@@ -59,9 +59,8 @@ import json
 import os
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-import pandas as pd
 import platformdirs
 
 from hunchbook.store import (
@@ -98,6 +97,9 @@ from hunchbook.store.vocab import (
     TRANSITIONS,
     USER_ENTRY_KINDS,
 )
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = ["CHECKLIST", "STAGES", "TRANSITIONS", "Catalogue", "CatalogueError",
            "default_catalogue_path"]

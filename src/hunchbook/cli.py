@@ -20,7 +20,6 @@ from typing import TYPE_CHECKING, Any
 from hunchbook import __version__
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
-from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.verdict import CAUTION
 
@@ -298,6 +297,8 @@ def _cmd_demo_data(args: argparse.Namespace) -> int:
 
 def _write_atomic(path: Path, write: Callable[[Any], None]) -> None:
     """Write a text file whole or not at all (``write`` fills a text buffer)."""
+    from hunchbook.core.atomic import write_atomically
+
     buffer = io.StringIO(newline="")
     write(buffer)
     write_atomically(path, buffer.getvalue().encode("utf-8"))

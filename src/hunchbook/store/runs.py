@@ -22,14 +22,15 @@ import json
 import uuid as uuidlib
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
-
-import pandas as pd
-from sqlite_utils import Database
+from typing import TYPE_CHECKING, Any
 
 from hunchbook.store import pnl, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Revision, RunRecord
+from hunchbook.store.sqlite_lib import Database
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 #: Longest verdict label (characters).
 MAX_LABEL = 80
