@@ -258,12 +258,12 @@ def run(rules: RuleSpec | str | os.PathLike[str], data: MarketData | str | os.Pa
     """
     spec = rules if isinstance(rules, RuleSpec) else load_rules(rules)
     market_data = data if isinstance(data, MarketData) else load_data(data, list(spec.markets))
-    study = Study(spec, market_data)
+    study = Study(spec, market_data, file=None if isinstance(rules, RuleSpec) else rules)
     sets = study.parameter_sets(params)
     if len(sets) > 1:
         raise RuleError(f"the rule file declares {len(sets)} parameter sets; pick one by giving "
                         f"every parameter a value ({', '.join(spec.parameter_names)})",
-                        key="parameters")
+                        file=study.file, key="parameters")
     return study.run_set(sets[0])
 
 
