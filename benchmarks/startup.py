@@ -4,11 +4,11 @@ Prints (not a test; shared machines are noisy) min / median / max over several r
 fresh process:
 - the import time of ``hunchbook``, ``hunchbook.api`` and ``hunchbook.cli``;
 - the wall time of ``hunchbook --version``, ``hunchbook ideas list`` and ``hunchbook journal
-  add`` on a temporary copy of the demo catalogue (target: each under 0.5 s).
+  add`` on a temporary demo catalogue (target: each under 0.5 s).
 
-Children run with bytecode caching on, as after a normal install, and one warm-up run each
-(``--compile`` measures them compiling every module from source instead, as with
-PYTHONDONTWRITEBYTECODE set). Run: .venv/bin/python benchmarks/startup.py [--runs N]
+Children run with bytecode caching on (as after a normal install, even where
+PYTHONDONTWRITEBYTECODE is set) after one warm-up run each, so that compiling modules from
+source is not counted. Run: .venv/bin/python benchmarks/startup.py [--runs N]
 """
 
 from __future__ import annotations
@@ -27,14 +27,9 @@ MODULES = ("hunchbook", "hunchbook.api", "hunchbook.cli")
 TARGET_S = 0.5
 
 
-def child_env(compile_always: bool) -> dict[str, str]:
-    """The children's environment: bytecode cached unless ``compile_always``."""
-    env = dict(os.environ)
-    if compile_always:
-        env["PYTHONDONTWRITEBYTECODE"] = "1"
-    else:
-        env.pop("PYTHONDONTWRITEBYTECODE", None)
-    return env
+def child_env() -> dict[str, str]:
+    """The children's environment, with bytecode caching on."""
+    return {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
 
 
 def import_seconds(module: str, env: dict[str, str]) -> float:
@@ -63,14 +58,12 @@ def summary(label: str, samples: list[float], target: float | None = None) -> st
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=7, help="runs of each figure (default 7)")
-    parser.add_argument("--compile", action="store_true",
-                        help="compile every module from source in each run (no bytecode cache)")
     options = parser.parse_args()
-    env = child_env(options.compile)
     exe = str(Path(sys.executable).with_name("hunchbook"))
+    env = child_env()
     print(f"machine: {platform.machine()}, {os.cpu_count()} CPUs, "
           f"{platform.python_implementation()} {platform.python_version()}; "
-          f"{options.runs} runs each; bytecode {'not cached' if options.compile else 'cached'}")
+          f"{options.runs} runs each, in fresh processes")
     with tempfile.TemporaryDirectory() as tmp:
         catalogue = str(Path(tmp) / "demo.sqlite")
         subprocess.run([exe, "catalogue", "demo", catalogue], capture_output=True, check=True,
@@ -81,7 +74,7 @@ def main() -> None:
             "hunchbook journal add": [exe, "journal", "add", "--catalogue", catalogue,
                                       "--idea", "1", "--by", "Benchmark", "A timing note."],
         }
-        for module in MODULES:  # warm-up: writes the bytecode caches when they are on
+        for module in MODULES:  # warm-up: writes the bytecode caches
             import_seconds(module, env)
         for argv in commands.values():
             command_seconds(argv, env)
