@@ -5,7 +5,7 @@ from __future__ import annotations
 import os
 from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
@@ -19,12 +19,14 @@ from hunchbook.core.panel import Panel, build_panel
 from hunchbook.core.prices import MarketData
 from hunchbook.core.prices import load_data as _load_data
 from hunchbook.core.results import RunSummary, build_run_summary
-from hunchbook.core.rules import read_rules
+from hunchbook.core.rules import parse_rules, read_rules
 from hunchbook.core.rules.model import SERIES_NAMES, RuleSpec
-from hunchbook.core.stats import FirstPassStats, first_pass_statistics
-from hunchbook.core.sweep import CancelCheck, Progress, SweepOutcome, run_sweep
+from hunchbook.core.sweep import CancelCheck, Progress, SweepOutcome, SweepRunner, run_sweep
 from hunchbook.core.sweep_summary import summarise_sweep
 from hunchbook.core.verdict import Verdict, decide
+
+if TYPE_CHECKING:  # the statistics (and scipy) are imported when a sweep is judged
+    from hunchbook.core.stats import FirstPassStats
 
 #: Row label of the portfolio in metric tables.
 PORTFOLIO = "portfolio"
@@ -100,25 +102,35 @@ class SweepReport:
 class Study:
     """A rule file prepared against a data folder: continuous series built once, ready to run.
 
+    Most code prepares one with :meth:`from_text` or :meth:`from_file`.
+
     Parameters
     ----------
     rules
         The parsed rule file.
     data
         The data folder's contents; must hold every market the rules name.
+    file
+        The rule file's name, given in every :class:`RuleError` the study raises.
     """
 
-    def __init__(self, rules: RuleSpec, data: MarketData) -> None:
+    def __init__(self, rules: RuleSpec, data: MarketData, *,
+                 file: str | os.PathLike[str] | None = None) -> None:
         self.rules = rules
+        self.data = data
+        self.file = None if file is None else str(file)
         missing = [m for m in rules.markets if m not in data.bars]
         if missing:
             raise DataError(f"no price data loaded for market(s) {', '.join(missing)}",
                             file=data.folder)
-        self.position = parse_expression(rules.position, series_names=SERIES_NAMES,
-                                         param_names=rules.parameter_names)
-        self.constraint = (parse_expression(rules.constraint, series_names=(),
-                                            param_names=rules.parameter_names)
-                           if rules.constraint else None)
+        try:
+            self.position = parse_expression(rules.position, series_names=SERIES_NAMES,
+                                             param_names=rules.parameter_names)
+            self.constraint = (parse_expression(rules.constraint, series_names=(),
+                                                param_names=rules.parameter_names)
+                               if rules.constraint else None)
+        except RuleError as exc:
+            raise exc.located(file=self.file) from None
         series = []
         for market in rules.markets:
             bars = data.bars[market]
@@ -133,6 +145,25 @@ class Study:
         self.backtest = Backtest(self.panel, self.position, rules.sizing, delay=rules.delay,
                                  start=rules.start, end=rules.end)
 
+    @classmethod
+    def from_text(cls, text: str, data_folder: str | os.PathLike[str], *,
+                  file: str | os.PathLike[str] | None = None) -> Study:
+        """Parse rule text, load its markets from a data folder and prepare them.
+
+        ``file`` names where the text came from in every :class:`RuleError`. Raises
+        :class:`~hunchbook.core.errors.HunchbookError` for bad rules or data.
+        """
+        name = None if file is None else str(file)
+        rules = parse_rules(text, file=name)
+        return cls(rules, load_data(data_folder, list(rules.markets)), file=name)
+
+    @classmethod
+    def from_file(cls, path: str | os.PathLike[str],
+                  data_folder: str | os.PathLike[str]) -> Study:
+        """Read a rule file and prepare it on a data folder (see :meth:`from_text`)."""
+        rules = load_rules(path)
+        return cls(rules, load_data(data_folder, list(rules.markets)), file=path)
+
     def parameter_sets(self, fixed: Mapping[str, float] | None = None) -> list[dict[str, float]]:
         """Declared parameter sets that satisfy the constraint, optionally filtered by values."""
         fixed = dict(fixed or {})
@@ -141,16 +172,16 @@ class Study:
             if declared is None:
                 raise RuleError(f"unknown parameter '{name}' (declared: "
                                 f"{', '.join(self.rules.parameter_names) or 'none'})",
-                                key="parameters")
+                                file=self.file, key="parameters")
             if value not in declared.values():
                 raise RuleError(f"{name}={value:g} is not one of the declared values "
                                 f"({', '.join(f'{v:g}' for v in declared.values())})",
-                                key=f"parameters.{name}")
+                                file=self.file, key=f"parameters.{name}")
         sets = [s for s in self._iter_allowed() if all(s[k] == v for k, v in fixed.items())]
         if not sets:
             raise RuleError("no declared parameter set satisfies the constraint"
                             + (" with the values asked for" if fixed else ""),
-                            key="parameters.constraint")
+                            file=self.file, key="parameters.constraint")
         return sets
 
     def _iter_allowed(self) -> Iterator[dict[str, float]]:
@@ -158,8 +189,9 @@ class Study:
             if self.constraint is None or self.constraint.evaluate({}, params) == 1.0:
                 yield params
 
-    def sweep(self, sets: list[dict[str, float]] | None = None, *, workers: int | None = None,
-              progress: Progress | None = None, cancel: CancelCheck | None = None,
+    def sweep(self, sets: list[dict[str, float]] | None = None, *,
+              runner: SweepRunner | None = None, progress: Progress | None = None,
+              cancel: CancelCheck | None = None,
               n_trials: int | None = None, other_trial_sharpes: Sequence[float] = (),
               spa_reps: int = 1000, seed: int = 0) -> SweepReport:
         """Run every parameter set (default: the declared space) and judge the best one.
@@ -168,8 +200,9 @@ class Study:
         ----------
         sets
             Parameter sets to run; default every declared set that meets the constraint.
-        workers, progress, cancel
-            See :func:`hunchbook.core.sweep.run_sweep`.
+        runner, progress, cancel
+            See :func:`hunchbook.core.sweep.run_sweep` (``runner``: for example
+            ``LocalProcesses(workers=2)`` or ``InProcess()`` from :mod:`hunchbook.core.runners`).
         n_trials, other_trial_sharpes
             Trials counted for the deflated Sharpe ratio (default: the sets of this sweep)
             and the annualised net Sharpe ratios of trials run before, outside this sweep;
@@ -178,7 +211,7 @@ class Study:
             Bootstrap replications and seed of the SPA test.
         """
         sets = sets if sets is not None else self.parameter_sets()
-        outcome = run_sweep(self.backtest, sets, workers=workers, progress=progress,
+        outcome = run_sweep(self.backtest, sets, runner=runner, progress=progress,
                             cancel=cancel)
         summaries = summarise_sweep(outcome)
         net_sharpe = np.array([s[PORTFOLIO]["net"]["sharpe"] for s in summaries])
@@ -189,6 +222,8 @@ class Study:
         # statistics compare the sets on their common period: from the day all have started
         start = int(outcome.used.argmax(axis=0).max())
         shape, cells = self._grid_cells(sets)
+        from hunchbook.core.stats import first_pass_statistics
+
         statistics = first_pass_statistics(
             outcome.gross[start:], outcome.cost[start:], grid_shape=shape, cell_index=cells,
             chosen=chosen, n_trials=n_trials, trial_sharpe_var=trial_sharpe_var,
@@ -223,12 +258,12 @@ def run(rules: RuleSpec | str | os.PathLike[str], data: MarketData | str | os.Pa
     """
     spec = rules if isinstance(rules, RuleSpec) else load_rules(rules)
     market_data = data if isinstance(data, MarketData) else load_data(data, list(spec.markets))
-    study = Study(spec, market_data)
+    study = Study(spec, market_data, file=None if isinstance(rules, RuleSpec) else rules)
     sets = study.parameter_sets(params)
     if len(sets) > 1:
         raise RuleError(f"the rule file declares {len(sets)} parameter sets; pick one by giving "
                         f"every parameter a value ({', '.join(spec.parameter_names)})",
-                        key="parameters")
+                        file=study.file, key="parameters")
     return study.run_set(sets[0])
 
 

@@ -57,7 +57,6 @@ from collections.abc import Callable, Iterator, Mapping, Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-import pandas as pd
 import platformdirs
 
 if TYPE_CHECKING:
@@ -97,6 +96,9 @@ from hunchbook.store.vocab import (
     TRANSITIONS,
     USER_ENTRY_KINDS,
 )
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 __all__ = ["CHECKLIST", "STAGES", "TRANSITIONS", "Catalogue", "CatalogueError",
            "default_catalogue_path"]

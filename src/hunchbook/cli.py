@@ -1,4 +1,8 @@
-"""The ``hunchbook`` command line: thin commands over :mod:`hunchbook.api`."""
+"""The ``hunchbook`` command line: thin commands over :mod:`hunchbook.api`.
+
+Each command imports what it needs when it runs, so that ``--version``, help and the
+catalogue commands start without loading the engine, pandas or the statistics.
+"""
 
 from __future__ import annotations
 
@@ -10,27 +14,19 @@ import os
 import sys
 from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from hunchbook import __version__
-from hunchbook.api import SetResult, Study, load_data, load_rules
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
-from hunchbook.core.atomic import write_atomically
-from hunchbook.core.data_check import check_data_folder, format_data_check
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.plain import json_safe
-from hunchbook.core.pnl_file import read_pnl_csv
-from hunchbook.core.results import RunSummary
-from hunchbook.core.stats import first_pass_statistics
-from hunchbook.core.verdict import decide
-from hunchbook.report import format_judgement, format_single, format_statistics, format_sweep
-from hunchbook.services import run_idea
+from hunchbook.core.verdict import CAUTION
 
-#: The caution printed under every result.
-CAUTION = ("Hypothetical backtest results: not investment advice; past results do not predict "
-           "future ones. Managing others' money is regulated - follow local rules.")
-
+if TYPE_CHECKING:
+    from hunchbook.api import SetResult
+    from hunchbook.core.results import RunSummary
+    from hunchbook.core.sweep import SweepRunner
 
 #: Options that open the desktop window instead of running a command.
 WINDOW_OPTIONS = ("--demo", "--catalogue", "--data", "--screenshot", "--idea", "--section",
@@ -168,21 +164,25 @@ def _parse_params(text: str) -> dict[str, float]:
     return params
 
 
+def _runner(args: argparse.Namespace) -> SweepRunner:
+    """The sweep runner that ``--workers`` asks for."""
+    from hunchbook.core.runners import LocalProcesses
+
+    return LocalProcesses(workers=args.workers)
+
+
 def _cmd_run(args: argparse.Namespace) -> int:
     if args.idea is not None:
         return _run_for_idea(args)
-    rules = load_rules(args.rules)
-    try:
-        data = load_data(args.data, list(rules.markets))
-        study = Study(rules, data)
-        sets = study.parameter_sets(args.params)
-    except RuleError as exc:
-        raise exc.located(file=str(args.rules)) from None
+    from hunchbook.api import Study
+
+    study = Study.from_file(args.rules, args.data)
+    sets = study.parameter_sets(args.params)
     if len(sets) > 1 and args.pnl_csv:
         raise RuleError(f"--pnl-csv writes one parameter set but {len(sets)} are declared: pick "
-                        f"one with --params ({', '.join(rules.parameter_names)})",
+                        f"one with --params ({', '.join(study.rules.parameter_names)})",
                         file=str(args.rules), key="parameters")
-    report = study.sweep(sets, workers=args.workers, progress=_progress_printer(len(sets)))
+    report = study.sweep(sets, runner=_runner(args), progress=_progress_printer(len(sets)))
     chosen = study.run_set(report.sets[report.chosen])
     run = report.summarise(chosen, currency=study.panel.currency, data_folder=str(args.data))
     _print_and_write(args, run, chosen)
@@ -199,9 +199,11 @@ def _run_for_idea(args: argparse.Namespace) -> int:
         text = path.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as exc:
         raise RuleError(f"cannot read the rule file ({exc})", file=str(path)) from None
+    from hunchbook.services import run_idea
+
     with open_catalogue(args) as catalogue:
         outcome = run_idea(catalogue, args.idea, text, args.data, by=author(args),
-                           rule_file=str(path), workers=args.workers,
+                           rule_file=str(path), runner=_runner(args),
                            progress=_progress_printer(2))
     _print_and_write(args, outcome.summary, outcome.chosen)
     print(f"Recorded as run {outcome.run_id} of idea {args.idea} (rule revision "
@@ -212,6 +214,8 @@ def _run_for_idea(args: argparse.Namespace) -> int:
 
 def _print_and_write(args: argparse.Namespace, run: RunSummary, chosen: SetResult) -> None:
     """Print a run's tables, statistics and verdict; write the JSON record and daily P&L."""
+    from hunchbook.report import format_judgement, format_single, format_sweep
+
     print(format_single(run) if len(run.sets) == 1 else format_sweep(run))
     print()
     print(format_judgement(run))
@@ -237,6 +241,11 @@ def _progress_printer(total: int) -> Callable[[int, int], None] | None:
 
 
 def _cmd_stats(args: argparse.Namespace) -> int:
+    from hunchbook.core.pnl_file import read_pnl_csv
+    from hunchbook.core.stats import first_pass_statistics
+    from hunchbook.core.verdict import decide
+    from hunchbook.report import format_statistics
+
     daily = read_pnl_csv(args.pnl)
     if (args.trials is None) != (args.trial_sharpe_var is None) and args.trials is None:
         raise HunchbookError("--trial-sharpe-var needs --trials (the number of trials)")
@@ -256,6 +265,8 @@ def _cmd_stats(args: argparse.Namespace) -> int:
 
 
 def _cmd_data_check(args: argparse.Namespace) -> int:
+    from hunchbook.core.data_check import check_data_folder, format_data_check
+
     report = check_data_folder(args.folder)
     print(format_data_check(report))
     return 0 if report.ok else 1
@@ -272,6 +283,8 @@ def _cmd_demo_data(args: argparse.Namespace) -> int:
 
 def _write_atomic(path: Path, write: Callable[[Any], None]) -> None:
     """Write a text file whole or not at all (``write`` fills a text buffer)."""
+    from hunchbook.core.atomic import write_atomically
+
     buffer = io.StringIO(newline="")
     write(buffer)
     write_atomically(path, buffer.getvalue().encode("utf-8"))

@@ -15,12 +15,10 @@ import os
 import sys
 from collections.abc import Callable
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from hunchbook.catalogue import Catalogue, default_catalogue_path
 from hunchbook.core.verdict import LABELS
 from hunchbook.store.errors import CatalogueError
-from hunchbook.store.records import Idea, IdeaSummary
 from hunchbook.store.vocab import (
     CHECKLIST,
     DECISIONS,
@@ -30,6 +28,10 @@ from hunchbook.store.vocab import (
     STAGES,
     USER_ENTRY_KINDS,
 )
+
+if TYPE_CHECKING:  # the catalogue (and SQLite) is imported only when a command opens one
+    from hunchbook.catalogue import Catalogue
+    from hunchbook.store.records import Idea, IdeaSummary
 
 #: Environment variable naming the person who writes (default for ``--by``).
 USER_ENV = "HUNCHBOOK_USER"
@@ -201,6 +203,8 @@ def _catalogue(group: Any) -> None:
 
 # -- handlers ------------------------------------------------------------------------------
 def open_catalogue(args: argparse.Namespace, *, create: bool = False) -> Catalogue:
+    from hunchbook.catalogue import Catalogue, default_catalogue_path
+
     path = args.catalogue
     if path is None:
         path = default_catalogue_path()

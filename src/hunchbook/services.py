@@ -9,11 +9,9 @@ from pathlib import Path
 from hunchbook import __version__
 from hunchbook.api import SetResult, Study
 from hunchbook.catalogue import Catalogue
-from hunchbook.core.errors import RuleError
-from hunchbook.core.prices import data_fingerprint, load_data
+from hunchbook.core.prices import data_fingerprint
 from hunchbook.core.results import RunSummary
-from hunchbook.core.rules import parse_rules
-from hunchbook.core.sweep import CancelCheck, Progress
+from hunchbook.core.sweep import CancelCheck, Progress, SweepRunner
 
 
 @dataclass(frozen=True)
@@ -28,7 +26,7 @@ class IdeaRun:
 
 def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
              data_folder: str | os.PathLike[str], *, by: str, rule_file: str | None = None,
-             workers: int | None = None, progress: Progress | None = None,
+             runner: SweepRunner | None = None, progress: Progress | None = None,
              cancel: CancelCheck | None = None, spa_reps: int = 1000) -> IdeaRun:
     """Save the rule text as the idea's revision, run its whole declared space, judge it with
     every trial the idea has ever had counted, and record the run on the idea.
@@ -39,15 +37,10 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
         Bad rules or data (nothing is recorded), or a catalogue refusal (for example an idea
         that has not been accepted for testing).
     """
-    try:
-        rules = parse_rules(rule_text, file=rule_file)
-        data = load_data(data_folder, list(rules.markets))
-        study = Study(rules, data)
-        sets = study.parameter_sets()
-    except RuleError as exc:
-        raise exc.located(file=rule_file) from None
+    study = Study.from_text(rule_text, data_folder, file=rule_file)
+    sets = study.parameter_sets()
     n_trials, others = catalogue.prospective_trials(idea_id, rule_text, sets)
-    report = study.sweep(sets, workers=workers, progress=progress, cancel=cancel,
+    report = study.sweep(sets, runner=runner, progress=progress, cancel=cancel,
                          n_trials=n_trials, other_trial_sharpes=others, spa_reps=spa_reps)
     chosen = study.run_set(report.sets[report.chosen])
     summary = report.summarise(chosen, currency=study.panel.currency,
@@ -56,7 +49,7 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
         revision = catalogue.save_rules(idea_id, rule_text, by=by)
         run_id = catalogue.record_run(
             idea_id, revision_id=revision.id, summary=summary,
-            data_fingerprint=data_fingerprint(data), engine_version=__version__,
+            data_fingerprint=data_fingerprint(study.data), engine_version=__version__,
             daily_pnl=chosen.portfolio[["gross_pnl", "cost", "net_pnl"]], by=by)
     return IdeaRun(summary=summary, chosen=chosen, run_id=run_id,
                    revision_number=revision.number)

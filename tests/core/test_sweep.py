@@ -1,13 +1,18 @@
-"""Sweeps: every set's figures equal a single run of that set (to 1e-9), in this process and
-across worker processes; progress and cancel behave."""
+"""Sweeps: every set's figures equal a single run of that set (to 1e-9), whichever runner
+carries them (in this process, forked or spawned workers, or one plugged in), and the runners
+agree exactly with each other; progress and cancel behave."""
 
 from __future__ import annotations
+
+import dataclasses
 
 import numpy as np
 import pytest
 
-from hunchbook.api import Study, load_data, load_rules
+from hunchbook.api import Study
+from hunchbook.core.runners import InProcess, LocalProcesses
 from hunchbook.core.sweep import SweepCancelled, run_sweep
+from hunchbook.core.sweep_job import ChunkWorker, SweepJob
 from hunchbook.core.sweep_summary import summarise_sweep
 from tests.reference_impl import TWO_MARKET_LIBRARY, random_contract_rows
 
@@ -43,8 +48,7 @@ def folder(tmp_path_factory):
 
 def _study(folder, text):
     (folder / "rules.toml").write_text(text)
-    rules = load_rules(folder / "rules.toml")
-    return Study(rules, load_data(folder, list(rules.markets)))
+    return Study.from_file(folder / "rules.toml", folder)
 
 
 @pytest.fixture(scope="module")
@@ -71,20 +75,23 @@ def _assert_same(summary, single):
             assert m[key] == pytest.approx(r[key], rel=1e-9, abs=1e-9), key
 
 
-@pytest.mark.parametrize(("workers", "start_method"), [(1, None), (2, "fork"), (2, "spawn")])
-def test_sweep_equals_single_runs(study, workers, start_method, monkeypatch):
-    import hunchbook.core.sweep as sweep_module
+RUNNERS = {
+    "in process": InProcess(),
+    "forked processes": LocalProcesses(workers=2, min_sets=2, start_method="fork"),
+    "spawned processes": LocalProcesses(workers=2, min_sets=2, start_method="spawn"),
+}
 
-    monkeypatch.setattr(sweep_module, "MIN_SETS_FOR_PROCESSES", 2)
-    if start_method:
-        monkeypatch.setattr(sweep_module, "_start_method", lambda: start_method)
+
+@pytest.mark.parametrize("runner", RUNNERS.values(), ids=RUNNERS.keys())
+def test_sweep_equals_single_runs(study, runner):
     sets = study.parameter_sets()
     # constraint fast * 2 < slow removes (5, 10) and (8, 10): 3 x 4 - 2 = 10 sets
     assert len(sets) == 10
     seen = []
-    outcome = run_sweep(study.backtest, sets, workers=workers,
+    outcome = run_sweep(study.backtest, sets, runner=runner,
                         progress=lambda done, total: seen.append((done, total)))
     assert seen[-1] == (10, 10) and all(t == 10 for _, t in seen)
+    assert [d for d, _ in seen] == sorted(d for d, _ in seen)
     summaries = summarise_sweep(outcome)
     for params, summary in zip(sets, summaries, strict=True):
         single = study.run_set(params)
@@ -95,7 +102,68 @@ def test_sweep_equals_single_runs(study, workers, start_method, monkeypatch):
         np.testing.assert_allclose(outcome.net[mask, k], daily["net_pnl"], rtol=1e-9, atol=1e-9)
 
 
-def test_cancel_stops_the_sweep(study):
+def _assert_identical(one, other):
+    """Every array of two sweep outcomes equal bit for bit."""
+    assert one.sets == other.sets and one.markets == other.markets
+    for field in dataclasses.fields(one):
+        if field.name not in ("sets", "markets"):
+            np.testing.assert_array_equal(getattr(one, field.name), getattr(other, field.name),
+                                          err_msg=field.name, strict=True)
+
+
+@pytest.mark.parametrize("runner", list(RUNNERS.values())[1:], ids=list(RUNNERS)[1:])
+def test_runners_give_identical_outcomes(study, runner):
+    """The same sets run in this process and in worker processes give exactly the same
+    numbers: each set is computed by the same code whichever runner carries it."""
+    sets = study.parameter_sets()
+    _assert_identical(run_sweep(study.backtest, sets, runner=InProcess()),
+                      run_sweep(study.backtest, sets, runner=runner))
+
+
+class ReversedRemoteChunks:
+    """A runner of this test: chunks of two sets run last to first, each carrying its own
+    daily rows back as a runner on other machines would."""
+
+    def __init__(self) -> None:
+        self.jobs = 0
+
+    def run(self, job: SweepJob) -> None:
+        self.jobs += 1
+        worker = ChunkWorker(job.backtest)
+        for start, stop in reversed(job.chunk_bounds(len(job.sets) // 2)):
+            job.add(worker.run(job.sets[start:stop], start))
+            job.check_cancel()
+
+
+def test_a_runner_plugged_in_is_used(study):
+    """Any object with ``run(job)`` carries the sweep, through run_sweep and Study.sweep."""
+    sets = study.parameter_sets()
+    runner = ReversedRemoteChunks()
+    seen = []
+    outcome = run_sweep(study.backtest, sets, runner=runner,
+                        progress=lambda done, total: seen.append(done))
+    assert runner.jobs == 1 and seen == [2, 4, 6, 8, 10]
+    _assert_identical(outcome, run_sweep(study.backtest, sets, runner=InProcess()))
+    report = study.sweep(sets, runner=runner, spa_reps=10)
+    assert runner.jobs == 2
+    _assert_identical(report.outcome, outcome)
+
+
+def test_a_runner_that_loses_a_chunk_is_caught(study):
+    """A runner that returns without every set gets one clear error, not a wrong result."""
+
+    class LosesTheLastChunk:
+        def run(self, job: SweepJob) -> None:
+            worker = ChunkWorker(job.backtest)
+            for start, stop in job.chunk_bounds(5)[:-1]:
+                job.add(worker.run(job.sets[start:stop], start))
+
+    with pytest.raises(RuntimeError, match="returned 8 set results for 10 sets, 2 of them missing"):
+        run_sweep(study.backtest, study.parameter_sets(), runner=LosesTheLastChunk())
+
+
+@pytest.mark.parametrize("runner", RUNNERS.values(), ids=RUNNERS.keys())
+def test_cancel_stops_the_sweep(study, runner):
     calls = []
 
     def cancel():
@@ -103,18 +171,24 @@ def test_cancel_stops_the_sweep(study):
         return len(calls) > 3
 
     with pytest.raises(SweepCancelled):
-        run_sweep(study.backtest, study.parameter_sets(), workers=1, cancel=cancel)
+        run_sweep(study.backtest, study.parameter_sets(), runner=runner, cancel=cancel)
 
+
+def test_local_processes_settings_are_checked():
+    with pytest.raises(ValueError, match="workers must be at least 1"):
+        LocalProcesses(workers=0)
+    with pytest.raises(ValueError, match="start_method must be one of"):
+        LocalProcesses(start_method="teleport")
 
 
 def test_one_calendar_takes_the_aligned_path(folder):
     # one market and no start date: every bar is a union day, so no gather is needed
-    from hunchbook.core.sweep import _Aggregator
+    from hunchbook.core.sweep_job import _Aggregator
 
     single = _study(folder, RULES.replace('markets = ["M1", "M2"]', 'markets = ["M1"]')
                     .replace("start = 2020-03-02\n", ""))
     assert _Aggregator(single.backtest).aligned
     sets = single.parameter_sets()
-    outcome = run_sweep(single.backtest, sets, workers=1)
+    outcome = run_sweep(single.backtest, sets, runner=InProcess())
     for params, summary in zip(sets, summarise_sweep(outcome), strict=True):
         _assert_same(summary, single.run_set(params))

@@ -50,9 +50,10 @@ def short_demo_data(factory: pytest.TempPathFactory) -> Path:
 def open_window(qtbot, catalogue: Path, data: Path):
     """The main window on ``catalogue`` and ``data``, shown (quick runs in the worker thread,
     no worker processes)."""
+    from hunchbook.core.runners import InProcess
     from hunchbook.gui.main_window import MainWindow
 
-    win = MainWindow(processes=1)
+    win = MainWindow(runner=InProcess())
     qtbot.addWidget(win)
     win.resize(1400, 900)
     assert win.open_catalogue(catalogue)

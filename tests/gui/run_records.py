@@ -7,6 +7,7 @@ from pathlib import Path
 
 from hunchbook import services
 from hunchbook.catalogue import Catalogue
+from hunchbook.core.runners import InProcess
 from hunchbook.demo import write_demo_data
 from hunchbook.store.records import Idea, RunRecord
 
@@ -81,8 +82,8 @@ def record_runs(folder: Path) -> RecordedRuns:
                               "parameter_space_declared": True,
                               "series_and_costs_stated": True})
         two = services.run_idea(cat, idea_id, TWO_PARAMETER_RULES, data, by="Ines Marwood",
-                                workers=1, spa_reps=100)
+                                runner=InProcess(), spa_reps=100)
         one = services.run_idea(cat, idea_id, ONE_PARAMETER_RULES, data, by="Ines Marwood",
-                                workers=1, spa_reps=100)
+                                runner=InProcess(), spa_reps=100)
         return RecordedRuns(path=path, data=Path(data), idea=cat.idea(idea_id),
                             two=cat.run(two.run_id), one=cat.run(one.run_id))

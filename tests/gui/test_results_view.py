@@ -12,8 +12,6 @@ from PySide6.QtCore import QPointF, Qt
 from PySide6.QtGui import QColor, QPalette
 
 from hunchbook.api import Study
-from hunchbook.core.prices import load_data
-from hunchbook.core.rules import parse_rules
 from hunchbook.core.verdict import ACTIONS, LABELS
 from hunchbook.gui.charts.run_figures import format_value
 from hunchbook.gui.widgets.figures_model import COL_GROSS, COL_LABEL, COL_NET, ValueRole
@@ -217,8 +215,7 @@ def test_show_set_curves_overlays_the_set_dashed(view, runs):
     """A clicked set's curves are added dashed, named in the legend; a second replaces them."""
     run = runs.two
     view.show_run(run, title="t")
-    rules = parse_rules(TWO_PARAMETER_RULES)
-    study = Study(rules, load_data(runs.data, list(rules.markets)))
+    study = Study.from_text(TWO_PARAMETER_RULES, runs.data)
     params = {"fast": 20.0, "slow": 120.0}
     daily = study.run_set(params).portfolio[["gross_pnl", "cost", "net_pnl"]]
     view.show_set_curves(params, daily)

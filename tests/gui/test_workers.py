@@ -9,7 +9,7 @@ import pytest
 from hunchbook.api import Study
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import DataError
-from hunchbook.core.rules import parse_rules
+from hunchbook.core.runners import InProcess
 from hunchbook.gui.workers import CallWorker, RunIdeaWorker, Worker, set_curves
 from tests.gui.desk_fixtures import ACCEPTED_TITLE, demo_catalogue_copy, short_demo_data
 
@@ -90,7 +90,7 @@ def test_run_worker_records_a_run_and_reports_progress(qtbot, demo_catalogue, sh
     and the run it returns is in the store."""
     idea_id = _accepted_id(demo_catalogue)
     worker = RunIdeaWorker(demo_catalogue, idea_id, RULES, short_data, by="Test Reviewer",
-                           processes=1)
+                           runner=InProcess())
     progress: list[tuple[int, int]] = []
     worker.signals.progress.connect(lambda done, total: progress.append((done, total)))
     with qtbot.waitSignal(worker.signals.finished, timeout=60000) as blocker:
@@ -106,7 +106,7 @@ def test_run_worker_cancelled_records_nothing(qtbot, demo_catalogue, short_data)
     """Cancelled before the sweep ends: ``cancelled``, no run and no revision stored."""
     idea_id = _accepted_id(demo_catalogue)
     worker = RunIdeaWorker(demo_catalogue, idea_id, RULES, short_data, by="Test Reviewer",
-                           processes=1)
+                           runner=InProcess())
     worker.cancel()
     with qtbot.waitSignal(worker.signals.cancelled, timeout=60000):
         worker.start()
@@ -132,9 +132,7 @@ def test_set_curves_gives_the_sets_daily_pnl(short_data):
     assert params == {"n": 60.0}
     pd.testing.assert_series_equal(daily["net_pnl"], daily["gross_pnl"] - daily["cost"],
                                    check_names=False)
-    from hunchbook.api import load_data
-
-    study = Study(parse_rules(RULES), load_data(short_data, ["TNOTE10"]))
+    study = Study.from_text(RULES, short_data)
     assert daily.index.equals(study.run_set({"n": 60.0}).portfolio.index)
 
 

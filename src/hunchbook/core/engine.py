@@ -26,10 +26,9 @@ import pandas as pd
 
 from hunchbook.core.expr import Expression, parse_expression
 from hunchbook.core.panel import Panel
+from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.core.rules.model import SizingSpec
 
-#: Trading days per year used to annualise.
-DAYS_PER_YEAR = 252
 #: Columns of the per-market daily P&L table.
 PNL_COLUMNS = ("date", "market", "contract", "position", "price_change", "gross_pnl",
                "contracts_traded", "cost", "net_pnl")

@@ -7,10 +7,7 @@ import math
 import numpy as np
 import pandas as pd
 
-#: Trading days per year used to annualise means and volatilities.
-DAYS_PER_YEAR = 252
-#: Days per calendar year, for counts "per year" over the calendar span of the result.
-CALENDAR_DAYS_PER_YEAR = 365.25
+from hunchbook.core.periods import CALENDAR_DAYS_PER_YEAR, DAYS_PER_YEAR
 
 
 def pnl_stats(pnl: pd.Series | np.ndarray) -> dict[str, float]:

@@ -43,6 +43,10 @@ ACTIONS = {
     "passes": "Promote the idea to full research.",
 }
 
+#: The caution shown with every result (command line, window, reports).
+CAUTION = ("Hypothetical backtest results: not investment advice; past results do not predict "
+           "future ones. Managing other people's money is regulated - follow your local rules.")
+
 
 @dataclass(frozen=True)
 class VerdictThresholds:

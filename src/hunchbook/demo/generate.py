@@ -15,12 +15,12 @@ import pandas as pd
 
 from hunchbook.core.errors import DataError
 from hunchbook.core.markets import MarketSpec, parse_market_library
+from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.demo.calendars import business_days, weekdays
 from hunchbook.demo.contracts import contract_schedule
 from hunchbook.demo.desk import DESK
 from hunchbook.demo.liquidity import volume_and_open_interest
 from hunchbook.demo.prices import (
-    DAYS_PER_YEAR,
     carry_path,
     correlated_shocks,
     futures_log_prices,

@@ -8,10 +8,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.demo.profiles import SHOCK_CORRELATION, MarketProfile
 
-#: Trading days per year used to turn annual figures into daily ones.
-DAYS_PER_YEAR = 252
 #: Daily pull of the log-price towards its long-run anchor.
 ANCHOR_PULL = 0.001
 #: Mean length of a price regime (trend or mean reversion), in trading days.

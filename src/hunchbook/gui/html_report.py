@@ -18,6 +18,7 @@ from PySide6.QtWidgets import QWidget
 from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.presenter import Table, market_table, set_table
+from hunchbook.core.verdict import CAUTION
 from hunchbook.gui.charts.result_charts import ResultCharts
 from hunchbook.gui.charts.run_figures import (
     FigureRow,
@@ -29,10 +30,6 @@ from hunchbook.gui.charts.run_figures import (
 )
 from hunchbook.gui.charts.theme import light_theme
 from hunchbook.store.records import Idea, RunRecord
-
-#: The usual caution, shown under every result.
-CAUTION = ("Hypothetical backtest results: not investment advice; past results do not predict "
-           "future ones. Managing other people's money is regulated - follow your local rules.")
 
 #: Pixel size of each chart image in the report (the sweep chart is narrower).
 CHART_SIZE = (960, 360)

@@ -14,7 +14,7 @@ import tomllib
 import zipfile
 from collections.abc import Iterable
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from PySide6.QtCore import QByteArray, QSettings, Qt, QThreadPool, QUrl, Signal
 from PySide6.QtGui import (
@@ -64,6 +64,9 @@ from hunchbook.gui.widgets.runs_panel import RunsPanel
 from hunchbook.gui.workers import CallWorker, RunIdeaWorker, Worker, set_curves
 from hunchbook.store.records import Idea
 from hunchbook.store.vocab import RUNNABLE_STAGES
+
+if TYPE_CHECKING:
+    from hunchbook.core.sweep import SweepRunner
 
 #: Section names, in tab order (``--section`` takes these).
 SECTIONS = ("idea", "rules", "runs", "journal", "review")
@@ -159,8 +162,8 @@ class MainWindow(QMainWindow):
     keep_layout
         Restore the window layout from the settings and save it on closing (screenshots
         do not, so that they always look the same).
-    processes
-        Worker processes for quick-run sweeps (default: the sweep's own choice).
+    runner
+        Where quick-run sweeps run (default: :func:`~hunchbook.core.sweep.run_sweep`'s).
     user
         The name edits, reviews and runs are written under (default:
         :func:`~hunchbook.gui.feedback.current_user`).
@@ -186,7 +189,7 @@ class MainWindow(QMainWindow):
     curves_shown = Signal(dict)
 
     def __init__(self, *, remember: bool = True, keep_layout: bool = True,
-                 processes: int | None = None, user: str | None = None,
+                 runner: SweepRunner | None = None, user: str | None = None,
                  parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.setObjectName("hunchbookMainWindow")
@@ -194,7 +197,7 @@ class MainWindow(QMainWindow):
         self.setAcceptDrops(True)
         self.remember = remember
         self.keep_layout = keep_layout
-        self.processes = processes
+        self.runner = runner
         self.user = user or feedback.current_user()
         self.catalogue: Catalogue | None = None
         self.data_folder: Path | None = None
@@ -651,7 +654,7 @@ class MainWindow(QMainWindow):
                             "folder\u2026), or drop one onto the window.")
             return None
         worker = RunIdeaWorker(self.catalogue.path, idea.id, self.rule_editor.text(),
-                               self.data_folder, by=self.user, processes=self.processes)
+                               self.data_folder, by=self.user, runner=self.runner)
         worker.signals.progress.connect(self._run_progress)
         worker.signals.finished.connect(self._run_done)
         worker.signals.failed.connect(self._run_failed)

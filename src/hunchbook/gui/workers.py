@@ -19,12 +19,15 @@ import os
 import threading
 from collections.abc import Callable
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from PySide6.QtCore import QObject, QRunnable, QThreadPool, Signal
 
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.collector import collect_on_ui_thread
+
+if TYPE_CHECKING:
+    from hunchbook.core.sweep import SweepRunner
 
 _log = logging.getLogger("hunchbook.gui")
 
@@ -125,20 +128,20 @@ class RunIdeaWorker(Worker):
         The catalogue file (the worker opens and closes its own connection).
     idea_id, rule_text, data_folder, by
         As in :func:`~hunchbook.services.run_idea`.
-    processes
-        Worker processes for the sweep (default: the sweep's own choice).
+    runner
+        Where the sweep runs (default: :func:`~hunchbook.core.sweep.run_sweep`'s).
     """
 
     def __init__(self, catalogue_path: str | os.PathLike[str], idea_id: int, rule_text: str,
                  data_folder: str | os.PathLike[str], *, by: str,
-                 processes: int | None = None) -> None:
+                 runner: SweepRunner | None = None) -> None:
         super().__init__()
         self.catalogue_path = Path(catalogue_path)
         self.idea_id = idea_id
         self.rule_text = rule_text
         self.data_folder = Path(data_folder)
         self.by = by
-        self.processes = processes
+        self.runner = runner
 
     def work(self) -> object:
         from hunchbook.catalogue import Catalogue
@@ -146,7 +149,7 @@ class RunIdeaWorker(Worker):
 
         with Catalogue(self.catalogue_path, create=False) as catalogue:
             return run_idea(catalogue, self.idea_id, self.rule_text, self.data_folder,
-                            by=self.by, workers=self.processes,
+                            by=self.by, runner=self.runner,
                             progress=self.report_progress, cancel=self.is_cancelled)
 
 
@@ -154,11 +157,9 @@ def set_curves(rule_text: str, data_folder: str | os.PathLike[str],
                params: dict[str, float]) -> tuple[dict[str, float], Any]:
     """Run one parameter set of a rule file over a data folder; returns ``(params, daily)``
     with ``daily`` the set's daily portfolio P&L (for a results view's curves)."""
-    from hunchbook.api import Study, load_data
-    from hunchbook.core.rules import parse_rules
+    from hunchbook.api import Study
 
-    rules = parse_rules(rule_text)
-    study = Study(rules, load_data(data_folder, list(rules.markets)))
+    study = Study.from_text(rule_text, data_folder)
     result = study.run_set(study.parameter_sets(params)[0])
     return dict(result.params), result.portfolio
 

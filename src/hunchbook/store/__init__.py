@@ -8,32 +8,27 @@ transactions, online backup), :mod:`~hunchbook.store.migrations` (schema version
 :mod:`~hunchbook.store.reviews`, :mod:`~hunchbook.store.search`,
 :mod:`~hunchbook.store.bundles` (and :mod:`~hunchbook.store.bundle_read`),
 :mod:`~hunchbook.store.check`. Most code should use :class:`hunchbook.catalogue.Catalogue`.
+
+The names below are imported on first use, so that reading :mod:`~hunchbook.store.vocab` or
+:mod:`~hunchbook.store.records` does not load SQLite.
 """
 
-from hunchbook.store.errors import CatalogueError
-from hunchbook.store.migrations import SCHEMA_VERSION, open_catalogue_db, schema_version
-from hunchbook.store.records import (
-    Entry,
-    Idea,
-    IdeaSummary,
-    ImportReport,
-    Preregistration,
-    Review,
-    Revision,
-    RunRecord,
-)
+from importlib import import_module
+from typing import Any
 
-__all__ = [
-    "SCHEMA_VERSION",
-    "CatalogueError",
-    "Entry",
-    "Idea",
-    "IdeaSummary",
-    "ImportReport",
-    "Preregistration",
-    "Review",
-    "Revision",
-    "RunRecord",
-    "open_catalogue_db",
-    "schema_version",
-]
+#: Where each name of this package lives.
+_HOMES = {
+    "SCHEMA_VERSION": "migrations", "open_catalogue_db": "migrations",
+    "schema_version": "migrations", "CatalogueError": "errors", "Entry": "records",
+    "Idea": "records", "IdeaSummary": "records", "ImportReport": "records",
+    "Preregistration": "records", "Review": "records", "Revision": "records",
+    "RunRecord": "records",
+}
+
+__all__ = sorted(_HOMES)
+
+
+def __getattr__(name: str) -> Any:
+    if name in _HOMES:
+        return getattr(import_module(f"hunchbook.store.{_HOMES[name]}"), name)
+    raise AttributeError(f"module 'hunchbook.store' has no attribute {name!r}")

@@ -33,13 +33,14 @@ import zipfile
 from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
-
-import pandas as pd
+from typing import TYPE_CHECKING, Any
 
 from hunchbook.store import ideas, pnl, reviews, revisions, runs, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.vocab import DECISIONS, ENTRY_KINDS
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 #: Name and version written in every bundle.
 FORMAT = "hunchbook-idea-bundle"
@@ -348,6 +349,8 @@ def _run(t: _Table, members: dict[str, str], used: set[str],
 
 
 def _pnl_csv(text: str, name: str) -> pd.DataFrame:
+    import pandas as pd
+
     try:
         rows = list(csv.reader(io.StringIO(text)))
     except csv.Error as exc:

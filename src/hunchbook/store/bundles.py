@@ -20,13 +20,11 @@ import zipfile
 from pathlib import Path
 from typing import Any
 
-import tomlkit
-from sqlite_utils import Database
-
 from hunchbook.store import ideas, journal, pnl, preregistration, reviews, revisions, runs
 from hunchbook.store.bundle_read import FORMAT, FORMAT_VERSION, MANIFEST, read_bundle
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import ImportReport
+from hunchbook.store.sqlite_lib import Database
 
 #: Record kinds counted in an :class:`ImportReport`.
 RECORD_KINDS = ("revisions", "preregistrations", "journal", "reviews", "runs")
@@ -93,6 +91,8 @@ def _drop_none(row: dict[str, Any]) -> dict[str, Any]:
 
 
 def _manifest_text(doc: dict[str, Any]) -> str:
+    import tomlkit  # only exports write TOML: imported here, not with the catalogue
+
     out = tomlkit.document()
     out.add(tomlkit.comment("An idea exported from a Hunchbook catalogue. Plain text: rule "
                             "files in rules/, run details and daily P&L in runs/."))
@@ -103,6 +103,8 @@ def _manifest_text(doc: dict[str, Any]) -> str:
 
 def _toml(value: Any) -> Any:
     """Long or multi-line text as TOML multi-line strings, so a bundle reads like a document."""
+    import tomlkit
+
     if isinstance(value, str) and ("\n" in value or len(value) > 80):
         return tomlkit.string(value, multiline=True)
     if isinstance(value, dict):

@@ -5,11 +5,10 @@ from __future__ import annotations
 
 import sqlite3
 
-from sqlite_utils import Database
-
 from hunchbook.store import db as dbmod
 from hunchbook.store import migrations, pnl, revisions, runs
 from hunchbook.store.errors import CatalogueError
+from hunchbook.store.sqlite_lib import Database
 
 
 def problems(db: Database) -> list[str]:

@@ -15,9 +15,8 @@ import time
 from collections.abc import Iterator
 from pathlib import Path
 
-from sqlite_utils import Database
-
 from hunchbook.store.errors import CatalogueError
+from hunchbook.store.sqlite_lib import Database
 
 #: Seconds a connection waits for another process's write lock before giving up.
 BUSY_TIMEOUT_S = 15.0
@@ -58,7 +57,9 @@ def connect(path: str | os.PathLike[str], *, create: bool = True) -> Database:
         conn.close()
         raise CatalogueError(f"could not switch to WAL journalling (got {mode!r})",
                              where=str(path))
-    return Database(conn)
+    # no sqlite-utils plugins: the catalogue needs none, and finding them reads the
+    # metadata of every installed package on each start
+    return Database(conn, execute_plugins=False)
 
 
 def _enable_wal(conn: sqlite3.Connection) -> str:

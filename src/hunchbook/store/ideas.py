@@ -7,11 +7,10 @@ import uuid as uuidlib
 from collections.abc import Mapping
 from typing import Any
 
-from sqlite_utils import Database
-
 from hunchbook.store import journal, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Idea
+from hunchbook.store.sqlite_lib import Database
 from hunchbook.store.vocab import RATIONALE_KINDS, SOURCE_KINDS, STAGES, TRANSITIONS
 
 #: Idea fields a person may edit after creation (the stage moves through ``set_stage``).

@@ -9,11 +9,10 @@ from __future__ import annotations
 import uuid as uuidlib
 from typing import Any
 
-from sqlite_utils import Database
-
 from hunchbook.store import validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Entry
+from hunchbook.store.sqlite_lib import Database
 from hunchbook.store.vocab import ENTRY_KINDS
 
 _SELECT = """SELECT j.id, j.uuid, j.idea_id, j.kind, j.text, j.author, j.at, j.corrects,

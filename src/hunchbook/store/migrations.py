@@ -23,11 +23,9 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from sqlite_utils import Database
-from sqlite_utils.migrations import Migrations
-
 from hunchbook.store import db as dbmod
 from hunchbook.store.errors import CatalogueError
+from hunchbook.store.sqlite_lib import Database, Migrations
 from hunchbook.store.vocab import (
     DECISIONS,
     ENTRY_KINDS,

@@ -9,11 +9,12 @@ from __future__ import annotations
 
 import io
 import zipfile
-
-import numpy as np
-import pandas as pd
+from typing import TYPE_CHECKING
 
 from hunchbook.store.errors import CatalogueError
+
+if TYPE_CHECKING:  # imported where used: listing ideas or writing the journal needs neither
+    import pandas as pd
 
 #: Columns of a daily P&L frame (the index holds the dates).
 PNL_COLUMNS = ("gross_pnl", "cost", "net_pnl")
@@ -26,6 +27,9 @@ def clean(frame: object, field: str = "daily_pnl") -> pd.DataFrame:
 
     Returns a float64 frame with a ``DatetimeIndex`` named ``date`` and exactly those columns.
     """
+    import numpy as np
+    import pandas as pd
+
     if not isinstance(frame, pd.DataFrame):
         raise CatalogueError(f"expected a pandas DataFrame, found {type(frame).__name__}",
                              field=field)
@@ -57,6 +61,8 @@ def clean(frame: object, field: str = "daily_pnl") -> pd.DataFrame:
 
 def encode(frame: pd.DataFrame) -> bytes:
     """Encode a frame checked by :func:`clean` as compressed bytes."""
+    import numpy as np
+
     days = frame.index.to_numpy(dtype="datetime64[D]").astype(np.int64)
     buffer = io.BytesIO()
     np.savez_compressed(buffer, days=days.astype(np.int32),
@@ -66,6 +72,9 @@ def encode(frame: pd.DataFrame) -> bytes:
 
 def decode(blob: bytes) -> pd.DataFrame:
     """Decode bytes written by :func:`encode` back to the frame."""
+    import numpy as np
+    import pandas as pd
+
     try:
         with np.load(io.BytesIO(blob), allow_pickle=False) as archive:
             days = archive["days"].astype("datetime64[D]")

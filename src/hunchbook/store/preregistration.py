@@ -12,10 +12,9 @@ import json
 import uuid as uuidlib
 from typing import Any
 
-from sqlite_utils import Database
-
 from hunchbook.store import journal
 from hunchbook.store.records import Idea, Preregistration, Revision
+from hunchbook.store.sqlite_lib import Database
 
 
 def versions(db: Database, idea_id: int) -> list[Preregistration]:

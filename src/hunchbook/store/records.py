@@ -5,7 +5,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, NamedTuple
 
-import pandas as pd
+if TYPE_CHECKING:
+    import pandas as pd
 
 if TYPE_CHECKING:
     from hunchbook.core.results import RunSummary

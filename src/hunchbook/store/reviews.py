@@ -7,11 +7,10 @@ import uuid as uuidlib
 from collections.abc import Mapping
 from typing import Any
 
-from sqlite_utils import Database
-
 from hunchbook.store import validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Review
+from hunchbook.store.sqlite_lib import Database
 from hunchbook.store.vocab import CHECKLIST, DECISIONS
 
 

@@ -19,11 +19,10 @@ import tomllib
 import uuid as uuidlib
 from typing import Any
 
-from sqlite_utils import Database
-
 from hunchbook.store import validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Revision
+from hunchbook.store.sqlite_lib import Database
 
 #: Top-level keys that describe a rule file without changing what it computes.
 DESCRIPTIVE_KEYS = ("name", "description")

@@ -24,16 +24,18 @@ import math
 import uuid as uuidlib
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
-
-import pandas as pd
-from sqlite_utils import Database
+from typing import TYPE_CHECKING, Any
 
 from hunchbook.core.errors import RecordError
-from hunchbook.core.results import RunSummary
 from hunchbook.store import pnl, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Revision, RunRecord
+from hunchbook.store.sqlite_lib import Database
+
+if TYPE_CHECKING:
+    import pandas as pd
+
+    from hunchbook.core.results import RunSummary
 
 #: Longest verdict label (characters).
 MAX_LABEL = 80
@@ -71,6 +73,8 @@ def clean(*, summary: Any, data_fingerprint: Any, engine_version: Any,
     set's daily P&L (date index; columns ``gross_pnl``, ``cost``, ``net_pnl``). The record is
     stored in three JSON columns: ``statistics``, ``verdict`` and the rest (``summary``).
     """
+    from hunchbook.core.results import RunSummary  # the engine's record: numpy, statistics
+
     if not isinstance(summary, RunSummary):
         raise CatalogueError("expected the run's results record", field="summary")
     sets = [validate.param_set(s, f"sets[{i}].params") for i, s in
@@ -110,6 +114,8 @@ def clean(*, summary: Any, data_fingerprint: Any, engine_version: Any,
 def read_result(data: Any, *, where: str) -> RunSummary:
     """A results record read from plain JSON values (stored or exchanged), or a
     CatalogueError naming ``where`` and the field at fault."""
+    from hunchbook.core.results import RunSummary
+
     try:
         return RunSummary.from_dict(data)
     except RecordError as exc:

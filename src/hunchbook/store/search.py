@@ -8,11 +8,10 @@ import json
 import re
 from typing import Any
 
-from sqlite_utils import Database
-
 from hunchbook.store import validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import IdeaSummary
+from hunchbook.store.sqlite_lib import Database
 from hunchbook.store.vocab import SOURCE_KINDS, STAGES
 
 _COLUMNS = ("id", "uuid", "title", "hypothesis", "stage", "submitted_by", "reviewer",

@@ -11,8 +11,9 @@ import math
 import numpy as np
 
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.core.stats.inputs import as_number, as_series
-from hunchbook.core.stats.sharpe import DAYS_PER_YEAR, sharpe_ratio
+from hunchbook.core.stats.sharpe import sharpe_ratio
 
 #: Default cost multiples tried by :func:`cost_sensitivity`.
 COST_MULTIPLES = (0.5, 1.0, 2.0, 3.0)

@@ -14,6 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.core.plain import json_safe
 from hunchbook.core.stats.costs import (
     COST_MULTIPLES,
@@ -29,7 +30,6 @@ from hunchbook.core.stats.psr import (
     probabilistic_sharpe,
 )
 from hunchbook.core.stats.sharpe import (
-    DAYS_PER_YEAR,
     moments,
     newey_west_lags,
     newey_west_t,

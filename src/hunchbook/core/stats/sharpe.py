@@ -12,10 +12,8 @@ import math
 
 import numpy as np
 
+from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.core.stats.inputs import as_count, as_number, as_series
-
-#: Trading days per year used to annualise (same as hunchbook.core.metrics).
-DAYS_PER_YEAR = 252
 
 
 def sharpe_ratio(x: np.ndarray, periods: int = DAYS_PER_YEAR) -> float:
