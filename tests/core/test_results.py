@@ -13,6 +13,7 @@ import pytest
 from hunchbook.api import Study, load_data, load_rules
 from hunchbook.core.errors import RecordError
 from hunchbook.core.results import SCHEMA, RunSummary
+from hunchbook.core.runners import InProcess
 from tests.reference_impl import TWO_MARKET_LIBRARY, random_contract_rows
 
 RULES = """
@@ -41,7 +42,7 @@ def run(tmp_path_factory) -> tuple[RunSummary, pd.DataFrame]:
     (folder / "rules.toml").write_text(RULES)
     rules = load_rules(folder / "rules.toml")
     study = Study(rules, load_data(folder))
-    report = study.sweep(spa_reps=50, workers=1)
+    report = study.sweep(spa_reps=50, runner=InProcess())
     chosen = study.run_set(report.sets[report.chosen])
     return (report.summarise(chosen, currency="USD", data_folder=str(folder)),
             chosen.portfolio)
