@@ -388,6 +388,7 @@ class MainWindow(QMainWindow):
             self.save_layout()
         QThreadPool.globalInstance().waitForDone(10_000)
         if self.catalogue is not None:
-            self.catalogue.close()
-            self.catalogue = None
+            catalogue, self.catalogue = self.catalogue, None
+            self._hand_out_context()  # the sections let go of the catalogue before it closes
+            catalogue.close()
         super().closeEvent(event)
