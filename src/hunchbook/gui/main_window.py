@@ -199,6 +199,7 @@ class MainWindow(QMainWindow):
         except HunchbookError as exc:
             self.show_error("Cannot open the catalogue", one_line(exc))
             return False
+        self.save_sections()  # pending edits go to the catalogue they belong to
         old, self.catalogue = self.catalogue, catalogue
         self._hand_out_context()  # the sections leave the old catalogue's idea first
         if old is not None:

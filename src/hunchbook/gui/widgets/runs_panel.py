@@ -97,8 +97,8 @@ class RunsPanel(IdeaSection):
         layout.addWidget(self.splitter)
         self.show_idea(None)
 
-    def show_idea(self, idea_id: int | None, *, run_id: int | None = None) -> None:
-        """List an idea's runs and show one (``run_id``, else the newest)."""
+    def show_idea(self, idea_id: int | None) -> None:
+        """List an idea's runs and show the newest."""
         self.idea_id = idea_id
         runs = [] if idea_id is None or self.catalogue is None else self.catalogue.runs(idea_id)
         self._title = (self.catalogue.idea(idea_id).title
@@ -116,8 +116,7 @@ class RunsPanel(IdeaSection):
             self._run = None
             self.results.clear()
             return
-        wanted = run_id if run_id is not None else max(r.id for r in runs)
-        self.select_run(wanted)
+        self.select_run(max(r.id for r in runs))
 
     def select_run(self, run_id: int) -> bool:
         """Choose a run in the history (its results are shown)."""
