@@ -225,6 +225,7 @@ def test_quick_run_works_off_the_ui_thread_while_the_ui_keeps_turning(qtbot, win
 
     ui_thread = threading.get_ident()
     threads: dict[str, int] = {}
+    first_report: list[tuple[int, int]] = []
     mid_sweep, ui_turned = threading.Event(), threading.Event()
     ticks_mid_sweep: list[int] = []
     real_run_idea = services.run_idea
@@ -235,7 +236,7 @@ def test_quick_run_works_off_the_ui_thread_while_the_ui_keeps_turning(qtbot, win
         def report(done: int, total: int) -> None:
             if not mid_sweep.is_set():
                 threads["progress"] = threading.get_ident()
-                assert 0 < done < total  # the sweep has begun and is not over
+                first_report.append((done, total))
                 mid_sweep.set()
                 ui_turned.wait(60)
             progress(done, total)
@@ -260,6 +261,8 @@ def test_quick_run_works_off_the_ui_thread_while_the_ui_keeps_turning(qtbot, win
             assert window.runner.start() is not None
     finally:
         timer.stop()
+    [(done, total)] = first_report
+    assert 0 < done < total  # the worker waited with the sweep begun and not over
     assert ui_turned.is_set()
     assert len(ticks_mid_sweep) >= 3
     assert set(threads) == {"run_idea", "progress"}
