@@ -4,19 +4,21 @@ drops, exports, settings and the screenshot option."""
 
 from __future__ import annotations
 
-import time
+import threading
 from pathlib import Path
 
 import pandas as pd
 import pytest
-from PySide6.QtCore import QMimeData, QPointF, Qt, QTimer, QUrl
-from PySide6.QtGui import QDropEvent
+from PySide6.QtCore import QMimeData, QPoint, QPointF, Qt, QTimer, QUrl
+from PySide6.QtGui import QDragEnterEvent, QDropEvent
 from PySide6.QtWidgets import QApplication, QDialogButtonBox, QMessageBox
 
 from hunchbook.catalogue import CHECKLIST, Catalogue
 from hunchbook.gui import feedback
-from hunchbook.gui.main_window import MainWindow, NewIdeaDialog, classify_drop
+from hunchbook.gui.drops import classify_drop
+from hunchbook.gui.main_window import MainWindow
 from hunchbook.gui.models import ID_ROLE, IdeaTableModel, verdict_label
+from hunchbook.gui.widgets.new_idea import NewIdeaDialog
 from tests.gui.desk_fixtures import (
     ACCEPTED_TITLE,
     SUBMITTED_TITLE,
@@ -26,11 +28,6 @@ from tests.gui.desk_fixtures import (
     open_window,
     short_demo_data,
 )
-
-#: Longest UI-thread stall allowed during a run. The goal is 100 ms; the tests run on a
-#: shared two-core machine where another process may take the core for a moment, so a stall
-#: of up to 100 ms plus 50 ms of slack passes (the measured figure is printed on failure).
-MAX_STALL_S = 0.100 + 0.050
 
 MANY_SETS = """name = "Long sweep to cancel"
 markets = ["TNOTE10", "EQIDX", "GOLD", "CRUDE"]
@@ -79,7 +76,7 @@ def _row_cells(win: MainWindow, idea_id: int) -> dict[int, str]:
 
 def _type_into_rules(qtbot, win: MainWindow, anchor: str, typed: str) -> None:
     """Put the cursor right after ``anchor`` in the rule text and type ``typed``."""
-    edit = win.rule_editor.text_edit
+    edit = win.rules.editor.text_edit
     cursor = edit.textCursor()
     cursor.setPosition(edit.toPlainText().index(anchor) + len(anchor))
     edit.setTextCursor(cursor)
@@ -112,7 +109,7 @@ def test_new_idea_through_the_dialog(qtbot, window):
     assert (idea.title, idea.stage, idea.submitted_by) == ("Grain basis carry", "draft",
                                                           "Test Reviewer")
     assert window.current_section() == "idea"
-    assert window.idea_form.title.text() == "Grain basis carry"
+    assert window.section("idea").title.text() == "Grain basis carry"
     assert _row_cells(window, idea_id)[IdeaTableModel.STAGE] == "draft"
 
 
@@ -122,16 +119,16 @@ def test_rule_error_is_shown_and_blocks_the_run_until_fixed(qtbot, window):
     window.select_idea(idea_id_by_title(window, ACCEPTED_TITLE))
     window.show_section("rules")
     _type_into_rules(qtbot, window, 'position = "', "nope(close) + ")
-    qtbot.waitUntil(lambda: "Rule error" in window.rule_status.text(), timeout=5000)
-    assert "nope" in window.rule_status.text()
-    assert "\u26a0" in window.sections.tabText(1)
-    assert window.quick_run() is None
+    qtbot.waitUntil(lambda: "Rule error" in window.rules.status.text(), timeout=5000)
+    assert "nope" in window.rules.status.text()
+    assert "\u26a0" in window.tabs.tabText(1)
+    assert window.quick_run.start() is None
     assert "nope" in window.last_error
     assert any("nope" in t for t in _close_error_dialogs(window))
     for _ in "nope(close) + ":
-        qtbot.keyClick(window.rule_editor.text_edit, Qt.Key.Key_Backspace)
-    qtbot.waitUntil(lambda: window.rule_status.text() == "", timeout=5000)
-    assert window.sections.tabText(1) == "Rules"
+        qtbot.keyClick(window.rules.editor.text_edit, Qt.Key.Key_Backspace)
+    qtbot.waitUntil(lambda: window.rules.status.text() == "", timeout=5000)
+    assert window.tabs.tabText(1) == "Rules"
 
 
 def test_quick_run_shows_the_verdict_everywhere(qtbot, window, demo_catalogue):
@@ -140,14 +137,15 @@ def test_quick_run_shows_the_verdict_everywhere(qtbot, window, demo_catalogue):
     idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
     window.select_idea(idea_id)
     window.show_section("rules")
-    assert window.quick_run_action.shortcut().toString() == "Ctrl+R"
-    with qtbot.waitSignal(window.run_started, timeout=5000):
-        window.quick_run_action.trigger()
-    assert window.progress.isVisible() and window.cancel_button.isVisible()
-    with qtbot.waitSignal(window.run_finished, timeout=60000) as blocker:
+    assert window.quick_run.run_action.shortcut().toString() == "Ctrl+R"
+    with qtbot.waitSignal(window.quick_run.started, timeout=5000):
+        window.quick_run.run_action.trigger()
+    assert window.quick_run.progress.isVisible() and window.quick_run.cancel_button.isVisible()
+    with qtbot.waitSignal(window.quick_run.finished, timeout=60000) as blocker:
         pass
     run_id = blocker.args[0]
-    assert not window.progress.isVisible() and not window.cancel_button.isVisible()
+    run = window.quick_run
+    assert not run.progress.isVisible() and not run.cancel_button.isVisible()
 
     with Catalogue(demo_catalogue) as cat:  # the store, read on its own connection
         runs = cat.runs(idea_id)
@@ -159,7 +157,7 @@ def test_quick_run_shows_the_verdict_everywhere(qtbot, window, demo_catalogue):
     assert label == verdict_label(stored.result.verdict.outcome)
 
     assert window.current_section() == "runs"
-    panel = window.runs_panel
+    panel = window.runs
     assert panel.current_run().id == run_id
     assert panel.results.banner.label.text() == label
     assert panel.model.index(0, panel.model.VERDICT).data() == label
@@ -174,8 +172,8 @@ def test_quick_run_refused_for_a_draft_with_a_clear_message(qtbot, window):
     """A draft idea is not run: one clear line in an error dialog, nothing started."""
     draft = next(i.id for i in window.catalogue.list_ideas(stage="draft"))
     window.select_idea(draft)
-    with qtbot.assertNotEmitted(window.run_started):
-        assert window.quick_run() is None
+    with qtbot.assertNotEmitted(window.quick_run.started):
+        assert window.quick_run.start() is None
     assert "'draft'" in window.last_error
     assert "\n" not in window.last_error
     assert _close_error_dialogs(window)
@@ -186,12 +184,12 @@ def test_run_failure_shows_one_line_and_records_nothing(qtbot, window, tmp_path)
     idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
     window.select_idea(idea_id)
     window.set_data_folder(tmp_path)
-    with qtbot.waitSignal(window.run_failed, timeout=60000) as blocker:
-        window.quick_run()
+    with qtbot.waitSignal(window.quick_run.failed, timeout=60000) as blocker:
+        window.quick_run.start()
     assert "\n" not in blocker.args[0]
     assert _close_error_dialogs(window) == [blocker.args[0]]
     assert window.catalogue.runs(idea_id) == []
-    assert window.quick_run_action.isEnabled()
+    assert window.quick_run.run_action.isEnabled()
 
 
 def test_cancelled_sweep_records_nothing_and_the_window_stays_usable(qtbot, window,
@@ -200,40 +198,77 @@ def test_cancelled_sweep_records_nothing_and_the_window_stays_usable(qtbot, wind
     progress bar goes away, and a following run works."""
     idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
     window.select_idea(idea_id)
-    window.rule_editor.set_text(MANY_SETS)
-    with qtbot.waitSignal(window.run_cancelled, timeout=60000):
-        assert window.quick_run() is not None
-        qtbot.mouseClick(window.cancel_button, Qt.MouseButton.LeftButton)
+    window.rules.editor.set_text(MANY_SETS)
+    with qtbot.waitSignal(window.quick_run.cancelled, timeout=60000):
+        assert window.quick_run.start() is not None
+        qtbot.mouseClick(window.quick_run.cancel_button, Qt.MouseButton.LeftButton)
     assert window.catalogue.runs(idea_id) == []
     assert window.catalogue.revisions(idea_id) == []
     assert window.catalogue.idea(idea_id).stage == "accepted"
-    assert not window.is_running() and not window.progress.isVisible()
-    assert window.quick_run_action.isEnabled()
+    assert not window.quick_run.is_running() and not window.quick_run.progress.isVisible()
+    assert window.quick_run.run_action.isEnabled()
     assert "cancelled" in window.statusBar().currentMessage()
 
-    window.rule_editor.set_text(MANY_SETS.replace("stop = 400", "stop = 7"))
-    with qtbot.waitSignal(window.run_finished, timeout=60000) as blocker:
-        window.quick_run()
+    window.rules.editor.set_text(MANY_SETS.replace("stop = 400", "stop = 7"))
+    with qtbot.waitSignal(window.quick_run.finished, timeout=60000) as blocker:
+        window.quick_run.start()
     assert [r.id for r in window.catalogue.runs(idea_id)] == [blocker.args[0]]
 
 
-def test_ui_thread_never_stalls_during_a_run(qtbot, window):
-    """A QTimer ticking every 10 ms on the UI thread while a 447-set sweep over eight markets
-    runs in the worker thread (the worst case: no worker processes): no gap between ticks
-    exceeds the allowed stall."""
-    window.select_idea(idea_id_by_title(window, ACCEPTED_TITLE))
-    window.rule_editor.set_text(HEAVY_RULES)
-    ticks: list[float] = []
+def test_quick_run_works_off_the_ui_thread_while_the_ui_keeps_turning(qtbot, window,
+                                                                        monkeypatch):
+    """The run (``run_idea`` and its sweep's progress reports) happens on a worker thread,
+    never on the UI thread; and in the middle of the sweep, at its first progress report, the
+    worker waits until a UI timer has fired three times, which only happens when the UI event
+    loop keeps turning during the run. No clock is read: a slow machine makes this slower, not
+    red (the UI-thread gap in milliseconds is measured by benchmarks/ui_stall.py)."""
+    from hunchbook import services
+
+    ui_thread = threading.get_ident()
+    threads: dict[str, int] = {}
+    first_report: list[tuple[int, int]] = []
+    mid_sweep, ui_turned = threading.Event(), threading.Event()
+    ticks_mid_sweep: list[int] = []
+    real_run_idea = services.run_idea
+
+    def run_idea(*args, progress, **kwargs):
+        threads["run_idea"] = threading.get_ident()
+
+        def report(done: int, total: int) -> None:
+            if not mid_sweep.is_set():
+                threads["progress"] = threading.get_ident()
+                first_report.append((done, total))
+                mid_sweep.set()
+                ui_turned.wait(60)
+            progress(done, total)
+
+        return real_run_idea(*args, progress=report, **kwargs)
+
+    def tick() -> None:
+        if mid_sweep.is_set():
+            ticks_mid_sweep.append(1)
+            if len(ticks_mid_sweep) >= 3:
+                ui_turned.set()
+
+    monkeypatch.setattr(services, "run_idea", run_idea)
+    idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
+    window.select_idea(idea_id)
+    window.rules.editor.set_text(MANY_SETS.replace("stop = 400", "stop = 40"))
     timer = QTimer(window, interval=10)
-    timer.timeout.connect(lambda: ticks.append(time.perf_counter()))
+    timer.timeout.connect(tick)
     timer.start()
-    with qtbot.waitSignal(window.run_finished, timeout=120000):
-        assert window.quick_run() is not None
-    timer.stop()
-    gaps = [b - a for a, b in zip(ticks, ticks[1:], strict=False)]
-    print(f"{len(gaps)} gaps, longest {max(gaps) * 1000:.1f} ms")
-    assert len(gaps) > 20, "the run was too short to measure"
-    assert max(gaps) < MAX_STALL_S, f"longest UI-thread gap {max(gaps) * 1000:.0f} ms"
+    try:
+        with qtbot.waitSignal(window.quick_run.finished, timeout=120000) as blocker:
+            assert window.quick_run.start() is not None
+    finally:
+        timer.stop()
+    [(done, total)] = first_report
+    assert 0 < done < total  # the worker waited with the sweep begun and not over
+    assert ui_turned.is_set()
+    assert len(ticks_mid_sweep) >= 3
+    assert set(threads) == {"run_idea", "progress"}
+    assert ui_thread not in threads.values()
+    assert [r.id for r in window.catalogue.runs(idea_id)] == [blocker.args[0]]
 
 
 def test_search_and_filters_narrow_the_table(qtbot, window):
@@ -272,7 +307,7 @@ def test_idea_form_autosaves_and_journals_the_edit(qtbot, window):
     """Typing in the hypothesis saves after a pause through update_idea (journalled)."""
     idea_id = idea_id_by_title(window, SUBMITTED_TITLE)
     window.select_idea(idea_id)
-    edit = window.idea_form.hypothesis
+    edit = window.section("idea").hypothesis
     edit.setFocus()
     edit.end(False)
     qtbot.keyClicks(edit, " Mostly in winter.")
@@ -286,7 +321,7 @@ def test_frozen_fields_are_read_only_and_amended_with_a_reason(qtbot, window):
     new pre-registration version."""
     idea_id = idea_id_by_title(window, TESTED_TITLE)
     window.select_idea(idea_id)
-    form = window.idea_form
+    form = window.section("idea")
     assert form.rationale.isReadOnly() and not form.markets.isEnabled()
     assert form.amend.isVisible() and "frozen" in form.frozen_note.text()
     versions = len(window.catalogue.preregistrations(idea_id))
@@ -303,7 +338,7 @@ def test_review_accepts_a_submitted_idea(qtbot, window):
     idea_id = idea_id_by_title(window, SUBMITTED_TITLE)
     window.select_idea(idea_id)
     window.show_section("review")
-    panel = window.review_panel
+    panel = window.section("review")
     assert panel.form.isVisible() and not panel.accept_button.isEnabled()
     for key in CHECKLIST:
         panel.checks[key].setChecked(True)
@@ -322,7 +357,7 @@ def test_journal_note_and_confirmed_shelving(qtbot, window, monkeypatch):
     idea_id = idea_id_by_title(window, SUBMITTED_TITLE)
     window.select_idea(idea_id)
     window.show_section("journal")
-    panel = window.journal_panel
+    panel = window.section("journal")
     qtbot.keyClicks(panel.note, "Checked the inventory data source.")
     qtbot.mouseClick(panel.add, Qt.MouseButton.LeftButton)
     assert window.catalogue.journal(idea_id)[-1].text == "Checked the inventory data source."
@@ -351,7 +386,7 @@ def test_save_rules_makes_a_new_revision(qtbot, window):
     window.save_rules_action.trigger()
     revisions = window.catalogue.revisions(idea_id)
     assert len(revisions) == before + 1
-    assert revisions[-1].text == window.rule_editor.text()
+    assert revisions[-1].text == window.rules.editor.text()
     assert f"revision {revisions[-1].number}" in window.statusBar().currentMessage()
 
 
@@ -371,13 +406,16 @@ def test_dropped_files_go_where_they_belong(qtbot, window, short_data, tmp_path)
     window.set_data_folder(None)
     mime = QMimeData()
     mime.setUrls([QUrl.fromLocalFile(str(rules)), QUrl.fromLocalFile(str(short_data / "GOLD.csv"))])
-    event = QDropEvent(QPointF(300, 300), Qt.DropAction.CopyAction, mime,
-                       Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier)
-    window.dropEvent(event)
-    assert window.rule_editor.text() == HEAVY_RULES
+    point, action = QPoint(300, 300), Qt.DropAction.CopyAction
+    buttons, keys = Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier
+    enter = QDragEnterEvent(point, action, mime, buttons, keys)
+    QApplication.sendEvent(window, enter)  # the drag comes over the window: it is taken
+    assert enter.isAccepted()
+    QApplication.sendEvent(window, QDropEvent(QPointF(point), action, mime, buttons, keys))
+    assert window.rules.editor.text() == HEAVY_RULES
     assert window.current_section() == "rules"
     assert window.data_folder == short_data
-    window.handle_dropped_paths([other])
+    window.drops.handle([other])
     assert "not a rule file" in window.statusBar().currentMessage()
 
 
@@ -387,14 +425,14 @@ def test_bundle_export_and_confirmed_import(qtbot, window, tmp_path, monkeypatch
     idea_id = idea_id_by_title(window, TESTED_TITLE)
     window.select_idea(idea_id)
     bundle = tmp_path / "idea.zip"
-    assert window.export_bundle(bundle)
+    assert window.exports.export_bundle(bundle)
     runs = len(window.catalogue.runs(idea_id))
     assert window.open_catalogue(tmp_path / "other.sqlite")
     monkeypatch.setattr(feedback, "confirm", lambda *args: False)
-    window.handle_dropped_paths([bundle])
+    window.drops.handle([bundle])
     assert window.catalogue.list_ideas() == []
     monkeypatch.setattr(feedback, "confirm", lambda *args: True)
-    window.handle_dropped_paths([bundle])
+    window.drops.handle([bundle])
     [imported] = window.catalogue.list_ideas()
     assert imported.title == TESTED_TITLE
     assert len(window.catalogue.runs(imported.id)) == runs
@@ -407,13 +445,13 @@ def test_pnl_csv_and_report_exports(qtbot, window, tmp_path):
     idea_id = idea_id_by_title(window, TESTED_TITLE)
     window.select_idea(idea_id)
     window.show_section("runs")
-    run = window.runs_panel.current_run()
-    assert window.export_pnl_csv(tmp_path / "pnl.csv")
+    run = window.runs.current_run()
+    assert window.exports.export_pnl_csv(tmp_path / "pnl.csv")
     back = pd.read_csv(tmp_path / "pnl.csv", index_col="date", parse_dates=True)
     assert list(back.columns) == ["gross_pnl", "cost", "net_pnl"]
     assert len(back) == len(run.daily_pnl)
     assert back["net_pnl"].sum() == pytest.approx(run.daily_pnl["net_pnl"].sum())
-    assert window.export_report(tmp_path / "report.html")
+    assert window.exports.export_report(tmp_path / "report.html")
     html = (tmp_path / "report.html").read_text(encoding="utf-8")
     assert run.result.verdict.label in html
 
@@ -424,10 +462,10 @@ def test_heatmap_cell_shows_that_sets_curves(qtbot, window):
     idea_id = idea_id_by_title(window, "Rates trend, traded slowly")
     window.select_idea(idea_id)
     window.show_section("runs")
-    run = window.runs_panel.current_run()
+    run = window.runs.current_run()
     params = dict(run.parameter_sets[0])
-    with qtbot.waitSignal(window.curves_shown, timeout=30000) as blocker:
-        window.runs_panel.results.set_requested.emit(params)
+    with qtbot.waitSignal(window.runs.curves_shown, timeout=30000) as blocker:
+        window.runs.results.set_requested.emit(params)
     assert blocker.args == [params]
 
 

@@ -7,7 +7,6 @@ from __future__ import annotations
 
 import datetime as dt
 import os
-from importlib import resources
 from pathlib import Path
 
 import numpy as np
@@ -27,6 +26,7 @@ from hunchbook.demo.prices import (
     spot_path,
 )
 from hunchbook.demo.profiles import PROFILES, MarketProfile
+from hunchbook.resources import read_resource
 
 #: Default seed of the demo data.
 DEFAULT_SEED = 20261201
@@ -37,8 +37,10 @@ DEFAULT_END = "2025-12-31"
 #: Columns of every demo CSV, in file order.
 CSV_COLUMNS = ("date", "contract", "expiry", "open", "high", "low", "close", "volume",
                "open_interest")
-#: Name of the market library file (package data, copied into the data folder).
+#: Name of the market library file in a data folder.
 LIBRARY_FILE = "markets.toml"
+#: The invented market library among the application's resources (see hunchbook.resources).
+LIBRARY_RESOURCE = "demo/markets.toml"
 #: Name of the note that labels the data folder as invented.
 NOTE_FILE = "INVENTED_DATA.txt"
 #: Calendar days of business-day calendar kept before the window (for early expiries) and
@@ -47,13 +49,13 @@ _CALENDAR_MARGIN = (np.timedelta64(120, "D"), np.timedelta64(500, "D"))
 
 
 def market_library_text() -> str:
-    """The text of the packaged invented market library (``markets.toml``)."""
-    return resources.files("hunchbook.demo").joinpath(LIBRARY_FILE).read_text(encoding="utf-8")
+    """The text of the invented market library (``resources/demo/markets.toml``)."""
+    return read_resource(LIBRARY_RESOURCE)
 
 
 def demo_market_library() -> dict[str, MarketSpec]:
-    """The packaged invented market library, parsed."""
-    return parse_market_library(market_library_text(), file=f"hunchbook/demo/{LIBRARY_FILE}")
+    """The invented market library, parsed."""
+    return parse_market_library(market_library_text(), file=f"resources/{LIBRARY_RESOURCE}")
 
 
 def demo_frames(*, seed: int = DEFAULT_SEED, start: str = DEFAULT_START,
@@ -93,7 +95,7 @@ def write_demo_data(folder: str | os.PathLike[str], *, seed: int = DEFAULT_SEED,
                     start: str = DEFAULT_START, end: str = DEFAULT_END) -> Path:
     """Write the invented demo data folder.
 
-    Writes ``markets.toml`` (the packaged market library), ``INVENTED_DATA.txt`` (a note saying
+    Writes ``markets.toml`` (the invented market library), ``INVENTED_DATA.txt`` (a note saying
     the data is invented) and one ``<MARKET>.csv`` per demo market into ``folder``, creating it
     if needed and replacing files of the same names.
 

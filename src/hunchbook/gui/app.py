@@ -38,7 +38,8 @@ from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication
 
 from hunchbook.gui.feedback import USER_ENV, install_excepthook
-from hunchbook.gui.main_window import SECTIONS, MainWindow
+from hunchbook.gui.main_window import MainWindow
+from hunchbook.gui.sections.registry import section_names
 from hunchbook.gui.workers import CallWorker
 
 #: Longest wait for the demo data before a screenshot is taken (ms).
@@ -85,7 +86,7 @@ def parse_args(argv: Sequence[str] | None = None) -> argparse.Namespace:
     parser.add_argument("--screenshot", type=Path, metavar="PATH",
                         help="save the window as PNG after loading, then exit")
     parser.add_argument("--idea", type=int, help="idea to show (with --screenshot or not)")
-    parser.add_argument("--section", choices=SECTIONS, help="section to show")
+    parser.add_argument("--section", choices=section_names(), help="section to show")
     parser.add_argument("--size", type=_size, metavar="WxH", help="window size, e.g. 1400x900")
     return parser.parse_args(list(argv) if argv is not None else None)
 

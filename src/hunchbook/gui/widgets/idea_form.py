@@ -30,9 +30,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.feedback import one_line
+from hunchbook.gui.sections.base import IdeaSection, SectionContext
 from hunchbook.store.records import Idea
 from hunchbook.store.vocab import RATIONALE_KINDS, SOURCE_KINDS
 
@@ -119,26 +119,21 @@ class AmendDialog(QDialog):
         return {"rationale": self.rationale.toPlainText(), "markets": self.markets.chosen()}
 
 
-class IdeaForm(QScrollArea):
-    """Title, hypothesis, rationale and its kind, source, submitted by, markets and tags.
+class IdeaForm(IdeaSection):
+    """The Idea section: title, hypothesis, rationale and its kind, source, submitted by,
+    markets and tags, in a scroll area; ``idea_changed`` follows each saved edit."""
 
-    Signals
-    -------
-    idea_saved(int)
-        An edit of the idea was saved.
-    message(str)
-        A line for the status bar.
-    """
-
-    idea_saved = Signal(int)
-    message = Signal(str)
+    key = "idea"
+    tab_title = "Idea"
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self.setWidgetResizable(True)
-        self.setFrameShape(QFrame.Shape.NoFrame)
-        self._catalogue: Catalogue | None = None
-        self._user = ""
+        self.scroll = QScrollArea(self)
+        self.scroll.setWidgetResizable(True)
+        self.scroll.setFrameShape(QFrame.Shape.NoFrame)
+        outer = QVBoxLayout(self)
+        outer.setContentsMargins(0, 0, 0, 0)
+        outer.addWidget(self.scroll)
         self._idea: Idea | None = None
         self._library: list[str] = []
         self._timer = QTimer(self, singleShot=True, interval=AUTOSAVE_DELAY_MS)
@@ -197,7 +192,7 @@ class IdeaForm(QScrollArea):
         layout.addLayout(form)
         layout.addWidget(self.saved_label)
         layout.addStretch(1)
-        self.setWidget(body)
+        self.scroll.setWidget(body)
 
         for edit in (self.title, self.hypothesis, self.citation, self.link, self.tags):
             edit.textEdited.connect(self._edited)
@@ -208,11 +203,12 @@ class IdeaForm(QScrollArea):
         self._set_enabled(False)
 
     # -- public API -----------------------------------------------------------------------
-    def set_context(self, catalogue: Catalogue | None, user: str) -> None:
-        """The catalogue edits are saved to and the name they are saved under."""
-        self.save_now()
-        self._catalogue, self._user, self._idea = catalogue, user, None
-        self._set_enabled(False)
+    def set_context(self, context: SectionContext) -> None:
+        """As the base; the markets are picked from the data folder's market library."""
+        markets_changed = context.markets != self.context.markets
+        super().set_context(context)
+        if markets_changed:
+            self.set_market_choices(context.markets)
 
     def set_market_choices(self, symbols: Iterable[str]) -> None:
         """The market library the markets are picked from."""
@@ -223,11 +219,12 @@ class IdeaForm(QScrollArea):
     def show_idea(self, idea_id: int | None) -> None:
         """Show an idea (saving pending edits of the previous one first); None clears."""
         self.save_now()
-        if idea_id is None or self._catalogue is None:
+        self.idea_id = idea_id
+        if idea_id is None or self.catalogue is None:
             self._idea = None
             self._set_enabled(False)
             return
-        self._fill(self._catalogue.idea(idea_id))
+        self._fill(self.catalogue.idea(idea_id))
 
     def idea(self) -> Idea | None:
         """The idea shown, as last saved."""
@@ -240,13 +237,13 @@ class IdeaForm(QScrollArea):
     def save_now(self) -> bool:
         """Save pending edits now; True when nothing is left unsaved."""
         self._timer.stop()
-        if self._idea is None or self._catalogue is None:
+        if self._idea is None or self.catalogue is None:
             return True
         changes = self._changes()
         if not changes:
             return True
         try:
-            idea = self._catalogue.update_idea(self._idea.id, by=self._user, **changes)
+            idea = self.catalogue.update_idea(self._idea.id, by=self.context.user, **changes)
         except HunchbookError as exc:
             self.saved_label.setText(f"Not saved: {one_line(exc)}")
             self.message.emit(f"Idea not saved: {one_line(exc)}")
@@ -254,7 +251,7 @@ class IdeaForm(QScrollArea):
         self._idea = idea
         self._show_frozen(idea)
         self.saved_label.setText(f"Saved at {QTime.currentTime().toString('HH:mm:ss')}.")
-        self.idea_saved.emit(idea.id)
+        self.idea_changed.emit(idea.id)
         return True
 
     def open_amend_dialog(self) -> AmendDialog | None:
@@ -269,17 +266,17 @@ class IdeaForm(QScrollArea):
 
     def amend_frozen(self, reason: str, **changes: Any) -> bool:
         """Change frozen fields with a reason (a new pre-registration version)."""
-        if self._idea is None or self._catalogue is None:
+        if self._idea is None or self.catalogue is None:
             return False
         try:
-            idea = self._catalogue.update_idea(self._idea.id, by=self._user, reason=reason,
+            idea = self.catalogue.update_idea(self._idea.id, by=self.context.user, reason=reason,
                                                **changes)
         except HunchbookError as exc:
             self.message.emit(f"Not amended: {one_line(exc)}")
             return False
         self._fill(idea)
         self.message.emit("Pre-registration amended; the reason is in the journal.")
-        self.idea_saved.emit(idea.id)
+        self.idea_changed.emit(idea.id)
         return True
 
     # -- internals ------------------------------------------------------------------------

@@ -2,9 +2,7 @@
 
 from __future__ import annotations
 
-from collections.abc import Callable
-
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
@@ -20,42 +18,26 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.models import JournalModel
+from hunchbook.gui.sections.base import IdeaSection
 from hunchbook.store.vocab import TRANSITIONS
 
 #: Stage changes that need a confirmation (they put an idea away).
 DESTRUCTIVE_STAGES = ("shelved",)
 
 
-class JournalPanel(QWidget):
-    """Timeline of one idea's journal, with "Add note" and "Change stage".
+class JournalPanel(IdeaSection):
+    """The Journal section: timeline of one idea's journal, with "Add note" and "Change
+    stage" (shelving asks the context's ``confirm`` first); ``idea_changed`` follows each
+    entry written."""
 
-    Parameters
-    ----------
-    confirm
-        Asks a yes/no question before a destructive stage change (shelving).
+    key = "journal"
+    tab_title = "Journal"
 
-    Signals
-    -------
-    idea_changed(int)
-        The idea's journal or stage changed.
-    message(str)
-        A line for the status bar.
-    """
-
-    idea_changed = Signal(int)
-    message = Signal(str)
-
-    def __init__(self, confirm: Callable[[str, str], bool],
-                 parent: QWidget | None = None) -> None:
+    def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self._confirm = confirm
-        self._catalogue: Catalogue | None = None
-        self._user = ""
-        self._idea_id: int | None = None
         self.model = JournalModel(self)
         self.table = QTableView(self)
         self.table.setObjectName("journalTable")
@@ -115,23 +97,18 @@ class JournalPanel(QWidget):
         layout.addWidget(stages)
         self.setEnabled(False)
 
-    def set_context(self, catalogue: Catalogue | None, user: str) -> None:
-        """The catalogue written to and the name entries are written under."""
-        self._catalogue, self._user = catalogue, user
-        self.show_idea(None)
-
     def show_idea(self, idea_id: int | None) -> None:
         """Show an idea's journal and the stages it may move to (None clears)."""
-        self._idea_id = idea_id
-        if idea_id is None or self._catalogue is None:
+        self.idea_id = idea_id
+        if idea_id is None or self.catalogue is None:
             self.model.set_entries([])
             self.setEnabled(False)
             return
         self.setEnabled(True)
-        self.model.set_entries(self._catalogue.journal(idea_id))
+        self.model.set_entries(self.catalogue.journal(idea_id))
         self.table.resizeRowsToContents()
         self.table.scrollToBottom()
-        stage = self._catalogue.idea(idea_id).stage
+        stage = self.catalogue.idea(idea_id).stage
         self.current_stage.setText(f"Now <b>{stage}</b>")
         self.stage.clear()
         for target in TRANSITIONS[stage]:
@@ -143,44 +120,44 @@ class JournalPanel(QWidget):
     def add_note(self) -> bool:
         """Append the note box's text as a note or decision."""
         text = self.note.toPlainText().strip()
-        if self._idea_id is None or self._catalogue is None:
+        if self.idea_id is None or self.catalogue is None:
             return False
         if not text:
             self.message.emit("Write the note first.")
             return False
         try:
-            self._catalogue.add_entry(idea_id=self._idea_id, kind=self.decision.currentData(),
-                                      text=text, by=self._user)
+            self.catalogue.add_entry(idea_id=self.idea_id, kind=self.decision.currentData(),
+                                      text=text, by=self.context.user)
         except HunchbookError as exc:
             self.message.emit(f"Note not added: {one_line(exc)}")
             return False
         self.note.clear()
-        self.show_idea(self._idea_id)
+        self.show_idea(self.idea_id)
         self.message.emit("Added to the journal.")
-        self.idea_changed.emit(self._idea_id)
+        self.idea_changed.emit(self.idea_id)
         return True
 
     def change_stage(self) -> bool:
         """Move the idea to the chosen stage with the reason given (confirming shelving)."""
         target = self.stage.currentData()
         reason = self.reason.text().strip()
-        if self._idea_id is None or self._catalogue is None or target is None:
+        if self.idea_id is None or self.catalogue is None or target is None:
             return False
         if not reason:
             self.message.emit("Give a reason for the stage change.")
             self.reason.setFocus(Qt.FocusReason.OtherFocusReason)
             return False
-        if target in DESTRUCTIVE_STAGES and not self._confirm(
+        if target in DESTRUCTIVE_STAGES and not self.context.confirm(
                 "Shelve the idea?", "Shelve this idea? It leaves the active pipeline (it can "
                 "be brought back as a draft later)."):
             return False
         try:
-            self._catalogue.set_stage(self._idea_id, target, by=self._user, reason=reason)
+            self.catalogue.set_stage(self.idea_id, target, by=self.context.user, reason=reason)
         except HunchbookError as exc:
             self.message.emit(f"Stage not changed: {one_line(exc)}")
             return False
         self.reason.clear()
-        self.show_idea(self._idea_id)
+        self.show_idea(self.idea_id)
         self.message.emit(f"Moved to {target}.")
-        self.idea_changed.emit(self._idea_id)
+        self.idea_changed.emit(self.idea_id)
         return True

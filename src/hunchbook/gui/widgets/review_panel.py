@@ -3,7 +3,6 @@ submitted idea, and the idea's earlier reviews."""
 
 from __future__ import annotations
 
-from PySide6.QtCore import Signal
 from PySide6.QtWidgets import (
     QCheckBox,
     QGroupBox,
@@ -16,34 +15,27 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from hunchbook.catalogue import CHECKLIST, Catalogue
+from hunchbook.catalogue import CHECKLIST
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.feedback import one_line
+from hunchbook.gui.sections.base import IdeaSection
 from hunchbook.store.records import Review
 
 
-class ReviewPanel(QWidget):
-    """Review a submitted idea: tick the checklist, write comments, accept or return it.
+class ReviewPanel(IdeaSection):
+    """The Review section: tick the checklist, write comments, accept or return a submitted
+    idea; ``idea_changed`` follows a recorded review (the idea's stage moved). The tab is
+    marked while the idea waits for review.
 
     Accepting needs every checklist item ticked; returning needs comments (the catalogue
     checks both and the buttons say so first).
-
-    Signals
-    -------
-    idea_changed(int)
-        A review was recorded (the idea's stage moved).
-    message(str)
-        A line for the status bar.
     """
 
-    idea_changed = Signal(int)
-    message = Signal(str)
+    key = "review"
+    tab_title = "Review"
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self._catalogue: Catalogue | None = None
-        self._user = ""
-        self._idea_id: int | None = None
         self.status = QLabel(self)
         self.status.setObjectName("reviewStatus")
         self.status.setWordWrap(True)
@@ -89,47 +81,45 @@ class ReviewPanel(QWidget):
         layout.addWidget(self.history, 1)
         self.show_idea(None)
 
-    def set_context(self, catalogue: Catalogue | None, user: str) -> None:
-        """The catalogue reviews are written to and the reviewer's name."""
-        self._catalogue, self._user = catalogue, user
-        self.show_idea(None)
-
     def show_idea(self, idea_id: int | None) -> None:
-        """Show an idea's reviews; the form is open when the idea is submitted."""
-        self._idea_id = idea_id
-        if idea_id is None or self._catalogue is None:
+        """Show an idea's reviews; the form is open (and the tab marked) when the idea is
+        submitted."""
+        self.idea_id = idea_id
+        if idea_id is None or self.catalogue is None:
             self.status.setText("No idea selected.")
             self.form.setVisible(False)
             self.history.clear()
+            self.tab_changed.emit(self.tab_title, "")
             return
-        idea = self._catalogue.idea(idea_id)
+        idea = self.catalogue.idea(idea_id)
         open_for_review = idea.stage == "submitted"
         self.form.setVisible(open_for_review)
+        self.tab_changed.emit(f"{self.tab_title} \u25cf" if open_for_review else self.tab_title, "")
         if open_for_review:
             self.status.setText(f"Submitted by {idea.submitted_by}; waiting for review. You "
-                                f"review as {self._user}.")
+                                f"review as {self.context.user}.")
             for check in self.checks.values():
                 check.setChecked(False)
             self.comments.clear()
         else:
             self.status.setText(f"This idea is '{idea.stage}'. Ideas are reviewed once "
                                 "submitted.")
-        self.history.setHtml(_history_html(self._catalogue.reviews(idea_id)))
+        self.history.setHtml(_history_html(self.catalogue.reviews(idea_id)))
         self._update_buttons()
 
     def decide(self, decision: str) -> bool:
         """Record the review with ``decision`` (``accept`` or ``return``)."""
-        if self._idea_id is None or self._catalogue is None:
+        if self.idea_id is None or self.catalogue is None:
             return False
         answers = {k: c.isChecked() for k, c in self.checks.items()}
         try:
-            self._catalogue.review(self._idea_id, reviewer=self._user, checklist=answers,
+            self.catalogue.review(self.idea_id, reviewer=self.context.user, checklist=answers,
                                    decision=decision,
                                    comments=self.comments.toPlainText().strip())
         except HunchbookError as exc:
             self.message.emit(f"Review not recorded: {one_line(exc)}")
             return False
-        idea_id = self._idea_id
+        idea_id = self.idea_id
         self.show_idea(idea_id)
         self.message.emit("Accepted for testing." if decision == "accept"
                           else "Returned to the author with your comments.")

@@ -1,6 +1,9 @@
-"""The Runs section: an idea's run history with verdicts; the chosen run's results below."""
+"""The Runs section: an idea's run history with verdicts; the chosen run's results below, where
+a heatmap click overlays that parameter set's curves (computed on a worker)."""
 
 from __future__ import annotations
+
+from typing import Any
 
 from PySide6.QtCore import QItemSelectionModel, QModelIndex, Qt, Signal
 from PySide6.QtWidgets import (
@@ -15,29 +18,37 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from hunchbook.catalogue import Catalogue
 from hunchbook.gui.models import ID_ROLE, RunTableModel
+from hunchbook.gui.sections.base import IdeaSection
 from hunchbook.gui.widgets.results_view import ResultsView
+from hunchbook.gui.workers import CallWorker, set_curves
 from hunchbook.store.records import RunRecord
 
 
-class RunsPanel(QWidget):
-    """Run history table (newest first) over a :class:`ResultsView` of the chosen run.
+class RunsPanel(IdeaSection):
+    """The Runs section: run history table (newest first) over a :class:`ResultsView` of the
+    chosen run.
 
     Signals
     -------
     run_shown(int)
         The results of this run are now shown.
+    curves_shown(dict)
+        A parameter set's curves were added to the results.
     """
 
+    key = "runs"
+    tab_title = "Runs"
+
     run_shown = Signal(int)
+    curves_shown = Signal(dict)
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self._catalogue: Catalogue | None = None
-        self._idea_id: int | None = None
         self._title = ""
         self._run: RunRecord | None = None
+        self._run_ids: set[int] = set()
+        self._curve_worker: CallWorker | None = None
         self.model = RunTableModel(self)
         self.table = QTableView(self)
         self.table.setObjectName("runTable")
@@ -60,6 +71,7 @@ class RunsPanel(QWidget):
         self.empty.setObjectName("noRunsLabel")
         self.empty.setAlignment(Qt.AlignmentFlag.AlignCenter)
         self.results = ResultsView(self)
+        self.results.set_requested.connect(self.show_set_curves)
         # the results' charts need room: on a small screen they scroll instead of forcing a
         # tall window
         self.results_area = QScrollArea(self)
@@ -85,17 +97,13 @@ class RunsPanel(QWidget):
         layout.addWidget(self.splitter)
         self.show_idea(None)
 
-    def set_context(self, catalogue: Catalogue | None) -> None:
-        """The catalogue runs are read from."""
-        self._catalogue = catalogue
-        self.show_idea(None)
-
-    def show_idea(self, idea_id: int | None, *, run_id: int | None = None) -> None:
-        """List an idea's runs and show one (``run_id``, else the newest)."""
-        self._idea_id = idea_id
-        runs = [] if idea_id is None or self._catalogue is None else self._catalogue.runs(idea_id)
-        self._title = (self._catalogue.idea(idea_id).title
-                       if idea_id is not None and self._catalogue is not None else "")
+    def show_idea(self, idea_id: int | None) -> None:
+        """List an idea's runs and show the newest."""
+        self.idea_id = idea_id
+        runs = [] if idea_id is None or self.catalogue is None else self.catalogue.runs(idea_id)
+        self._title = (self.catalogue.idea(idea_id).title
+                       if idea_id is not None and self.catalogue is not None else "")
+        self._run_ids = {r.id for r in runs}
         self.model.set_runs(runs)
         self.table.setVisible(bool(runs))
         self.empty.setVisible(not runs)
@@ -108,8 +116,7 @@ class RunsPanel(QWidget):
             self._run = None
             self.results.clear()
             return
-        wanted = run_id if run_id is not None else max(r.id for r in runs)
-        self.select_run(wanted)
+        self.select_run(max(r.id for r in runs))
 
     def select_run(self, run_id: int) -> bool:
         """Choose a run in the history (its results are shown)."""
@@ -123,6 +130,13 @@ class RunsPanel(QWidget):
             self._show_run(run_id)
         return True
 
+    def idea_updated(self, idea_id: int) -> None:
+        """The idea was written elsewhere: when its runs changed (a quick run recorded one),
+        list them anew and show the newest; otherwise the chosen run stays."""
+        if self.catalogue is not None and idea_id == self.idea_id and \
+                {r.id for r in self.catalogue.runs(idea_id)} != self._run_ids:
+            self.show_idea(idea_id)
+
     def current_run(self) -> RunRecord | None:
         """The run whose results are shown (daily P&L decoded), if any."""
         return self._run
@@ -132,8 +146,37 @@ class RunsPanel(QWidget):
             self._show_run(int(current.data(ID_ROLE)))
 
     def _show_run(self, run_id: int) -> None:
-        if self._catalogue is None:
+        if self.catalogue is None:
             return
-        self._run = self._catalogue.run(run_id)
+        self._run = self.catalogue.run(run_id)
         self.results.show_run(self._run, title=self._title)
         self.run_shown.emit(run_id)
+
+    def show_set_curves(self, params: dict) -> CallWorker | None:
+        """Compute one parameter set of the shown run on a worker and overlay its curves
+        (over the chosen data folder, else the one the run was made on)."""
+        run = self._run
+        if run is None or self.catalogue is None:
+            return None
+        folder = self.context.data_folder or (run.result.data_folder if run.result else None)
+        if not folder:
+            self.message.emit("Choose a data folder to see that set's curves.")
+            return None
+        rule_text = self.catalogue.revision(run.revision_id).text
+        worker = CallWorker(set_curves, rule_text, folder, dict(params))
+        run_id = run.id
+
+        def shown(result: tuple[dict, Any]) -> None:
+            if self._run is not None and self._run.id == run_id:
+                self.results.show_set_curves(result[0], result[1])
+                self.message.emit("Showing set " + ", ".join(
+                    f"{k}={v:g}" for k, v in result[0].items()) + " (dashed).")
+                self.curves_shown.emit(result[0])
+
+        worker.signals.finished.connect(shown)
+        worker.signals.failed.connect(
+            lambda message: self.message.emit(f"That set's curves: {message}"))
+        self._curve_worker = worker
+        self.message.emit("Computing that set's curves\u2026")
+        worker.start()
+        return worker
