@@ -37,9 +37,13 @@ def _build_old(path: Path, version: int) -> dict[str, object]:
                                               [0.2, 0.5], "no_edge"),
                                              (2, ["{\"fast\": 10.0}", "{\"fast\": 20.0}"],
                                               [0.6, 0.1], "passes")):
-            db.execute("INSERT INTO runs VALUES (?, ?, 1, 1, '[]', 2, 'fp', '0.0.9', "
-                       "'{\"sets\": []}', '{}', '{}', ?, '{}', ?, 0, ?, ?, 'Nia')",
-                       [run_id, f"run{run_id}", label, max(sharpes), pnl.encode(frame),
+            param_sets = [json.loads(p) for p in sets]
+            summary = {"sets": [{"params": p, "net_sharpe": x}
+                                for p, x in zip(param_sets, sharpes, strict=True)]}
+            db.execute("INSERT INTO runs VALUES (?, ?, 1, 1, ?, 2, 'fp', '0.0.9', ?, '{}', "
+                       "'{}', ?, '{}', ?, 0, ?, ?, 'Nia')",
+                       [run_id, f"run{run_id}", json.dumps(param_sets), json.dumps(summary), label,
+                        max(sharpes), pnl.encode(frame),
                         f"2024-01-0{2 + run_id}T00:00:00.000000Z"])
             for params, sharpe in zip(sets, sharpes, strict=True):
                 db.execute("INSERT INTO trials VALUES (?, 1, ?, ?, ?)",

@@ -14,7 +14,7 @@ from typing import Any
 
 from sqlite_utils import Database
 
-from hunchbook.store import journal
+from hunchbook.store import chain, journal
 from hunchbook.store.records import Idea, Preregistration, Revision
 
 
@@ -67,7 +67,7 @@ def space_changed(db: Database, idea_id: int, revision: Revision) -> bool:
 
 def _insert(db: Database, idea_id: int, version: int, rationale: str, markets: tuple[str, ...],
             revision: Revision, *, by: str, at: str, reason: str) -> None:
-    db["preregistrations"].insert({
+    chain.append(db, "preregistrations", {
         "uuid": str(uuidlib.uuid4()), "idea_id": idea_id, "version": version,
         "rationale": rationale, "markets": json.dumps(list(markets)),
         "parameter_space": json.dumps(revision.parameter_space, sort_keys=True),

@@ -27,7 +27,7 @@ from typing import Any
 import pandas as pd
 from sqlite_utils import Database
 
-from hunchbook.store import pnl, validate
+from hunchbook.store import chain, pnl, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Revision, RunRecord
 
@@ -87,7 +87,7 @@ def clean(*, parameter_sets: Any, data_fingerprint: Any, engine_version: Any, su
     keys = [params_key(s) for s in sets]
     if len(set(keys)) != len(keys):
         raise CatalogueError("a parameter set is listed twice", field="parameter_sets")
-    sharpes = _set_sharpes(summary, set(keys))
+    sharpes = set_sharpes(summary, set(keys))
     chosen = validate.param_set(chosen_params, "chosen_params")
     if params_key(chosen) not in sharpes:
         raise CatalogueError("the chosen set is not one of the parameter sets",
@@ -118,7 +118,9 @@ def clean(*, parameter_sets: Any, data_fingerprint: Any, engine_version: Any, su
         daily_pnl=pnl.encode(pnl.clean(daily_pnl)))
 
 
-def _set_sharpes(summary: Any, keys: set[str]) -> dict[str, float | None]:
+def set_sharpes(summary: Any, keys: set[str]) -> dict[str, float | None]:
+    """The net Sharpe of each parameter set (by :func:`params_key`) in a run's summary, which
+    must cover exactly ``keys``."""
     if not isinstance(summary, Mapping) or not isinstance(summary.get("sets"), list):
         raise CatalogueError("expected a table with 'sets': a list of {params, net_sharpe}",
                              field="summary")
@@ -146,7 +148,7 @@ def insert(db: Database, idea_id: int, revision: Revision, run: RunInput, *, by:
         "SELECT DISTINCT params FROM trials WHERE idea_id = ? AND strategy_key = ?",
         [idea_id, revision.strategy_key])}
     count = trial_count(db, idea_id) + sum(key not in seen for key, _ in run.set_sharpes)
-    run_id = int(db["runs"].insert({
+    run_id = chain.append(db, "runs", {
         "uuid": run_uuid or str(uuidlib.uuid4()), "idea_id": idea_id,
         "revision_id": revision.id, "parameter_sets": json.dumps(run.parameter_sets),
         "set_count": len(run.parameter_sets), "data_fingerprint": run.data_fingerprint,
@@ -154,7 +156,7 @@ def insert(db: Database, idea_id: int, revision: Revision, run: RunInput, *, by:
         "statistics": run.statistics, "verdict": run.verdict, "verdict_label": run.verdict_label,
         "chosen_params": json.dumps(run.chosen_params), "chosen_net_sharpe": run.chosen_net_sharpe,
         "trial_count": count, "daily_pnl": run.daily_pnl, "recorded_at": at,
-        "recorded_by": validate.name(by, "by")}).last_pk)
+        "recorded_by": validate.name(by, "by")})
     db["trials"].insert_all(
         {"run_id": run_id, "idea_id": idea_id, "strategy_key": revision.strategy_key,
          "params": key, "net_sharpe": sharpe} for key, sharpe in run.set_sharpes)
