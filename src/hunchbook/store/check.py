@@ -41,14 +41,32 @@ def _problems(db: Database) -> list[str]:
     try:
         found = [f"integrity: {row[0]}" for row in db.execute("PRAGMA integrity_check")
                  if row[0] != "ok"]
-    except sqlite3.DatabaseError as exc:
-        return [f"integrity: SQLite cannot read the file ({exc})"]
+    except sqlite3.DatabaseError as exc:  # too damaged for the whole check: table by table
+        return _damaged_tables(db) or [f"integrity: SQLite cannot read the file ({exc})"]
     if found:
         return found  # the checks below read the tables; stop at a damaged file
     try:
         return list(_records(db))
     except sqlite3.DatabaseError as exc:
         return [f"SQLite cannot read the catalogue ({exc})"]
+
+
+def _damaged_tables(db: Database) -> list[str]:
+    """SQLite's integrity check of each table (with its indexes) on its own."""
+    found = []
+    try:
+        names = [r[0] for r in db.execute("SELECT name FROM sqlite_master WHERE type = 'table' "
+                                          "AND sql NOT LIKE 'CREATE VIRTUAL%'").fetchall()]
+    except sqlite3.DatabaseError:
+        return []
+    for name in names:
+        quoted = '"' + name.replace('"', '""') + '"'
+        try:
+            found += [f"integrity: table {name}: {row[0]}"
+                      for row in db.execute(f"PRAGMA integrity_check({quoted})") if row[0] != "ok"]
+        except sqlite3.DatabaseError as exc:
+            found.append(f"integrity: table {name}: {exc}")
+    return found
 
 
 def _records(db: Database) -> Iterator[str]:

@@ -121,8 +121,8 @@ def explain(exc: sqlite3.DatabaseError, path: Path) -> CatalogueError | None:
 
 def _advice(path: Path) -> str:
     newest = latest_backup(path)
-    found = (f"the newest automatic one is {newest}" if newest is not None
-             else "Hunchbook makes one beside the file only before a schema upgrade, and there "
-                  "is none; use your own copies from 'hunchbook catalogue backup'")
+    found = (f"the newest beside the file is {newest}" if newest is not None
+             else "none is beside the file: Hunchbook makes one there only before a schema "
+                  "upgrade")
     return (f"run 'hunchbook catalogue check --catalogue {path}' to see what is wrong, and "
             f"restore your latest backup ({found})")

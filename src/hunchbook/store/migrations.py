@@ -389,6 +389,7 @@ def _prepare(db: Database, path: Path, reason: str | None, *, may_create: bool, 
         return
     if not (writes or pending):
         return
+    _open_every_table(db)
     dbmod.enable_wal(db, path)
     if not pending:
         return
@@ -405,6 +406,15 @@ def _prepare(db: Database, path: Path, reason: str | None, *, may_create: bool, 
 def _pending(db: Database, stop_before: str | None) -> list[str]:
     names = [m.name for m in MIGRATIONS.pending(db)]
     return names[:names.index(stop_before)] if stop_before in names else names
+
+
+def _open_every_table(db: Database) -> None:
+    """Read the first row of every table, so that no write begins in a file whose tables SQLite
+    cannot open (damage deeper in a table shows when that part is read)."""
+    for (name,) in db.execute("SELECT name FROM sqlite_master WHERE type = 'table' AND sql "
+                              "NOT LIKE 'CREATE VIRTUAL%'").fetchall():
+        quoted = '"' + name.replace('"', '""') + '"'
+        db.execute(f"SELECT 1 FROM {quoted} NOT INDEXED LIMIT 1").fetchall()
 
 
 def _recognise(db: Database, path: Path) -> bool:
