@@ -25,7 +25,7 @@ from hunchbook.catalogue import Catalogue
 from hunchbook.cli import main
 from hunchbook.store import SCHEMA_VERSION
 from hunchbook.store.migrations import migration_names, open_catalogue_db
-from tests.store.helpers import RULES, accepted_idea, run_args
+from tests.store.helpers import desk
 
 #: The conventional unprivileged user and group ("nobody").
 NOBODY = 65534
@@ -37,17 +37,6 @@ def snapshot(folder: Path) -> Snapshot:
     """Every file in the folder: its bytes and modification time (ns)."""
     return {p.name: (p.read_bytes(), p.stat().st_mtime_ns) for p in sorted(folder.iterdir())
             if p.is_file()}
-
-
-def desk(path: Path) -> Path:
-    """A catalogue as a desk has it: an accepted idea with a rule revision, a run and a note."""
-    with Catalogue(path) as cat:
-        idea = accepted_idea(cat)
-        revision = cat.save_rules(idea, RULES, by="Nia")
-        cat.record_run(idea, revision_id=revision.id, by="Nia",
-                       **run_args([{"fast": 5.0, "slow": 50.0}], [0.4]))
-        cat.add_entry(idea_id=idea, kind="note", text="Roll dates checked.", by="Theo")
-    return path
 
 
 def cli(capsys: pytest.CaptureFixture[str], *argv: str | Path) -> tuple[int, str, str]:
