@@ -8,9 +8,10 @@ survives a crash of the process or the machine) and a busy timeout, so a second 
 for the write lock instead of failing.
 
 A file this process cannot write (a read-only file or folder) is opened read-only: through its
-``-wal`` file when there is one, otherwise as immutable. SQLite would otherwise create ``-wal``
-and ``-shm`` files beside it with the file's read-only permissions, which would stop later
-writers once the file is writable again.
+``-wal`` file when there is one, otherwise as immutable (no ``-wal`` file: no writer has it
+open; one that starts while a read runs is not seen). SQLite would otherwise create ``-wal`` and
+``-shm`` files beside it with the file's read-only permissions, which would stop later writers
+once the file is writable again.
 """
 
 from __future__ import annotations

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import os
 import sqlite3
+import stat
 from pathlib import Path
 from typing import Literal
 
@@ -36,14 +37,17 @@ def state(path: Path) -> State:
         SQLite database.
     """
     try:
+        kind = path.stat().st_mode
+        if stat.S_ISDIR(kind):
+            raise CatalogueError("this is a folder, not a catalogue file", where=str(path))
+        if not stat.S_ISREG(kind):  # a pipe or device: reading it could wait for ever
+            raise CatalogueError("not a regular file, so not a catalogue", where=str(path))
         with path.open("rb") as handle:
             head = handle.read(len(SQLITE_HEADER))
     except FileNotFoundError:
         if not path.parent.is_dir():
             raise CatalogueError("the folder does not exist", where=str(path.parent)) from None
         return "missing"
-    except IsADirectoryError:
-        raise CatalogueError("this is a folder, not a catalogue file", where=str(path)) from None
     except OSError as exc:
         raise CatalogueError(f"cannot read the file ({exc.strerror or exc})",
                              where=str(path)) from None
