@@ -9,14 +9,16 @@ so it runs on an in-memory copy of the index.
 
 from __future__ import annotations
 
+import itertools
 import json
+import operator
 import sqlite3
 import uuid as uuidlib
 from collections.abc import Iterator
 
 from sqlite_utils import Database
 
-from hunchbook.store import chain, migrations, pnl, revisions, runs
+from hunchbook.store import chain, migrations, pnl, revisions, runs, validate
 from hunchbook.store.errors import CatalogueError
 
 #: Rows named per problem kind before the rest are counted.
@@ -134,25 +136,36 @@ def _search_index(db: Database) -> list[str]:
 
 
 def _trials(db: Database) -> Iterator[str]:
-    """Each run's trials are exactly its parameter sets, under its revision's strategy key,
-    with the net Sharpe of its summary (trials of no run are foreign-key problems)."""
-    wrong = []
-    for run_id, idea_id, key, sets, summary in db.execute(
-            "SELECT r.id, r.idea_id, v.strategy_key, r.parameter_sets, r.summary FROM runs r "
-            "JOIN rule_revisions v ON v.id = r.revision_id ORDER BY r.id"):
-        try:
-            params = [runs.params_key(s) for s in json.loads(sets)]
-            sharpes = runs.set_sharpes(json.loads(summary), set(params))
-            expected = {(idea_id, key, p, sharpes[p]) for p in params}
-        except (CatalogueError, ValueError, TypeError, AttributeError):
-            expected = None
-        stored = set(db.execute("SELECT idea_id, strategy_key, params, net_sharpe FROM trials "
-                                "WHERE run_id = ?", [run_id]).fetchall())
-        if stored != expected:
+    """Each run's trials are exactly the sets of its summary (which covers its parameter sets,
+    as checked when it was recorded), under its revision's strategy key, with the summary's net
+    Sharpe, written together after the run; trials of no run are foreign-key problems."""
+    wrong: list[int] = []
+    done: set[int] = set()
+    rows = db.execute("SELECT run_id, idea_id, strategy_key, params, net_sharpe FROM trials "
+                      "ORDER BY rowid")  # one pass in storage order: a run's trials are adjacent
+    for run_id, group in itertools.groupby(rows, key=operator.itemgetter(0)):
+        if run_id in done or {row[1:] for row in group} != _expected_trials(db, run_id):
             wrong.append(run_id)
+        done.add(run_id)
+    wrong += [r[0] for r in db.execute("SELECT id FROM runs") if r[0] not in done]
     if wrong:
-        yield (f"trials of run(s) {_ids(wrong)} do not match the run's parameter sets and "
-               "summary")
+        yield (f"trials of run(s) {_ids(sorted(set(wrong)))} do not match the run's parameter "
+               "sets and summary")
+
+
+def _expected_trials(db: Database, run_id: int) -> set[tuple[object, ...]] | None:
+    row = db.execute("SELECT r.idea_id, v.strategy_key, r.summary FROM runs r JOIN "
+                     "rule_revisions v ON v.id = r.revision_id WHERE r.id = ?",
+                     [run_id]).fetchone()
+    if row is None:
+        return None
+    idea_id, key, summary = row
+    try:
+        return {(idea_id, key, runs.params_key(s["params"]),
+                 validate.optional_number(s["net_sharpe"], "net_sharpe"))
+                for s in json.loads(summary)["sets"]}
+    except (CatalogueError, LookupError, ValueError, TypeError, AttributeError):
+        return None
 
 
 def _ids(ids: list[int]) -> str:

@@ -52,9 +52,13 @@ class RunInput:
     daily_pnl: bytes
 
 
+#: ``json.dumps(..., sort_keys=True)`` without building an encoder per call (the same text).
+_KEY_JSON = json.JSONEncoder(sort_keys=True)
+
+
 def params_key(params: Mapping[str, float]) -> str:
     """Canonical text of a parameter set: JSON, names sorted, values as floats."""
-    return json.dumps({k: float(v) for k, v in params.items()}, sort_keys=True)
+    return _KEY_JSON.encode({k: float(v) for k, v in params.items()})
 
 
 def clean(*, parameter_sets: Any, data_fingerprint: Any, engine_version: Any, summary: Any,
