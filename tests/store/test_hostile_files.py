@@ -154,6 +154,19 @@ def test_check_reports_a_file_too_damaged_to_open(tmp_path: Path,
     assert snapshot(tmp_path) == before
 
 
+def test_a_table_dropped_by_another_tool_gives_one_line(
+        tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    path = desk(tmp_path / "desk.sqlite")
+    with sqlite3.connect(path) as conn:
+        conn.execute("DROP TABLE reviews")
+    conn.close()
+    assert cli(capsys, "ideas", "show", "1", "--catalogue", path) == (
+        1, "", f"hunchbook: error: {path}: the catalogue file is not as Hunchbook wrote it "
+               f"(SQLite: no such table: reviews); run 'hunchbook catalogue check --catalogue "
+               f"{path}' to see what is wrong, and restore your latest backup (none is beside "
+               "the file: Hunchbook makes one there only before a schema upgrade)\n")
+
+
 # -- an empty file, and reads that write nothing -------------------------------------------------
 READS = (["ideas", "list"], ["ideas", "show", "1"], ["journal", "list"], ["runs", "list"],
          ["catalogue", "check"])
@@ -333,8 +346,10 @@ def test_a_catalogue_in_a_read_only_folder_reads_and_refuses_writes_in_one_line(
     folder = shared / "desk"
     folder.mkdir()
     path = desk(folder / "desk.sqlite")
+    old = folder / "old.sqlite"  # a catalogue from the previous version
+    open_catalogue_db(old, stop_before=migration_names()[-1]).close()
     bundle = _bundle(shared)
-    _give(folder, path)
+    _give(folder, path, old)
     folder.chmod(0o555)
     before, bundle_before = snapshot(folder), snapshot(shared)
     c = ["--catalogue", path]
@@ -342,13 +357,17 @@ def test_a_catalogue_in_a_read_only_folder_reads_and_refuses_writes_in_one_line(
     results = run_unprivileged(folder, [
         ["ideas", "list", *c], ["ideas", "show", "1", *c], ["journal", "list", *c],
         ["catalogue", "check", *c], *([*w, *c] for w in WRITES), ["ideas", "import", bundle, *c],
-        ["ideas", "add", "--title", "t", "--hypothesis", "h", "--catalogue", new]])
+        ["ideas", "add", "--title", "t", "--hypothesis", "h", "--catalogue", new],
+        ["ideas", "list", "--catalogue", old]])
     _check_reads(results, path)
     folder_note = ("its folder is read-only (SQLite writes the -wal and -shm files beside the "
                    "catalogue)")
     refused = (f"hunchbook: error: {path}: cannot write to this catalogue: {folder_note}; "
                "nothing was written\n")
-    assert results[4:-1] == [(1, "", refused)] * (len(WRITES) + 1)
-    assert results[-1] == (1, "", f"hunchbook: error: {new}: cannot create a catalogue here: "
-                                  f"{folder_note}\n")
+    assert results[4:-2] == [(1, "", refused)] * (len(WRITES) + 1)
+    assert results[-2:] == [
+        (1, "", f"hunchbook: error: {new}: cannot create a catalogue here: {folder_note}\n"),
+        (1, "", f"hunchbook: error: {old}: written by an older Hunchbook (schema version "
+                f"{SCHEMA_VERSION - 1}); upgrading it to version {SCHEMA_VERSION} needs write "
+                f"access, but {folder_note}\n")]
     assert snapshot(folder) == before and snapshot(shared) == bundle_before

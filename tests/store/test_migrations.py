@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from hunchbook.catalogue import Catalogue
+from hunchbook.catalogue import Catalogue, CatalogueError
 from hunchbook.store import migrations, pnl, revisions
 from hunchbook.store.migrations import SCHEMA_VERSION, migration_names, open_catalogue_db
 from tests.store.helpers import RULES, daily_pnl
@@ -112,3 +112,22 @@ def test_migrations_are_applied_in_registration_order(tmp_path: Path) -> None:
     db = open_catalogue_db(tmp_path / "c.sqlite")
     assert [m.name for m in migrations.MIGRATIONS.applied(db)] == migration_names()
     assert migration_names() == sorted(migration_names())
+
+
+def test_opening_an_older_catalogue_for_reading_migrates_it_then_refuses_writes(
+        tmp_path: Path) -> None:
+    """Reading needs the current schema: a writable older catalogue is upgraded (after its
+    backup) even when opened for reading only; the connection then refuses every write."""
+    path = tmp_path / "old.sqlite"
+    _build_old(path, SCHEMA_VERSION - 1)
+    with Catalogue(path, read_only=True) as cat:
+        assert cat.schema_version() == SCHEMA_VERSION
+        assert [e.text for e in cat.journal(1)] == [
+            "Processors hedge the crush margin ahead of harvest"]
+        with pytest.raises(CatalogueError) as caught:
+            cat.add_entry(idea_id=1, kind="note", text="more", by="Theo")
+        assert str(caught.value) == (f"{path}: cannot write to this catalogue: it was opened "
+                                     "for reading only; nothing was written")
+    assert len(list(tmp_path.glob(f"old.v{SCHEMA_VERSION - 1}-backup-*.sqlite"))) == 1
+    with Catalogue(path, read_only=True) as cat:
+        assert len(cat.journal(1)) == 1 and cat.check() == []
