@@ -77,6 +77,7 @@ from hunchbook.store import (
     ideas,
     journal,
     migrations,
+    opening,
     preregistration,
     search,
     validate,
@@ -167,7 +168,7 @@ class Catalogue:
                  read_only: bool = False) -> None:
         self.path = Path(path)
         self._clock = clock or dbmod.utc_now
-        self.db = migrations.open_catalogue_db(self.path, create=create, read_only=read_only)
+        self.db = opening.open_catalogue_db(self.path, create=create, read_only=read_only)
 
     # -- upkeep ---------------------------------------------------------------------------
     def close(self) -> None:

@@ -24,7 +24,8 @@ import pytest
 from hunchbook.catalogue import Catalogue
 from hunchbook.cli import main
 from hunchbook.store import SCHEMA_VERSION
-from hunchbook.store.migrations import migration_names, open_catalogue_db
+from hunchbook.store.migrations import migration_names
+from hunchbook.store.opening import open_catalogue_db
 from tests.store.helpers import desk
 
 #: The conventional unprivileged user and group ("nobody").

@@ -10,7 +10,8 @@ import pytest
 
 from hunchbook.catalogue import Catalogue, CatalogueError
 from hunchbook.store import migrations, pnl, revisions
-from hunchbook.store.migrations import SCHEMA_VERSION, migration_names, open_catalogue_db
+from hunchbook.store.migrations import SCHEMA_VERSION, migration_names
+from hunchbook.store.opening import open_catalogue_db
 from tests.store.helpers import RULES, daily_pnl
 
 EARLIER = list(range(1, SCHEMA_VERSION))  # version 0 (no file) is covered by every other test

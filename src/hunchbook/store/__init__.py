@@ -2,8 +2,9 @@
 
 Small modules, one topic each: :mod:`~hunchbook.store.files` (what a path holds, whether it
 may be written, SQLite failures as one line), :mod:`~hunchbook.store.db` (connections, write
-transactions, online backup), :mod:`~hunchbook.store.migrations` (recognising a catalogue,
-schema versions), :mod:`~hunchbook.store.chain` (the append-only rows' hash chain),
+transactions, online backup), :mod:`~hunchbook.store.opening` (recognising a catalogue before
+writing, WAL, migrating), :mod:`~hunchbook.store.migrations` (schema versions),
+:mod:`~hunchbook.store.chain` (the append-only rows' hash chain),
 :mod:`~hunchbook.store.ideas`, :mod:`~hunchbook.store.revisions`,
 :mod:`~hunchbook.store.preregistration`, :mod:`~hunchbook.store.runs` (and
 :mod:`~hunchbook.store.pnl`), :mod:`~hunchbook.store.journal`,
@@ -13,7 +14,8 @@ schema versions), :mod:`~hunchbook.store.chain` (the append-only rows' hash chai
 """
 
 from hunchbook.store.errors import CatalogueError
-from hunchbook.store.migrations import SCHEMA_VERSION, open_catalogue_db, schema_version
+from hunchbook.store.migrations import SCHEMA_VERSION, schema_version
+from hunchbook.store.opening import open_catalogue_db
 from hunchbook.store.records import (
     Entry,
     Idea,
