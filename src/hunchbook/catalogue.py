@@ -3,14 +3,15 @@
 
 One SQLite file holds a desk's ideas, rule revisions, pre-registrations, runs, journal and
 reviews (see :mod:`hunchbook.store`). Open it with ``Catalogue(path)``; the schema is migrated
-on open, after an automatic backup; nothing is written to a file that is not a catalogue, and
-``Catalogue(path, read_only=True)`` never writes. A file this process cannot write (read-only
-file or folder) opens for reading. Every method raises :class:`CatalogueError` (one line naming
-the file) for bad input and for SQLite's failures: a damaged, locked or read-only file, a full
-disk. Every method that writes runs in one transaction; group
-several with ``with catalogue.transaction():``. A ``Catalogue`` belongs to the thread that made
-it (SQLite connections are per thread): open one per worker thread or process. Several
-processes may write at once; each waits for the others' write lock (busy timeout).
+on open, after an automatic backup. Nothing is written to a file that is not a catalogue;
+``Catalogue(path, read_only=True)`` writes nothing (beyond migrating an older catalogue); a file
+this process cannot write (read-only file or folder) opens for reading. Every method raises
+:class:`CatalogueError`, one line naming the file, for bad input and for SQLite's failures: a
+damaged, locked or read-only file, a full disk. Every method that writes runs in one
+transaction; group several with ``with catalogue.transaction():``. A ``Catalogue`` belongs to
+the thread that made it (SQLite connections are per thread): open one per worker thread or
+process. Several processes may write at once; each waits for the others' write lock (busy
+timeout).
 
 Example
 -------

@@ -150,3 +150,19 @@ def test_check_finds_trials_that_no_longer_match_their_run(
     out, err = capsys.readouterr()
     assert (err, out.splitlines()[0]) == (
         "", "problem: trials of run(s) 1 do not match the run's parameter sets and summary")
+
+
+def test_check_finds_a_search_index_edited_behind_its_back_without_writing(path: Path) -> None:
+    """FTS5's own 'integrity-check' command is the reference; the catalogue runs it on a copy,
+    so it also works where the catalogue is opened for reading only."""
+    conn = sqlite3.connect(path)
+    conn.execute("UPDATE idea_search_content SET c0 = 'A title the index never saw' "
+                 "WHERE id = 1")
+    conn.commit()
+    with pytest.raises(sqlite3.DatabaseError):
+        conn.execute("INSERT INTO idea_search (idea_search) VALUES ('integrity-check')")
+    conn.close()
+    before = path.read_bytes()
+    with Catalogue(path, read_only=True) as cat:
+        assert cat.check() == ["full-text index: database disk image is malformed"]
+    assert path.read_bytes() == before

@@ -1,7 +1,7 @@
 """Connections to a catalogue file, write transactions and the online backup.
 
 A connection changes nothing in the file when it opens: the journal mode is left as found, so
-that a file can be recognised as a catalogue first (see :mod:`hunchbook.store.migrations`);
+that a file can be recognised as a catalogue first (see :mod:`hunchbook.store.opening`);
 :func:`enable_wal` then switches a catalogue to WAL journalling (readers never block the
 writer). Every connection has foreign keys on, ``synchronous=FULL`` (a committed transaction
 survives a crash of the process or the machine) and a busy timeout, so a second process waits
