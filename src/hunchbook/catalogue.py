@@ -3,10 +3,15 @@
 
 One SQLite file holds a desk's ideas, rule revisions, pre-registrations, runs, journal and
 reviews (see :mod:`hunchbook.store`). Open it with ``Catalogue(path)``; the schema is migrated
-on open, after an automatic backup. Every method that writes runs in one transaction; group
-several with ``with catalogue.transaction():``. A ``Catalogue`` belongs to the thread that made
-it (SQLite connections are per thread): open one per worker thread or process. Several
-processes may write at once; each waits for the others' write lock (busy timeout).
+on open, after an automatic backup. Nothing is written to a file that is not a catalogue;
+``Catalogue(path, read_only=True)`` writes nothing (beyond migrating an older catalogue); a file
+this process cannot write (read-only file or folder) opens for reading. Every method raises
+:class:`CatalogueError`, one line naming the file, for bad input and for SQLite's failures: a
+damaged, locked or read-only file, a full disk. Every method that writes runs in one
+transaction; group several with ``with catalogue.transaction():``. A ``Catalogue`` belongs to
+the thread that made it (SQLite connections are per thread): open one per worker thread or
+process. Several processes may write at once; each waits for the others' write lock (busy
+timeout).
 
 Example
 -------
@@ -51,8 +56,10 @@ from __future__ import annotations
 
 import contextlib
 import datetime as dt
+import functools
 import json
 import os
+import sqlite3
 from collections.abc import Callable, Iterator, Mapping, Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -65,9 +72,11 @@ if TYPE_CHECKING:
 from hunchbook.store import (
     bundles,
     check,
+    files,
     ideas,
     journal,
     migrations,
+    opening,
     preregistration,
     search,
     validate,
@@ -115,25 +124,53 @@ def default_catalogue_path() -> Path:
     return platformdirs.user_data_path("hunchbook", appauthor=False) / "catalogue.sqlite"
 
 
+def _explaining(method: Callable[..., Any]) -> Callable[..., Any]:
+    """``method`` raising :class:`CatalogueError` for SQLite's failures on the file."""
+    @functools.wraps(method)
+    def call(self: Catalogue, *args: Any, **kwargs: Any) -> Any:
+        try:
+            return method(self, *args, **kwargs)
+        except sqlite3.DatabaseError as exc:
+            error = files.explain(exc, self.path)
+            if error is None:
+                raise
+            raise error from None
+    return call
+
+
+def _explained(cls: type[Catalogue]) -> type[Catalogue]:
+    """Wrap every public method of the class with :func:`_explaining`."""
+    for name, member in list(vars(cls).items()):
+        if callable(member) and not name.startswith("_"):
+            setattr(cls, name, _explaining(member))
+    return cls
+
+
+@_explained
 class Catalogue:
     """An open catalogue file.
 
     Parameters
     ----------
     path
-        The SQLite file (created if missing and ``create`` is true).
+        The SQLite file (created if missing or empty and ``create`` is true).
     create
-        Refuse a missing file when false.
+        Refuse a missing or empty file when false.
     clock
         Returns the current time (aware ``datetime``); the default is the system clock in UTC.
         The demo builder passes a clock that walks through invented dates.
+    read_only
+        Only read: a missing or empty file is refused and every write raises
+        :class:`CatalogueError` (an older catalogue is still migrated, after a backup, when the
+        file can be written).
     """
 
     def __init__(self, path: str | os.PathLike[str], *, create: bool = True,
-                 clock: Callable[[], dt.datetime] | None = None) -> None:
+                 clock: Callable[[], dt.datetime] | None = None,
+                 read_only: bool = False) -> None:
         self.path = Path(path)
         self._clock = clock or dbmod.utc_now
-        self.db = migrations.open_catalogue_db(self.path, create=create)
+        self.db = opening.open_catalogue_db(self.path, create=create, read_only=read_only)
 
     # -- upkeep ---------------------------------------------------------------------------
     def close(self) -> None:

@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from hunchbook.core.verdict import LABELS
-from hunchbook.store.errors import CatalogueError
+from hunchbook.store.errors import CatalogueError, DamagedCatalogue
 from hunchbook.store.vocab import (
     CHECKLIST,
     DECISIONS,
@@ -202,15 +202,24 @@ def _catalogue(group: Any) -> None:
 
 
 # -- handlers ------------------------------------------------------------------------------
-def open_catalogue(args: argparse.Namespace, *, create: bool = False) -> Catalogue:
+def open_catalogue(args: argparse.Namespace, *, create: bool = False,
+                   read_only: bool = False) -> Catalogue:
+    """The catalogue of ``--catalogue`` (or the default one, made by the first write).
+
+    ``read_only`` for commands that only read: they never create or change a file.
+    """
     from hunchbook.catalogue import Catalogue, default_catalogue_path
 
     path = args.catalogue
     if path is None:
         path = default_catalogue_path()
-        path.parent.mkdir(parents=True, exist_ok=True)
-        create = True
-    return Catalogue(path, create=create)
+        if read_only and not path.exists():
+            raise CatalogueError("no catalogue here yet: the first 'hunchbook ideas add' makes "
+                                 "one (or give --catalogue PATH)", where=str(path))
+        if not read_only:
+            path.parent.mkdir(parents=True, exist_ok=True)
+            create = True
+    return Catalogue(path, create=create, read_only=read_only)
 
 
 def _verdict_label(outcome: str | None) -> str:
@@ -223,7 +232,7 @@ def author(args: argparse.Namespace) -> str:
 
 
 def _ideas_list(args: argparse.Namespace) -> int:
-    with open_catalogue(args) as cat:
+    with open_catalogue(args, read_only=True) as cat:
         rows = cat.list_ideas(stage=args.stage, verdict=args.verdict, market=args.market,
                               tag=args.tag, author=args.author, source_kind=args.source,
                               text=args.search, limit=args.limit)
@@ -243,7 +252,7 @@ def _summary_row(r: IdeaSummary) -> list[str]:
 
 
 def _ideas_show(args: argparse.Namespace) -> int:
-    with open_catalogue(args) as cat:
+    with open_catalogue(args, read_only=True) as cat:
         idea = cat.idea(args.idea)
         revisions, runs = cat.revisions(idea.id), cat.runs(idea.id)
         reviews, entries = cat.reviews(idea.id), cat.journal(idea.id)
@@ -369,7 +378,7 @@ def _ideas_rules(args: argparse.Namespace) -> int:
 
 
 def _ideas_export(args: argparse.Namespace) -> int:
-    with open_catalogue(args) as cat:
+    with open_catalogue(args, read_only=True) as cat:
         cat.export_bundle(args.idea, args.bundle, overwrite=args.overwrite)
     print(f"Idea {args.idea} written to {args.bundle}")
     return 0
@@ -395,7 +404,7 @@ def _journal_add(args: argparse.Namespace) -> int:
 
 
 def _journal_list(args: argparse.Namespace) -> int:
-    with open_catalogue(args) as cat:
+    with open_catalogue(args, read_only=True) as cat:
         entries = cat.journal(args.idea, kind=args.kind, limit=args.limit)
     for e in entries:
         print(_entry_line(e))
@@ -420,7 +429,7 @@ def _journal_correct(args: argparse.Namespace) -> int:
 
 
 def _runs_list(args: argparse.Namespace) -> int:
-    with open_catalogue(args) as cat:
+    with open_catalogue(args, read_only=True) as cat:
         runs = cat.runs(args.idea)
     rows = [[str(r.id), str(r.idea_id), r.recorded_at[:10], str(r.revision_number),
              str(r.set_count), str(r.trial_count),
@@ -433,14 +442,20 @@ def _runs_list(args: argparse.Namespace) -> int:
 
 
 def _cat_backup(args: argparse.Namespace) -> int:
-    with open_catalogue(args) as cat:
+    with open_catalogue(args, read_only=True) as cat:
         cat.backup(args.destination)
     print(f"Catalogue copied to {args.destination}")
     return 0
 
 
 def _cat_check(args: argparse.Namespace) -> int:
-    with open_catalogue(args) as cat:
+    try:
+        cat = open_catalogue(args, read_only=True)
+    except DamagedCatalogue as exc:  # too damaged to open: that is the finding
+        print(f"problem: {exc.problem}")
+        print(f"{exc.where}: 1 problem(s)")
+        return 1
+    with cat:
         problems = cat.check()
         version = cat.schema_version()
     for problem in problems:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -92,3 +93,15 @@ def table_counts(cat: Catalogue) -> dict[str, int]:
     return {t: cat.db.execute(f"SELECT count(*) FROM {t}").fetchone()[0]
             for t in ("ideas", "rule_revisions", "preregistrations", "runs", "trials",
                       "journal", "reviews", "imports")}
+
+
+def desk(path: Path) -> Path:
+    """A catalogue file as a desk has it: an accepted idea with a rule revision, a run (which
+    pre-registers it) and a note, written through the API and closed."""
+    with Catalogue(path) as cat:
+        idea = accepted_idea(cat)
+        revision = cat.save_rules(idea, RULES, by="Nia")
+        cat.record_run(idea, revision_id=revision.id, by="Nia",
+                       **run_args([{"fast": 5.0, "slow": 50.0}], [0.4]))
+        cat.add_entry(idea_id=idea, kind="note", text="Roll dates checked.", by="Theo")
+    return path

@@ -8,9 +8,10 @@ from pathlib import Path
 
 import pytest
 
-from hunchbook.catalogue import Catalogue
+from hunchbook.catalogue import Catalogue, CatalogueError
 from hunchbook.store import migrations, pnl, revisions
-from hunchbook.store.migrations import SCHEMA_VERSION, migration_names, open_catalogue_db
+from hunchbook.store.migrations import SCHEMA_VERSION, migration_names
+from hunchbook.store.opening import open_catalogue_db
 from tests.store.helpers import RULES, daily_pnl
 
 EARLIER = list(range(1, SCHEMA_VERSION))  # version 0 (no file) is covered by every other test
@@ -37,9 +38,13 @@ def _build_old(path: Path, version: int) -> dict[str, object]:
                                               [0.2, 0.5], "no_edge"),
                                              (2, ["{\"fast\": 10.0}", "{\"fast\": 20.0}"],
                                               [0.6, 0.1], "passes")):
-            db.execute("INSERT INTO runs VALUES (?, ?, 1, 1, '[]', 2, 'fp', '0.0.9', "
-                       "'{\"sets\": []}', '{}', '{}', ?, '{}', ?, 0, ?, ?, 'Nia')",
-                       [run_id, f"run{run_id}", label, max(sharpes), pnl.encode(frame),
+            param_sets = [json.loads(p) for p in sets]
+            summary = {"sets": [{"params": p, "net_sharpe": x}
+                                for p, x in zip(param_sets, sharpes, strict=True)]}
+            db.execute("INSERT INTO runs VALUES (?, ?, 1, 1, ?, 2, 'fp', '0.0.9', ?, '{}', "
+                       "'{}', ?, '{}', ?, 0, ?, ?, 'Nia')",
+                       [run_id, f"run{run_id}", json.dumps(param_sets), json.dumps(summary), label,
+                        max(sharpes), pnl.encode(frame),
                         f"2024-01-0{2 + run_id}T00:00:00.000000Z"])
             for params, sharpe in zip(sets, sharpes, strict=True):
                 db.execute("INSERT INTO trials VALUES (?, 1, ?, ?, ?)",
@@ -110,3 +115,22 @@ def test_migrations_are_applied_in_registration_order(tmp_path: Path) -> None:
     db = open_catalogue_db(tmp_path / "c.sqlite")
     assert [m.name for m in migrations.MIGRATIONS.applied(db)] == migration_names()
     assert migration_names() == sorted(migration_names())
+
+
+def test_opening_an_older_catalogue_for_reading_migrates_it_then_refuses_writes(
+        tmp_path: Path) -> None:
+    """Reading needs the current schema: a writable older catalogue is upgraded (after its
+    backup) even when opened for reading only; the connection then refuses every write."""
+    path = tmp_path / "old.sqlite"
+    _build_old(path, SCHEMA_VERSION - 1)
+    with Catalogue(path, read_only=True) as cat:
+        assert cat.schema_version() == SCHEMA_VERSION
+        assert [e.text for e in cat.journal(1)] == [
+            "Processors hedge the crush margin ahead of harvest"]
+        with pytest.raises(CatalogueError) as caught:
+            cat.add_entry(idea_id=1, kind="note", text="more", by="Theo")
+        assert str(caught.value) == (f"{path}: cannot write to this catalogue: it was opened "
+                                     "for reading only; nothing was written")
+    assert len(list(tmp_path.glob(f"old.v{SCHEMA_VERSION - 1}-backup-*.sqlite"))) == 1
+    with Catalogue(path, read_only=True) as cat:
+        assert len(cat.journal(1)) == 1 and cat.check() == []

@@ -1,7 +1,10 @@
 """The catalogue store: one SQLite file per catalogue, through sqlite-utils.
 
-Small modules, one topic each: :mod:`~hunchbook.store.db` (connection pragmas, write
-transactions, online backup), :mod:`~hunchbook.store.migrations` (schema versions),
+Small modules, one topic each: :mod:`~hunchbook.store.files` (what a path holds, whether it
+may be written, SQLite failures as one line), :mod:`~hunchbook.store.db` (connections, write
+transactions, online backup), :mod:`~hunchbook.store.opening` (recognising a catalogue before
+writing, WAL, migrating), :mod:`~hunchbook.store.migrations` (schema versions),
+:mod:`~hunchbook.store.chain` (the append-only rows' hash chain),
 :mod:`~hunchbook.store.ideas`, :mod:`~hunchbook.store.revisions`,
 :mod:`~hunchbook.store.preregistration`, :mod:`~hunchbook.store.runs` (and
 :mod:`~hunchbook.store.pnl`), :mod:`~hunchbook.store.journal`,
@@ -18,7 +21,7 @@ from typing import Any
 
 #: Where each name of this package lives.
 _HOMES = {
-    "SCHEMA_VERSION": "migrations", "open_catalogue_db": "migrations",
+    "SCHEMA_VERSION": "migrations", "open_catalogue_db": "opening",
     "schema_version": "migrations", "CatalogueError": "errors", "Entry": "records",
     "Idea": "records", "IdeaSummary": "records", "ImportReport": "records",
     "Preregistration": "records", "Review": "records", "Revision": "records",

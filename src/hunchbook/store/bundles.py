@@ -20,7 +20,16 @@ import zipfile
 from pathlib import Path
 from typing import Any
 
-from hunchbook.store import ideas, journal, pnl, preregistration, reviews, revisions, runs
+from hunchbook.store import (
+    chain,
+    ideas,
+    journal,
+    pnl,
+    preregistration,
+    reviews,
+    revisions,
+    runs,
+)
 from hunchbook.store.bundle_read import FORMAT, FORMAT_VERSION, MANIFEST, read_bundle
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import ImportReport
@@ -184,8 +193,9 @@ def import_bundle(db: Database, path: str | os.PathLike[str], *, by: str,
         added["runs"] += 1
     report = ImportReport(idea_id=idea_id, created=created, added=added,
                           already_present=present, conflicts=tuple(conflicts))
-    db["imports"].insert({"idea_id": idea_id, "bundle_sha256": content.sha256,
-                          "report": json.dumps(report.__dict__), "imported_by": by, "at": at})
+    chain.append(db, "imports", {"idea_id": idea_id, "bundle_sha256": content.sha256,
+                                 "report": json.dumps(report.__dict__), "imported_by": by,
+                                 "at": at})
     return report
 
 
@@ -213,11 +223,11 @@ def _import_revisions(db: Database, idea_id: int, items: list[dict[str, Any]],
             continue
         _check_uuid_free(db, "rule_revisions", item["uuid"])
         number += 1
-        mapping[item["uuid"]] = int(db["rule_revisions"].insert({
+        mapping[item["uuid"]] = chain.append(db, "rule_revisions", {
             "uuid": item["uuid"], "idea_id": idea_id, "number": number, "text": item["text"],
             "sha256": item["sha256"], "strategy_key": item["strategy_key"],
             "parameter_space": json.dumps(item["parameter_space"], sort_keys=True),
-            "saved_at": item["saved_at"], "saved_by": item["saved_by"]}).last_pk)
+            "saved_at": item["saved_at"], "saved_by": item["saved_by"]})
         added["revisions"] += 1
     return mapping
 
@@ -238,7 +248,7 @@ def _import_preregistrations(db: Database, idea_id: int, items: list[dict[str, A
                              "differs from the catalogue's; kept the catalogue's versions")
         else:
             _check_uuid_free(db, "preregistrations", item["uuid"])
-            db["preregistrations"].insert({
+            chain.append(db, "preregistrations", {
                 **{k: item[k] for k in ("uuid", "version", "rationale", "frozen_at",
                                         "frozen_by", "reason")},
                 "idea_id": idea_id, "markets": json.dumps(list(item["markets"])),

@@ -1,8 +1,17 @@
-"""Opening a catalogue file: connection pragmas, write transactions and the online backup.
+"""Connections to a catalogue file, write transactions and the online backup.
 
-Every connection runs with WAL journalling (readers never block the writer), foreign keys on,
-``synchronous=FULL`` (a committed transaction survives a crash of the process or the machine)
-and a busy timeout, so a second process waits for the write lock instead of failing.
+A connection changes nothing in the file when it opens: the journal mode is left as found, so
+that a file can be recognised as a catalogue first (see :mod:`hunchbook.store.opening`);
+:func:`enable_wal` then switches a catalogue to WAL journalling (readers never block the
+writer). Every connection has foreign keys on, ``synchronous=FULL`` (a committed transaction
+survives a crash of the process or the machine) and a busy timeout, so a second process waits
+for the write lock instead of failing.
+
+A file this process cannot write (a read-only file or folder) is opened read-only: through its
+``-wal`` file when there is one, otherwise as immutable (no ``-wal`` file: no writer has it
+open; one that starts while a read runs is not seen). SQLite would otherwise create ``-wal`` and
+``-shm`` files beside it with the file's read-only permissions, which would stop later writers
+once the file is writable again.
 """
 
 from __future__ import annotations
@@ -15,55 +24,52 @@ import time
 from collections.abc import Iterator
 from pathlib import Path
 
+from hunchbook.store import files
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.sqlite_lib import Database
 
 #: Seconds a connection waits for another process's write lock before giving up.
-BUSY_TIMEOUT_S = 15.0
+BUSY_TIMEOUT_S = files.BUSY_TIMEOUT_S
 #: Page cache per connection (KiB) and memory-mapped read window (bytes).
 CACHE_KIB = 65_536
 MMAP_BYTES = 256 * 1024 * 1024
 
 
-def connect(path: str | os.PathLike[str], *, create: bool = True) -> Database:
-    """Open (or create) a catalogue file with the catalogue's pragmas; no migration.
+def connect(path: str | os.PathLike[str], *, writable: bool) -> Database:
+    """Open an SQLite file with the catalogue's connection settings, writing nothing.
 
     Parameters
     ----------
     path
-        The SQLite file.
-    create
-        Create the file when missing; otherwise a missing file is a :class:`CatalogueError`.
+        The SQLite file; created when missing if ``writable``.
+    writable
+        Open for reading and writing; otherwise read-only, creating no file beside it.
     """
     path = Path(path)
-    if not path.exists():
-        if not create:
-            raise CatalogueError("no catalogue file here", where=str(path))
-        if not path.parent.is_dir():
-            raise CatalogueError("the folder does not exist", where=str(path.parent))
-    conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_S)
+    if writable:
+        conn = sqlite3.connect(str(path), timeout=BUSY_TIMEOUT_S)
+    else:
+        mode = "mode=ro" if files.wal_path(path).exists() else "immutable=1"
+        conn = sqlite3.connect(f"{path.resolve().as_uri()}?{mode}", uri=True,
+                               timeout=BUSY_TIMEOUT_S)
     try:
         conn.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
-        mode = _enable_wal(conn)
         conn.execute("PRAGMA foreign_keys = ON")
         conn.execute("PRAGMA synchronous = FULL")
         # Reads: keep a large catalogue's pages in memory (lists of every idea read them all).
         conn.execute(f"PRAGMA cache_size = -{CACHE_KIB}")
         conn.execute(f"PRAGMA mmap_size = {MMAP_BYTES}")
-    except sqlite3.DatabaseError as exc:
+    except BaseException:
         conn.close()
-        raise CatalogueError(f"not a catalogue (SQLite says: {exc})", where=str(path)) from None
-    if mode.lower() != "wal":
-        conn.close()
-        raise CatalogueError(f"could not switch to WAL journalling (got {mode!r})",
-                             where=str(path))
+        raise
     # no sqlite-utils plugins: the catalogue needs none, and finding them reads the
     # metadata of every installed package on each start
     return Database(conn, execute_plugins=False)
 
 
-def _enable_wal(conn: sqlite3.Connection) -> str:
-    """Switch to WAL, retrying while another process holds the lock.
+def enable_wal(db: Database, path: Path) -> None:
+    """Switch a catalogue (or a new file) to WAL journalling, retrying while another process
+    holds the lock.
 
     Changing the journal mode of a new file needs an exclusive lock and SQLite reports a
     competing connection as "database is locked" at once, without the busy handler; two
@@ -72,11 +78,20 @@ def _enable_wal(conn: sqlite3.Connection) -> str:
     deadline = time.monotonic() + BUSY_TIMEOUT_S
     while True:
         try:
-            return str(conn.execute("PRAGMA journal_mode = wal").fetchone()[0])
+            mode = str(db.execute("PRAGMA journal_mode = wal").fetchone()[0])
+            break
         except sqlite3.OperationalError as exc:
             if "locked" not in str(exc) or time.monotonic() > deadline:
                 raise
             time.sleep(0.02)
+    if mode.lower() != "wal":
+        raise CatalogueError(f"could not switch to WAL journalling (got {mode!r})",
+                             where=str(path))
+
+
+def path_of(db: Database) -> Path:
+    """The file behind a connection."""
+    return Path(db.execute("PRAGMA database_list").fetchone()[2])
 
 
 @contextlib.contextmanager
@@ -85,21 +100,31 @@ def write(db: Database) -> Iterator[Database]:
 
     The outer transaction starts with ``BEGIN IMMEDIATE``: it takes the write lock up front, so
     a concurrent writer waits on the busy timeout here instead of failing later when a read
-    transaction tries to become a write transaction.
+    transaction tries to become a write transaction. SQLite's failures (a read-only or damaged
+    file, a lock held too long, a full disk) are raised as :class:`CatalogueError`, after
+    the rollback.
     """
     conn = db.conn
     if conn.in_transaction:
         with db.atomic():
             yield db
         return
-    conn.execute("BEGIN IMMEDIATE")
     try:
-        yield db
-    except BaseException:
+        conn.execute("BEGIN IMMEDIATE")
+        try:
+            yield db
+        except BaseException:
+            if conn.in_transaction:
+                conn.execute("ROLLBACK")
+            raise
+        conn.execute("COMMIT")
+    except sqlite3.DatabaseError as exc:
         if conn.in_transaction:
             conn.execute("ROLLBACK")
-        raise
-    conn.execute("COMMIT")
+        error = files.explain(exc, path_of(db))
+        if error is None:
+            raise
+        raise error from None
 
 
 def backup(db: Database, destination: str | os.PathLike[str]) -> Path:
@@ -114,14 +139,20 @@ def backup(db: Database, destination: str | os.PathLike[str]) -> Path:
                              where=str(destination))
     if not destination.parent.is_dir():
         raise CatalogueError("the folder does not exist", where=str(destination.parent))
+    if not os.access(destination.parent, os.W_OK | os.X_OK):
+        raise CatalogueError("the folder is read-only", where=str(destination.parent))
     tmp = destination.with_name(f".{destination.name}.partial")
     tmp.unlink(missing_ok=True)
-    target = sqlite3.connect(str(tmp))
     try:
-        db.conn.backup(target)
-    finally:
-        target.close()
-    os.replace(tmp, destination)
+        target = sqlite3.connect(str(tmp))
+        try:
+            db.conn.backup(target)
+        finally:
+            target.close()
+        os.replace(tmp, destination)
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
     return destination
 
 

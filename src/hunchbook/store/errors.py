@@ -25,3 +25,15 @@ class CatalogueError(HunchbookError):
     def __str__(self) -> str:
         place = [p for p in (self.where, self.field) if p]
         return f"{', '.join(place)}: {self.problem}" if place else self.problem
+
+
+@dataclass(eq=False)
+class DamagedCatalogue(CatalogueError):
+    """The catalogue file cannot be read as Hunchbook wrote it (damaged pages, a changed
+    schema). ``advice`` says how to look into it and where the latest backup is."""
+
+    advice: str = ""
+
+    def __str__(self) -> str:
+        text = super().__str__()
+        return f"{text}; {self.advice}" if self.advice else text

@@ -1,7 +1,8 @@
 """The research journal: dated entries per idea or general, append-only.
 
-Rows are never updated or deleted (triggers refuse it); editing an entry appends a
-``correction`` entry that points at it.
+Rows are never updated, replaced or deleted (triggers refuse it, and each row's hash is chained
+to the row before: see :mod:`hunchbook.store.chain`); editing an entry appends a ``correction``
+entry that points at it.
 """
 
 from __future__ import annotations
@@ -9,7 +10,7 @@ from __future__ import annotations
 import uuid as uuidlib
 from typing import Any
 
-from hunchbook.store import validate
+from hunchbook.store import chain, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Entry
 from hunchbook.store.sqlite_lib import Database
@@ -44,7 +45,7 @@ def append(db: Database, *, idea_id: int | None, kind: str, text: str, by: str, 
         "at": at,
         "corrects": corrects,
     }
-    return int(db["journal"].insert(row).last_pk)
+    return chain.append(db, "journal", row)
 
 
 def get(db: Database, entry_id: int) -> Entry:

@@ -3,7 +3,8 @@
 Each migration is one function registered on :data:`MIGRATIONS` (sqlite-utils ``Migrations``);
 each runs in a transaction together with its row in ``_sqlite_migrations`` and sets
 ``PRAGMA user_version`` to its number. A shipped migration is never edited; a change is a new
-one. :func:`open_catalogue_db` backs the file up (online backup API) before applying any.
+one. :func:`hunchbook.store.opening.open_catalogue_db` backs the file up (online backup API)
+before applying any.
 
 Versions
 --------
@@ -16,14 +17,17 @@ Versions
 4. ``idea_search``: one FTS5 document per idea holding its title, hypothesis, rationale and
    all its journal text, replacing the indexes of version 2 (searches with many matching
    journal entries were too slow); built from the existing rows.
+5. ``tamper_evidence``: every append-only table refuses an insert whose key is taken
+   (``REPLACE`` would otherwise delete the old row without firing the delete trigger), and
+   each row of the chained tables holds its hash chained to the row before
+   (:mod:`hunchbook.store.chain`), computed for the existing rows.
+
+Files are opened, recognised and migrated by :mod:`hunchbook.store.opening`.
 """
 
 from __future__ import annotations
 
-import os
-from pathlib import Path
-
-from hunchbook.store import db as dbmod
+from hunchbook.store import chain
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.sqlite_lib import Database, Migrations
 from hunchbook.store.vocab import (
@@ -243,6 +247,41 @@ def _idea_search(db: Database) -> None:
     db.execute("PRAGMA user_version = 4")
 
 
+#: The keys that identify a row of each append-only table (its primary key and UNIQUE sets).
+_KEYS = {
+    "rule_revisions": (("id",), ("uuid",), ("idea_id", "number")),
+    "preregistrations": (("id",), ("uuid",), ("idea_id", "version")),
+    "runs": (("id",), ("uuid",)),
+    "trials": (("run_id", "params"),),
+    "journal": (("id",), ("uuid",)),
+    "reviews": (("id",), ("uuid",)),
+    "imports": (("id",),),
+}
+
+
+def _refusal(table: str) -> str:
+    return f"BEGIN SELECT RAISE(ABORT, '{table} rows are append-only'); END"
+
+
+@MIGRATIONS(name="0005_tamper_evidence")
+def _tamper_evidence(db: Database) -> None:
+    # REPLACE resolves a key conflict by deleting the old row, and that delete fires no trigger
+    # unless the connection turned recursive_triggers on: refuse the insert itself instead.
+    for table, keys in _KEYS.items():
+        taken = " OR ".join(
+            f"EXISTS (SELECT 1 FROM {table} WHERE "
+            + " AND ".join(f"{column} = new.{column}" for column in key) + ")" for key in keys)
+        db.execute(f"CREATE TRIGGER {table}_no_replace BEFORE INSERT ON {table} WHEN {taken} "
+                   + _refusal(table))
+    for table in chain.COLUMNS:
+        db.execute(f"ALTER TABLE {table} ADD COLUMN row_hash TEXT")
+        db.execute(f"DROP TRIGGER {table}_no_update")
+        chain.seal(db, table)
+        db.execute(f"CREATE TRIGGER {table}_no_update BEFORE UPDATE ON {table} "
+                   + _refusal(table))
+    db.execute("PRAGMA user_version = 5")
+
+
 #: The schema version this code writes (the number of migrations).
 SCHEMA_VERSION = len(MIGRATIONS._migrations)
 
@@ -265,52 +304,7 @@ def schema_version(db: Database) -> int:
     return len(applied)
 
 
-def open_catalogue_db(path: str | os.PathLike[str], *, create: bool = True,
-                      stop_before: str | None = None) -> Database:
-    """Open a catalogue file and bring its schema to the current version.
-
-    When an existing catalogue needs migrating, it is first copied with the online backup API
-    to ``<name>.v<old>-backup-<UTC time><suffix>`` next to it.
-
-    Parameters
-    ----------
-    path
-        The catalogue file.
-    create
-        Create a new catalogue if the file is missing.
-    stop_before
-        Stop before this migration (tests use it to build catalogues at earlier versions).
-    """
-    path = Path(path)
-    db = dbmod.connect(path, create=create)
-    try:
-        _check_is_catalogue(db, path)
-        try:
-            version = schema_version(db)
-        except CatalogueError as exc:
-            exc.where = str(path)
-            raise
-        if _pending(db, stop_before) and version > 0:
-            stamp = dbmod.timestamp(dbmod.utc_now()).replace(":", "").replace(".", "-")
-            dbmod.backup(db, path.with_name(f"{path.stem}.v{version}-backup-{stamp}{path.suffix}"))
-        # All pending migrations run in one write transaction, checked again under the lock:
-        # two processes opening an old catalogue at once migrate it exactly once.
-        with dbmod.write(db):
-            if _pending(db, stop_before):
-                MIGRATIONS.apply(db, stop_before=stop_before)
-    except BaseException:
-        db.close()
-        raise
-    return db
-
-
-def _pending(db: Database, stop_before: str | None) -> list[str]:
+def pending(db: Database, stop_before: str | None = None) -> list[str]:
+    """Names of the migrations not yet applied (those before ``stop_before`` when given)."""
     names = [m.name for m in MIGRATIONS.pending(db)]
     return names[:names.index(stop_before)] if stop_before in names else names
-
-
-def _check_is_catalogue(db: Database, path: Path) -> None:
-    tables = set(db.table_names())
-    if tables and Migrations.migrations_table not in tables:
-        raise CatalogueError("this SQLite file is not a Hunchbook catalogue (it has other "
-                             "tables and no schema history)", where=str(path))

@@ -12,7 +12,7 @@ import json
 import uuid as uuidlib
 from typing import Any
 
-from hunchbook.store import journal
+from hunchbook.store import chain, journal
 from hunchbook.store.records import Idea, Preregistration, Revision
 from hunchbook.store.sqlite_lib import Database
 
@@ -66,7 +66,7 @@ def space_changed(db: Database, idea_id: int, revision: Revision) -> bool:
 
 def _insert(db: Database, idea_id: int, version: int, rationale: str, markets: tuple[str, ...],
             revision: Revision, *, by: str, at: str, reason: str) -> None:
-    db["preregistrations"].insert({
+    chain.append(db, "preregistrations", {
         "uuid": str(uuidlib.uuid4()), "idea_id": idea_id, "version": version,
         "rationale": rationale, "markets": json.dumps(list(markets)),
         "parameter_space": json.dumps(revision.parameter_space, sort_keys=True),

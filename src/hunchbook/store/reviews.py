@@ -7,7 +7,7 @@ import uuid as uuidlib
 from collections.abc import Mapping
 from typing import Any
 
-from hunchbook.store import validate
+from hunchbook.store import chain, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Review
 from hunchbook.store.sqlite_lib import Database
@@ -48,16 +48,17 @@ def check_decision(decision: Any, checklist: dict[str, bool], comments: str) -> 
 def insert(db: Database, idea_id: int, *, reviewer: str, checklist: dict[str, bool],
            decision: str, comments: str, at: str, review_uuid: str | None = None) -> int:
     """Write one review row (already validated) and return its id."""
-    return int(db["reviews"].insert({
+    return chain.append(db, "reviews", {
         "uuid": review_uuid or str(uuidlib.uuid4()), "idea_id": idea_id, "reviewer": reviewer,
         "checklist": json.dumps(checklist), "decision": decision, "comments": comments,
-        "at": at}).last_pk)
+        "at": at})
 
 
 def of_idea(db: Database, idea_id: int) -> list[Review]:
     """The idea's reviews, oldest first."""
-    return [Review(**{**r, "checklist": json.loads(r["checklist"])}) for r in db.query(
-        "SELECT * FROM reviews WHERE idea_id = ? ORDER BY id", [idea_id])]
+    return [Review(**{**{k: r[k] for k in Review.__dataclass_fields__},
+                      "checklist": json.loads(r["checklist"])})
+            for r in db.query("SELECT * FROM reviews WHERE idea_id = ? ORDER BY id", [idea_id])]
 
 
 def journal_text(checklist: dict[str, bool], decision: str, comments: str) -> str:

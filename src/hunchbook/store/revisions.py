@@ -19,7 +19,7 @@ import tomllib
 import uuid as uuidlib
 from typing import Any
 
-from hunchbook.store import validate
+from hunchbook.store import chain, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Revision
 from hunchbook.store.sqlite_lib import Database
@@ -85,7 +85,7 @@ def save(db: Database, idea_id: int, text: str, *, by: str, at: str,
            "text": text, "sha256": digest, "strategy_key": key,
            "parameter_space": json.dumps(space, sort_keys=True), "saved_at": at,
            "saved_by": by}
-    return get(db, int(db["rule_revisions"].insert(row).last_pk)), True
+    return get(db, chain.append(db, "rule_revisions", row)), True
 
 
 def get(db: Database, revision_id: int) -> Revision:
@@ -110,4 +110,5 @@ def latest(db: Database, idea_id: int) -> Revision | None:
 
 
 def _revision(row: dict[str, Any]) -> Revision:
-    return Revision(**{**row, "parameter_space": json.loads(row["parameter_space"])})
+    fields = {k: row[k] for k in Revision.__dataclass_fields__}  # not the chain's row_hash
+    return Revision(**{**fields, "parameter_space": json.loads(row["parameter_space"])})

@@ -27,7 +27,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from hunchbook.core.errors import RecordError
-from hunchbook.store import pnl, validate
+from hunchbook.store import chain, pnl, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Revision, RunRecord
 from hunchbook.store.sqlite_lib import Database
@@ -59,9 +59,13 @@ class RunInput:
     daily_pnl: bytes
 
 
+#: ``json.dumps(..., sort_keys=True)`` without building an encoder per call (the same text).
+_KEY_JSON = json.JSONEncoder(sort_keys=True)
+
+
 def params_key(params: Mapping[str, float]) -> str:
     """Canonical text of a parameter set: JSON, names sorted, values as floats."""
-    return json.dumps({k: float(v) for k, v in params.items()}, sort_keys=True)
+    return _KEY_JSON.encode({k: float(v) for k, v in params.items()})
 
 
 def clean(*, summary: Any, data_fingerprint: Any, engine_version: Any,
@@ -126,6 +130,29 @@ def _finite(x: float) -> float | None:
     return x if math.isfinite(x) else None
 
 
+def set_sharpes(summary: Any, keys: set[str]) -> dict[str, float | None]:
+    """The net Sharpe of each parameter set (by :func:`params_key`) in a run's summary, which
+    must cover exactly ``keys``."""
+    if not isinstance(summary, Mapping) or not isinstance(summary.get("sets"), list):
+        raise CatalogueError("expected a table with 'sets': a list of {params, net_sharpe}",
+                             field="summary")
+    out: dict[str, float | None] = {}
+    for i, item in enumerate(summary["sets"]):
+        field = f"summary.sets[{i}]"
+        if not isinstance(item, Mapping) or "params" not in item or "net_sharpe" not in item:
+            raise CatalogueError("expected a table with 'params' and 'net_sharpe'", field=field)
+        key = params_key(validate.param_set(item["params"], f"{field}.params"))
+        if key not in keys:
+            raise CatalogueError(f"set {key} is not among the parameter sets", field=field)
+        if key in out:
+            raise CatalogueError(f"set {key} appears twice", field=field)
+        out[key] = validate.optional_number(item["net_sharpe"], f"{field}.net_sharpe")
+    if len(out) != len(keys):
+        raise CatalogueError(f"{len(keys) - len(out)} parameter set(s) have no summary",
+                             field="summary.sets")
+    return out
+
+
 def insert(db: Database, idea_id: int, revision: Revision, run: RunInput, *, by: str, at: str,
            run_uuid: str | None = None) -> int:
     """Write a cleaned run and its trials; refresh the idea's last verdict and trial count."""
@@ -133,7 +160,7 @@ def insert(db: Database, idea_id: int, revision: Revision, run: RunInput, *, by:
         "SELECT DISTINCT params FROM trials WHERE idea_id = ? AND strategy_key = ?",
         [idea_id, revision.strategy_key])}
     count = trial_count(db, idea_id) + sum(key not in seen for key, _ in run.set_sharpes)
-    run_id = int(db["runs"].insert({
+    run_id = chain.append(db, "runs", {
         "uuid": run_uuid or str(uuidlib.uuid4()), "idea_id": idea_id,
         "revision_id": revision.id, "parameter_sets": json.dumps(run.parameter_sets),
         "set_count": len(run.parameter_sets), "data_fingerprint": run.data_fingerprint,
@@ -141,7 +168,7 @@ def insert(db: Database, idea_id: int, revision: Revision, run: RunInput, *, by:
         "statistics": run.statistics, "verdict": run.verdict, "verdict_label": run.verdict_label,
         "chosen_params": json.dumps(run.chosen_params), "chosen_net_sharpe": run.chosen_net_sharpe,
         "trial_count": count, "daily_pnl": run.daily_pnl, "recorded_at": at,
-        "recorded_by": validate.name(by, "by")}).last_pk)
+        "recorded_by": validate.name(by, "by")})
     db["trials"].insert_all(
         {"run_id": run_id, "idea_id": idea_id, "strategy_key": revision.strategy_key,
          "params": key, "net_sharpe": sharpe} for key, sharpe in run.set_sharpes)
