@@ -66,3 +66,14 @@ def test_listing_ideas_and_writing_the_journal_load_no_pandas(catalogue: Path) -
     assert added["status"] == 0 and added["loaded"] == ["sqlite_utils"]
     with Catalogue(catalogue) as cat:
         assert [e.text for e in cat.journal(1)][-1] == "Looked at the longer history."
+
+
+def test_reading_run_records_loads_no_scipy() -> None:
+    """The run record, its presenter and the verdict words (what the window and the catalogue
+    read) import without the statistics library: scipy loads only when statistics are
+    computed."""
+    code = ("import sys, hunchbook.core.results, hunchbook.core.presenter; "
+            "print('scipy' in sys.modules)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout
+    assert out.strip() == "False"
