@@ -501,18 +501,31 @@ def test_screenshot_option_writes_a_png(qtbot, demo_catalogue, short_data, tmp_p
     QApplication.processEvents()
 
 
-def test_demo_opens_on_the_accepted_idea_with_its_data(qtbot, tmp_path):
-    """``--demo`` opens the 15-idea demo catalogue with the accepted idea selected, and the
-    data folder is set once the demo data is written."""
+def test_demo_opens_on_the_accepted_idea_with_its_data(qtbot, tmp_path, monkeypatch):
+    """``--demo`` shows the window at once, writes the demo desk and data on workers (never
+    on the UI thread), then opens the 15-idea catalogue with the accepted idea selected and
+    sets the data folder."""
+    import threading
+
+    from hunchbook.demo import catalogue as demo_catalogue
     from hunchbook.gui.app import parse_args, start
 
+    threads = []
+    build = demo_catalogue.build_demo_catalogue
+
+    def recorded(path):
+        threads.append(threading.current_thread())
+        return build(path)
+
+    monkeypatch.setattr(demo_catalogue, "build_demo_catalogue", recorded)
     session = start(parse_args(["--demo"]))
     qtbot.addWidget(session.window)
     try:
         win = session.window
+        assert session.wait_for_demo_data()
+        assert threads and threading.main_thread() not in threads
         assert win.catalogue_panel.model.rowCount() == 15
         assert win.catalogue.idea(win.current_idea_id()).stage == "accepted"
-        assert session.wait_for_demo_data()
         assert (win.data_folder / "markets.toml").is_file()
         assert len(win.library) == 8
         assert not win.remembered_paths()[0]

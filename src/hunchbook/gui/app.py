@@ -53,20 +53,20 @@ class Session:
     app: QApplication
     window: MainWindow
     temp_dir: Path | None = None
-    demo_worker: CallWorker | None = None
+    demo_workers: list[CallWorker] = field(default_factory=list)
     started_at: float = field(default_factory=time.perf_counter)
 
     def wait_for_demo_data(self, timeout_ms: int = DEMO_DATA_TIMEOUT_MS) -> bool:
-        """Run the event loop until the demo data is written (True) or the time is up."""
-        worker = self.demo_worker
-        if worker is None:
-            return True
+        """Run the event loop until the demo catalogue and data are written (True) or the
+        time is up."""
         deadline = time.monotonic() + timeout_ms / 1000
-        while not worker.done.is_set() and time.monotonic() < deadline:
-            QCoreApplication.processEvents(QEventLoop.ProcessEventsFlag.AllEvents, 50)
-            worker.done.wait(0.01)
-        QCoreApplication.processEvents()  # deliver the worker's last (queued) signals
-        return self.window.data_folder is not None
+        for worker in self.demo_workers:
+            while not worker.done.is_set() and time.monotonic() < deadline:
+                QCoreApplication.processEvents(QEventLoop.ProcessEventsFlag.AllEvents, 50)
+                worker.done.wait(0.01)
+        QCoreApplication.processEvents()  # deliver the workers' last (queued) signals
+        return not self.demo_workers or (self.window.catalogue is not None
+                                         and self.window.data_folder is not None)
 
     def cleanup(self) -> None:
         """Remove the demo's temporary folder."""
@@ -137,12 +137,17 @@ def start(options: argparse.Namespace) -> Session:
         data = options.data or remembered_data
         if data is not None and data.is_dir():
             window.set_data_folder(data)
+        _show_asked(window, options)
+    window.show()
+    return session
+
+
+def _show_asked(window: MainWindow, options: argparse.Namespace) -> None:
+    """Select the idea and section the options name."""
     if options.idea is not None and not window.select_idea(options.idea):
         window.status_message(f"There is no idea {options.idea} in this catalogue.")
     if options.section:
         window.show_section(options.section)
-    window.show()
-    return session
 
 
 def _demo_user() -> str:
@@ -159,28 +164,38 @@ def _default_catalogue() -> Path:
 
 
 def _start_demo(session: Session, options: argparse.Namespace) -> None:
-    """Open a fresh copy of the demo catalogue; write the demo data on a worker."""
+    """Write a fresh copy of the demo catalogue and the demo data on workers; the window
+    shows at once and opens each when it is ready."""
     from hunchbook.demo import write_demo_data
     from hunchbook.demo.catalogue import build_demo_catalogue
 
     window = session.window
     session.temp_dir = Path(tempfile.mkdtemp(prefix="hunchbook-demo-"))
-    window.open_catalogue(build_demo_catalogue(session.temp_dir / "demo-catalogue.sqlite"))
+    window.status_message("Writing the invented demo desk in the background\u2026")
+    desk = CallWorker(build_demo_catalogue, session.temp_dir / "demo-catalogue.sqlite")
+    desk.signals.finished.connect(lambda path: _demo_desk_ready(window, path, options))
+    desk.signals.failed.connect(lambda message: window.show_error(
+        "Demo desk not written", message))
+    session.demo_workers.append(desk)
     if options.data is not None:
         window.set_data_folder(options.data)
     else:
-        worker = CallWorker(write_demo_data, session.temp_dir / "data")
-        worker.signals.finished.connect(lambda folder: _demo_data_ready(window, folder))
-        worker.signals.failed.connect(lambda message: window.show_error(
+        data = CallWorker(write_demo_data, session.temp_dir / "data")
+        data.signals.finished.connect(lambda folder: _demo_data_ready(window, folder))
+        data.signals.failed.connect(lambda message: window.show_error(
             "Demo data not written", message))
-        session.demo_worker = worker
-        window.status_message("Writing the invented demo data in the background\u2026")
+        session.demo_workers.append(data)
+    for worker in session.demo_workers:
         worker.start()
-    if options.idea is None:
-        ready = [i.id for i in window.catalogue.list_ideas(stage="accepted")] \
-            if window.catalogue is not None else []
+
+
+def _demo_desk_ready(window: MainWindow, path: Path, options: argparse.Namespace) -> None:
+    window.open_catalogue(path)
+    if options.idea is None and window.catalogue is not None:
+        ready = [i.id for i in window.catalogue.list_ideas(stage="accepted")]
         if ready:
             window.select_idea(ready[0])
+    _show_asked(window, options)
 
 
 def _demo_data_ready(window: MainWindow, folder: Path) -> None:
