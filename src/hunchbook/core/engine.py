@@ -157,7 +157,8 @@ class Backtest:
 
     def run(self, params: Mapping[str, float]) -> EngineOutput:
         """Run one parameter set: positions, gross P&L and contracts traded."""
-        signal = self.position.evaluate(self.panel.series, params, self.cache)
+        signal = self.position.evaluate(self.panel.series, params, self.cache,
+                                        date_index=self.panel.date_index)
         if not (isinstance(self.contracts, float) and self.contracts == 1.0):
             signal = signal * self.contracts
         if self.delay:
