@@ -97,7 +97,7 @@ class Expression:
         """
         bound = bind(self.root, params)
         arrays, shape = _prepare_series(series, self._series)
-        if date_index is not None and np.shape(date_index) != shape:
+        if date_index is not None and shape and np.shape(date_index) != shape:
             raise ValueError(f"date_index has shape {np.shape(date_index)}; the series have "
                              f"shape {shape}")
         result = evaluate_bound(bound, arrays, shape, cache, date_index)
