@@ -17,6 +17,7 @@ from scipy.stats import rankdata
 from hunchbook.api import Study
 from hunchbook.core.errors import RuleError
 from hunchbook.core.expr import parse_expression
+from hunchbook.core.expr.cross_section import DateGrid
 from tests.core.function_data import MARKETS, rule_text, write_folder
 
 
@@ -125,6 +126,9 @@ def test_markets_are_lined_up_by_date_not_by_row():
         assert np.isnan(got_rank[n:, j]).all()  # padding
     # read row by row instead, the markets would be compared across different dates
     assert not np.allclose(_evaluate("cs_rank(x)", x)[:6], got_rank[:6], equal_nan=True)
+    # a DateGrid built once from the date index (as the engine keeps one) places cells alike
+    reused = DateGrid(x.shape, date_index)
+    np.testing.assert_array_equal(_evaluate("cs_rank(x)", x, reused), got_rank)
 
 
 def test_a_1d_series_is_one_market():

@@ -20,6 +20,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from hunchbook.api import Study
+from hunchbook.core.errors import RuleError
 from hunchbook.core.expr import parse_expression
 from tests.core.function_data import MARKETS, rule_text, write_folder
 from tests.reference_impl import continuous, random_contract_rows
@@ -235,8 +236,13 @@ def test_results_are_cached_like_windows():
     text = "hold(sign(diff(close, 3)), 4) + stop(sign(diff(close, 3)), 1, 5)"
     expression = parse_expression(text, series_names={"close"}, param_names=())
     first = expression.evaluate({"close": close}, {}, cache)
-    assert {key.function for key in cache} == {"hold", "stop", "diff"}
+    assert sorted(key.function for key in cache) == ["diff", "diff", "hold", "std", "stop"]
     np.testing.assert_array_equal(expression.evaluate({"close": close}, {}, cache), first)
+    # stop's standard deviation of daily changes is the one std(diff(close, 1), n) computes
+    # (the volatility target's measure): computed once, then shared
+    sigma = parse_expression("std(diff(close, 1), 5)", series_names={"close"}, param_names=())
+    sigma.evaluate({"close": close}, {}, cache)
+    assert len(cache) == 5
 
 
 @pytest.fixture(scope="module")
@@ -280,3 +286,18 @@ def test_run_positions_are_the_loops_on_the_adjusted_close(folder, position):
         np.testing.assert_array_equal(got.index.to_numpy(), expected.index.to_numpy())
         np.testing.assert_allclose(got.to_numpy(), expected.to_numpy(), rtol=0, atol=0)
     assert frames[MARKETS[0][0]]["roll"].sum() >= 4  # the data really roll
+
+
+def test_stop_misuse_names_stop_at_its_column():
+    # Source: the language rules in docs/rule-files.md (n of stop is a whole number of bars
+    # from 2 built from numbers and parameters; stop reads close itself).
+    with pytest.raises(RuleError, match=r"window of stop\(\) must be .* between 2 and") as at:
+        parse_expression("stop(x, 2, 1)", series_names={"x", "close"}, param_names=())
+    assert at.value.column == 12
+    expression = parse_expression("stop(x, 2, n)", series_names={"x", "close"},
+                                  param_names={"n"})
+    with pytest.raises(RuleError, match=r"window of stop\(\) .* got 1\.5") as bound:
+        expression.evaluate({"x": np.ones(5), "close": np.ones(5)}, {"n": 1.5})
+    assert bound.value.column == 12
+    with pytest.raises(RuleError, match="reads the series 'close', which is not available"):
+        parse_expression("stop(x, 2, 5)", series_names={"x"}, param_names=())

@@ -143,15 +143,16 @@ def _bind(node: Node, params: Mapping[str, float]) -> Node:
         return Conditional(condition, then, otherwise, node.column)
     assert isinstance(node, Call)
     spec = FUNCTION_SPECS[node.function]
-    args = tuple(_bind(arg, params) for arg in node.args)
-    if spec.is_window:
-        at = spec.window_index
-        window = args[at]
-        assert isinstance(window, Num)
-        problem = spec.window_problem(window.value)
+    window = None
+    if spec.is_window:  # checked first: implied arguments may hold the window too
+        bound = _bind(node.args[spec.window_index], params)
+        assert isinstance(bound, Num)
+        problem = spec.window_problem(bound.value)
         if problem:
-            raise RuleError(problem, column=node.args[at].column)
-        args = (*args[:at], Num(float(round(window.value))), *args[at + 1:])
+            raise RuleError(problem, column=node.args[spec.window_index].column)
+        window = Num(float(round(bound.value)))
+    args = tuple(window if window is not None and i == spec.window_index else _bind(arg, params)
+                 for i, arg in enumerate(node.args))
     if spec.is_series_function or not all(isinstance(arg, Num) for arg in args):
         return Call(node.function, args, node.column)
     return Num(_finite(spec.compute(*(arg.value for arg in args))), node.column)
@@ -169,16 +170,17 @@ def lookback(node: Node) -> int:
 
 
 def evaluate_bound(node: Node, series: Mapping[str, np.ndarray], shape: tuple[int, ...],
-                   cache: dict | None, date_index: np.ndarray | None = None) -> Value:
+                   cache: dict | None, date_index: np.ndarray | DateGrid | None = None) -> Value:
     """Compute a bound tree over ``series`` (finite-or-NaN, read-only arrays of ``shape``).
 
     Results of series functions (``mean``, ``lag``, ``hold``, ``cs_rank``, ...) are looked up
     in and stored into ``cache`` (read-only) when one is given. ``date_index`` places each cell
-    on a shared axis of dates for the cross-sectional functions (see
-    :class:`~hunchbook.core.expr.cross_section.DateGrid`).
+    on a shared axis of dates for the cross-sectional functions (or is a
+    :class:`~hunchbook.core.expr.cross_section.DateGrid` built from one).
     """
+    grid = date_index if isinstance(date_index, DateGrid) else DateGrid(shape, date_index)
     with np.errstate(all="ignore"):
-        return _evaluate(node, series, shape, cache, DateGrid(shape, date_index))
+        return _evaluate(node, series, shape, cache, grid)
 
 
 def _evaluate(node: Node, series: Mapping[str, np.ndarray], shape: tuple[int, ...],

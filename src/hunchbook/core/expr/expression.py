@@ -8,6 +8,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from hunchbook.core.errors import RuleError
+from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.expr.evaluate import bind, evaluate_bound, lookback
 from hunchbook.core.expr.nodes import Node, ParamRef, SeriesRef
 from hunchbook.core.expr.parser import parse_tree
@@ -57,7 +58,7 @@ class Expression:
 
     def evaluate(self, series: Mapping[str, np.ndarray], params: Mapping[str, float],
                  cache: dict | None = None, *,
-                 date_index: np.ndarray | None = None) -> np.ndarray | float:
+                 date_index: np.ndarray | DateGrid | None = None) -> np.ndarray | float:
         """Compute the expression at the close of every bar.
 
         Parameters
@@ -78,7 +79,9 @@ class Expression:
             dates shared by the markets, -1 where a cell is no bar (padding), as
             :attr:`hunchbook.core.panel.Panel.date_index`. The cross-sectional functions
             (``cs_rank``, ...) compare markets on the same date through it; without it, row
-            ``r`` of every column is taken as the same date.
+            ``r`` of every column is taken as the same date. A
+            :class:`~hunchbook.core.expr.cross_section.DateGrid` built from it may be given
+            instead, to reuse its placement between evaluations.
 
         Returns
         -------
@@ -97,9 +100,9 @@ class Expression:
         """
         bound = bind(self.root, params)
         arrays, shape = _prepare_series(series, self._series)
-        if date_index is not None and shape and np.shape(date_index) != shape:
-            raise ValueError(f"date_index has shape {np.shape(date_index)}; the series have "
-                             f"shape {shape}")
+        given = date_index.shape if isinstance(date_index, DateGrid) else np.shape(date_index)
+        if date_index is not None and shape and given != shape:
+            raise ValueError(f"date_index has shape {given}; the series have shape {shape}")
         result = evaluate_bound(bound, arrays, shape, cache, date_index)
         if not self._series:
             return float(result)

@@ -11,6 +11,7 @@ import numpy as np
 from hunchbook.core.expr import cross_section, holding, rolling
 from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.expr.limits import MAX_WINDOW
+from hunchbook.core.expr.nodes import Call, Node, Num, SeriesRef
 
 #: A computed value: a float, or an array of shape (bars, markets) (or (bars,)).
 Value = float | np.ndarray
@@ -22,14 +23,16 @@ class FunctionSpec:
 
     Window functions take a window ``n`` (a whole number of bars or a count, at least
     ``window_min``) as argument number ``window_index``, built from numbers and parameters only.
-    Their value is first defined ``n + lookback_offset`` bars after argument number
-    ``window_over`` is (``lookback_offset`` None: the window adds no bars).
+    Their value is first defined ``n + lookback_offset`` bars after the first argument is
+    (``lookback_offset`` None: the window adds no bars).
 
     Series functions (window, holding and cross-sectional functions) read their first argument,
     which must depend on a series, as a whole array; their calls are never folded into a number
     and their results are cached. A cross-sectional function's ``compute`` takes a
-    :class:`~hunchbook.core.expr.cross_section.DateGrid` first. ``reads`` names series the
-    function reads besides its arguments; the parser appends them to the call's arguments.
+    :class:`~hunchbook.core.expr.cross_section.DateGrid` first. ``implied`` builds, from the
+    call's arguments and column, what the function reads besides them (``stop``: ``close`` and
+    ``std(diff(close, 1), n)``, so the standard deviation is cached and shared); the parser
+    appends those nodes to the call's arguments.
     """
 
     name: str
@@ -40,10 +43,9 @@ class FunctionSpec:
     window_label: str = "window"
     lookback_offset: int | None = -1
     window_index: int = 1
-    window_over: int = 0
     path_dependent: bool = False
     cross_sectional: bool = False
-    reads: tuple[str, ...] = ()
+    implied: Callable[[tuple[Node, ...], int], tuple[Node, ...]] | None = None
 
     @property
     def signature(self) -> str:
@@ -65,7 +67,7 @@ class FunctionSpec:
         deepest = max(below, default=0)
         if self.lookback_offset is None:
             return deepest
-        return max(deepest, below[self.window_over] + window + self.lookback_offset)
+        return max(deepest, below[0] + window + self.lookback_offset)
 
     def window_problem(self, value: float) -> str | None:
         """What is wrong with ``value`` as this function's window (None when it is fine)."""
@@ -92,6 +94,13 @@ def _across(kernel: Callable[..., np.ndarray]) -> Callable[..., np.ndarray]:
     def compute(grid: DateGrid, x: np.ndarray, *args: int) -> np.ndarray:
         return grid.gather(kernel(grid.scatter(x), *args))
     return compute
+
+
+def _stop_reads(args: tuple[Node, ...], column: int) -> tuple[Node, ...]:
+    """What ``stop(x, k, n)`` reads besides its arguments: the close and the standard
+    deviation of its daily changes over ``n`` bars."""
+    close = SeriesRef("close", column)
+    return close, Call("std", (Call("diff", (close, Num(1.0, column)), column), args[2]), column)
 
 
 _SPECS = (
@@ -151,8 +160,9 @@ _SPECS = (
     FunctionSpec("stop", ("x", "k", "n"),
                  "x, but 0 once close has moved against the trade's entry close by more than "
                  "k x std of daily changes over n bars at entry, until x changes sign",
-                 holding.stop, window_min=2, window_index=2, window_over=3, lookback_offset=0,
-                 path_dependent=True, reads=("close",)),
+                 lambda x, k, n, close, sigma: holding.stop(x, k, close, sigma), window_min=2,
+                 window_index=2, lookback_offset=None, path_dependent=True,
+                 implied=_stop_reads),
 )
 
 #: Every built-in function by name.

@@ -64,18 +64,16 @@ def bars_since(c: np.ndarray) -> np.ndarray:
     return np.where(last >= 0, rows - last, np.nan).astype(np.float64)
 
 
-def stop(x: np.ndarray, k: np.ndarray, n: int, close: np.ndarray) -> np.ndarray:
+def stop(x: np.ndarray, k: np.ndarray, close: np.ndarray, sigma: np.ndarray) -> np.ndarray:
     """``x`` with a volatility stop on each trade.
 
-    A bar is *ready* where ``x``, ``k``, ``close`` and ``sigma`` are defined, ``sigma`` being the
-    sample standard deviation of the last ``n`` changes of ``close`` (bar to bar). A trade is a
+    A bar is *ready* where ``x``, ``k``, ``close`` and ``sigma`` are defined (``sigma``: the
+    sample standard deviation of the last ``n`` changes of ``close``, bar to bar). A trade is a
     run of consecutive ready bars on which ``sign(x)`` is the same and non-zero; it enters on its
     first bar ``e``. From the first bar ``t`` of the trade on which the loss
     ``-sign(x) * (close[t] - close[e])`` exceeds ``k[e] * sigma[e]``, the result is 0 until the
     trade ends; otherwise it is ``x``. Bars that are not ready are NaN.
     """
-    change = close - rolling.shift(close, 1)
-    sigma = rolling.rolling_mean_std(change, n)[1]
     ready = ~(np.isnan(x) | np.isnan(k) | np.isnan(close) | np.isnan(sigma))
     side = np.where(ready, np.sign(x), np.nan)
     trading = ready & (side != 0)

@@ -288,15 +288,20 @@ class _Converter:
         args = tuple(self.convert(arg) for arg in node.args)
         if spec.is_series_function:
             self.check_series_call(spec, args)
-        return Call(name, args + tuple(self.read(spec, series, column) for series in spec.reads),
-                    column)
+        return Call(name, args + self.implied(spec, args, column), column)
 
-    def read(self, spec: FunctionSpec, name: str, column: int) -> SeriesRef:
-        """The series a function reads besides its arguments (``close`` for ``stop``)."""
-        if name not in self.series:
-            raise self.fail(f"{spec.signature} reads the series '{name}', which is not "
-                            "available here", column)
-        return SeriesRef(name, column)
+    def implied(self, spec: FunctionSpec, args: tuple[Node, ...],
+                column: int) -> tuple[Node, ...]:
+        """What a function reads besides its arguments (``close`` for ``stop``)."""
+        if spec.implied is None:
+            return ()
+        nodes = spec.implied(args, column)
+        for node in nodes:
+            for sub in node.walk():
+                if isinstance(sub, SeriesRef) and sub.name not in self.series:
+                    raise self.fail(f"{spec.signature} reads the series '{sub.name}', which "
+                                    "is not available here", column)
+        return nodes
 
     def check_series_call(self, spec: FunctionSpec, args: tuple[Node, ...]) -> None:
         x = args[0]
