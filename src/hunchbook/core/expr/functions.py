@@ -26,9 +26,10 @@ class FunctionSpec:
     Their value is first defined ``n + lookback_offset`` bars after the first argument is
     (``lookback_offset`` None: the window adds no bars).
 
-    Series functions (window, holding and cross-sectional functions) read their first argument,
-    which must depend on a series, as a whole array; their calls are never folded into a number
-    and their results are cached. A cross-sectional function's ``compute`` takes a
+    Series functions (window functions, holding rules marked ``path_dependent`` and functions
+    across markets marked ``cross_sectional``) read their first argument, which must depend on
+    a series, as a whole array; their calls are never folded into a number and their results
+    are cached. A cross-sectional function's ``compute`` takes a
     :class:`~hunchbook.core.expr.cross_section.DateGrid` first. ``implied`` builds, from the
     call's arguments and column, what the function reads besides them (``stop``: ``close`` and
     ``std(diff(close, 1), n)``, so the standard deviation is cached and shared); the parser
@@ -54,7 +55,7 @@ class FunctionSpec:
 
     @property
     def is_window(self) -> bool:
-        """True for functions over a window of past bars, whose second argument is that window."""
+        """True for functions with a window (or count) argument, argument ``window_index``."""
         return self.window_min is not None
 
     @property
@@ -150,7 +151,7 @@ _SPECS = (
                  window_label="count", lookback_offset=None, cross_sectional=True),
     FunctionSpec("hold", ("x", "n"),
                  "a non-zero x kept for n bars (the entry bar included), then 0 unless a new "
-                 "entry", holding.hold, window_min=1, lookback_offset=None),
+                 "entry", holding.hold, window_min=1, lookback_offset=None, path_dependent=True),
     FunctionSpec("latch", ("entry", "exit"),
                  "entry's non-zero value kept until a bar where exit is true, then 0",
                  holding.latch, path_dependent=True),
