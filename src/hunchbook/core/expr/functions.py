@@ -27,7 +27,9 @@ class FunctionSpec:
     name: str
     args: tuple[str, ...]
     summary: str
-    compute: Callable[..., Value]
+    #: None for a function of a name in quotes (``event("report")``), which reads data given
+    #: by the caller: the parser turns its call into a :class:`~.nodes.EventRef`.
+    compute: Callable[..., Value] | None
     window_min: int | None = None
     window_label: str = "window"
     lookback_offset: int = -1
@@ -91,6 +93,9 @@ _SPECS = (
     FunctionSpec("clip", ("x", "lo", "hi"), "x limited to the range lo..hi", _clip),
     FunctionSpec("maximum", ("a", "b"), "the larger of a and b, bar by bar", np.maximum),
     FunctionSpec("minimum", ("a", "b"), "the smaller of a and b, bar by bar", np.minimum),
+    FunctionSpec("event", ('"name"',),
+                 "1 on the dates the data folder's events.csv lists the event (for this market "
+                 "or all markets), else 0", None),
 )
 
 #: Every built-in function by name.
