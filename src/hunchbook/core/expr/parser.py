@@ -17,9 +17,9 @@ from hunchbook.core.expr.evaluate import bind
 from hunchbook.core.expr.functions import FUNCTION_SPECS, FunctionSpec
 from hunchbook.core.expr.limits import MAX_DEPTH, MAX_EXPONENT, MAX_LENGTH, MAX_NODES
 from hunchbook.core.expr.nodes import (
-    Binary,
     DATA_NODES,
     EVENT_NAME,
+    Binary,
     Call,
     Conditional,
     EventRef,
@@ -45,7 +45,8 @@ _REJECTED_OPERATORS = {ast.FloorDiv: "//", ast.MatMult: "@", ast.LShift: "<<", a
                        ast.BitOr: "|", ast.BitXor: "^", ast.BitAnd: "&", ast.Invert: "~",
                        ast.In: "in", ast.NotIn: "not in", ast.Is: "is", ast.IsNot: "is not"}
 _REJECTED_SYNTAX = {
-    ast.Attribute: "attribute access with '.'", ast.Slice: "slices", ast.Lambda: "lambda", ast.ListComp: "comprehensions",
+    ast.Attribute: "attribute access with '.'", ast.Slice: "slices", ast.Lambda: "lambda",
+    ast.ListComp: "comprehensions",
     ast.SetComp: "comprehensions", ast.DictComp: "comprehensions",
     ast.GeneratorExp: "comprehensions", ast.JoinedStr: "f-strings",
     ast.FormattedValue: "f-strings", ast.NamedExpr: "assignment with ':='",
