@@ -58,7 +58,8 @@ class SeriesRef(Node):
 class EventRef(Node):
     """``event("name")``: 1 on the dates the data folder lists that event for a market, else 0.
 
-    Its values, like a series', are given by the caller under :attr:`key`.
+    Its values, like a series', are given by the caller under :attr:`key`. ``column`` is that
+    of the name inside the quotes, where errors about the event point.
     """
 
     event: str

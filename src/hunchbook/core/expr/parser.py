@@ -271,15 +271,16 @@ class _Converter:
             raise self.fail(f"{what} must be a name in quotes, like {example}", node)
         return node.value
 
-    def event(self, node: ast.Call, column: int) -> EventRef:
-        """``event("name")``: the event's dates, given as data by the caller."""
+    def event(self, node: ast.Call) -> EventRef:
+        """``event("name")``: the event's dates, given as data by the caller; its column is
+        the name's, where an error about the event (unknown to the data) points."""
         argument = node.args[0]
         name = self.quoted_text(argument, "the name in event(...)", 'event("report")')
         if not EVENT_NAME.match(name):
             raise self.fail("an event name is made of letters, digits, spaces, '_', '.' or '-' "
                             f"and does not start or end with a space, found {name!r}",
                             self.positions.quoted(argument))
-        return EventRef(name, column)
+        return EventRef(name, self.positions.quoted(argument))
 
     def unary(self, node: ast.UnaryOp, column: int) -> Unary:
         op = type(node.op)
@@ -339,7 +340,7 @@ class _Converter:
                             f"{spec.signature}, but {len(node.args)} "
                             f"{'was' if len(node.args) == 1 else 'were'} given", column)
         if spec.compute is None:
-            return self.event(node, column)
+            return self.event(node)
         args = tuple(self.convert(arg) for arg in node.args)
         if spec.is_window:
             self.check_window_call(spec, args[0], args[1])
