@@ -65,10 +65,13 @@ class Curve:
     def _next(self) -> tuple[np.ndarray, np.ndarray]:
         """Index of the next contract at each date (-1: none) and whether there is one: the
         earliest-expiring contract listed that date that expires after the held one."""
-        later = self.expiry[None, :] > self.expiry[self.held][:, None]
-        candidates = later & ~np.isnan(self.close)
-        has = candidates.any(axis=1)
-        return np.where(has, candidates.argmax(axis=1), -1), has
+        listed_rows, listed = np.nonzero(~np.isnan(self.close))  # by row, then by contract
+        later = np.searchsorted(self.expiry, self.expiry[self.held], side="right")
+        keep = listed >= later[listed_rows]  # contracts are ordered by expiry
+        rows, first = np.unique(listed_rows[keep], return_index=True)
+        nxt = np.full(len(self.dates), -1)
+        nxt[rows] = listed[keep][first]
+        return nxt, nxt >= 0
 
     def _days_to(self, contract: np.ndarray) -> np.ndarray:
         return (self.expiry[contract] - self.dates).astype(float)
