@@ -31,7 +31,7 @@ from hunchbook.core.expr.nodes import (
     Unary,
 )
 
-_EXPECTED = ("expected numbers, series (another market's: close[\"GOLD\"]), parameters, operators "
+_EXPECTED = ('expected numbers, series (another market\'s: close["GOLD"]), parameters, operators '
              "(+ - * / ** % < <= > >= == != and or not), 'a if condition else b' or function "
              "calls")
 
@@ -46,8 +46,7 @@ _REJECTED_OPERATORS = {ast.FloorDiv: "//", ast.MatMult: "@", ast.LShift: "<<", a
                        ast.In: "in", ast.NotIn: "not in", ast.Is: "is", ast.IsNot: "is not"}
 _REJECTED_SYNTAX = {
     ast.Attribute: "attribute access with '.'", ast.Slice: "slices", ast.Lambda: "lambda",
-    ast.ListComp: "comprehensions",
-    ast.SetComp: "comprehensions", ast.DictComp: "comprehensions",
+    ast.ListComp: "comprehensions", ast.SetComp: "comprehensions", ast.DictComp: "comprehensions",
     ast.GeneratorExp: "comprehensions", ast.JoinedStr: "f-strings",
     ast.FormattedValue: "f-strings", ast.NamedExpr: "assignment with ':='",
     ast.Starred: "unpacking with '*'", ast.List: "lists", ast.Set: "sets", ast.Dict: "dicts",
