@@ -90,3 +90,13 @@ def test_each_market_on_its_own_calendar(tmp_path) -> None:
     w_30 = every_day.get_loc(pd.Timestamp("2024-01-30"))
     assert panel.series["days_to_month_end"][h_30, 0] == 0
     assert panel.series["days_to_month_end"][w_30, 1] == 1
+
+
+def test_dates_before_and_after_1970() -> None:
+    # numpy counts days from 1970-01-01; earlier dates are negative numbers.
+    days = pd.bdate_range("1968-12-20", "1970-01-10")
+    dates = days.to_numpy().astype("datetime64[D]")
+    for name, expected in (("month", [d.month for d in days]), ("day", [d.day for d in days]),
+                           ("weekday", [d.weekday() for d in days]),
+                           ("day_of_year", [d.timetuple().tm_yday for d in days])):
+        np.testing.assert_array_equal(calendar_series(dates, name), expected)
