@@ -16,6 +16,9 @@ from hunchbook.core.markets import read_market_library
 from hunchbook.core.prices import ACTIVITY_COLUMNS, LIBRARY_FILE, PRICE_COLUMNS, read_market_csv
 from hunchbook.core.rules.model import RollSpec
 
+#: The data folder's dated-events file (not a price file; see docs/rule-files.md).
+DATED_EVENTS_FILE = "events.csv"
+
 #: The market's file reads, validates and splices into a continuous series.
 OK = "ok"
 #: The market's file cannot be read, fails validation or does not splice.
@@ -153,7 +156,8 @@ def check_data_folder(folder: str | os.PathLike[str], *,
             problem = _relative_text(err, root)
     try:
         files = {p.stem: p.name for p in sorted(root.iterdir())
-                 if p.suffix.lower() == ".csv" and p.is_file()}
+                 if p.suffix.lower() == ".csv" and p.is_file()
+                 and p.name.lower() != DATED_EVENTS_FILE}
     except OSError as err:
         return DataCheckReport(folder=str(root), problem=f"{root}: cannot list the folder "
                                f"({err.strerror or err})", markets=())

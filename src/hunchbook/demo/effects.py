@@ -72,14 +72,14 @@ class Planted:
 
 #: What is planted in each demo market, and how strongly.
 PLANTED: dict[str, Planted] = {
-    "CRUDE": Planted(trend=1.0, trend_days=60),
+    "CRUDE": Planted(trend=1.5, trend_days=60),
     "NATGAS": Planted(event=0.05),
-    "GOLD": Planted(trend=0.8, trend_days=60),
-    "COPPER": Planted(trend=0.8, trend_days=60),
-    "CORN": Planted(trend=1.2, reversal=0.03),
-    "SOYBEAN": Planted(trend=1.2, reversal=0.03, season=0.08),
+    "GOLD": Planted(trend=1.2, trend_days=60),
+    "COPPER": Planted(trend=1.2, trend_days=60),
+    "CORN": Planted(trend=1.8, reversal=0.03),
+    "SOYBEAN": Planted(trend=1.8, reversal=0.03, season=0.08),
     "TNOTE10": Planted(trend=2.0, trend_days=250, reversal=0.012),
-    "EQIDX": Planted(trend=1.6, trend_days=250, month_end=0.25),
+    "EQIDX": Planted(trend=2.4, trend_days=250, month_end=0.25),
 }
 
 

@@ -7,7 +7,7 @@ from __future__ import annotations
 #: Every demo market, in library order.
 BOOK = ("CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN", "TNOTE10", "EQIDX")
 #: The breakout idea's markets.
-BREAKOUT_MARKETS = ("CRUDE", "NATGAS", "COPPER", "CORN")
+BREAKOUT_MARKETS = ("CRUDE", "GOLD", "COPPER", "EQIDX")
 
 _SIZING = "[sizing]\ntarget_vol = 0.10\ncapital = 1_000_000\nvol_window = 25\n"
 
@@ -55,11 +55,11 @@ GOLD_RATES = rule_file(
 _COSTS = "\n[costs]\nslippage_ticks = 2   # two ticks each way: the cost we assume, as asked\n"
 RATES_DRAFT = rule_file(
     "Rates trend", "Price against its n-bar average.", ("TNOTE10", "EQIDX"),
-    "n = [10, 20, 40]\nbuffer = [0.0]",
+    "n = [10, 20]\nbuffer = [0.0]",
     "sign(close - mean(close, n)) if abs(zscore(close, n)) > buffer else 0")
 RATES_FAST = rule_file(
     "Rates trend", "Price against its n-bar average.", ("TNOTE10", "EQIDX"),
-    "n = [10, 20, 40]\nbuffer = [0.0]",
+    "n = [10, 20]\nbuffer = [0.0]",
     "sign(close - mean(close, n)) if abs(zscore(close, n)) > buffer else 0",
     extra=_COSTS)
 RATES_SLOW = rule_file(
