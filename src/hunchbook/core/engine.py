@@ -25,6 +25,7 @@ import numpy as np
 import pandas as pd
 
 from hunchbook.core.expr import Expression, parse_expression
+from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.panel import Panel
 from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.core.rules.model import SizingSpec
@@ -138,6 +139,7 @@ class Backtest:
         self.position = position
         self.delay = delay
         self.cache: dict[Any, Any] = {}
+        self.dates = DateGrid(panel.date_index.shape, panel.date_index)  # for cs_rank, ...
         window = panel.valid.copy()
         if start is not None:
             window &= panel.dates >= np.datetime64(start, "D")
@@ -157,7 +159,8 @@ class Backtest:
 
     def run(self, params: Mapping[str, float]) -> EngineOutput:
         """Run one parameter set: positions, gross P&L and contracts traded."""
-        signal = self.position.evaluate(self.panel.series, params, self.cache)
+        signal = self.position.evaluate(self.panel.series, params, self.cache,
+                                        date_index=self.dates)
         if not (isinstance(self.contracts, float) and self.contracts == 1.0):
             signal = signal * self.contracts
         if self.delay:

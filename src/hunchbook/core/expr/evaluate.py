@@ -19,6 +19,7 @@ from collections.abc import Mapping
 import numpy as np
 
 from hunchbook.core.errors import RuleError
+from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.expr.functions import FUNCTION_SPECS, Value
 from hunchbook.core.expr.nodes import (
     Binary,
@@ -142,51 +143,57 @@ def _bind(node: Node, params: Mapping[str, float]) -> Node:
         return Conditional(condition, then, otherwise, node.column)
     assert isinstance(node, Call)
     spec = FUNCTION_SPECS[node.function]
-    args = tuple(_bind(arg, params) for arg in node.args)
-    if spec.is_window:
-        window = args[1]
-        assert isinstance(window, Num)
-        problem = spec.window_problem(window.value)
+    window = None
+    if spec.is_window:  # checked first: implied arguments may hold the window too
+        bound = _bind(node.args[spec.window_index], params)
+        assert isinstance(bound, Num)
+        problem = spec.window_problem(bound.value)
         if problem:
-            raise RuleError(problem, column=node.args[1].column)
-        return Call(node.function, (args[0], Num(float(round(window.value)))), node.column)
-    if all(isinstance(arg, Num) for arg in args):
-        return Num(_finite(spec.compute(*(arg.value for arg in args))), node.column)
-    return Call(node.function, args, node.column)
+            raise RuleError(problem, column=node.args[spec.window_index].column)
+        window = Num(float(round(bound.value)))
+    args = tuple(window if window is not None and i == spec.window_index else _bind(arg, params)
+                 for i, arg in enumerate(node.args))
+    if spec.is_series_function or not all(isinstance(arg, Num) for arg in args):
+        return Call(node.function, args, node.column)
+    return Num(_finite(spec.compute(*(arg.value for arg in args))), node.column)
 
 
 def lookback(node: Node) -> int:
     """Bars before the first bar on which a bound tree can have a value (NaN-free data)."""
+    below = tuple(lookback(child) for child in node.children())
     if isinstance(node, Call) and FUNCTION_SPECS[node.function].is_window:
-        window = node.args[1]
-        assert isinstance(window, Num)
         spec = FUNCTION_SPECS[node.function]
-        return lookback(node.args[0]) + int(window.value) + spec.lookback_offset
-    return max((lookback(child) for child in node.children()), default=0)
+        window = node.args[spec.window_index]
+        assert isinstance(window, Num)
+        return spec.lookback(below, int(window.value))
+    return max(below, default=0)
 
 
 def evaluate_bound(node: Node, series: Mapping[str, np.ndarray], shape: tuple[int, ...],
-                   cache: dict | None) -> Value:
+                   cache: dict | None, date_index: np.ndarray | DateGrid | None = None) -> Value:
     """Compute a bound tree over ``series`` (finite-or-NaN, read-only arrays of ``shape``).
 
-    Results of window functions (``mean``, ``ewm``, ``lag``, ...) are looked up in and stored
-    into ``cache`` (read-only) when one is given.
+    Results of series functions (``mean``, ``lag``, ``hold``, ``cs_rank``, ...) are looked up
+    in and stored into ``cache`` (read-only) when one is given. ``date_index`` places each cell
+    on a shared axis of dates for the cross-sectional functions (or is a
+    :class:`~hunchbook.core.expr.cross_section.DateGrid` built from one).
     """
+    grid = date_index if isinstance(date_index, DateGrid) else DateGrid(shape, date_index)
     with np.errstate(all="ignore"):
-        return _evaluate(node, series, shape, cache)
+        return _evaluate(node, series, shape, cache, grid)
 
 
 def _evaluate(node: Node, series: Mapping[str, np.ndarray], shape: tuple[int, ...],
-              cache: dict | None) -> Value:
+              cache: dict | None, grid: DateGrid) -> Value:
     if isinstance(node, Num):
         return node.value
     if isinstance(node, SeriesRef):
         return series[node.name]
     cached = (cache is not None and isinstance(node, Call)
-              and FUNCTION_SPECS[node.function].is_window)
+              and FUNCTION_SPECS[node.function].is_series_function)
     if cached and node in cache:
         return cache[node]
-    values = tuple(_evaluate(child, series, shape, cache) for child in node.children())
+    values = tuple(_evaluate(child, series, shape, cache, grid) for child in node.children())
     if isinstance(node, Unary):
         return _unary(node.op, values[0])
     if isinstance(node, Binary):
@@ -199,11 +206,14 @@ def _evaluate(node: Node, series: Mapping[str, np.ndarray], shape: tuple[int, ..
     spec = FUNCTION_SPECS[node.function]
     if node.function in _NEVER_INFINITE:
         return spec.compute(*values)
-    if not spec.is_window:
+    if not spec.is_series_function:
         return _finite(spec.compute(*values))
-    window = node.args[1]
-    assert isinstance(window, Num)
-    result = _finite(spec.compute(np.broadcast_to(values[0], shape), int(window.value)))
+    args: list = [np.broadcast_to(value, shape) for value in values]
+    if spec.is_window:
+        args[spec.window_index] = int(values[spec.window_index])
+    if spec.cross_sectional:
+        args.insert(0, grid)
+    result = _finite(spec.compute(*args))
     assert isinstance(result, np.ndarray)
     if cached:
         result.flags.writeable = False

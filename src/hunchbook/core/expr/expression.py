@@ -8,6 +8,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from hunchbook.core.errors import RuleError
+from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.expr.evaluate import bind, evaluate_bound, lookback
 from hunchbook.core.expr.nodes import Node, ParamRef, SeriesRef
 from hunchbook.core.expr.parser import parse_tree
@@ -44,7 +45,9 @@ class Expression:
         """Bars of history needed before the expression can have a value.
 
         On data without gaps, the first defined value is at bar index ``max_lookback(params)``;
-        nested windows add up (``mean(lag(close, 5), 20)`` needs 5 + 19 = 24 bars).
+        nested windows add up (``mean(lag(close, 5), 20)`` needs 5 + 19 = 24 bars). For
+        ``bars_since``, undefined until its condition is first true, it is the first bar that
+        can have a value.
 
         Raises
         ------
@@ -54,7 +57,8 @@ class Expression:
         return lookback(bind(self.root, params))
 
     def evaluate(self, series: Mapping[str, np.ndarray], params: Mapping[str, float],
-                 cache: dict | None = None) -> np.ndarray | float:
+                 cache: dict | None = None, *,
+                 date_index: np.ndarray | DateGrid | None = None) -> np.ndarray | float:
         """Compute the expression at the close of every bar.
 
         Parameters
@@ -65,11 +69,19 @@ class Expression:
         params
             Parameter values by name.
         cache
-            Optional store of shared sub-results (results of the window functions ``mean``,
-            ``ewm``, ``lag``, ...), keyed by the call after parameter substitution, so that
-            ``mean(close, fast)`` with ``fast = 20`` and ``mean(close, 20)`` are computed once.
-            Share one cache only between evaluations over the same series; its arrays are
-            read-only.
+            Optional store of shared sub-results (results of the series functions ``mean``,
+            ``ewm``, ``lag``, ``hold``, ``cs_rank``, ...), keyed by the call after parameter
+            substitution, so that ``mean(close, fast)`` with ``fast = 20`` and
+            ``mean(close, 20)`` are computed once. Share one cache only between evaluations
+            over the same series and ``date_index``; its arrays are read-only.
+        date_index
+            Optional integer array of the series' shape: each cell's position on an axis of
+            dates shared by the markets, -1 where a cell is no bar (padding), as
+            :attr:`hunchbook.core.panel.Panel.date_index`. The cross-sectional functions
+            (``cs_rank``, ...) compare markets on the same date through it; without it, row
+            ``r`` of every column is taken as the same date. A
+            :class:`~hunchbook.core.expr.cross_section.DateGrid` built from it may be given
+            instead, to reuse its placement between evaluations.
 
         Returns
         -------
@@ -83,11 +95,15 @@ class Expression:
         RuleError
             For a missing series or parameter, or a window out of range (with its column).
         ValueError
-            When the series arrays are not all of one 1-D or 2-D shape.
+            When the series arrays are not all of one 1-D or 2-D shape, or ``date_index`` is
+            not of their shape.
         """
         bound = bind(self.root, params)
         arrays, shape = _prepare_series(series, self._series)
-        result = evaluate_bound(bound, arrays, shape, cache)
+        given = date_index.shape if isinstance(date_index, DateGrid) else np.shape(date_index)
+        if date_index is not None and shape and given != shape:
+            raise ValueError(f"date_index has shape {given}; the series have shape {shape}")
+        result = evaluate_bound(bound, arrays, shape, cache, date_index)
         if not self._series:
             return float(result)
         if not isinstance(result, np.ndarray):

@@ -8,8 +8,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from hunchbook.core.expr import rolling
+from hunchbook.core.expr import cross_section, holding, rolling
+from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.expr.limits import MAX_WINDOW
+from hunchbook.core.expr.nodes import Call, Node, Num, SeriesRef
 
 #: A computed value: a float, or an array of shape (bars, markets) (or (bars,)).
 Value = float | np.ndarray
@@ -19,9 +21,19 @@ Value = float | np.ndarray
 class FunctionSpec:
     """One built-in function.
 
-    Window functions take ``(x, n)``: ``x`` must depend on a series and ``n`` (a window or lag
-    in bars, at least ``window_min``) must be built from numbers and parameters only. Their value
-    is first defined ``n + lookback_offset`` bars after ``x`` is.
+    Window functions take a window ``n`` (a whole number of bars or a count, at least
+    ``window_min``) as argument number ``window_index``, built from numbers and parameters only.
+    Their value is first defined ``n + lookback_offset`` bars after the first argument is
+    (``lookback_offset`` None: the window adds no bars).
+
+    Series functions (window functions, holding rules marked ``path_dependent`` and functions
+    across markets marked ``cross_sectional``) read their first argument, which must depend on
+    a series, as a whole array; their calls are never folded into a number and their results
+    are cached. A cross-sectional function's ``compute`` takes a
+    :class:`~hunchbook.core.expr.cross_section.DateGrid` first. ``implied`` builds, from the
+    call's arguments and column, what the function reads besides them (``stop``: ``close`` and
+    ``std(diff(close, 1), n)``, so the standard deviation is cached and shared); the parser
+    appends those nodes to the call's arguments.
     """
 
     name: str
@@ -30,7 +42,11 @@ class FunctionSpec:
     compute: Callable[..., Value]
     window_min: int | None = None
     window_label: str = "window"
-    lookback_offset: int = -1
+    lookback_offset: int | None = -1
+    window_index: int = 1
+    path_dependent: bool = False
+    cross_sectional: bool = False
+    implied: Callable[[tuple[Node, ...], int], tuple[Node, ...]] | None = None
 
     @property
     def signature(self) -> str:
@@ -39,8 +55,20 @@ class FunctionSpec:
 
     @property
     def is_window(self) -> bool:
-        """True for functions over a window of past bars, whose second argument is that window."""
+        """True for functions with a window (or count) argument, argument ``window_index``."""
         return self.window_min is not None
+
+    @property
+    def is_series_function(self) -> bool:
+        """True for functions that read their first argument as a whole series."""
+        return self.is_window or self.path_dependent or self.cross_sectional
+
+    def lookback(self, below: tuple[int, ...], window: int) -> int:
+        """Bars before the first value, from each argument's lookback and the window."""
+        deepest = max(below, default=0)
+        if self.lookback_offset is None:
+            return deepest
+        return max(deepest, below[0] + window + self.lookback_offset)
 
     def window_problem(self, value: float) -> str | None:
         """What is wrong with ``value`` as this function's window (None when it is fine)."""
@@ -60,6 +88,20 @@ def _zscore(x: np.ndarray, n: int) -> np.ndarray:
 
 def _clip(x: Value, low: Value, high: Value) -> Value:
     return np.minimum(np.maximum(x, low), high)
+
+
+def _across(kernel: Callable[..., np.ndarray]) -> Callable[..., np.ndarray]:
+    """A cross-sectional function from a kernel over (dates, markets) grids."""
+    def compute(grid: DateGrid, x: np.ndarray, *args: int) -> np.ndarray:
+        return grid.gather(kernel(grid.scatter(x), *args))
+    return compute
+
+
+def _stop_reads(args: tuple[Node, ...], column: int) -> tuple[Node, ...]:
+    """What ``stop(x, k, n)`` reads besides its arguments: the close and the standard
+    deviation of its daily changes over ``n`` bars."""
+    close = SeriesRef("close", column)
+    return close, Call("std", (Call("diff", (close, Num(1.0, column)), column), args[2]), column)
 
 
 _SPECS = (
@@ -91,6 +133,37 @@ _SPECS = (
     FunctionSpec("clip", ("x", "lo", "hi"), "x limited to the range lo..hi", _clip),
     FunctionSpec("maximum", ("a", "b"), "the larger of a and b, bar by bar", np.maximum),
     FunctionSpec("minimum", ("a", "b"), "the smaller of a and b, bar by bar", np.minimum),
+    FunctionSpec("cs_rank", ("x",),
+                 "rank of x across the markets at each date, ties averaged, scaled to -1 "
+                 "(lowest) .. +1 (highest)", _across(cross_section.rank), cross_sectional=True),
+    FunctionSpec("cs_demean", ("x",), "x minus its mean across the markets at each date",
+                 _across(cross_section.demean), cross_sectional=True),
+    FunctionSpec("cs_zscore", ("x",),
+                 "(x - mean) / sample std of x across the markets at each date",
+                 _across(cross_section.zscore), cross_sectional=True),
+    FunctionSpec("cs_top", ("x", "k"),
+                 "1 for the k markets with the highest x at each date (ties at the boundary "
+                 "all in), else 0", _across(cross_section.top), window_min=1,
+                 window_label="count", lookback_offset=None, cross_sectional=True),
+    FunctionSpec("cs_bottom", ("x", "k"),
+                 "1 for the k markets with the lowest x at each date (ties at the boundary "
+                 "all in), else 0", _across(cross_section.bottom), window_min=1,
+                 window_label="count", lookback_offset=None, cross_sectional=True),
+    FunctionSpec("hold", ("x", "n"),
+                 "a non-zero x kept for n bars (the entry bar included), then 0 unless a new "
+                 "entry", holding.hold, window_min=1, lookback_offset=None, path_dependent=True),
+    FunctionSpec("latch", ("entry", "exit"),
+                 "entry's non-zero value kept until a bar where exit is true, then 0",
+                 holding.latch, path_dependent=True),
+    FunctionSpec("bars_since", ("c",),
+                 "bars since c was last true (0 on that bar; undefined before)",
+                 holding.bars_since, path_dependent=True),
+    FunctionSpec("stop", ("x", "k", "n"),
+                 "x, but 0 once close has moved against the trade's entry close by more than "
+                 "k x std of daily changes over n bars at entry, until x changes sign",
+                 lambda x, k, n, close, sigma: holding.stop(x, k, close, sigma), window_min=2,
+                 window_index=2, lookback_offset=None, path_dependent=True,
+                 implied=_stop_reads),
 )
 
 #: Every built-in function by name.

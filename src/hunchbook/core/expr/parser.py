@@ -286,15 +286,32 @@ class _Converter:
                             f"{spec.signature}, but {len(node.args)} "
                             f"{'was' if len(node.args) == 1 else 'were'} given", column)
         args = tuple(self.convert(arg) for arg in node.args)
-        if spec.is_window:
-            self.check_window_call(spec, args[0], args[1])
-        return Call(name, args, column)
+        if spec.is_series_function:
+            self.check_series_call(spec, args)
+        return Call(name, args + self.implied(spec, args, column), column)
 
-    def check_window_call(self, spec: FunctionSpec, x: Node, window: Node) -> None:
+    def implied(self, spec: FunctionSpec, args: tuple[Node, ...],
+                column: int) -> tuple[Node, ...]:
+        """What a function reads besides its arguments (``close`` for ``stop``)."""
+        if spec.implied is None:
+            return ()
+        nodes = spec.implied(args, column)
+        for node in nodes:
+            for sub in node.walk():
+                if isinstance(sub, SeriesRef) and sub.name not in self.series:
+                    raise self.fail(f"{spec.signature} reads the series '{sub.name}', which "
+                                    "is not available here", column)
+        return nodes
+
+    def check_series_call(self, spec: FunctionSpec, args: tuple[Node, ...]) -> None:
+        x = args[0]
         if not _uses(x, SeriesRef):
             raise self.fail(f"the first argument of {spec.signature} must depend on a series "
                             f"({', '.join(sorted(self.series)) or 'none available'}), "
                             "not only on numbers and parameters", x.column)
+        if not spec.is_window:
+            return
+        window = args[spec.window_index]
         series = _uses(window, SeriesRef)
         if isinstance(series, SeriesRef):
             hint = ""
