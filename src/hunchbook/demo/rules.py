@@ -89,8 +89,9 @@ WEATHER = rule_file(
     "Grain weather-premium fade", "Fade CORN's run-up.", ("CORN",), "n = [20, 40]",
     "-sign(close - mean(close, n))")
 MOMENTUM = rule_file(
-    "Volatility-scaled momentum", "Twelve-month return over its volatility, per market.", BOOK,
-    "n = [250]", "clip((close - lag(close, n)) / (std(diff(close, 1), 60) * sqrt(n)), -1, 1)")
+    "Volatility-scaled cross-market momentum",
+    "Rank of the twelve-month move over its volatility across the eight markets.", BOOK,
+    "n = [250]", "cs_rank((close - lag(close, n)) / std(diff(close, 1), 60))")
 GAP_FADE = rule_file(
     "Overnight gap fade", "Fade large gaps between the close and the next open.", ("EQIDX",),
     "k = [1.0, 2.0]", "-sign(open - lag(close, 1)) if abs(open - lag(close, 1)) > "
