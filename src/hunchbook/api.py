@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Iterator, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -13,13 +13,16 @@ import pandas as pd
 from hunchbook.core.continuous import build_continuous
 from hunchbook.core.engine import Backtest, EngineOutput
 from hunchbook.core.errors import DataError, RuleError
-from hunchbook.core.expr import parse_expression
+from hunchbook.core.events import read_events
+from hunchbook.core.expr import Expression, parse_expression
+from hunchbook.core.expr.nodes import EventRef, SeriesRef
 from hunchbook.core.metrics import summarise
 from hunchbook.core.panel import Panel, build_panel
 from hunchbook.core.prices import MarketData
 from hunchbook.core.prices import load_data as _load_data
 from hunchbook.core.results import RunSummary, build_run_summary
-from hunchbook.core.rules import parse_rules, read_rules
+from hunchbook.core.rule_data import rule_data
+from hunchbook.core.rules import locate_error, parse_rules, read_rule_text, read_rules
 from hunchbook.core.rules.model import SERIES_NAMES, RuleSpec
 from hunchbook.core.sweep import CancelCheck, Progress, SweepOutcome, SweepRunner, run_sweep
 from hunchbook.core.sweep_summary import summarise_sweep
@@ -102,14 +105,16 @@ class SweepReport:
 class Study:
     """A rule file prepared against a data folder: continuous series built once, ready to run.
 
-    Most code prepares one with :meth:`from_text` or :meth:`from_file`.
+    Most code prepares one with :meth:`from_text` or :meth:`from_file`. Only the series the
+    position reads are computed (curve, calendar, other markets' and event series).
 
     Parameters
     ----------
     rules
         The parsed rule file.
     data
-        The data folder's contents; must hold every market the rules name.
+        The data folder's contents; must hold every market the rules trade or read. When the
+        position reads events, the folder's events file is read into ``self.data``.
     file
         The rule file's name, given in every :class:`RuleError` the study raises.
     """
@@ -117,33 +122,39 @@ class Study:
     def __init__(self, rules: RuleSpec, data: MarketData, *,
                  file: str | os.PathLike[str] | None = None) -> None:
         self.rules = rules
-        self.data = data
         self.file = None if file is None else str(file)
-        missing = [m for m in rules.markets if m not in data.bars]
+        missing = [m for m in (*rules.markets, *rules.reads) if m not in data.bars]
         if missing:
             raise DataError(f"no price data loaded for market(s) {', '.join(missing)}",
                             file=data.folder)
-        try:
-            self.position = parse_expression(rules.position, series_names=SERIES_NAMES,
-                                             param_names=rules.parameter_names)
-            self.constraint = (parse_expression(rules.constraint, series_names=(),
-                                                param_names=rules.parameter_names)
-                               if rules.constraint else None)
-        except RuleError as exc:
-            raise exc.located(file=self.file) from None
-        series = []
-        for market in rules.markets:
-            bars = data.bars[market]
-            lacking = self.position.series_used() - {"close"} - bars.columns
-            if lacking:
-                raise DataError(f"the rule reads {', '.join(sorted(lacking))} but this file has "
-                                "no such column", file=bars.file)
-            built = build_continuous(bars, rules.roll)
-            series.append(built)
+        self.position = self._parse(rules.position, "signal.position", SERIES_NAMES)
+        self.constraint = (self._parse(rules.constraint, "parameters.constraint", ())
+                           if rules.constraint else None)
+        reads = self.position.data_used()
+        if data.events is None and any(isinstance(node, EventRef) for node in reads):
+            data = replace(data, events=read_events(data.folder, data.library))
+        self.data = data
+        others = [n.market for n in reads if isinstance(n, SeriesRef) and n.market is not None]
+        built = {m: build_continuous(data.bars[m], rules.roll)
+                 for m in dict.fromkeys([*rules.markets, *others])}
         specs = [_with_overrides(data.library[m], rules.costs) for m in rules.markets]
-        self.panel: Panel = build_panel(series, specs)
+        panel = build_panel([built[m] for m in rules.markets], specs)
+        try:
+            extra = rule_data(self.position, panel, built,
+                              {m: data.bars[m].file for m in built}, data.events)
+        except RuleError as exc:
+            raise exc.located(file=self.file, key="signal.position", kind="expression") from None
+        self.panel: Panel = replace(panel, series={**panel.series, **extra})
         self.backtest = Backtest(self.panel, self.position, rules.sizing, delay=rules.delay,
                                  start=rules.start, end=rules.end)
+
+    def _parse(self, text: str, key: str, series_names: Sequence[str]) -> Expression:
+        try:
+            return parse_expression(text, series_names=series_names,
+                                    param_names=self.rules.parameter_names,
+                                    market_names=(*self.rules.markets, *self.rules.reads))
+        except RuleError as exc:
+            raise exc.located(file=self.file, key=key, kind="expression") from None
 
     @classmethod
     def from_text(cls, text: str, data_folder: str | os.PathLike[str], *,
@@ -155,14 +166,17 @@ class Study:
         """
         name = None if file is None else str(file)
         rules = parse_rules(text, file=name)
-        return cls(rules, load_data(data_folder, list(rules.markets)), file=name)
+        data = load_data(data_folder, [*rules.markets, *rules.reads])
+        try:
+            return cls(rules, data, file=name)
+        except RuleError as exc:  # found on meeting the data: point at it in the text
+            raise locate_error(text, exc) from None
 
     @classmethod
     def from_file(cls, path: str | os.PathLike[str],
                   data_folder: str | os.PathLike[str]) -> Study:
         """Read a rule file and prepare it on a data folder (see :meth:`from_text`)."""
-        rules = load_rules(path)
-        return cls(rules, load_data(data_folder, list(rules.markets)), file=path)
+        return cls.from_text(read_rule_text(path), data_folder, file=path)
 
     def parameter_sets(self, fixed: Mapping[str, float] | None = None) -> list[dict[str, float]]:
         """Declared parameter sets that satisfy the constraint, optionally filtered by values."""
@@ -257,7 +271,8 @@ def run(rules: RuleSpec | str | os.PathLike[str], data: MarketData | str | os.Pa
     declared space (after the constraint) holds exactly one set.
     """
     spec = rules if isinstance(rules, RuleSpec) else load_rules(rules)
-    market_data = data if isinstance(data, MarketData) else load_data(data, list(spec.markets))
+    market_data = (data if isinstance(data, MarketData)
+                   else load_data(data, [*spec.markets, *spec.reads]))
     study = Study(spec, market_data, file=None if isinstance(rules, RuleSpec) else rules)
     sets = study.parameter_sets(params)
     if len(sets) > 1:

@@ -70,7 +70,7 @@ def test_functions_are_documented() -> None:
     ("close + foo", 9, "unknown name 'foo'; available series: close, high, low, open, volume; "
                        "parameters: fast, slow"),
     ("close.__class__", 6, "attribute access"),
-    ("close[0]", 1, "indexing"),
+    ("close[0]", 7, "the market in close[...] must be a name in quotes"),
     ("(lambda: 1)()", 2, "only built-in functions called by name"),
     ("[x for x in close]", 1, "comprehensions"),
     ("close // 2", 7, "operator '//'"),

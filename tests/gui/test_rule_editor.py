@@ -552,3 +552,72 @@ def test_highlighter_marks_functions_and_parameters(editor):
     assert formats["sign"] != formats["fast"]
     assert formats["close"] not in (formats["sign"], formats["fast"])
     assert editor.highlighter.parameter_names() == {"fast", "slow"}
+
+
+# --- curve, calendar, other markets and events (issue 9) ----------------------------------------
+
+PAIR = """\
+name = "Pair"
+markets = ["CRUDE"]
+reads = ["GOLD"]  # read, not traded
+
+[signal]
+position = 'sign(close - close["GOLD"]) * (carry > 0) * (1 - event("report"))'
+"""
+
+
+def test_function_list_shows_every_function_and_series_with_its_line(editor):
+    """The list holds each function of the registry (core/expr/functions.py) and each series
+    of core/rules/model.py with its one-line description; double-click inserts the name."""
+    from hunchbook.core.rules import SERIES_HELP
+
+    items = [editor.form.functions_list.item(i)
+             for i in range(editor.form.functions_list.count())]
+    shown = {item.data(Qt.ItemDataRole.UserRole): item.text() for item in items}
+    for name, help_text in FUNCTIONS.items():
+        assert help_text.partition(": ")[2] in shown[name + "("]
+    for name, summary in SERIES_HELP.items():
+        assert summary in shown[name]
+    assert {"event(", "carry", "next_price", "days_to_month_end", "curve_open_interest"} <= set(
+        shown)
+    load(editor, SMALL)
+    editor.form.position_edit.setText("")
+    carry = next(item for item in items if item.data(Qt.ItemDataRole.UserRole) == "carry")
+    editor.form.functions_list.itemDoubleClicked.emit(carry)
+    assert editor.form.position_edit.text() == "carry"
+
+
+def test_highlighter_marks_new_series_events_and_market_names(editor):
+    """carry is coloured as a series like close, event as a function like sign, and the names
+    in quotes ("GOLD", "report") as string text."""
+    load(editor, PAIR)
+    document = editor.text_edit.document()
+    block = document.findBlock(editor.text_edit.toPlainText().index("position"))
+    formats = {}
+    for rng in block.layout().formats():
+        word = block.text()[rng.start: rng.start + rng.length]
+        formats[word] = rng.format.foreground().color().name()
+    assert formats["carry"] == formats["close"]
+    assert formats["event"] == formats["sign"] != formats["close"]
+    assert formats['"GOLD"'] == formats['"report"'] == formats["'"]  # the string's own colour
+
+
+def test_a_market_not_listed_is_underlined(qtbot, editor):
+    """close["SILVER"] with SILVER in neither markets nor reads underlines SILVER (str.index)."""
+    load(editor, PAIR)
+    assert editor.error_message() is None
+    with qtbot.waitSignal(editor.validity_changed, timeout=3000) as blocker:
+        type_over(qtbot, editor, '"GOLD"])', '"SILVER"])')
+    assert blocker.args[0] is False
+    start = editor.text_edit.toPlainText().index("SILVER")
+    assert editor.error_range() == (start, start + len("SILVER"))
+    assert "market 'SILVER' is not listed in markets or reads" in editor.error_message()
+
+
+def test_form_edits_keep_the_markets_read(editor):
+    """A change in the form leaves reads (and its comment) in the text (tomllib reads it)."""
+    load(editor, PAIR)
+    editor.form.delay_spin.setValue(2)
+    reference = tomllib.loads(editor.text())
+    assert reference["reads"] == ["GOLD"] and reference["signal"]["delay"] == 2
+    assert "# read, not traded" in editor.text()

@@ -12,6 +12,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from hunchbook.core.curve import Curve
 from hunchbook.core.errors import DataError
 from hunchbook.core.prices import ACTIVITY_COLUMNS, PRICE_COLUMNS, MarketBars
 from hunchbook.core.rules.model import RollSpec
@@ -38,6 +39,9 @@ class ContinuousSeries:
     adjusted
         Back-adjusted ``close`` (and ``open``, ``high``, ``low`` where present), plus the held
         contract's unadjusted ``volume`` and ``open_interest`` where present.
+    curve
+        The contracts listed on each date, for the curve series (``None`` for a file that is
+        already continuous, which has no curve).
     """
 
     market: str
@@ -47,6 +51,7 @@ class ContinuousSeries:
     change: np.ndarray
     roll: np.ndarray
     adjusted: dict[str, np.ndarray]
+    curve: Curve | None = None
 
     def __len__(self) -> int:
         return len(self.dates)
@@ -131,9 +136,15 @@ def build_continuous(bars: MarketBars, roll: RollSpec) -> ContinuousSeries:
     for column in ACTIVITY_COLUMNS:
         if column in table.values:
             adjusted[column] = table.values[column][idx, held]
+    curve = None if bars.continuous else Curve(
+        dates=dates_used, held=held, expiry=table.expiry,
+        close=table.values["close"][first:last + 1],
+        activity={c: table.values[c][first:last + 1] for c in ACTIVITY_COLUMNS
+                  if c in table.values})
     return ContinuousSeries(market=bars.market, dates=dates_used,
                             contract=np.asarray(table.names, dtype=object)[held],
-                            close_raw=close, change=change, roll=is_roll, adjusted=adjusted)
+                            close_raw=close, change=change, roll=is_roll, adjusted=adjusted,
+                            curve=curve)
 
 
 @dataclass(frozen=True)

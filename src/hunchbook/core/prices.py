@@ -12,12 +12,16 @@ import os
 from collections.abc import Iterable
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
 from hunchbook.core.errors import DataError
 from hunchbook.core.markets import MarketSpec, read_market_library
+
+if TYPE_CHECKING:
+    from hunchbook.core.events import EventTable
 
 #: Name of the market library file inside a data folder.
 LIBRARY_FILE = "markets.toml"
@@ -55,11 +59,13 @@ class MarketBars:
 
 @dataclass(frozen=True)
 class MarketData:
-    """A data folder's market library and the raw rows of the markets read from it."""
+    """A data folder's market library, the raw rows of the markets read from it and, once a
+    rule reads events, its events (:func:`hunchbook.core.events.read_events`)."""
 
     folder: str
     library: dict[str, MarketSpec]
     bars: dict[str, MarketBars]
+    events: EventTable | None = None
 
 
 def load_data(folder: str | os.PathLike[str], markets: Iterable[str] | None = None) -> MarketData:
@@ -101,10 +107,14 @@ def load_data(folder: str | os.PathLike[str], markets: Iterable[str] | None = No
 
 
 def data_fingerprint(data: MarketData) -> str:
-    """SHA-256 over the market library and the price files read, in market order."""
+    """SHA-256 over the market library, the price files read, in market order, and the events
+    file when it was read."""
     digest = hashlib.sha256()
     root = Path(data.folder)
-    for path in [root / LIBRARY_FILE, *(Path(b.file) for b in data.bars.values())]:
+    paths = [root / LIBRARY_FILE, *(Path(b.file) for b in data.bars.values())]
+    if data.events is not None and data.events.file is not None:
+        paths.append(Path(data.events.file))
+    for path in paths:
         digest.update(path.name.encode() + b"\0")
         with open(path, "rb") as handle:
             for block in iter(lambda: handle.read(1 << 20), b""):
@@ -122,21 +132,7 @@ def read_market_csv(path: str | os.PathLike[str], market: str) -> MarketBars:
         a contract with no expiry or with two different expiries, or an empty file.
     """
     file = str(path)
-    if Path(path).stat().st_size > MAX_FILE_BYTES:
-        raise DataError(f"file is larger than {MAX_FILE_BYTES} bytes", file=file)
-    try:
-        raw = pd.read_csv(path, dtype=str, keep_default_na=False, skip_blank_lines=False,
-                          encoding="utf-8")
-    except UnicodeDecodeError:
-        raise DataError("file is not UTF-8 text", file=file) from None
-    except pd.errors.EmptyDataError:
-        raise DataError("file is empty (expected a header line and price rows)",
-                        file=file) from None
-    except pd.errors.ParserError as exc:
-        raise DataError(f"not a readable CSV file ({_first_line(exc)})", file=file) from None
-    raw.columns = [str(c).strip().lower() for c in raw.columns]
-    raw.index = pd.RangeIndex(2, len(raw) + 2)  # line numbers: the header is line 1
-    raw = raw[~(raw.apply(lambda col: col.str.strip()) == "").all(axis=1)]
+    raw = read_csv_text(path, "price rows")
     continuous = "contract" not in raw.columns
     required = CONTINUOUS_COLUMNS if continuous else CONTRACT_COLUMNS
     missing = [c for c in required if c not in raw.columns]
@@ -148,13 +144,13 @@ def read_market_csv(path: str | os.PathLike[str], market: str) -> MarketBars:
         raise DataError("file has a header but no price rows", file=file)
 
     frame = pd.DataFrame(index=raw.index)
-    frame["date"] = _parse_dates(raw["date"], "date", file, required=True)
+    frame["date"] = parse_dates(raw["date"], "date", file, required=True)
     if continuous:
         frame["contract"] = market
         frame["expiry"] = pd.NaT
     else:
         frame["contract"] = _parse_contracts(raw["contract"], file)
-        frame["expiry"] = _parse_dates(raw["expiry"], "expiry", file, required=False)
+        frame["expiry"] = parse_dates(raw["expiry"], "expiry", file, required=False)
         _check_expiries(frame, file)
     frame["close"] = _parse_numbers(raw["close"], "close", file, required=True)
     for col in (*PRICE_COLUMNS, *ACTIVITY_COLUMNS):
@@ -166,11 +162,47 @@ def read_market_csv(path: str | os.PathLike[str], market: str) -> MarketBars:
     return MarketBars(market=market, file=file, frame=frame, continuous=continuous)
 
 
+def read_csv_text(path: str | os.PathLike[str], rows: str) -> pd.DataFrame:
+    """A CSV file's cells as text, its column names in lower case without blanks around them,
+    indexed by line number (the header is line 1), lines without any text dropped.
+
+    ``rows`` says what the lines after the header hold, for the message about an empty file.
+
+    Raises
+    ------
+    DataError
+        Naming the file: too large, not UTF-8, empty, or not readable as CSV.
+    """
+    file = str(path)
+    if Path(path).stat().st_size > MAX_FILE_BYTES:
+        raise DataError(f"file is larger than {MAX_FILE_BYTES} bytes", file=file)
+    try:
+        raw = pd.read_csv(path, dtype=str, keep_default_na=False, skip_blank_lines=False,
+                          encoding="utf-8")
+    except UnicodeDecodeError:
+        raise DataError("file is not UTF-8 text", file=file) from None
+    except pd.errors.EmptyDataError:
+        raise DataError(f"file is empty (expected a header line and {rows})",
+                        file=file) from None
+    except pd.errors.ParserError as exc:
+        raise DataError(f"not a readable CSV file ({_first_line(exc)})", file=file) from None
+    raw.columns = [str(c).strip().lower() for c in raw.columns]
+    raw.index = pd.RangeIndex(2, len(raw) + 2)  # line numbers: the header is line 1
+    return raw[~(raw.apply(lambda col: col.str.strip()) == "").all(axis=1)]
+
+
 def _first_line(exc: Exception) -> str:
     return str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
 
 
-def _parse_dates(col: pd.Series, name: str, file: str, *, required: bool) -> pd.Series:
+def parse_dates(col: pd.Series, name: str, file: str, *, required: bool) -> pd.Series:
+    """A column of ``YYYY-MM-DD`` text as dates (NaT where blank and not ``required``).
+
+    Raises
+    ------
+    DataError
+        Naming the file and the first line whose cell is not such a date (or is blank).
+    """
     text = col.str.strip()
     parsed = pd.to_datetime(text, format="%Y-%m-%d", errors="coerce")
     bad = parsed.isna() & (text != "")

@@ -25,6 +25,7 @@ from hunchbook.core.expr.nodes import (
     Binary,
     Call,
     Conditional,
+    EventRef,
     Logical,
     Node,
     Num,
@@ -114,7 +115,7 @@ def bind(node: Node, params: Mapping[str, float]) -> Node:
 
 
 def _bind(node: Node, params: Mapping[str, float]) -> Node:
-    if isinstance(node, Num | SeriesRef):
+    if isinstance(node, Num | SeriesRef | EventRef):
         return node
     if isinstance(node, ParamRef):
         return Num(_param_value(node, params), node.column)
@@ -187,8 +188,8 @@ def _evaluate(node: Node, series: Mapping[str, np.ndarray], shape: tuple[int, ..
               cache: dict | None, grid: DateGrid) -> Value:
     if isinstance(node, Num):
         return node.value
-    if isinstance(node, SeriesRef):
-        return series[node.name]
+    if isinstance(node, SeriesRef | EventRef):
+        return series[node.key]
     cached = (cache is not None and isinstance(node, Call)
               and FUNCTION_SPECS[node.function].is_series_function)
     if cached and node in cache:

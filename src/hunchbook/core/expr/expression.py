@@ -10,7 +10,7 @@ import numpy as np
 from hunchbook.core.errors import RuleError
 from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.expr.evaluate import bind, evaluate_bound, lookback
-from hunchbook.core.expr.nodes import Node, ParamRef, SeriesRef
+from hunchbook.core.expr.nodes import DATA_NODES, EventRef, Node, ParamRef, SeriesRef
 from hunchbook.core.expr.parser import parse_tree
 
 
@@ -23,19 +23,30 @@ class Expression:
 
     text: str
     root: Node = field(repr=False)
+    _data: tuple[SeriesRef | EventRef, ...] = field(init=False, repr=False, compare=False)
     _series: frozenset[str] = field(init=False, repr=False, compare=False)
     _params: frozenset[str] = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         nodes = list(self.root.walk())
-        object.__setattr__(self, "_series", frozenset(
-            node.name for node in nodes if isinstance(node, SeriesRef)))
+        first: dict[str, SeriesRef | EventRef] = {}
+        for node in sorted((n for n in nodes if isinstance(n, DATA_NODES)),
+                           key=lambda n: n.column):
+            first.setdefault(node.key, node)
+        object.__setattr__(self, "_data", tuple(first.values()))
+        object.__setattr__(self, "_series", frozenset(node.key for node in self._data))
         object.__setattr__(self, "_params", frozenset(
             node.name for node in nodes if isinstance(node, ParamRef)))
 
     def series_used(self) -> frozenset[str]:
-        """Names of the series the expression reads."""
+        """Keys of the series the expression reads, as :meth:`evaluate` looks them up:
+        ``close``, another market's ``close["GOLD"]``, an event's ``event("report")``."""
         return self._series
+
+    def data_used(self) -> tuple[SeriesRef | EventRef, ...]:
+        """The series and events the expression reads: one node per key, at its first
+        (leftmost) use in the text, in the order of those columns."""
+        return self._data
 
     def params_used(self) -> frozenset[str]:
         """Names of the parameters the expression reads."""
@@ -64,8 +75,9 @@ class Expression:
         Parameters
         ----------
         series
-            Arrays of shape (bars, markets) (or (bars,)) by series name, all of one shape; each
-            column is one market's bars, oldest first. Infinite values count as missing (NaN).
+            Arrays of shape (bars, markets) (or (bars,)) by the keys of :meth:`series_used`, all
+            of one shape; each column is one market's bars, oldest first. Infinite values count
+            as missing (NaN).
         params
             Parameter values by name.
         cache
@@ -104,7 +116,7 @@ class Expression:
         if date_index is not None and shape and given != shape:
             raise ValueError(f"date_index has shape {given}; the series have shape {shape}")
         result = evaluate_bound(bound, arrays, shape, cache, date_index)
-        if not self._series:
+        if not self._data:
             return float(result)
         if not isinstance(result, np.ndarray):
             return np.full(shape, result)
@@ -133,7 +145,8 @@ def _prepare_series(series: Mapping[str, np.ndarray],
 
 
 def parse_expression(text: str, *, series_names: Collection[str],
-                     param_names: Collection[str]) -> Expression:
+                     param_names: Collection[str],
+                     market_names: Collection[str] = ()) -> Expression:
     """Parse and check an expression.
 
     Parameters
@@ -144,6 +157,8 @@ def parse_expression(text: str, *, series_names: Collection[str],
         Names the expression may use for price series (``close``, ``volume``, ...).
     param_names
         Names the expression may use for parameters.
+    market_names
+        Markets whose series the expression may read by name, as in ``close["GOLD"]``.
 
     Raises
     ------
@@ -152,4 +167,4 @@ def parse_expression(text: str, *, series_names: Collection[str],
         from series, constant windows or exponents out of range, or text over the size limits;
         with the 1-based column of the offending token where there is one.
     """
-    return Expression(text, parse_tree(text, series_names, param_names))
+    return Expression(text, parse_tree(text, series_names, param_names, market_names))

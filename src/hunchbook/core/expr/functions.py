@@ -39,7 +39,9 @@ class FunctionSpec:
     name: str
     args: tuple[str, ...]
     summary: str
-    compute: Callable[..., Value]
+    #: None for a function of a name in quotes (``event("report")``), which reads data given
+    #: by the caller: the parser turns its call into a :class:`~.nodes.EventRef`.
+    compute: Callable[..., Value] | None
     window_min: int | None = None
     window_label: str = "window"
     lookback_offset: int | None = -1
@@ -164,6 +166,9 @@ _SPECS = (
                  lambda x, k, n, close, sigma: holding.stop(x, k, close, sigma), window_min=2,
                  window_index=2, lookback_offset=None, path_dependent=True,
                  implied=_stop_reads),
+    FunctionSpec("event", ('"name"',),
+                 "1 on the dates the data folder's events.csv lists the event (for this market "
+                 "or all markets), else 0", None),
 )
 
 #: Every built-in function by name.

@@ -7,8 +7,13 @@ its computed value that is shared between expressions and parameter sets.
 
 from __future__ import annotations
 
+import re
 from collections.abc import Iterator
 from dataclasses import dataclass, field
+
+#: What an event name may be (in ``event("name")`` and in a data folder's events file):
+#: letters, digits, spaces, ``_``, ``.`` and ``-``, not starting or ending with a space.
+EVENT_NAME = re.compile(r"[A-Za-z0-9_.\-](?:[A-Za-z0-9_.\- ]*[A-Za-z0-9_.\-])?\Z")
 
 
 @dataclass(frozen=True, slots=True)
@@ -36,10 +41,38 @@ class Num(Node):
 
 @dataclass(frozen=True, slots=True)
 class SeriesRef(Node):
-    """A price series given by the caller, such as ``close``."""
+    """A series given by the caller, such as ``close``, or another market's, ``close["GOLD"]``
+    (``market`` set): its value on each trading market's dates is the last one known there."""
 
     name: str
     column: int = field(default=0, compare=False)
+    market: str | None = None
+
+    @property
+    def key(self) -> str:
+        """The name of the values in the series mapping: ``close`` or ``close["GOLD"]``."""
+        return self.name if self.market is None else f'{self.name}["{self.market}"]'
+
+
+@dataclass(frozen=True, slots=True)
+class EventRef(Node):
+    """``event("name")``: 1 on the dates the data folder lists that event for a market, else 0.
+
+    Its values, like a series', are given by the caller under :attr:`key`. ``column`` is that
+    of the name inside the quotes, where errors about the event point.
+    """
+
+    event: str
+    column: int = field(default=0, compare=False)
+
+    @property
+    def key(self) -> str:
+        """The name of the values in the series mapping: ``event("name")``."""
+        return f'event("{self.event}")'
+
+
+#: Nodes whose values are data given by the caller (looked up by their ``key``).
+DATA_NODES = (SeriesRef, EventRef)
 
 
 @dataclass(frozen=True, slots=True)

@@ -2,6 +2,8 @@
 
 The text is parsed by :func:`ast.parse` (nothing is ever compiled or run), then every node is
 checked against the whitelist and rebuilt as a :mod:`hunchbook.core.expr.nodes` tree.
+Text in quotes is accepted in two places only: another market's name, ``close["GOLD"]``, and
+an event's name, ``event("report")``; both become references to data given by the caller.
 """
 
 from __future__ import annotations
@@ -15,9 +17,12 @@ from hunchbook.core.expr.evaluate import bind
 from hunchbook.core.expr.functions import FUNCTION_SPECS, FunctionSpec
 from hunchbook.core.expr.limits import MAX_DEPTH, MAX_EXPONENT, MAX_LENGTH, MAX_NODES
 from hunchbook.core.expr.nodes import (
+    DATA_NODES,
+    EVENT_NAME,
     Binary,
     Call,
     Conditional,
+    EventRef,
     Logical,
     Node,
     Num,
@@ -26,8 +31,9 @@ from hunchbook.core.expr.nodes import (
     Unary,
 )
 
-_EXPECTED = ("expected numbers, series, parameters, operators (+ - * / ** % < <= > >= == != "
-             "and or not), 'a if condition else b' or function calls")
+_EXPECTED = ('expected numbers, series (another market\'s: close["GOLD"]), parameters, operators '
+             "(+ - * / ** % < <= > >= == != and or not), 'a if condition else b' or function "
+             "calls")
 
 _ARITHMETIC = {ast.Add: "+", ast.Sub: "-", ast.Mult: "*", ast.Div: "/", ast.Pow: "**",
                ast.Mod: "%"}
@@ -39,9 +45,8 @@ _REJECTED_OPERATORS = {ast.FloorDiv: "//", ast.MatMult: "@", ast.LShift: "<<", a
                        ast.BitOr: "|", ast.BitXor: "^", ast.BitAnd: "&", ast.Invert: "~",
                        ast.In: "in", ast.NotIn: "not in", ast.Is: "is", ast.IsNot: "is not"}
 _REJECTED_SYNTAX = {
-    ast.Attribute: "attribute access with '.'", ast.Subscript: "indexing with [...]",
-    ast.Slice: "slices", ast.Lambda: "lambda", ast.ListComp: "comprehensions",
-    ast.SetComp: "comprehensions", ast.DictComp: "comprehensions",
+    ast.Attribute: "attribute access with '.'", ast.Slice: "slices", ast.Lambda: "lambda",
+    ast.ListComp: "comprehensions", ast.SetComp: "comprehensions", ast.DictComp: "comprehensions",
     ast.GeneratorExp: "comprehensions", ast.JoinedStr: "f-strings",
     ast.FormattedValue: "f-strings", ast.NamedExpr: "assignment with ':='",
     ast.Starred: "unpacking with '*'", ast.List: "lists", ast.Set: "sets", ast.Dict: "dicts",
@@ -51,7 +56,8 @@ _REJECTED_SYNTAX = {
 _SPACE = " \t\f\r\n"
 
 
-def parse_tree(text: str, series_names: Collection[str], param_names: Collection[str]) -> Node:
+def parse_tree(text: str, series_names: Collection[str], param_names: Collection[str],
+               market_names: Collection[str] = ()) -> Node:
     """Parse ``text`` into a checked syntax tree.
 
     Parameters
@@ -60,6 +66,8 @@ def parse_tree(text: str, series_names: Collection[str], param_names: Collection
         The expression.
     series_names, param_names
         The names an expression may use for series and for parameters.
+    market_names
+        The markets whose series it may read by name (``close["GOLD"]``).
 
     Raises
     ------
@@ -85,8 +93,9 @@ def parse_tree(text: str, series_names: Collection[str], param_names: Collection
         raise RuleError("cannot read the expression: it holds characters that are not allowed "
                         "or is nested too deeply") from None
     _check_size(tree.body, positions)
-    return _Converter(positions, frozenset(series_names), frozenset(param_names)).convert(
-        tree.body)
+    converter = _Converter(positions, frozenset(series_names), frozenset(param_names),
+                           frozenset(market_names))
+    return converter.convert(tree.body)
 
 
 class _Positions:
@@ -125,6 +134,14 @@ class _Positions:
         start, _ = self._line(lineno or 1)
         return self._clamp(start + (offset or 1) - 1)
 
+    def quoted(self, node: ast.AST) -> int:
+        """Column of the first character inside the quotes of a string literal (its start
+        when no quote follows)."""
+        start = self.index(getattr(node, "lineno", 1), getattr(node, "col_offset", 0))
+        quote = min((i for i in (self.body.find(q, start) for q in "\"'") if i >= 0),
+                    default=-1)
+        return self._clamp(quote + 1) if quote >= 0 else self._clamp(start)
+
     def after(self, before: ast.AST, symbol: str, fallback: ast.AST) -> int:
         """Column of the first ``symbol`` (an operator) after the end of ``before``; the start
         of ``fallback`` when there is none."""
@@ -151,8 +168,8 @@ def _check_size(root: ast.expr, positions: _Positions) -> None:
         stack.extend((child, depth) for child in ast.iter_child_nodes(node))
 
 
-def _uses(node: Node, kind: type[Node]) -> Node | None:
-    """The first node of class ``kind`` in the tree under ``node``, if any."""
+def _uses(node: Node, kind: type[Node] | tuple[type[Node], ...]) -> Node | None:
+    """The first node of class ``kind`` (or of one of the classes) under ``node``, if any."""
     return next((sub for sub in node.walk() if isinstance(sub, kind)), None)
 
 
@@ -160,10 +177,11 @@ class _Converter:
     """Checks an :mod:`ast` tree against the whitelist and rebuilds it from our node classes."""
 
     def __init__(self, positions: _Positions, series: frozenset[str],
-                 params: frozenset[str]) -> None:
+                 params: frozenset[str], markets: frozenset[str]) -> None:
         self.positions = positions
         self.series = series
         self.params = params
+        self.markets = markets
 
     def fail(self, problem: str, node: ast.AST | int) -> RuleError:
         column = node if isinstance(node, int) else self.positions.column(node)
@@ -189,6 +207,8 @@ class _Converter:
                                self.convert(node.orelse), column)
         if isinstance(node, ast.Call):
             return self.call(node, column)
+        if isinstance(node, ast.Subscript):
+            return self.other_market(node, column)
         what = _REJECTED_SYNTAX.get(type(node), f"'{type(node).__name__}' syntax")
         if isinstance(node, ast.Attribute):
             column = self.positions.after(node.value, ".", node)
@@ -199,7 +219,8 @@ class _Converter:
         if isinstance(value, bool):
             raise self.fail(f"{value} cannot be used here; write {int(value)} instead", column)
         if isinstance(value, str | bytes):
-            raise self.fail(f"text in quotes cannot be used here; {_EXPECTED}", column)
+            raise self.fail("text in quotes cannot be used here, only as a market name, "
+                            'close["GOLD"], or an event name, event("report")', column)
         if not isinstance(value, int | float):
             raise self.fail(f"the value {value!r} cannot be used here; {_EXPECTED}", column)
         try:
@@ -228,6 +249,38 @@ class _Converter:
         params = ", ".join(sorted(self.params)) or "none"
         return f"available series: {series}; parameters: {params}"
 
+    def other_market(self, node: ast.Subscript, column: int) -> SeriesRef:
+        """``close["GOLD"]``: a series of a market named in quotes, one of ``self.markets``."""
+        series = self.name(node.value, column) if isinstance(node.value, ast.Name) else None
+        if not isinstance(series, SeriesRef):
+            raise self.fail('only a series can be read from another market, like close["GOLD"]',
+                            column)
+        market = self.quoted_text(node.slice, f'the market in {series.name}[...]',
+                                  f'{series.name}["GOLD"]')
+        if market not in self.markets:
+            listed = ", ".join(sorted(self.markets)) or "none"
+            raise self.fail(f"market {market!r} is not listed in markets or reads (listed: "
+                            f"{listed}); add the markets a rule reads but does not trade to "
+                            "reads = [...]", self.positions.quoted(node.slice))
+        return SeriesRef(series.name, column, market)
+
+    def quoted_text(self, node: ast.expr, what: str, example: str) -> str:
+        """The text of a string literal naming a market or an event."""
+        if not (isinstance(node, ast.Constant) and isinstance(node.value, str)):
+            raise self.fail(f"{what} must be a name in quotes, like {example}", node)
+        return node.value
+
+    def event(self, node: ast.Call) -> EventRef:
+        """``event("name")``: the event's dates, given as data by the caller; its column is
+        the name's, where an error about the event (unknown to the data) points."""
+        argument = node.args[0]
+        name = self.quoted_text(argument, "the name in event(...)", 'event("report")')
+        if not EVENT_NAME.match(name):
+            raise self.fail("an event name is made of letters, digits, spaces, '_', '.' or '-' "
+                            f"and does not start or end with a space, found {name!r}",
+                            self.positions.quoted(argument))
+        return EventRef(name, self.positions.quoted(argument))
+
     def unary(self, node: ast.UnaryOp, column: int) -> Unary:
         op = type(node.op)
         if op not in _UNARY:
@@ -242,7 +295,7 @@ class _Converter:
             where = self.positions.after(node.left, symbol, node)
             raise self.fail(f"operator '{symbol}' is not allowed; {_EXPECTED}", where)
         left, right = self.convert(node.left), self.convert(node.right)
-        if op is ast.Pow and not _uses(right, SeriesRef) and not _uses(right, ParamRef):
+        if op is ast.Pow and not _uses(right, DATA_NODES) and not _uses(right, ParamRef):
             exponent = _constant_value(right)
             if not abs(exponent) <= MAX_EXPONENT:
                 raise self.fail(f"a constant exponent must be between -{MAX_EXPONENT} and "
@@ -263,7 +316,7 @@ class _Converter:
                                 converted[index].column))
         return pairs[0] if len(pairs) == 1 else Logical("and", tuple(pairs), column)
 
-    def call(self, node: ast.Call, column: int) -> Call:
+    def call(self, node: ast.Call, column: int) -> Call | EventRef:
         if not isinstance(node.func, ast.Name):
             raise self.fail("only built-in functions called by name are allowed, like "
                             "mean(close, 20)", node.func)
@@ -285,6 +338,8 @@ class _Converter:
             raise self.fail(f"{name}() takes {count} argument{'s' if count > 1 else ''}, "
                             f"{spec.signature}, but {len(node.args)} "
                             f"{'was' if len(node.args) == 1 else 'were'} given", column)
+        if spec.compute is None:
+            return self.event(node)
         args = tuple(self.convert(arg) for arg in node.args)
         if spec.is_series_function:
             self.check_series_call(spec, args)
@@ -305,20 +360,20 @@ class _Converter:
 
     def check_series_call(self, spec: FunctionSpec, args: tuple[Node, ...]) -> None:
         x = args[0]
-        if not _uses(x, SeriesRef):
+        if not _uses(x, DATA_NODES):
             raise self.fail(f"the first argument of {spec.signature} must depend on a series "
                             f"({', '.join(sorted(self.series)) or 'none available'}), "
                             "not only on numbers and parameters", x.column)
         if not spec.is_window:
             return
         window = args[spec.window_index]
-        series = _uses(window, SeriesRef)
-        if isinstance(series, SeriesRef):
+        series = _uses(window, DATA_NODES)
+        if isinstance(series, SeriesRef | EventRef):
             hint = ""
             if spec.name in ("max", "min"):
                 hint = f"; for the {spec.name}imum of two values use {spec.name}imum(a, b)"
             raise self.fail(f"the {spec.window_label} of {spec.signature} must be built from "
-                            f"numbers and parameters only, not the series '{series.name}'"
+                            f"numbers and parameters only, not the series '{series.key}'"
                             f"{hint}", series.column)
         if not _uses(window, ParamRef):
             problem = spec.window_problem(_constant_value(window))

@@ -2,6 +2,7 @@
 
 from hunchbook.core.rules.model import (
     COST_KEYS,
+    SERIES_HELP,
     SERIES_NAMES,
     Parameter,
     ParamRange,
@@ -9,7 +10,7 @@ from hunchbook.core.rules.model import (
     RuleSpec,
     SizingSpec,
 )
-from hunchbook.core.rules.parse import parse_rules, read_rules
+from hunchbook.core.rules.parse import locate_error, parse_rules, read_rule_text, read_rules
 from hunchbook.core.rules.roll import (
     ADJUST_METHOD_TABLE,
     ROLL_RULE_TABLE,
@@ -23,6 +24,7 @@ __all__ = [
     "ADJUST_METHOD_TABLE",
     "COST_KEYS",
     "ROLL_RULE_TABLE",
+    "SERIES_HELP",
     "SERIES_NAMES",
     "AdjustMethod",
     "Parameter",
@@ -33,7 +35,9 @@ __all__ = [
     "RuleSpec",
     "SizingSpec",
     "dump_rules",
+    "locate_error",
     "parse_rules",
+    "read_rule_text",
     "read_rules",
     "write_rules",
 ]

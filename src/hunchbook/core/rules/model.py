@@ -11,8 +11,32 @@ from hunchbook.core.rules.roll import DAYS_BEFORE_EXPIRY, DEFAULT_ADJUST, DEFAUL
 
 #: Contract-specification keys a rule file may override under ``[costs]``.
 COST_KEYS = ("commission", "exchange_fee", "regulatory_fee", "slippage_ticks")
-#: Price series a position expression may read (the engine checks availability per market).
-SERIES_NAMES = ("close", "open", "high", "low", "volume")
+#: Every series a position expression may read, with a one-line description (the study checks
+#: availability per market; docs/rule-files.md defines each precisely).
+SERIES_HELP: dict[str, str] = {
+    "close": "close, back-adjusted as set in [roll]",
+    "open": "open, back-adjusted like close",
+    "high": "high, back-adjusted like close",
+    "low": "low, back-adjusted like close",
+    "volume": "the held contract's volume",
+    "open_interest": "the held contract's open interest",
+    "curve_volume": "volume summed over every contract listed that date",
+    "curve_open_interest": "open interest summed over every contract listed that date",
+    "price": "the held contract's own close, not adjusted",
+    "next_price": "close of the next contract listed that date (after the held one)",
+    "expiry_days": "calendar days from the date to the held contract's expiry",
+    "next_expiry_days": "calendar days from the date to the next contract's expiry",
+    "carry": "annualised carry (price - next_price) / (next_price * years between expiries)",
+    "month": "month of the date, 1-12",
+    "day": "day of the month, 1-31",
+    "weekday": "day of the week, 0 = Monday ... 6 = Sunday",
+    "day_of_year": "day of the year, 1-366",
+    "days_into_month": "the market's trading days in the month so far, 1 on its first",
+    "days_to_month_end": "the market's trading days left in the month after this one, 0 on "
+                         "its last",
+}
+#: Series a position expression may read; ``close["GOLD"]`` reads another market's.
+SERIES_NAMES = tuple(SERIES_HELP)
 
 
 @dataclass(frozen=True)
@@ -77,7 +101,8 @@ class SizingSpec:
 class RuleSpec:
     """A parsed rule file. ``parameters`` keeps declared order; ``costs`` holds overrides.
 
-    ``costs`` maps ``"*"`` (all markets) or a market name to ``{cost key: value}``.
+    ``costs`` maps ``"*"`` (all markets) or a market name to ``{cost key: value}``. ``reads``
+    are markets whose series the position reads (``close["GOLD"]``) without trading them.
     """
 
     name: str
@@ -92,6 +117,7 @@ class RuleSpec:
     start: dt.date | None = None
     end: dt.date | None = None
     description: str | None = None
+    reads: tuple[str, ...] = ()
 
     @property
     def parameter_names(self) -> tuple[str, ...]:

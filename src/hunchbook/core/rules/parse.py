@@ -40,7 +40,7 @@ MAX_GRID_SIZE = 1_000_000
 #: Largest value accepted for the integer settings (delay, days_before_expiry, vol_window).
 MAX_INTEGER_SETTING = 100_000
 
-TOP_KEYS = ("name", "description", "markets", "start", "end",
+TOP_KEYS = ("name", "description", "markets", "reads", "start", "end",
             "parameters", "signal", "roll", "sizing", "costs")
 SIGNAL_KEYS = ("position", "delay")
 SIZING_KEYS = ("contracts", "target_vol", "capital", "vol_window")
@@ -75,6 +75,17 @@ def read_rules(path: str | os.PathLike[str]) -> RuleSpec:
         If the file is missing, unreadable, too big, not UTF-8 or not a valid rule file; the error
         names the file.
     """
+    return parse_rules(read_rule_text(path), file=os.fspath(path))
+
+
+def read_rule_text(path: str | os.PathLike[str]) -> str:
+    """The text of a rule file (UTF-8, at most 1 MB), not yet parsed.
+
+    Raises
+    ------
+    RuleError
+        If the file is missing, unreadable, too big or not UTF-8; the error names the file.
+    """
     name = os.fspath(path)
     try:
         with open(name, "rb") as handle:
@@ -90,12 +101,11 @@ def read_rules(path: str | os.PathLike[str]) -> RuleSpec:
         raise RuleError(f"rule file is larger than the limit of {MAX_FILE_BYTES} bytes (1 MB)",
                         file=name, kind="file")
     try:
-        text = data.decode("utf-8")
+        return data.decode("utf-8")
     except UnicodeDecodeError as err:
         line = data[:err.start].count(b"\n") + 1
         raise RuleError(f"rule file is not UTF-8 text (bad byte at line {line})",
                         file=name, kind="file") from None
-    return parse_rules(text, file=name)
 
 
 def parse_rules(text: str, *, file: str | None = None) -> RuleSpec:
@@ -132,6 +142,22 @@ def parse_rules(text: str, *, file: str | None = None) -> RuleSpec:
             raise err.at(error_span(body, places, err)) from None
     except RuleError as err:
         raise err.located(file=file) from None
+
+
+def locate_error(text: str, error: RuleError) -> RuleError:
+    """``error``, found after parsing (when the rules meet the data, such as an unknown event
+    name), pointing at its place in the rule ``text`` it came from (kind, key and column set).
+
+    The error is returned unchanged when it already has a span or the text cannot be read.
+    """
+    if error.span is not None or error.key is None:
+        return error
+    try:
+        body = _checked_text(text)
+        _, places = parse_with_places(body)
+    except (RuleError, TomlPositionError):
+        return error
+    return error.at(error_span(body, places, error))
 
 
 def _checked_text(text: str) -> str:
@@ -262,16 +288,22 @@ def _spec_from_data(data: dict[str, Any]) -> RuleSpec:
     name = top.required_string("name")
     if not name.strip():
         raise RuleError("the name must not be empty", key="name", kind="bad-value")
-    markets = _markets(top)
+    markets = _markets(top, "markets")
+    reads = _markets(top, "reads") if "reads" in top.data else ()
+    for market in reads:
+        if market in markets:
+            raise RuleError(f"market '{market}' is traded (listed in markets); reads lists only "
+                            "markets read but not traded", key="reads", kind="bad-value")
     start, end = top.date("start"), top.date("end")
     if start is not None and end is not None and end < start:
         raise RuleError(f"end ({end}) is before start ({start})", key="end", kind="bad-value")
     parameters, constraint = _parameters(top.table("parameters"))
-    position, delay = _signal(top.required_table("signal"), parameters)
+    position, delay = _signal(top.required_table("signal"), parameters, markets + reads)
     return RuleSpec(
         name=name,
         description=top.string("description"),
         markets=markets,
+        reads=reads,
         start=start,
         end=end,
         parameters=parameters,
@@ -284,20 +316,21 @@ def _spec_from_data(data: dict[str, Any]) -> RuleSpec:
     )
 
 
-def _markets(top: _Table) -> tuple[str, ...]:
-    top.require("markets")
-    value = top.data["markets"]
+def _markets(top: _Table, key: str) -> tuple[str, ...]:
+    """The market names listed under ``key`` (``markets``: required, at least one)."""
+    top.require(key)
+    value = top.data[key]
     if not isinstance(value, list):
-        raise top.wrong_type("markets", "an array of market names")
-    if not value:
-        raise RuleError("list at least one market", key="markets", kind="bad-value")
+        raise top.wrong_type(key, "an array of market names")
+    if not value and key == "markets":
+        raise RuleError("list at least one market", key=key, kind="bad-value")
     seen: set[str] = set()
     for i, market in enumerate(value, start=1):
         if not isinstance(market, str) or not _MARKET_RE.match(market):
             raise RuleError(f"item {i}: expected a market name made of letters, digits, '_', '.' "
-                            f"or '-', found {_describe(market)}", key="markets", kind="bad-value")
+                            f"or '-', found {_describe(market)}", key=key, kind="bad-value")
         if market in seen:
-            raise RuleError(f"market '{market}' is listed twice", key="markets", kind="bad-value")
+            raise RuleError(f"market '{market}' is listed twice", key=key, kind="bad-value")
         seen.add(market)
     return tuple(value)
 
@@ -384,11 +417,12 @@ def _value_range(table: _Table) -> ParamRange:
     return result
 
 
-def _signal(table: _Table, parameters: tuple[Parameter, ...]) -> tuple[str, int]:
+def _signal(table: _Table, parameters: tuple[Parameter, ...],
+            markets: tuple[str, ...]) -> tuple[str, int]:
     table.check_keys(SIGNAL_KEYS)
     position = table.required_string("position")
     _check_expression(position, table.key("position"), series_names=SERIES_NAMES,
-                      param_names=tuple(p.name for p in parameters))
+                      param_names=tuple(p.name for p in parameters), market_names=markets)
     return position, table.integer("delay", 0, 0)
 
 
@@ -471,11 +505,12 @@ def _costs(table: _Table | None, markets: tuple[str, ...]) -> dict[str, dict[str
 
 
 def _check_expression(text: str, key: str, *, series_names: tuple[str, ...],
-                      param_names: tuple[str, ...]) -> None:
+                      param_names: tuple[str, ...], market_names: tuple[str, ...] = ()) -> None:
     from hunchbook.core.expr import parse_expression
 
     try:
-        parse_expression(text, series_names=series_names, param_names=param_names)
+        parse_expression(text, series_names=series_names, param_names=param_names,
+                         market_names=market_names)
     except RuleError as err:
         raise err.located(key=key, kind="expression") from None
 

@@ -124,7 +124,8 @@ def write_rules(spec: RuleSpec, path: str | os.PathLike[str], *,
 def _wanted(spec: RuleSpec) -> dict[str, Any]:
     """The rule file's content as nested plain values, in canonical key order."""
     top: dict[str, Any] = {"name": spec.name, "description": spec.description,
-                           "markets": list(spec.markets), "start": spec.start, "end": spec.end}
+                           "markets": list(spec.markets), "reads": list(spec.reads) or None,
+                           "start": spec.start, "end": spec.end}
     parameters: dict[str, Any] = {}
     for parameter in spec.parameters:
         choices = parameter.choices

@@ -41,6 +41,7 @@ from hunchbook.core.errors import RuleError
 from hunchbook.core.expr import FUNCTIONS
 from hunchbook.core.rules import (
     COST_KEYS,
+    SERIES_HELP,
     SERIES_NAMES,
     Parameter,
     ParamRange,
@@ -292,13 +293,19 @@ class RuleForm(QWidget):
         self.functions_list.setFixedHeight(84)
         self.functions_list.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         self.functions_list.setTextElideMode(Qt.TextElideMode.ElideRight)
-        self.functions_list.setToolTip("Functions of the expression language; double-click one "
-                                       "to insert it into the position.")
+        self.functions_list.setToolTip("Functions and series of the expression language; "
+                                       "double-click one to insert it into the position. "
+                                       'Another market\'s series: close["GOLD"].')
         for name, help_text in FUNCTIONS.items():
             signature, _, summary = help_text.partition(": ")
             item = QListWidgetItem(f"{signature}  -  {summary}")
-            item.setData(Qt.ItemDataRole.UserRole, name)
+            item.setData(Qt.ItemDataRole.UserRole, name + "(")
             item.setToolTip(help_text)
+            self.functions_list.addItem(item)
+        for name, summary in SERIES_HELP.items():
+            item = QListWidgetItem(f"{name}  -  series: {summary}")
+            item.setData(Qt.ItemDataRole.UserRole, name)
+            item.setToolTip(f'{name}: {summary}; another market\'s: {name}["MARKET"]')
             self.functions_list.addItem(item)
         self.functions_list.itemDoubleClicked.connect(self._insert_function)
         form.addRow("Functions", self.functions_list)
@@ -439,6 +446,7 @@ class RuleForm(QWidget):
         return RuleSpec(
             name=name,
             markets=tuple(self._market_order),
+            reads=kept.reads if kept else (),
             position=position,
             parameters=self._read_parameters(),
             constraint=constraint or None,
@@ -724,7 +732,7 @@ class RuleForm(QWidget):
         if not self.position_edit.isEnabled():
             return
         self.position_edit.setFocus()
-        self.position_edit.insert_word(item.data(Qt.ItemDataRole.UserRole) + "(")
+        self.position_edit.insert_word(item.data(Qt.ItemDataRole.UserRole))
 
     def _update_words(self) -> None:
         names = [_cell(self.parameters_table, r, _NAME).strip()

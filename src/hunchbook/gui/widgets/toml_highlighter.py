@@ -38,12 +38,15 @@ _DATE = re.compile(r"\d{4}-\d{2}-\d{2}(?:[T ]\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)?)?"
                    r"(?:Z|[+-]\d{2}:\d{2})?")
 _BARE_KEY = re.compile(r"[A-Za-z0-9_\-]+")
 _EXPR_NUMBER = re.compile(r"(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
+#: A name in quotes inside an expression (a market, ``close["GOLD"]``, or an event,
+#: ``event("report")``); in a basic TOML string its quotes are written ``\"``.
+_EXPR_QUOTED = re.compile(r"""\\?"[^"\\\n]*\\?"|'[^'\n]*'""")
 
 
 class TomlHighlighter(QSyntaxHighlighter):
     """Colours a rule file: comments, table headers, keys, strings, numbers, dates, booleans,
-    and inside ``position`` / ``constraint`` strings the expression's functions, price series,
-    parameter names, keywords and numbers.
+    and inside ``position`` / ``constraint`` strings the expression's functions, series,
+    parameter names, keywords, numbers and names in quotes (markets, events).
 
     Colours are chosen for the palette's base colour, so light and dark themes both read well.
     """
@@ -201,6 +204,11 @@ class TomlHighlighter(QSyntaxHighlighter):
                 if kind:
                     self.setFormat(i, word.end() - i, self._formats[kind])
                 i = word.end()
+                continue
+            quoted = _EXPR_QUOTED.match(text, i, stop)
+            if quoted:
+                self.setFormat(i, quoted.end() - i, self._formats["string"])
+                i = quoted.end()
                 continue
             number = _EXPR_NUMBER.match(text, i, stop)
             if number:
