@@ -231,7 +231,7 @@ class _Builder:
         yield "2025-02-12T11"
         self.stage(i, "submitted", THEO, "Ready for review.")
         yield "2025-02-14T16"
-        self.review(i, "accept", "Plausible mechanism; only eighteen months of "
+        self.review(i, "accept", "Plausible mechanism; only one year of "
                     "storage-day history though.")
         yield "2025-02-18T17"
         run = self.run(i, THEO, demo_rules.STORAGE)

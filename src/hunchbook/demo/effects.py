@@ -73,7 +73,7 @@ class Planted:
 #: What is planted in each demo market, and how strongly.
 PLANTED: dict[str, Planted] = {
     "CRUDE": Planted(trend=1.5, trend_days=60),
-    "NATGAS": Planted(event=0.05),
+    "NATGAS": Planted(event=0.07),
     "GOLD": Planted(trend=1.2, trend_days=60),
     "COPPER": Planted(trend=1.2, trend_days=60),
     "CORN": Planted(trend=1.8, reversal=0.03),

@@ -43,14 +43,15 @@ REVERSION = rule_file(
     "-sign(zscore(close, n)) if abs(zscore(close, n)) > entry else 0")
 
 STORAGE = rule_file(
-    "Storage-report drift", "Follow the last few days' move (storage days only from 2024-07).",
-    ("NATGAS",), "days = [1, 2, 3]", "sign(close - lag(close, days))",
-    top="start = 2024-07-01\nend = 2025-12-31\n")
+    "Storage-report drift", "Follow the storage day's move for a few days (2025 only).",
+    ("NATGAS",), "days = [1, 2, 3]", 'hold(sign(diff(close, 1)) * event("storage"), days)',
+    top="start = 2025-01-02\nend = 2025-12-31\n")
 
 GOLD_RATES = rule_file(
-    "Gold after rate shocks", "Follow GOLD after a stretched move.", ("GOLD",),
+    "Gold after rate shocks", "Follow GOLD for a month after a large TNOTE10 move.", ("GOLD",),
     "window = [10, 20]\nthreshold = [1.5, 2.0]",
-    "sign(zscore(close, window)) if abs(zscore(close, window)) > threshold else 0")
+    'hold(sign(zscore(close["TNOTE10"], window)) if abs(zscore(close["TNOTE10"], window)) > '
+    'threshold else 0, 20)', top='reads = ["TNOTE10"]\n')
 
 _COSTS = "\n[costs]\nslippage_ticks = 2   # two ticks each way: the cost we assume, as asked\n"
 RATES_DRAFT = rule_file(
@@ -69,25 +70,25 @@ RATES_SLOW = rule_file(
     extra=_COSTS)
 
 COPPER_CARRY = rule_file(
-    "Copper carry", "Long when the curve pays to hold (slope of the recent closes).",
-    ("COPPER",), "n = [20, 60]", "sign(close - lag(close, n))")
+    "Copper carry", "Long when the curve pays to hold (backwardation), short in contango.",
+    ("COPPER",), "n = [1, 20]", "sign(mean(carry, n))")
 MONTH_END = rule_file(
-    "Month-end flow", "Long EQIDX late in the month.", ("EQIDX",), "n = [3, 5]",
-    "1 if close > min(close, n) else 0")
+    "Month-end flow", "Long EQIDX over the last trading days of the month.", ("EQIDX",),
+    "k = [2, 3]", "1 if days_to_month_end < k else 0")
 CRUDE_CARRY = rule_file(
     "Crude roll-yield tilt", "Long in backwardation, short in contango.", ("CRUDE",),
-    "n = [20, 60]", "sign(ewm(close, n) - ewm(close, 4 * n))")
+    "n = [1, 20]", "sign(mean(carry, n))")
 SOY_SEASON = rule_file(
-    "Soybean autumn", "Long SOYBEAN in the crush season.", ("SOYBEAN",), "n = [20, 40]",
-    "sign(close - mean(close, n))")
+    "Soybean autumn", "Long SOYBEAN in the crush season.", ("SOYBEAN",), "first = [8, 9]",
+    "1 if month >= first and month <= 11 else 0")
 VOL_FILTER = rule_file(
     "Ten-year trend, calm markets", "Trend only when volatility is below its yearly average.",
     ("TNOTE10",), "fast = [16, 32]\nslow = [128]\nconstraint = \"fast < slow\"",
     "sign(ewm(close, fast) - ewm(close, slow)) "
     "if std(diff(close, 1), 20) < mean(std(diff(close, 1), 20), 250) else 0")
 WEATHER = rule_file(
-    "Grain weather-premium fade", "Fade CORN's run-up.", ("CORN",), "n = [20, 40]",
-    "-sign(close - mean(close, n))")
+    "Grain weather-premium fade", "In July, fade CORN's move of the last n bars.", ("CORN",),
+    "n = [20, 40]", "-sign(diff(close, n)) if month == 7 else 0")
 MOMENTUM = rule_file(
     "Volatility-scaled cross-market momentum",
     "Rank of the twelve-month move over its volatility across the eight markets.", BOOK,
@@ -97,5 +98,6 @@ GAP_FADE = rule_file(
     "k = [1.0, 2.0]", "-sign(open - lag(close, 1)) if abs(open - lag(close, 1)) > "
     "k * std(diff(close, 1), 20) else 0")
 METALS_PAIR = rule_file(
-    "Metals pair", "Fade the stretch of GOLD and COPPER from their one-year mean.",
-    ("GOLD", "COPPER"), "n = [250]", "-sign(zscore(close, n))")
+    "Metals pair", "Fade the GOLD/COPPER log ratio's stretch from its one-year mean.",
+    ("GOLD",), "n = [250]", '-sign(zscore(log(close) - log(close["COPPER"]), n))',
+    top='reads = ["COPPER"]\n')
