@@ -448,8 +448,10 @@ class Catalogue:
         """Review a submitted idea and return the review id.
 
         ``checklist`` answers every item of ``CHECKLIST``; ``decision`` is ``accept`` (every
-        item ticked; stage -> accepted) or ``return`` (comments required; stage -> returned).
-        The review, and the stage change with the comments as its reason, are journalled.
+        item ticked, and the idea's latest rule revision a valid rule file that is not the
+        unedited starter template; stage -> accepted) or ``return`` (comments required; stage
+        -> returned). The review, and the stage change with the comments as its reason, are
+        journalled.
         """
         reviewer = validate.name(reviewer, "reviewer")
         answers = reviewmod.clean_checklist(checklist)
@@ -461,6 +463,8 @@ class Catalogue:
             if idea.stage != "submitted":
                 raise CatalogueError(f"idea {idea.id} is '{idea.stage}'; only submitted ideas "
                                      "are reviewed", field=f"idea {idea.id}")
+            if decision == "accept":
+                _check_rules_for_acceptance(idea.id, revmod.latest(self.db, idea.id))
             review_id = reviewmod.insert(self.db, idea.id, reviewer=reviewer, checklist=answers,
                                          decision=decision, comments=comments, at=at)
             journal.append(self.db, idea_id=idea.id, kind="review", by=reviewer, at=at,
@@ -470,6 +474,16 @@ class Catalogue:
             ideas.set_stage(self.db, idea.id, DECISIONS[decision], by=reviewer, at=at,
                             reason=f"Review {review_id}: {comments or 'checklist complete.'}")
         return review_id
+
+    def acceptance_problem(self, idea_id: int) -> str | None:
+        """Why the idea cannot be accepted for testing yet as far as its rules go (no rule
+        file, the unedited starter template, or rules that do not parse), or ``None``."""
+        idea = ideas.get(self.db, idea_id)
+        try:
+            _check_rules_for_acceptance(idea.id, revmod.latest(self.db, idea.id))
+        except CatalogueError as exc:
+            return exc.problem
+        return None
 
     def reviews(self, idea_id: int) -> list[Review]:
         """The idea's reviews, oldest first."""
@@ -488,6 +502,27 @@ class Catalogue:
         by = validate.name(by, "by")
         with dbmod.write(self.db):
             return bundles.import_bundle(self.db, path, by=by, at=self._now())
+
+
+def _check_rules_for_acceptance(idea_id: int, revision: Revision | None) -> None:
+    """Refuse to accept an idea whose parameter space is not declared in a valid rule file."""
+    from hunchbook.core.errors import RuleError
+    from hunchbook.core.rules import parse_rules
+    from hunchbook.starter import STARTER_HINT, is_starter
+
+    field = f"idea {idea_id}"
+    if revision is None:
+        raise CatalogueError("cannot accept an idea without a rule file: save its rules "
+                             "(markets, [parameters] grid, [signal] position) first, or return "
+                             "it with comments", field=field)
+    if is_starter(revision.text):
+        raise CatalogueError(f"cannot accept it: rule revision {revision.number}: "
+                             f"{STARTER_HINT}", field=field)
+    try:
+        parse_rules(revision.text, file=f"rule revision {revision.number}")
+    except RuleError as exc:
+        raise CatalogueError(f"cannot accept it: its rule file does not parse ({exc}); fix and "
+                             "save the rules, or return it with comments", field=field) from None
 
 
 def _space(space: dict[str, Any]) -> str:

@@ -466,10 +466,11 @@ def _cat_check(args: argparse.Namespace) -> int:
 
 
 def _cat_demo(args: argparse.Namespace) -> int:
-    from hunchbook.demo.catalogue import build_demo_catalogue
+    from hunchbook.demo.build import demo_catalogue_copy
 
-    path = build_demo_catalogue(args.destination)
-    print(f"Invented demo catalogue written to {path}")
+    path = demo_catalogue_copy(args.destination)
+    print(f"Invented demo catalogue written to {path} (its runs were made on the invented "
+          "demo data: hunchbook demo-data DIR writes it)")
     return 0
 
 

@@ -9,9 +9,11 @@ from pathlib import Path
 from hunchbook import __version__
 from hunchbook.api import SetResult, Study
 from hunchbook.catalogue import Catalogue
+from hunchbook.core.errors import RuleError
 from hunchbook.core.prices import data_fingerprint
 from hunchbook.core.results import RunSummary
 from hunchbook.core.sweep import CancelCheck, Progress, SweepRunner
+from hunchbook.starter import STARTER_HINT, is_starter
 
 
 @dataclass(frozen=True)
@@ -34,9 +36,12 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     Raises
     ------
     HunchbookError
-        Bad rules or data (nothing is recorded), or a catalogue refusal (for example an idea
-        that has not been accepted for testing).
+        Bad rules or data (nothing is recorded), rules that are still the unedited starter
+        template (a placeholder is never recorded as the idea), or a catalogue refusal (for
+        example an idea that has not been accepted for testing).
     """
+    if is_starter(rule_text):
+        raise RuleError(STARTER_HINT, file=rule_file)
     study = Study.from_text(rule_text, data_folder, file=rule_file)
     sets = study.parameter_sets()
     n_trials, others = catalogue.prospective_trials(idea_id, rule_text, sets)

@@ -31,6 +31,7 @@ def catalogue_path(tmp_path):
                             rationale="Slow diffusion of information.",
                             rationale_kind="behavioural", submitted_by="Theo Brackwater",
                             markets=("CRUDE", "GOLD"), stage="submitted")
+        cat.save_rules(idea, (EXAMPLES / "breakout.toml").read_text(), by="Theo Brackwater")
         cat.review(idea, reviewer="Ines Marwood", decision="accept", comments="Go.",
                    checklist={"rationale_not_data_mined": True, "markets_named": True,
                               "parameter_space_declared": True,
@@ -86,3 +87,18 @@ def test_unreviewed_idea_records_nothing(demo_dir, catalogue_path, tmp_path, cap
     assert "review it first" in captured.err and "Traceback" not in captured.err
     with Catalogue(catalogue_path) as cat:
         assert cat.revisions(2) == [] and cat.runs(2) == []
+
+
+def test_the_unedited_starter_rules_are_refused(demo_dir, catalogue_path, tmp_path, capsys):
+    """`hunchbook run --idea` on the starter template records nothing and says what to fill
+    in (common practice, no source: a placeholder is not the idea)."""
+    from hunchbook.starter import starter_rules
+
+    rules = tmp_path / "starter.toml"
+    rules.write_text(starter_rules("Breakout on the demo book", ["CRUDE", "GOLD"]))
+    code, captured, _ = _run(rules, demo_dir, catalogue_path, 1, tmp_path, capsys)
+    assert code == 1 and "Traceback" not in captured.err
+    assert "unedited starter template" in captured.err and "[signal] position" in captured.err
+    with Catalogue(catalogue_path) as cat:
+        assert len(cat.revisions(1)) == 1 and cat.runs(1) == []
+        assert cat.idea(1).stage == "accepted"

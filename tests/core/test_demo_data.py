@@ -65,8 +65,22 @@ def test_same_seed_writes_identical_files_and_another_seed_does_not(tmp_path: Pa
 
 
 def test_folder_holds_library_note_and_one_csv_per_market(folder: Path) -> None:
-    expected = {"markets.toml", "INVENTED_DATA.txt", *(f"{m}.csv" for m in DEMO_MARKETS)}
+    expected = {"markets.toml", "INVENTED_DATA.txt", "events.csv",
+                *(f"{m}.csv" for m in DEMO_MARKETS)}
     assert {p.name for p in folder.iterdir()} == expected
+
+
+def test_events_are_the_natgas_storage_thursdays(folder: Path, bars) -> None:
+    """events.csv lists the storage report on every Thursday NATGAS trades (weekday from
+    Python's datetime, the reference library)."""
+    import datetime as dt
+
+    events = pd.read_csv(folder / "events.csv", dtype=str)
+    assert list(events.columns) == ["date", "event", "market"]
+    assert set(events["event"]) == {"storage"} and set(events["market"]) == {"NATGAS"}
+    traded = {d.date() for d in bars["NATGAS"]["date"]}
+    thursdays = sorted(d for d in traded if d.weekday() == 3)
+    assert [dt.date.fromisoformat(d) for d in events["date"]] == thursdays
     note = (folder / "INVENTED_DATA.txt").read_text(encoding="utf-8")
     assert "INVENTED" in note and DESK.name in note
 

@@ -10,7 +10,7 @@ import pytest
 
 #: Short demo data window: quick runs stay fast.
 SHORT_START, SHORT_END = "2015-01-02", "2018-12-31"
-#: The demo desk's accepted idea that has no rules yet.
+#: The demo desk's accepted idea that has rules and no run yet.
 ACCEPTED_TITLE = "Ten-year note trend with a volatility filter"
 #: A submitted idea waiting for review.
 SUBMITTED_TITLE = "Copper carry from the curve slope"
@@ -24,9 +24,9 @@ def _once(kind: str, factory: pytest.TempPathFactory) -> Path:
     key = (kind, factory.getbasetemp())
     if key not in _BUILT:
         if kind == "catalogue":
-            from hunchbook.demo.catalogue import build_demo_catalogue
+            from hunchbook.demo.build import CATALOGUE_FILE, built_demo
 
-            _BUILT[key] = build_demo_catalogue(factory.mktemp("desk") / "demo.sqlite")
+            _BUILT[key] = built_demo() / CATALOGUE_FILE
         else:
             from hunchbook.demo import write_demo_data
 

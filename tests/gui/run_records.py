@@ -77,6 +77,7 @@ def record_runs(folder: Path) -> RecordedRuns:
                                rationale="Slow diffusion of information.",
                                rationale_kind="behavioural", submitted_by="Theo Brackwater",
                                markets=("CRUDE", "GOLD"), stage="submitted")
+        cat.save_rules(idea_id, TWO_PARAMETER_RULES, by="Theo Brackwater")
         cat.review(idea_id, reviewer="Ines Marwood", decision="accept", comments="Go.",
                    checklist={"rationale_not_data_mined": True, "markets_named": True,
                               "parameter_space_declared": True,

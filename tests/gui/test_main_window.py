@@ -179,6 +179,43 @@ def test_quick_run_refused_for_a_draft_with_a_clear_message(qtbot, window):
     assert _close_error_dialogs(window)
 
 
+def test_quick_run_refuses_the_unedited_starter_rules(qtbot, window):
+    """Ctrl+R on the starter template records nothing and says what to fill in (common
+    practice, no source: a placeholder is not the idea)."""
+    from hunchbook.starter import starter_rules
+
+    idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
+    window.select_idea(idea_id)
+    revisions = window.catalogue.revisions(idea_id)
+    idea = window.catalogue.idea(idea_id)
+    window.rules.editor.set_text(starter_rules(idea.title, idea.markets))
+    with qtbot.assertNotEmitted(window.quick_run.started):
+        assert window.quick_run.start() is None
+    assert "unedited starter template" in window.last_error
+    assert "[signal] position" in window.last_error
+    assert _close_error_dialogs(window)
+    assert window.catalogue.runs(idea_id) == []
+    assert window.catalogue.revisions(idea_id) == revisions
+
+
+def test_review_cannot_accept_an_idea_without_rules(qtbot, window):
+    """The Review section's Accept stays off for an idea without a rule file, whatever is
+    ticked, and says why; the catalogue refuses it too."""
+    idea_id = window.catalogue.add_idea(title="No rules yet", hypothesis="h",
+                                        submitted_by="Nia Oduya-Fell", stage="submitted")
+    window.refresh_idea(idea_id)
+    window.select_idea(idea_id)
+    window.show_section("review")
+    panel = window.section("review")
+    for key in CHECKLIST:
+        panel.checks[key].setChecked(True)
+    assert panel.form.isVisible() and not panel.accept_button.isEnabled()
+    assert "without a rule file" in panel.status.text()
+    assert "without a rule file" in panel.accept_button.toolTip()
+    assert not panel.decide("accept")
+    assert window.catalogue.idea(idea_id).stage == "submitted"
+
+
 def test_run_failure_shows_one_line_and_records_nothing(qtbot, window, tmp_path):
     """A data folder without price files: the run stops with a one-line error dialog."""
     idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
@@ -198,12 +235,13 @@ def test_cancelled_sweep_records_nothing_and_the_window_stays_usable(qtbot, wind
     progress bar goes away, and a following run works."""
     idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
     window.select_idea(idea_id)
+    revisions = window.catalogue.revisions(idea_id)
     window.rules.editor.set_text(MANY_SETS)
     with qtbot.waitSignal(window.quick_run.cancelled, timeout=60000):
         assert window.quick_run.start() is not None
         qtbot.mouseClick(window.quick_run.cancel_button, Qt.MouseButton.LeftButton)
     assert window.catalogue.runs(idea_id) == []
-    assert window.catalogue.revisions(idea_id) == []
+    assert window.catalogue.revisions(idea_id) == revisions
     assert window.catalogue.idea(idea_id).stage == "accepted"
     assert not window.quick_run.is_running() and not window.quick_run.progress.isVisible()
     assert window.quick_run.run_action.isEnabled()
@@ -502,22 +540,22 @@ def test_screenshot_option_writes_a_png(qtbot, demo_catalogue, short_data, tmp_p
 
 
 def test_demo_opens_on_the_accepted_idea_with_its_data(qtbot, tmp_path, monkeypatch):
-    """``--demo`` shows the window at once, writes the demo desk and data on workers (never
+    """``--demo`` shows the window at once, prepares the demo desk and data on a worker (never
     on the UI thread), then opens the 15-idea catalogue with the accepted idea selected and
     sets the data folder."""
     import threading
 
-    from hunchbook.demo import catalogue as demo_catalogue
+    from hunchbook.demo import build as demo_build
     from hunchbook.gui.app import parse_args, start
 
     threads = []
-    build = demo_catalogue.build_demo_catalogue
+    prepare = demo_build.prepare_demo
 
-    def recorded(path):
+    def recorded(dest, **kwargs):
         threads.append(threading.current_thread())
-        return build(path)
+        return prepare(dest, **kwargs)
 
-    monkeypatch.setattr(demo_catalogue, "build_demo_catalogue", recorded)
+    monkeypatch.setattr(demo_build, "prepare_demo", recorded)
     session = start(parse_args(["--demo"]))
     qtbot.addWidget(session.window)
     try:

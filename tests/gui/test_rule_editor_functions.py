@@ -41,7 +41,7 @@ def editor(qtbot):
 
 def test_function_list_shows_each_new_function_with_its_line(editor):
     items = editor.form.functions_list
-    # each function item carries the text it inserts: its name and an opening bracket
+    # a function's item inserts "name(" (series items insert the bare name)
     shown = {items.item(i).data(Qt.ItemDataRole.UserRole).removesuffix("("): items.item(i).text()
              for i in range(items.count())}
     for name in NEW:

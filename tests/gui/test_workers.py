@@ -105,6 +105,8 @@ def test_run_worker_records_a_run_and_reports_progress(qtbot, demo_catalogue, sh
 def test_run_worker_cancelled_records_nothing(qtbot, demo_catalogue, short_data):
     """Cancelled before the sweep ends: ``cancelled``, no run and no revision stored."""
     idea_id = _accepted_id(demo_catalogue)
+    with Catalogue(demo_catalogue) as cat:
+        revisions = cat.revisions(idea_id)  # the rule file it was accepted with
     worker = RunIdeaWorker(demo_catalogue, idea_id, RULES, short_data, by="Test Reviewer",
                            runner=InProcess())
     worker.cancel()
@@ -112,7 +114,7 @@ def test_run_worker_cancelled_records_nothing(qtbot, demo_catalogue, short_data)
         worker.start()
     with Catalogue(demo_catalogue) as cat:
         assert cat.runs(idea_id) == []
-        assert cat.revisions(idea_id) == []
+        assert cat.revisions(idea_id) == revisions
 
 
 def test_run_worker_bad_data_folder_fails_clearly(qtbot, demo_catalogue, tmp_path):

@@ -27,11 +27,13 @@ position = "sign(mean(close, fast) - mean(close, slow))"
 
 
 def accepted_idea(cat: Catalogue, title: str = "Grain trend", **fields: Any) -> int:
-    """An idea taken through submission and an accepting review."""
+    """An idea taken through submission, its rule file (:data:`RULES`) and an accepting
+    review."""
     fields.setdefault("hypothesis", "Grain prices trend for weeks.")
     fields.setdefault("rationale", "Hedgers adjust slowly after crop reports.")
     fields.setdefault("markets", ["CORN", "SOYBEAN"])
     idea = cat.add_idea(title=title, submitted_by="Nia", stage="submitted", **fields)
+    cat.save_rules(idea, RULES, by="Nia")
     cat.review(idea, reviewer="Ines", checklist=dict.fromkeys(CHECKLIST, True),
                decision="accept", comments="Go ahead.")
     return idea

@@ -97,6 +97,30 @@ def test_review_accept_needs_every_checklist_item(cat: Catalogue) -> None:
     assert cat.reviews(idea) == [] and cat.idea(idea).stage == "submitted"
 
 
+def test_review_accept_needs_a_valid_rule_file(cat: Catalogue) -> None:
+    """Accepting declares the parameter space, so the tool checks a rule file exists and
+    parses, whatever the checklist says (common practice, no source: pre-registration)."""
+    from hunchbook.starter import starter_rules
+
+    idea = cat.add_idea(title="t", hypothesis="h", submitted_by="Theo", stage="submitted",
+                        markets=["CORN"])
+    ticked = dict.fromkeys(CHECKLIST, True)
+    for rules, problem in ((None, "without a rule file"),
+                           (starter_rules("t", ["CORN"]), "unedited starter template"),
+                           (RULES.replace("mean(close, fast)", "mean(close, fats)"),
+                            "does not parse.*fats")):
+        if rules is not None:
+            cat.save_rules(idea, rules, by="Theo")
+        assert problem.split(".*")[0] in (cat.acceptance_problem(idea) or "")
+        with pytest.raises(CatalogueError, match=problem):
+            cat.review(idea, reviewer="Ines", checklist=ticked, decision="accept", comments="")
+        assert cat.reviews(idea) == [] and cat.idea(idea).stage == "submitted"
+    cat.save_rules(idea, RULES, by="Theo")
+    assert cat.acceptance_problem(idea) is None
+    cat.review(idea, reviewer="Ines", checklist=ticked, decision="accept", comments="")
+    assert cat.idea(idea).stage == "accepted"
+
+
 def test_review_return_records_comments_and_moves_the_stage(cat: Catalogue) -> None:
     idea = cat.add_idea(title="t", hypothesis="h", submitted_by="Theo", stage="submitted")
     answers = dict.fromkeys(CHECKLIST, True) | {"rationale_not_data_mined": False}
@@ -186,4 +210,4 @@ def test_rule_text_must_be_toml(cat: Catalogue) -> None:
     idea = accepted_idea(cat)
     with pytest.raises(CatalogueError, match="not a valid TOML rule file.*line 2"):
         cat.save_rules(idea, 'name = "x"\nmarkets = ]\n', by="Nia")
-    assert cat.revisions(idea) == []
+    assert [r.text for r in cat.revisions(idea)] == [RULES]  # only the one saved before review

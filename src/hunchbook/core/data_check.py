@@ -12,6 +12,7 @@ from pathlib import Path
 
 from hunchbook.core.continuous import build_continuous
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.events import EVENTS_FILE
 from hunchbook.core.markets import read_market_library
 from hunchbook.core.prices import ACTIVITY_COLUMNS, LIBRARY_FILE, PRICE_COLUMNS, read_market_csv
 from hunchbook.core.rules.model import RollSpec
@@ -153,7 +154,8 @@ def check_data_folder(folder: str | os.PathLike[str], *,
             problem = _relative_text(err, root)
     try:
         files = {p.stem: p.name for p in sorted(root.iterdir())
-                 if p.suffix.lower() == ".csv" and p.is_file()}
+                 if p.suffix.lower() == ".csv" and p.is_file()
+                 and p.name.lower() != EVENTS_FILE}  # dated events, not prices
     except OSError as err:
         return DataCheckReport(folder=str(root), problem=f"{root}: cannot list the folder "
                                f"({err.strerror or err})", markets=())

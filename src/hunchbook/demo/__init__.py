@@ -4,10 +4,11 @@ contract-level futures data and example rule files.
 The desk is *Fernhollow Lane Partners, systematic research desk*, an invented firm: Ines Marwood
 (research lead) and two junior analysts, Theo Brackwater and Nia Oduya-Fell (see :data:`DESK`).
 It trades eight invented futures markets (:data:`DEMO_MARKETS`): CRUDE, NATGAS (energy), GOLD,
-COPPER (metals), CORN, SOYBEAN (grains), TNOTE10 (rates) and EQIDX (equity index). Contract sizes
-and ticks follow common practice for such products; names, prices, volumes, holidays and expiry
-dates are all invented, and the data is generated deterministically from a seed by
-:func:`write_demo_data`.
+COPPER (metals), CORN, SOYBEAN (grains), TNOTE10 (rates) and EQIDX (equity index). The contract
+terms (sizes, ticks, fee levels, expiry rules) follow common exchange specifications for such
+products: facts of the trade. The desk, its people, the names, prices, volumes and holidays are
+invented, and the data is generated deterministically from a seed by :func:`write_demo_data`,
+with the effects of :mod:`hunchbook.demo.effects` planted in it.
 
 Expiry rules: energy contracts expire on the third-to-last business day of the month before
 delivery; GOLD on the last business day on or before the 26th of the delivery month; COPPER on

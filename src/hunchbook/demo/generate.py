@@ -1,6 +1,9 @@
 """Write the invented demo data folder: the market library and one contract-level CSV per market.
 
 Everything is invented and deterministic: the same seed and window give byte-identical files.
+The effects planted in the prices (which market trends, reverts, pays carry or reacts to the
+calendar and to its storage report, and how strongly) are listed in
+:mod:`hunchbook.demo.effects`; the demo desk's runs are real runs on these data.
 """
 
 from __future__ import annotations
@@ -18,6 +21,12 @@ from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.demo.calendars import business_days, weekdays
 from hunchbook.demo.contracts import contract_schedule
 from hunchbook.demo.desk import DESK
+from hunchbook.demo.effects import (
+    STORAGE_EVENT,
+    STORAGE_MARKET,
+    PlantedTerms,
+    planted_terms,
+)
 from hunchbook.demo.liquidity import volume_and_open_interest
 from hunchbook.demo.prices import (
     carry_path,
@@ -41,6 +50,8 @@ CSV_COLUMNS = ("date", "contract", "expiry", "open", "high", "low", "close", "vo
 LIBRARY_FILE = "markets.toml"
 #: The invented market library among the application's resources (see hunchbook.resources).
 LIBRARY_RESOURCE = "demo/markets.toml"
+#: Name of the dated-events file in a data folder.
+EVENTS_FILE = "events.csv"
 #: Name of the note that labels the data folder as invented.
 NOTE_FILE = "INVENTED_DATA.txt"
 #: Calendar days of business-day calendar kept before the window (for early expiries) and
@@ -81,14 +92,37 @@ def demo_frames(*, seed: int = DEFAULT_SEED, start: str = DEFAULT_START,
         When the seed is not a non-negative integer or the window is not two valid dates in order.
     """
     first, last = _window(start, end)
+    n = len(PROFILES)
     streams = [np.random.Generator(np.random.PCG64(child))
-               for child in np.random.SeedSequence(_checked_seed(seed)).spawn(len(PROFILES) + 1)]
+               for child in np.random.SeedSequence(_checked_seed(seed)).spawn(2 * n + 1)]
     library = demo_market_library()
     grid = weekdays(first, last)
     shocks = correlated_shocks(streams[0], len(grid))
-    return {profile.symbol: _market_frame(profile, library[profile.symbol].tick_size, grid,
-                                          shocks[:, k], streams[k + 1], first, last)
+    return {profile.symbol: _market_frame(
+                profile, library[profile.symbol].tick_size, grid, shocks[:, k], streams[k + 1],
+                first, last,
+                planted_terms(profile.symbol, grid, profile.annual_vol, streams[n + k + 1]))
             for k, profile in enumerate(PROFILES)}
+
+
+def demo_events(frames: dict[str, pd.DataFrame]) -> pd.DataFrame:
+    """The dated events of the demo data (``events.csv``): the invented weekly storage report
+    of NATGAS on each Thursday it trades (see :mod:`hunchbook.demo.effects`).
+
+    Parameters
+    ----------
+    frames
+        The demo markets' bars, as :func:`demo_frames` returns them.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns ``date``, ``event``, ``market``, one row per report day, sorted by date.
+    """
+    dates = pd.to_datetime(frames[STORAGE_MARKET]["date"].drop_duplicates())
+    thursdays = dates[dates.dt.day_of_week == 3].dt.strftime("%Y-%m-%d")
+    return pd.DataFrame({"date": thursdays.to_numpy(), "event": STORAGE_EVENT,
+                         "market": STORAGE_MARKET})
 
 
 def write_demo_data(folder: str | os.PathLike[str], *, seed: int = DEFAULT_SEED,
@@ -96,8 +130,9 @@ def write_demo_data(folder: str | os.PathLike[str], *, seed: int = DEFAULT_SEED,
     """Write the invented demo data folder.
 
     Writes ``markets.toml`` (the invented market library), ``INVENTED_DATA.txt`` (a note saying
-    the data is invented) and one ``<MARKET>.csv`` per demo market into ``folder``, creating it
-    if needed and replacing files of the same names.
+    the data is invented), ``events.csv`` (the dated events, :func:`demo_events`) and one
+    ``<MARKET>.csv`` per demo market into ``folder``, creating it if needed and replacing files
+    of the same names.
 
     Parameters
     ----------
@@ -129,6 +164,7 @@ def write_demo_data(folder: str | os.PathLike[str], *, seed: int = DEFAULT_SEED,
             decimals = _decimals(library[market].tick_size)
             frame.to_csv(root / f"{market}.csv", index=False, lineterminator="\n",
                          float_format=f"%.{decimals}f")
+        demo_events(frames).to_csv(root / EVENTS_FILE, index=False, lineterminator="\n")
     except OSError as exc:
         raise DataError(f"cannot write the demo data ({exc.strerror or exc})",
                         file=str(exc.filename or root)) from None
@@ -136,9 +172,9 @@ def write_demo_data(folder: str | os.PathLike[str], *, seed: int = DEFAULT_SEED,
 
 
 def _market_frame(profile: MarketProfile, tick: float, grid: np.ndarray, shocks: np.ndarray,
-                  rng: np.random.Generator, first: np.datetime64,
-                  last: np.datetime64) -> pd.DataFrame:
-    log_spot, daily_vol = spot_path(profile, shocks, rng)
+                  rng: np.random.Generator, first: np.datetime64, last: np.datetime64,
+                  planted: PlantedTerms) -> pd.DataFrame:
+    log_spot, daily_vol = spot_path(profile, shocks, rng, planted)
     carry = carry_path(profile, len(grid), rng)
     calendar = business_days(profile.sector, first - _CALENDAR_MARGIN[0],
                              last + _CALENDAR_MARGIN[1])
@@ -232,9 +268,10 @@ def _note(seed: int, start: str, end: str) -> str:
         "INVENTED DEMO DATA - NOT REAL MARKET PRICES\n"
         "\n"
         "Every file in this folder was generated by hunchbook.demo.write_demo_data from random\n"
-        f"numbers (seed {seed}, {start} to {end}). The markets, contract specifications, prices,\n"
-        "volumes, open interest, holidays and expiry dates are all invented for demonstrations\n"
-        "and tests; they describe no real exchange or product.\n"
+        f"numbers (seed {seed}, {start} to {end}). The contract terms in markets.toml follow\n"
+        "common exchange specifications (facts of the trade); the market names, prices, volumes,\n"
+        "open interest and holidays are invented for demonstrations and tests, with known effects\n"
+        "planted in them (see hunchbook/demo/effects.py). They are no real market's data.\n"
         "\n"
         f"Owner (also invented): {DESK.name}\n"
         f"{people}\n"

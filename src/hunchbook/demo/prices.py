@@ -9,12 +9,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from hunchbook.core.periods import DAYS_PER_YEAR
+from hunchbook.demo.effects import REVERSAL_DAYS, PlantedTerms
 from hunchbook.demo.profiles import SHOCK_CORRELATION, MarketProfile
 
 #: Daily pull of the log-price towards its long-run anchor.
 ANCHOR_PULL = 0.001
 #: Mean length of a price regime (trend or mean reversion), in trading days.
 MEAN_REGIME_DAYS = 200
+#: Drift of a trending regime, in annual volatilities a year (times the regime's size).
+REGIME_DRIFT = 0.8
 #: Mean length of a carry regime (contango or backwardation), in trading days.
 MEAN_CARRY_DAYS = 250
 
@@ -57,17 +60,18 @@ def correlated_shocks(rng: np.random.Generator, n_days: int) -> np.ndarray:
     return rng.standard_normal((n_days, len(chol))) @ chol.T
 
 
-def spot_path(profile: MarketProfile, shocks: np.ndarray,
-              rng: np.random.Generator) -> tuple[np.ndarray, np.ndarray]:
+def spot_path(profile: MarketProfile, shocks: np.ndarray, rng: np.random.Generator,
+              planted: PlantedTerms | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Daily log spot price and daily volatility of one market over the weekday grid.
 
-    The path alternates between trending regimes (a steady drift of 1 to 3 annual
+    The path alternates between trending regimes (a steady drift of 0.4 to 1.2 annual
     volatilities a year) and mean-reverting regimes (a pull of 0.2 to 1 % a day towards the
     level where the regime began). A trend is more likely to head back towards the long-run
     anchor the further the price has strayed from it, stalls two annual volatilities past the
     anchor, and a weak daily pull draws the price back, so eighteen years stay in a plausible
     range. Volatility wanders around ``annual_vol`` as a
-    slow log-AR(1) process.
+    slow log-AR(1) process. The market's planted effects (:mod:`hunchbook.demo.effects`) are
+    added to each day's change.
 
     Parameters
     ----------
@@ -77,6 +81,8 @@ def spot_path(profile: MarketProfile, shocks: np.ndarray,
         Standard normal shocks, one per weekday.
     rng
         The market's own random generator.
+    planted
+        The market's planted effects over the same days (none when ``None``).
 
     Returns
     -------
@@ -94,12 +100,14 @@ def spot_path(profile: MarketProfile, shocks: np.ndarray,
     level = x
     drift = 0.0
     h = 0.0
+    history = np.full(REVERSAL_DAYS + 1, x)  # the last closes, oldest first
+    event_sign, event_left = 0.0, 0
     for t in range(n):
         if regimes.start[t]:
             level = x
             stray = (x - anchor[t]) / profile.annual_vol
             direction = 1.0 if regimes.coin[t] < 1.0 / (1.0 + np.exp(3.0 * stray)) else -1.0
-            drift = direction * 2.0 * regimes.size[t] * profile.annual_vol / DAYS_PER_YEAR
+            drift = direction * REGIME_DRIFT * regimes.size[t] * profile.annual_vol / DAYS_PER_YEAR
         h = 0.985 * h + 0.04 * vol_noise[t]
         daily_vol[t] = sigma * np.exp(h)
         if regimes.trend[t]:
@@ -108,8 +116,20 @@ def spot_path(profile: MarketProfile, shocks: np.ndarray,
             step = 0.0 if stretched else drift
         else:
             step = (0.002 + 0.008 * (regimes.size[t] - 0.5)) * (level - x)
+        if planted is not None:
+            step += planted.push[t] * daily_vol[t] - planted.reversal * (x - history[0])
+            if event_left:
+                step += planted.event * daily_vol[t] * event_sign
+                event_left -= 1
+        before = x
         x += step + ANCHOR_PULL * (anchor[t] - x) + daily_vol[t] * shocks[t]
+        if planted is not None and planted.event_day[t]:
+            event_sign, event_left = float(np.sign(x - before)), 2
+        history = np.roll(history, -1)
+        history[-1] = x
         log_price[t] = x
+    if planted is not None:  # the trend rides on top, beyond the reach of the regimes' pulls
+        log_price += planted.level
     return log_price, daily_vol
 
 

@@ -4,9 +4,10 @@ copy of the invented demo desk), ``--screenshot PATH`` (render and exit).
 Options
 -------
 ``--demo``
-    Write the demo catalogue and, on a worker, the invented demo data into a temporary
-    folder, and open the window on them (removed when the window closes). You act as the
-    invented desk's research lead unless ``$HUNCHBOOK_USER`` names someone.
+    Copy the demo desk (its catalogue and invented data; built on a worker into the user
+    cache folder the first time a version starts, with progress in the status bar) into a
+    temporary folder and open the window on it (removed when the window closes). You act as
+    the invented desk's research lead unless ``$HUNCHBOOK_USER`` names someone.
 ``--catalogue PATH``
     The catalogue file (default: the last one opened, else
     :func:`hunchbook.catalogue.default_catalogue_path`).
@@ -40,7 +41,7 @@ from PySide6.QtWidgets import QApplication
 from hunchbook.gui.feedback import USER_ENV, install_excepthook
 from hunchbook.gui.main_window import MainWindow
 from hunchbook.gui.sections.registry import section_names
-from hunchbook.gui.workers import CallWorker
+from hunchbook.gui.workers import DemoDeskWorker
 
 #: Longest wait for the demo data before a screenshot is taken (ms).
 DEMO_DATA_TIMEOUT_MS = 120_000
@@ -53,7 +54,7 @@ class Session:
     app: QApplication
     window: MainWindow
     temp_dir: Path | None = None
-    demo_workers: list[CallWorker] = field(default_factory=list)
+    demo_workers: list[DemoDeskWorker] = field(default_factory=list)
     started_at: float = field(default_factory=time.perf_counter)
 
     def wait_for_demo_data(self, timeout_ms: int = DEMO_DATA_TIMEOUT_MS) -> bool:
@@ -164,44 +165,37 @@ def _default_catalogue() -> Path:
 
 
 def _start_demo(session: Session, options: argparse.Namespace) -> None:
-    """Write a fresh copy of the demo catalogue and the demo data on workers; the window
-    shows at once and opens each when it is ready."""
-    from hunchbook.demo import write_demo_data
-    from hunchbook.demo.catalogue import build_demo_catalogue
-
+    """Copy the demo desk into a temporary folder on a worker (building it first when this
+    version has none in the user cache); the window shows at once and opens it when ready."""
     window = session.window
     session.temp_dir = Path(tempfile.mkdtemp(prefix="hunchbook-demo-"))
-    window.status_message("Writing the invented demo desk in the background\u2026")
-    desk = CallWorker(build_demo_catalogue, session.temp_dir / "demo-catalogue.sqlite")
-    desk.signals.finished.connect(lambda path: _demo_desk_ready(window, path, options))
+    window.status_message("Opening the invented demo desk\u2026")
+    desk = DemoDeskWorker(session.temp_dir)
+    desk.signals.progress.connect(lambda done, total: window.status_message(
+        f"Building the invented demo desk for this version (once; it is kept in the user "
+        f"cache folder): step {done} of {total}, real quick runs on the invented data\u2026"))
+    desk.signals.finished.connect(lambda paths: _demo_ready(window, paths, options))
     desk.signals.failed.connect(lambda message: window.show_error(
         "Demo desk not written", message))
     session.demo_workers.append(desk)
     if options.data is not None:
         window.set_data_folder(options.data)
-    else:
-        data = CallWorker(write_demo_data, session.temp_dir / "data")
-        data.signals.finished.connect(lambda folder: _demo_data_ready(window, folder))
-        data.signals.failed.connect(lambda message: window.show_error(
-            "Demo data not written", message))
-        session.demo_workers.append(data)
-    for worker in session.demo_workers:
-        worker.start()
+    desk.start()
 
 
-def _demo_desk_ready(window: MainWindow, path: Path, options: argparse.Namespace) -> None:
-    window.open_catalogue(path)
+def _demo_ready(window: MainWindow, paths: tuple[Path, Path], options: argparse.Namespace
+                ) -> None:
+    catalogue, data = paths
+    window.open_catalogue(catalogue)
+    if options.data is None:
+        window.set_data_folder(data)
     if options.idea is None and window.catalogue is not None:
         ready = [i.id for i in window.catalogue.list_ideas(stage="accepted")]
         if ready:
             window.select_idea(ready[0])
     _show_asked(window, options)
-
-
-def _demo_data_ready(window: MainWindow, folder: Path) -> None:
-    window.set_data_folder(folder)
-    window.status_message("Demo data ready (invented prices). Press Ctrl+R on an accepted "
-                          "idea for a quick run.")
+    window.status_message("Demo desk ready (invented prices; every run is a real run on "
+                          "them). Press Ctrl+R on an accepted idea for a quick run.")
 
 
 def take_screenshot(session: Session, path: Path) -> bool:

@@ -11,6 +11,7 @@ from PySide6.QtWidgets import QLabel, QProgressBar, QPushButton, QStatusBar, QSt
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.gui.workers import RunIdeaWorker
+from hunchbook.starter import STARTER_HINT, is_starter
 from hunchbook.store.vocab import RUNNABLE_STAGES
 
 if TYPE_CHECKING:
@@ -78,8 +79,8 @@ class QuickRunner(QObject):
     def start(self) -> RunIdeaWorker | None:
         """Run the Rules section's text over the data folder on a worker and record the run.
 
-        Refuses (with a dialog) when the rules have an error, the idea is not accepted for
-        testing, or no data folder is chosen.
+        Refuses (with a dialog) when the rules have an error or are still the unedited
+        starter template, the idea is not accepted for testing, or no data folder is chosen.
         """
         window = self._window
         idea_id, catalogue = window.current_idea_id(), window.catalogue
@@ -91,6 +92,11 @@ class QuickRunner(QObject):
             return None
         window.save_sections()
         if not window.rules.check():
+            return None
+        if is_starter(window.rules.text()):
+            window.show_section("rules")
+            window.show_error("Rules not written yet", STARTER_HINT[0].upper() + STARTER_HINT[1:]
+                              + " (Ctrl+S), then press Ctrl+R.")
             return None
         idea = catalogue.idea(idea_id)
         if idea.stage not in RUNNABLE_STAGES:

@@ -118,6 +118,20 @@ class CallWorker(Worker):
         return function(*args, **kwargs)
 
 
+class DemoDeskWorker(Worker):
+    """Prepares a working copy of the demo desk in ``dest`` (built into the user cache first
+    when this version has none, with progress); ``finished`` carries (catalogue, data)."""
+
+    def __init__(self, dest: str | os.PathLike[str]) -> None:
+        super().__init__()
+        self.dest = Path(dest)
+
+    def work(self) -> object:
+        from hunchbook.demo.build import prepare_demo
+
+        return prepare_demo(self.dest, progress=self.report_progress)
+
+
 class RunIdeaWorker(Worker):
     """A quick run of an idea: :func:`hunchbook.services.run_idea` on its own catalogue
     connection; ``finished`` carries the :class:`~hunchbook.services.IdeaRun`.

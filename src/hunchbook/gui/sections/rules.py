@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import os
 from pathlib import Path
-from string import Template
 
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QVBoxLayout, QWidget
@@ -19,21 +18,14 @@ from hunchbook.core.rules import parse_rules
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.sections.base import IdeaSection, SectionContext
 from hunchbook.gui.widgets.rule_editor import RuleEditor
-from hunchbook.resources import read_resource
+from hunchbook.starter import starter_rules as _starter_text
 from hunchbook.store.records import Idea
-
-#: The starter rule file among the resources (a :class:`string.Template`).
-STARTER_TEMPLATE = "starter-rules.template"
 
 
 def starter_rules(idea: Idea) -> str:
     """A first rule file for an idea that has none yet: its title and markets, a small grid
-    and a simple trend signal to edit (from ``resources/starter-rules.template``)."""
-    title = idea.title.replace("\\", "\\\\").replace('"', '\\"')
-    markets = ", ".join(f'"{m}"' for m in idea.markets)
-    note = "" if markets else "# Name the markets this idea trades, e.g. [\"CRUDE\"].\n"
-    return Template(read_resource(STARTER_TEMPLATE)).substitute(
-        title=title, markets=markets, markets_note=note)
+    and a simple trend signal to edit (see :mod:`hunchbook.starter`)."""
+    return _starter_text(idea.title, idea.markets)
 
 
 class RulesSection(IdeaSection):

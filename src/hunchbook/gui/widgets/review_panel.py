@@ -27,8 +27,8 @@ class ReviewPanel(IdeaSection):
     idea; ``idea_changed`` follows a recorded review (the idea's stage moved). The tab is
     marked while the idea waits for review.
 
-    Accepting needs every checklist item ticked; returning needs comments (the catalogue
-    checks both and the buttons say so first).
+    Accepting needs every checklist item ticked and a valid rule file saved for the idea;
+    returning needs comments (the catalogue checks all three and the buttons say so first).
     """
 
     key = "review"
@@ -36,6 +36,7 @@ class ReviewPanel(IdeaSection):
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
+        self._rules_problem: str | None = None
         self.status = QLabel(self)
         self.status.setObjectName("reviewStatus")
         self.status.setWordWrap(True)
@@ -95,9 +96,13 @@ class ReviewPanel(IdeaSection):
         open_for_review = idea.stage == "submitted"
         self.form.setVisible(open_for_review)
         self.tab_changed.emit(f"{self.tab_title} \u25cf" if open_for_review else self.tab_title, "")
+        self._rules_problem = (self.catalogue.acceptance_problem(idea_id) if open_for_review
+                               else None)
         if open_for_review:
+            rules = ("" if self._rules_problem is None
+                     else f" It cannot be accepted yet: {self._rules_problem}.")
             self.status.setText(f"Submitted by {idea.submitted_by}; waiting for review. You "
-                                f"review as {self.context.user}.")
+                                f"review as {self.context.user}.{rules}")
             for check in self.checks.values():
                 check.setChecked(False)
             self.comments.clear()
@@ -129,8 +134,10 @@ class ReviewPanel(IdeaSection):
     def _update_buttons(self) -> None:
         every = all(c.isChecked() for c in self.checks.values())
         commented = bool(self.comments.toPlainText().strip())
-        self.accept_button.setEnabled(every)
-        self.accept_button.setToolTip("" if every else "Tick every checklist item to accept.")
+        self.accept_button.setEnabled(every and self._rules_problem is None)
+        self.accept_button.setToolTip(
+            f"Cannot accept: {self._rules_problem}." if self._rules_problem is not None
+            else "" if every else "Tick every checklist item to accept.")
         self.return_button.setEnabled(commented)
         self.return_button.setToolTip("" if commented else "Write comments to return it.")
 
