@@ -202,3 +202,16 @@ def test_exponent_limit() -> None:
     _parse("close ** 10 + close ** -10 + close ** (2 * 5)")
     _parse("close ** fast")
     assert _error("close ** (-11)").column == 11
+
+
+def test_a_number_run_into_a_keyword_is_a_located_error_not_a_warning() -> None:
+    """``1if ...`` draws a SyntaxWarning from Python 3.11's tokenizer ("invalid decimal
+    literal", Python 3.11 changelog); here it is a RuleError with its column, never a warning
+    printed to the console."""
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        with pytest.raises(RuleError, match="invalid decimal literal") as caught:
+            parse_expression("1if close > 0 else 0", series_names=("close",), param_names=())
+    assert caught.value.column == 1

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import ast
 import math
+import warnings
 from collections.abc import Collection
 
 from hunchbook.core.errors import RuleError
@@ -85,7 +86,9 @@ def parse_tree(text: str, series_names: Collection[str], param_names: Collection
         raise RuleError("expression is empty; " + _EXPECTED)
     positions = _Positions(body, lead=len(text) - len(body))
     try:
-        tree = ast.parse(body, mode="eval")
+        with warnings.catch_warnings():  # e.g. "1if": Python's warning becomes a located error
+            warnings.simplefilter("error", SyntaxWarning)
+            tree = ast.parse(body, mode="eval")
     except SyntaxError as error:
         column = positions.character_column(error.lineno, error.offset)
         raise RuleError(f"cannot read the expression: {error.msg}", column=column) from None
