@@ -122,3 +122,11 @@ def test_starter_rules_come_from_the_template(title, markets):
     assert doc["signal"]["position"] == "sign(close - mean(close, n))"
     assert ("# Name the markets this idea trades" in text) == (not markets)
     assert "$" not in text
+
+
+def test_a_section_without_show_idea_is_refused_when_written(qapp) -> None:
+    """The interface is checked when a section class is created, not when it is first used."""
+    from hunchbook.gui.sections.base import IdeaSection
+
+    with pytest.raises(TypeError, match="must define show_idea"):
+        type("Forgetful", (IdeaSection,), {})

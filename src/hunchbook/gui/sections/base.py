@@ -114,9 +114,15 @@ class IdeaSection(QWidget):
             self.show_idea(None)
         self.context = context
 
+    def __init_subclass__(cls, **kwargs: object) -> None:
+        super().__init_subclass__(**kwargs)
+        if cls.show_idea is IdeaSection.show_idea:  # checked once, when a section is written
+            raise TypeError(f"{cls.__name__}: an idea section must define show_idea")
+
     def show_idea(self, idea_id: int | None) -> None:
-        """Show this idea of the catalogue (``None``: clear the section)."""
-        raise NotImplementedError(f"{type(self).__name__} must implement show_idea")
+        """Show this idea of the catalogue (``None``: clear the section). Every section
+        defines it (checked when the class is created); this part keeps ``idea_id``."""
+        self.idea_id = idea_id
 
     def idea_updated(self, idea_id: int) -> None:
         """Another section or a quick run wrote to the shown idea: show it anew."""
