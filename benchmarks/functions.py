@@ -17,15 +17,14 @@ import time
 from collections.abc import Callable
 
 import numpy as np
+from engine import DAYS, MARKETS, make_inputs  # the sibling benchmark script
 
-from hunchbook.core.continuous import ContinuousSeries
 from hunchbook.core.engine import Backtest
 from hunchbook.core.expr import parse_expression
-from hunchbook.core.markets import MarketSpec
 from hunchbook.core.panel import build_panel
 from hunchbook.core.rules.model import SizingSpec
 
-MARKETS, DAYS, REPEATS = 20, 10_000, 15
+REPEATS = 15
 RULES = {
     "two averages": "sign(mean(close, 20) - mean(close, 100))",
     "rank, hold, stop": "stop(hold(cs_top(diff(close, 60), 4) - cs_bottom(diff(close, 60), 4), "
@@ -40,25 +39,7 @@ FUNCTIONS = ("cs_rank(close)", "cs_demean(close)", "cs_zscore(close)", "cs_top(c
 
 def make_panel(seed: int = 11):
     """Generated continuous series on their own calendars with a roll every 63 bars."""
-    rng = np.random.default_rng(seed)
-    every = np.busday_offset(np.datetime64("1985-01-01"), np.arange(int(DAYS * 1.02)),
-                             roll="forward")
-    series, specs = [], []
-    for j in range(MARKETS):
-        dates = np.sort(rng.choice(every, size=DAYS, replace=False))
-        change = rng.normal(0, 1, DAYS)
-        change[0] = 0.0
-        roll = np.zeros(DAYS, dtype=bool)
-        roll[63::63] = True
-        close = 100 + np.cumsum(change)
-        contract = np.array([f"C{k}" for k in np.cumsum(roll)], dtype=object)
-        series.append(ContinuousSeries(market=f"M{j}", dates=dates, contract=contract,
-                                       close_raw=close, change=change, roll=roll,
-                                       adjusted={"close": close}))
-        specs.append(MarketSpec(symbol=f"M{j}", multiplier=1000.0, tick_size=0.01,
-                                currency="USD", commission=0.85, exchange_fee=1.45,
-                                regulatory_fee=0.02, slippage_ticks=1.0))
-    return build_panel(series, specs)
+    return build_panel(*make_inputs(seed, own_calendars=True))
 
 
 def timings(fn: Callable[[], object]) -> str:

@@ -8,6 +8,7 @@ compare the engine against it.
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -126,3 +127,11 @@ def random_contract_rows(seed: int, start: str, periods: int, holidays: int) -> 
                 rows.append({"date": d, "contract": f"M{expiry:%Y%m}",
                              "expiry": expiry, "close": round(level + carry, 2)})
     return pd.DataFrame(rows)
+
+
+def write_random_contracts(path: Path, seed: int, start: str, periods: int,
+                           holidays: int) -> None:
+    """:func:`random_contract_rows` written as a contract-level price file (test input only)."""
+    rows = random_contract_rows(seed, start, periods, holidays)
+    rows.assign(date=rows["date"].dt.strftime("%Y-%m-%d"),
+                expiry=rows["expiry"].dt.strftime("%Y-%m-%d")).to_csv(path, index=False)

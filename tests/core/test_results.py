@@ -14,7 +14,7 @@ from hunchbook.api import Study, load_data, load_rules
 from hunchbook.core.errors import RecordError
 from hunchbook.core.results import SCHEMA, RunSummary
 from hunchbook.core.runners import InProcess
-from tests.reference_impl import TWO_MARKET_LIBRARY, random_contract_rows
+from tests.reference_impl import TWO_MARKET_LIBRARY, write_random_contracts
 
 RULES = """
 name = "record check"
@@ -35,10 +35,7 @@ def run(tmp_path_factory) -> tuple[RunSummary, pd.DataFrame]:
     folder = tmp_path_factory.mktemp("record")
     (folder / "markets.toml").write_text(TWO_MARKET_LIBRARY)
     for market, seed in (("M1", 21), ("M2", 22)):
-        rows = random_contract_rows(seed, "2019-06-03", 300, holidays=5)
-        rows.assign(date=rows["date"].dt.strftime("%Y-%m-%d"),
-                    expiry=rows["expiry"].dt.strftime("%Y-%m-%d")) \
-            .to_csv(folder / f"{market}.csv", index=False)
+        write_random_contracts(folder / f"{market}.csv", seed, "2019-06-03", 300, holidays=5)
     (folder / "rules.toml").write_text(RULES)
     rules = load_rules(folder / "rules.toml")
     study = Study(rules, load_data(folder))

@@ -16,7 +16,7 @@ from hunchbook.api import Study
 from hunchbook.core.errors import RuleError
 from hunchbook.core.expr import FUNCTIONS, parse_expression
 from hunchbook.core.rules import SERIES_NAMES, ParamRange, parse_rules, roll
-from tests.reference_impl import random_contract_rows
+from tests.reference_impl import write_random_contracts
 
 DOC = (Path(__file__).parents[2] / "docs" / "rule-files.md").read_text(encoding="utf-8")
 EXAMPLES = [block for block in re.findall(r"```toml\n(.*?)```", DOC, flags=re.S)
@@ -122,10 +122,7 @@ def test_series_examples_run_on_contract_data(tmp_path) -> None:
                       "slippage_ticks = 0\n" for m in names)
     (tmp_path / "markets.toml").write_text(library)
     for seed, market in enumerate(names):
-        rows = random_contract_rows(seed, "2019-01-01", 300, holidays=5)
-        rows.assign(date=rows["date"].dt.strftime("%Y-%m-%d"),
-                    expiry=rows["expiry"].dt.strftime("%Y-%m-%d")).to_csv(
-            tmp_path / f"{market}.csv", index=False)
+        write_random_contracts(tmp_path / f"{market}.csv", seed, "2019-01-01", 300, holidays=5)
     (tmp_path / "events.csv").write_text(
         "date,event,market\n2019-02-12,crop report,CORN\n2019-03-08,crop report,\n"
         "2019-05-10,crop report,\n")

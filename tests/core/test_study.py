@@ -8,7 +8,7 @@ import pytest
 from hunchbook.api import Study
 from hunchbook.core.errors import DataError, RuleError
 from hunchbook.core.prices import load_data
-from tests.reference_impl import TWO_MARKET_LIBRARY, random_contract_rows
+from tests.reference_impl import TWO_MARKET_LIBRARY, write_random_contracts
 
 RULES = """
 name = "study check"
@@ -28,10 +28,7 @@ def folder(tmp_path_factory):
     folder = tmp_path_factory.mktemp("study")
     (folder / "markets.toml").write_text(TWO_MARKET_LIBRARY)
     for market, seed in (("M1", 21), ("M2", 22)):
-        rows = random_contract_rows(seed, "2019-06-03", 120, holidays=4)
-        rows.assign(date=rows["date"].dt.strftime("%Y-%m-%d"),
-                    expiry=rows["expiry"].dt.strftime("%Y-%m-%d")) \
-            .to_csv(folder / f"{market}.csv", index=False)
+        write_random_contracts(folder / f"{market}.csv", seed, "2019-06-03", 120, holidays=4)
     (folder / "rules.toml").write_text(RULES)
     return folder
 

@@ -14,7 +14,7 @@ from hunchbook.core.runners import InProcess, LocalProcesses
 from hunchbook.core.sweep import SweepCancelled, run_sweep
 from hunchbook.core.sweep_job import ChunkWorker, SweepJob
 from hunchbook.core.sweep_summary import summarise_sweep
-from tests.reference_impl import TWO_MARKET_LIBRARY, random_contract_rows
+from tests.reference_impl import TWO_MARKET_LIBRARY, write_random_contracts
 
 LIBRARY = TWO_MARKET_LIBRARY
 RULES = """
@@ -39,10 +39,8 @@ def folder(tmp_path_factory):
     folder = tmp_path_factory.mktemp("sweep")
     (folder / "markets.toml").write_text(LIBRARY)
     for market, seed, holidays in (("M1", 11, 8), ("M2", 12, 15)):
-        rows = random_contract_rows(seed, "2019-06-03", 400, holidays=holidays)
-        rows.assign(date=rows["date"].dt.strftime("%Y-%m-%d"),
-                    expiry=rows["expiry"].dt.strftime("%Y-%m-%d")) \
-            .to_csv(folder / f"{market}.csv", index=False)
+        write_random_contracts(folder / f"{market}.csv", seed, "2019-06-03", 400,
+                               holidays=holidays)
     return folder
 
 

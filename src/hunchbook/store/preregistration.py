@@ -58,12 +58,6 @@ def amend(db: Database, idea: Idea, revision: Revision, *, changed: list[str], b
         f"({trials} so far)."))
 
 
-def space_changed(db: Database, idea_id: int, revision: Revision) -> bool:
-    """Whether a frozen idea's current parameter space differs from this revision's."""
-    last = current(db, idea_id)
-    return last is not None and last.parameter_space != revision.parameter_space
-
-
 def _insert(db: Database, idea_id: int, version: int, rationale: str, markets: tuple[str, ...],
             revision: Revision, *, by: str, at: str, reason: str) -> None:
     chain.append(db, "preregistrations", {
