@@ -102,6 +102,33 @@ class SweepReport:
             chosen_metrics=chosen.metrics, statistics=self.statistics, verdict=self.verdict)
 
 
+@dataclass(frozen=True)
+class EarlierTrials:
+    """Trials of an idea run before, outside the space now run (earlier rule revisions).
+
+    ``net`` holds the daily net P&L of those recomputed on the current data (a date index, one
+    column per trial); ``sharpes`` the annualised net Sharpe ratios of those that could not be
+    recomputed (they count one trial each); ``total`` every trial the idea counts once this
+    space has run (None: this space's sets plus the earlier ones given here).
+    """
+
+    net: pd.DataFrame | None = None
+    sharpes: tuple[float, ...] = ()
+    total: int | None = None
+
+    def on_dates(self, dates: np.ndarray) -> np.ndarray | None:
+        """The recomputed trials' net P&L on these dates (0 where a trial has no row)."""
+        if self.net is None or self.net.shape[1] == 0:
+            return None
+        return self.net.reindex(pd.DatetimeIndex(dates)).fillna(0.0).to_numpy(dtype=float)
+
+    def n_trials(self, n_sets: int) -> int:
+        """Every trial counted once ``n_sets`` new sets have run."""
+        if self.total is not None:
+            return self.total
+        return n_sets + (0 if self.net is None else self.net.shape[1]) + len(self.sharpes)
+
+
 class Study:
     """A rule file prepared against a data folder: continuous series built once, ready to run.
 
@@ -203,47 +230,61 @@ class Study:
             if self.constraint is None or self.constraint.evaluate({}, params) == 1.0:
                 yield params
 
-    def sweep(self, sets: list[dict[str, float]] | None = None, *,
+    def sweep(self, *, pick: Mapping[str, float] | None = None,
               runner: SweepRunner | None = None, progress: Progress | None = None,
-              cancel: CancelCheck | None = None,
-              n_trials: int | None = None, other_trial_sharpes: Sequence[float] = (),
-              spa_reps: int = 1000, seed: int = 0) -> SweepReport:
-        """Run every parameter set (default: the declared space) and judge the best one.
+              cancel: CancelCheck | None = None, earlier: EarlierTrials | None = None,
+              spa_reps: int = 1000, seed: int = 0,
+              holdout_seen: str | None = None) -> SweepReport:
+        """Run the whole declared parameter space and judge one set of it.
+
+        Every declared set runs and counts as a trial, whichever set is judged: a set picked
+        out of the space is never judged as one trial.
 
         Parameters
         ----------
-        sets
-            Parameter sets to run; default every declared set that meets the constraint.
+        pick
+            Parameter values (some or all) of the set to judge: the best net Sharpe ratio among
+            the sets that match. Default: the best set of the whole space.
         runner, progress, cancel
             See :func:`hunchbook.core.sweep.run_sweep` (``runner``: for example
             ``LocalProcesses(workers=2)`` or ``InProcess()`` from :mod:`hunchbook.core.runners`).
-        n_trials, other_trial_sharpes
-            Trials counted for the deflated Sharpe ratio (default: the sets of this sweep)
-            and the annualised net Sharpe ratios of trials run before, outside this sweep;
-            the trials' Sharpe variance is taken over those and this sweep's sets.
+        earlier
+            Trials run before, outside this space (see :class:`EarlierTrials`).
         spa_reps, seed
             Bootstrap replications and seed of the SPA test.
+        holdout_seen
+            When the idea's held-out years were unlocked: the sentence saying when and by
+            whom (every later verdict carries it).
         """
-        sets = sets if sets is not None else self.parameter_sets()
+        sets = self.parameter_sets()
+        candidates = {_key(s) for s in self.parameter_sets(pick)} if pick else None
         outcome = run_sweep(self.backtest, sets, runner=runner, progress=progress,
                             cancel=cancel)
         summaries = summarise_sweep(outcome)
         net_sharpe = np.array([s[PORTFOLIO]["net"]["sharpe"] for s in summaries])
-        chosen = int(np.nanargmax(net_sharpe)) if np.isfinite(net_sharpe).any() else 0
-        trial_sharpes = np.concatenate([np.asarray(other_trial_sharpes, dtype=float),
-                                        net_sharpe[np.isfinite(net_sharpe)]])
-        trial_sharpe_var = float(np.var(trial_sharpes, ddof=1)) if trial_sharpes.size > 1 else 0.0
-        # statistics compare the sets on their common period: from the day all have started
-        start = int(outcome.used.argmax(axis=0).max())
+        allowed = np.array([candidates is None or _key(s) in candidates for s in sets])
+        scored = allowed & np.isfinite(net_sharpe)
+        chosen = (int(np.argmax(np.where(scored, net_sharpe, -np.inf))) if scored.any()
+                  else int(np.argmax(allowed)))
+        # statistics compare the sets on their common period: from the day all have started to
+        # the last day all still have rows (a rule's ``end`` stops them before the data does)
+        used = outcome.used
+        start = int(used.argmax(axis=0).max())
+        stop = used.shape[0] - int(used[::-1].argmax(axis=0).max())
         shape, cells = self._grid_cells(sets)
+        earlier = earlier or EarlierTrials()
+        other_net = earlier.on_dates(outcome.dates[start:stop])
         from hunchbook.core.stats import first_pass_statistics
 
         statistics = first_pass_statistics(
-            outcome.gross[start:], outcome.cost[start:], grid_shape=shape, cell_index=cells,
-            chosen=chosen, n_trials=n_trials, trial_sharpe_var=trial_sharpe_var,
+            outcome.gross[start:stop], outcome.cost[start:stop], grid_shape=shape,
+            cell_index=cells,
+            chosen=chosen, other_net=other_net,
+            n_trials=earlier.n_trials(len(sets)), other_trial_sharpes=earlier.sharpes,
             contracts_traded=outcome.contracts, spa_reps=spa_reps, seed=seed)
         return SweepReport(rules=self.rules, outcome=outcome, summaries=summaries,
-                           chosen=chosen, statistics=statistics, verdict=decide(statistics))
+                           chosen=chosen, statistics=statistics,
+                           verdict=decide(statistics, holdout_seen=holdout_seen))
 
     def _grid_cells(self, sets: list[dict[str, float]]) -> tuple[tuple[int, ...] | None,
                                                                  np.ndarray | None]:
@@ -282,9 +323,13 @@ def run(rules: RuleSpec | str | os.PathLike[str], data: MarketData | str | os.Pa
     return study.run_set(sets[0])
 
 
+def _key(params: Mapping[str, float]) -> tuple[tuple[str, float], ...]:
+    return tuple(sorted((k, float(v)) for k, v in params.items()))
+
+
 def _with_overrides(spec: Any, costs: Mapping[str, Mapping[str, float]]) -> Any:
     merged = {**costs.get("*", {}), **costs.get(spec.symbol, {})}
     return spec.with_costs(merged) if merged else spec
 
 
-__all__ = ["PORTFOLIO", "SetResult", "Study", "SweepReport", "load_data", "load_rules", "run"]
+__all__ = ["PORTFOLIO", "EarlierTrials", "SetResult", "Study", "SweepReport", "load_data", "load_rules", "run"]

@@ -95,6 +95,7 @@ from hunchbook.store.records import (
     Review,
     Revision,
     RunRecord,
+    TrialHistory,
 )
 from hunchbook.store.vocab import (
     CHECKLIST,
@@ -391,11 +392,10 @@ class Catalogue:
         return runmod.trial_sharpes(self.db, ideas.get(self.db, idea_id).id)
 
     def prospective_trials(self, idea_id: int, rule_text: str,
-                           parameter_sets: Sequence[Mapping[str, float]]
-                           ) -> tuple[int, list[float]]:
+                           parameter_sets: Sequence[Mapping[str, float]]) -> TrialHistory:
         """Trial count as it will stand once ``parameter_sets`` of this rule text have run,
-        and the net Sharpe ratios of the idea's other trials: what the deflated Sharpe of a
-        run needs before the run is recorded. Writes nothing."""
+        and the idea's other trials with the rule text to recompute them: what the deflated
+        Sharpe and the SPA test of a run need before the run is recorded. Writes nothing."""
         idea = ideas.get(self.db, idea_id)
         _, strategy_key, _ = revmod.analyse(rule_text)
         return runmod.prospective_trials(self.db, idea.id, strategy_key, parameter_sets)

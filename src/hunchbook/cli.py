@@ -70,20 +70,22 @@ def _build_parser() -> argparse.ArgumentParser:
 
     run = commands.add_parser(
         "run", help="run a rule file over a data folder and print gross/net results",
-        description="Run a rule file over a data folder. With one parameter set (or --params "
-                    "picking one) print its gross/net table; with several, run every declared "
-                    "set and print the best ones.",
+        description="Run a rule file over a data folder: every declared parameter set runs "
+                    "and counts as a trial. With one set print its gross/net table; with "
+                    "several print the best ones and judge the best (or the one --params "
+                    "picks, still counting every declared set).",
         epilog="Example: hunchbook run examples/demo.toml --data build/demo-data "
                "--pnl-csv pnl.csv")
     run.add_argument("rules", metavar="RULEFILE", help="rule file (TOML)")
     run.add_argument("--data", required=True, metavar="DIR",
                      help="data folder with markets.toml and one <market>.csv per market")
     run.add_argument("--params", metavar="NAME=VALUE,...", type=_parse_params, default={},
-                     help="pick parameter values (each must be a declared value)")
+                     help="judge the set with these values (each must be a declared value; "
+                          "every declared set still runs and counts as a trial)")
     run.add_argument("--json", metavar="PATH", type=Path,
                      help="write parameters and per-market/portfolio metrics as JSON")
     run.add_argument("--pnl-csv", metavar="PATH", type=Path,
-                     help="write daily P&L, one row per (date, market), for one parameter set")
+                     help="write the judged set's daily P&L, one row per (date, market)")
     run.add_argument("--workers", type=_positive_int, default=None, metavar="N",
                      help="worker processes for a sweep (default: CPU count)")
     run.add_argument("--idea", type=_positive_int, metavar="ID",
@@ -100,13 +102,15 @@ def _build_parser() -> argparse.ArgumentParser:
         "stats", help="statistics and a verdict for any daily P&L file",
         description="Compute the first-pass statistics of a daily P&L CSV (columns date and "
                     "net_pnl at least; gross_pnl and cost when present; several markets' rows "
-                    "are summed by date). With --trials (and --trial-sharpe-var, the variance "
-                    "of the trials' annualised Sharpe ratios) the deflated Sharpe ratio counts "
-                    "every trial.",
+                    "are summed by date). Give --trials (and --trial-sharpe-var, the variance "
+                    "of the trials' annualised Sharpe ratios) so that the deflated Sharpe ratio "
+                    "counts every trial behind the P&L: without them the result is uncorrected "
+                    "for selection and cannot be promoted.",
         epilog="Example: hunchbook stats pnl.csv --trials 120 --trial-sharpe-var 0.25")
     stats.add_argument("pnl", metavar="PNL.csv", type=Path)
     stats.add_argument("--trials", type=_positive_int, metavar="N",
-                       help="number of trials behind this result (default 1)")
+                       help="number of trials behind this result (without it the result is "
+                            "uncorrected for selection: no verdict better than 'No verdict')")
     stats.add_argument("--trial-sharpe-var", type=float, metavar="V",
                        help="variance of the trials' annualised Sharpe ratios")
     stats.add_argument("--spa-reps", type=int, default=1000, metavar="N",
@@ -177,15 +181,17 @@ def _cmd_run(args: argparse.Namespace) -> int:
     from hunchbook.api import Study
 
     study = Study.from_file(args.rules, args.data)
-    sets = study.parameter_sets(args.params)
-    if len(sets) > 1 and args.pnl_csv:
-        raise RuleError(f"--pnl-csv writes one parameter set but {len(sets)} are declared: pick "
-                        f"one with --params ({', '.join(study.rules.parameter_names)})",
-                        file=str(args.rules), key="parameters")
-    report = study.sweep(sets, runner=_runner(args), progress=_progress_printer(len(sets)))
+    n_sets = len(study.parameter_sets())
+    if args.params:
+        study.parameter_sets(args.params)  # a value that is not declared is refused here
+    report = study.sweep(pick=args.params or None, runner=_runner(args),
+                         progress=_progress_printer(n_sets))
     chosen = study.run_set(report.sets[report.chosen])
     run = report.summarise(chosen, currency=study.panel.currency, data_folder=str(args.data))
     _print_and_write(args, run, chosen)
+    if args.params and n_sets > 1:
+        print(f"The set judged was picked with --params out of the {n_sets:,} declared sets: "
+              f"all of them ran and count as trials.")
     return 0
 
 
@@ -241,6 +247,7 @@ def _progress_printer(total: int) -> Callable[[int, int], None] | None:
 
 
 def _cmd_stats(args: argparse.Namespace) -> int:
+    from hunchbook.core.periods import DAYS_PER_YEAR
     from hunchbook.core.pnl_file import read_pnl_csv
     from hunchbook.core.stats import first_pass_statistics
     from hunchbook.core.verdict import decide
@@ -249,8 +256,16 @@ def _cmd_stats(args: argparse.Namespace) -> int:
     daily = read_pnl_csv(args.pnl)
     if (args.trials is None) != (args.trial_sharpe_var is None) and args.trials is None:
         raise HunchbookError("--trial-sharpe-var needs --trials (the number of trials)")
+    trial_sharpe_var = args.trial_sharpe_var
+    if args.trials is not None and args.trials > 1 and trial_sharpe_var is None:
+        # the sampling variance of a skill-less trial's annualised Sharpe ratio over these days
+        # (Lo (2002), Financial Analysts Journal 58(4): Var(SR) ~ 1/T per day at SR 0)
+        trial_sharpe_var = DAYS_PER_YEAR / len(daily)
+        print(f"No --trial-sharpe-var: taking {trial_sharpe_var:.4f}, the sampling variance of "
+              f"a skill-less annualised Sharpe ratio over {len(daily):,} days.")
     stats = first_pass_statistics(daily["gross_pnl"].to_numpy(), daily["cost"].to_numpy(),
-                                  n_trials=args.trials, trial_sharpe_var=args.trial_sharpe_var,
+                                  n_trials=args.trials, trial_sharpe_var=trial_sharpe_var,
+                                  selection_known=args.trials is not None,
                                   spa_reps=args.spa_reps)
     verdict = decide(stats)
     print(f"{args.pnl}: {len(daily):,} days, {daily.index[0].date()} to "

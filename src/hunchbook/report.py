@@ -88,4 +88,12 @@ def format_statistics(stats: FirstPassStats, verdict: Verdict, chosen: str | Non
     lines = [f"{head}, {stats.n_days:,} common days:", *figures_text(statistic_rows(stats)), "",
              f"Verdict: {verdict.label}. {verdict.action}"]
     lines += [f"  - {reason}" for reason in verdict.reasons]
+    if verdict.checks:
+        lines += ["", "Checks (in order; the first that fails decides):"]
+        lines += [f"  {STATUS_TEXT[c.status]:<5} {c.name:<24} {c.figure:<18} {c.finding}"
+                  for c in verdict.checks]
     return "\n".join(lines)
+
+
+#: How each check status reads in text output.
+STATUS_TEXT = {"pass": "pass", "fail": "FAIL", "warn": "warn", "skip": "-"}

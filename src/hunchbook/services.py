@@ -7,12 +7,15 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from hunchbook import __version__
-from hunchbook.api import SetResult, Study
+import pandas as pd
+
+from hunchbook.api import EarlierTrials, SetResult, Study
 from hunchbook.catalogue import Catalogue
-from hunchbook.core.errors import RuleError
+from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.prices import data_fingerprint
 from hunchbook.core.results import RunSummary
-from hunchbook.core.sweep import CancelCheck, Progress, SweepRunner
+from hunchbook.core.sweep import CancelCheck, Progress, SweepRunner, run_sweep
+from hunchbook.store.records import TrialHistory
 from hunchbook.starter import STARTER_HINT, is_starter
 
 
@@ -24,6 +27,30 @@ class IdeaRun:
     chosen: SetResult
     run_id: int
     revision_number: int
+
+
+def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLike[str], *,
+                             runner: SweepRunner | None = None,
+                             cancel: CancelCheck | None = None) -> EarlierTrials:
+    """The idea's earlier trials recomputed on the current data, so that the SPA test, the
+    effective number of trials and the trials' Sharpe variance cover every set ever run.
+
+    A strategy whose rule text no longer runs on this data (a market left the folder, say)
+    keeps its stored net Sharpe ratios: its trials still count, one each.
+    """
+    frames: list[pd.DataFrame] = []
+    sharpes: list[float] = []
+    for strategy in history.earlier:
+        try:
+            study = Study.from_text(strategy.rule_text, data_folder)
+        except HunchbookError:
+            sharpes += [v for v in strategy.net_sharpes if v is not None]
+            continue
+        outcome = run_sweep(study.backtest, list(strategy.parameter_sets), runner=runner,
+                            cancel=cancel)
+        frames.append(pd.DataFrame(outcome.net, index=pd.DatetimeIndex(outcome.dates)))
+    net = pd.concat(frames, axis=1).fillna(0.0) if frames else None
+    return EarlierTrials(net=net, sharpes=tuple(sharpes), total=history.total)
 
 
 def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
@@ -43,10 +70,10 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     if is_starter(rule_text):
         raise RuleError(STARTER_HINT, file=rule_file)
     study = Study.from_text(rule_text, data_folder, file=rule_file)
-    sets = study.parameter_sets()
-    n_trials, others = catalogue.prospective_trials(idea_id, rule_text, sets)
-    report = study.sweep(sets, runner=runner, progress=progress, cancel=cancel,
-                         n_trials=n_trials, other_trial_sharpes=others, spa_reps=spa_reps)
+    history = catalogue.prospective_trials(idea_id, rule_text, study.parameter_sets())
+    earlier = recompute_earlier_trials(history, data_folder, runner=runner, cancel=cancel)
+    report = study.sweep(runner=runner, progress=progress, cancel=cancel, earlier=earlier,
+                         spa_reps=spa_reps)
     chosen = study.run_set(report.sets[report.chosen])
     summary = report.summarise(chosen, currency=study.panel.currency,
                                data_folder=str(Path(data_folder)))

@@ -78,8 +78,11 @@ def test_wti_through_cli_matches_pandas_reference(tmp_path, wti_dir, capsys):
         np.testing.assert_allclose(got[col], expected[col], rtol=1e-9, atol=1e-6)
 
     payload = json.loads(out_json.read_text())
-    (only,) = payload["sets"]
-    assert only["params"] == {"fast": 20, "slow": 100}
+    # --params picks the judged set, but both declared sets ran and count as trials
+    assert len(payload["sets"]) == 2 and payload["statistics"]["n_trials"] == 2
+    assert "picked with --params out of the 2 declared sets" in printed
+    (only,) = [s for s in payload["sets"] if s["params"] == {"fast": 20, "slow": 100}]
+    assert payload["chosen"]["params"] == {"fast": 20, "slow": 100}
     assert only["net_total"] == pytest.approx(expected["net_pnl"].sum())
     assert only["gross_total"] == pytest.approx(expected["gross_pnl"].sum())
     assert payload["chosen"]["performance"]["net"]["total"] == pytest.approx(
@@ -90,7 +93,7 @@ def test_wti_through_cli_matches_pandas_reference(tmp_path, wti_dir, capsys):
                                                        if k != "caution"}
 
 
-def test_sweep_summary_and_pnl_needs_params(tmp_path, wti_dir, capsys):
+def test_sweep_summary_and_pnl_of_the_judged_set(tmp_path, wti_dir, capsys):
     folder, _ = wti_dir
     rules = tmp_path / "wti.toml"
     rules.write_text(RULE)
@@ -98,11 +101,13 @@ def test_sweep_summary_and_pnl_needs_params(tmp_path, wti_dir, capsys):
     assert main(["run", str(rules), "--data", str(folder), "--json", str(out_json)]) == 0
     assert len(json.loads(out_json.read_text())["sets"]) == 2
     assert "2 parameter sets" in capsys.readouterr().out
+    # without --params the P&L file is the best set's, the one the statistics judge
+    sweep = json.loads(out_json.read_text())
+    best = sweep["sets"][sweep["statistics"]["chosen"]]
     code = main(["run", str(rules), "--data", str(folder), "--pnl-csv", str(tmp_path / "p.csv")])
-    assert code == 1
-    err = capsys.readouterr().err
-    assert "--pnl-csv writes one parameter set" in err and "--params" in err
-    assert not (tmp_path / "p.csv").exists()
+    assert code == 0
+    written = pd.read_csv(tmp_path / "p.csv")
+    assert written["net_pnl"].sum() == pytest.approx(best["net_total"])
 
 
 @pytest.mark.parametrize(

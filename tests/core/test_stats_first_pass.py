@@ -29,6 +29,13 @@ def _psr(sr: float, n: int, g3: float, g4: float, sr_star: float) -> float:
                           / math.sqrt(1 - g3 * sr + (g4 - 1) / 4 * sr * sr))
 
 
+def _li_ji(corr: np.ndarray) -> float:
+    # Li & Ji (2005), Heredity 95(3): sum over eigenvalues of I(|l| >= 1) + (|l| - floor(|l|)),
+    # eigenvalues rounded to 10 decimals first (methods.md s.11 pitfall 1)
+    lam = np.round(np.abs(np.linalg.eigvalsh(corr)), 10)
+    return float(np.sum((lam >= 1) + (lam - np.floor(lam))))
+
+
 def test_chosen_set_statistics_against_reference_libraries():
     gross, cost = _sweep()
     fp = first_pass_statistics(gross, cost, spa_reps=200)
@@ -59,9 +66,15 @@ def test_chosen_set_statistics_against_reference_libraries():
     # DSR (Bailey & Lopez de Prado 2014): trial variance = pandas var (ddof 1) of the annualised
     # Sharpe ratios; SR0 = sqrt(V) x expected-max factor(N); DSR = PSR(SR0 / sqrt(252))
     assert fp.trial_sharpe_var == pytest.approx(sharpes.var(), rel=1e-10)
+    # N is the effective number of trials of Li & Ji (2005), Heredity 95(3): from the eigenvalues
+    # of pandas' correlation matrix of the sets' net P&L, sum of I(l >= 1) + (l - floor(l))
+    m_eff = _li_ji(net_df.corr().to_numpy())
+    assert fp.n_trials == 9 and fp.effective_trials == pytest.approx(m_eff, abs=1e-9)
+    n = math.ceil(m_eff - 1e-9)
+    assert fp.dsr_trials == n < 9
     gamma = 0.5772156649015329
-    factor = ((1 - gamma) * stats.norm.ppf(1 - 1 / 9)
-              + gamma * stats.norm.ppf(1 - 1 / (9 * math.e)))
+    factor = ((1 - gamma) * stats.norm.ppf(1 - 1 / n)
+              + gamma * stats.norm.ppf(1 - 1 / (n * math.e)))
     assert fp.expected_max_sharpe == pytest.approx(math.sqrt(sharpes.var()) * factor, rel=1e-10)
     assert fp.dsr == pytest.approx(_psr(sr, net.size, fp.net.skew, fp.net.kurtosis,
                                         fp.expected_max_sharpe / math.sqrt(252)), rel=1e-10)
@@ -128,11 +141,30 @@ def test_explicit_choice_trials_and_variance_are_used():
     fp = first_pass_statistics(gross, cost, chosen=2, n_trials=50, trial_sharpe_var=0.25,
                                spa_reps=0)
     assert fp.chosen == 2 and fp.n_trials == 50 and fp.trial_sharpe_var == 0.25
-    # s.2 factor for N = 50 written out with scipy, times sqrt(0.25)
+    # the 9 sets count as their Li & Ji (2005) effective number, the 41 other trials one each
+    n = math.ceil(_li_ji(pd.DataFrame(gross - cost).corr().to_numpy()) + 41 - 1e-9)
+    assert fp.dsr_trials == n < 50
+    # s.2 factor for N written out with scipy, times sqrt(0.25)
     gamma = 0.5772156649015329
-    factor = ((1 - gamma) * stats.norm.ppf(1 - 1 / 50)
-              + gamma * stats.norm.ppf(1 - 1 / (50 * math.e)))
+    factor = ((1 - gamma) * stats.norm.ppf(1 - 1 / n)
+              + gamma * stats.norm.ppf(1 - 1 / (n * math.e)))
     assert fp.expected_max_sharpe == pytest.approx(0.5 * factor, rel=1e-12)
+
+
+def test_earlier_trials_join_the_spa_and_the_effective_count():
+    # Earlier trials recomputed on the same days: their columns enter the SPA test (Hansen 2005)
+    # exactly as if they were sets of this sweep, and the Li & Ji (2005) count of all columns
+    gross, cost = _sweep(sets=6)
+    earlier = _sweep(sets=3, seed=9)[0]
+    joined = first_pass_statistics(np.hstack([gross, earlier]),
+                                   np.hstack([cost, np.zeros_like(earlier)]), chosen=0,
+                                   spa_reps=200, seed=3)
+    split = first_pass_statistics(gross, cost, chosen=0, other_net=earlier, spa_reps=200, seed=3)
+    assert split.n_sets == 6 and split.spa_sets == 9 and split.n_trials == 9
+    assert split.spa.consistent == joined.spa.consistent
+    assert split.effective_trials == pytest.approx(joined.effective_trials)
+    assert split.trial_sharpe_var == pytest.approx(joined.trial_sharpe_var)
+    assert split.dsr == joined.dsr
 
 
 def test_bad_inputs_raise_clear_errors():

@@ -142,7 +142,7 @@ def test_a_runner_plugged_in_is_used(study):
                         progress=lambda done, total: seen.append(done))
     assert runner.jobs == 1 and seen == [2, 4, 6, 8, 10]
     _assert_identical(outcome, run_sweep(study.backtest, sets, runner=InProcess()))
-    report = study.sweep(sets, runner=runner, spa_reps=10)
+    report = study.sweep(runner=runner, spa_reps=10)
     assert runner.jobs == 2
     _assert_identical(report.outcome, outcome)
 

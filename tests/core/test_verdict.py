@@ -41,21 +41,36 @@ def test_flat_pnl_is_no_edge_without_crashing():
 
 
 def test_too_little_data_when_one_year_cannot_confirm_a_good_sharpe():
-    # SR 1.0 a year over one year: PSR(0) ~ Z(1.0) ~ 0.84 < 0.95 (Bailey & Lopez de Prado 2012);
-    # MinTRL ~ 1 + (z_0.95 x sqrt(252))^2 ~ 680 days > 252 available
+    # SR 1.0 a year over one year, one set: SR0 = 0, so the DSR is PSR(0) ~ Z(1.0) ~ 0.84 < 0.95
+    # (Bailey & Lopez de Prado 2012, 2014). The extra history is the MinTRL of the same paper,
+    # 1 + (1 - g3 SR + (g4 - 1)/4 SR^2) (z_0.95 / SR)^2 days, computed here with scipy.
+    from scipy import stats as sps
+
     gross = _exact_sharpe(DAYS, 1.0, seed=2)
     stats = first_pass_statistics(gross, np.zeros_like(gross), spa_reps=100)
     v = decide(stats)
     assert v.outcome == "too_little_data" and v.label == "Needs more data"
-    assert stats.gross.psr == pytest.approx(0.84, abs=0.02)
-    assert _pct(stats.gross.psr) in v.reasons[0]
-    assert f"{stats.gross.min_trl_days:.0f} days" in v.reasons[1]
-    assert stats.gross.min_trl_days > DAYS
+    assert stats.gross_dsr == pytest.approx(0.84, abs=0.02)
+    sr = gross.mean() / gross.std(ddof=1)
+    g3, g4 = sps.skew(gross), sps.kurtosis(gross, fisher=False)
+    min_trl = 1 + (1 - g3 * sr + (g4 - 1) / 4 * sr**2) * (sps.norm.ppf(0.95) / sr) ** 2
+    assert min_trl > DAYS
+    assert _pct(stats.gross_dsr) in v.reasons[0]
+    assert f"about {(min_trl - DAYS) / DAYS:.1f} more years" in v.reasons[0]
+
+
+def test_a_sharpe_ratio_too_close_to_luck_is_no_edge_not_more_data():
+    # SR 0.35 a year over one year: the MinTRL (Bailey & Lopez de Prado 2012) is about
+    # (1.645 / 0.35)^2 ~ 22 years, beyond the 10 extra years "needs more data" may ask for.
+    gross = _exact_sharpe(DAYS, 0.35, seed=2)
+    v = decide(first_pass_statistics(gross, np.zeros_like(gross), spa_reps=0))
+    assert v.outcome == "no_edge"
+    assert "at least 10 more years" in v.reasons[0]
 
 
 def test_lost_to_costs_when_costs_take_most_of_a_clear_gross_edge():
     # gross SR 1.5 over 10 years (PSR ~ 1); a constant daily cost leaves net SR 0.2, whose
-    # PSR is about Z(0.2 sqrt(10)) = Z(0.63) ~ 0.74 < 0.95
+    # PSR is about Z(0.2 sqrt(10)) = Z(0.63) ~ 0.74 < 0.95; costs take 1.3/1.5 of gross P&L
     gross = _exact_sharpe(10 * DAYS, 1.5, seed=3)
     sd = gross.std(ddof=1)
     cost = np.full_like(gross, gross.mean() - 0.2 * sd / math.sqrt(DAYS))
@@ -63,24 +78,113 @@ def test_lost_to_costs_when_costs_take_most_of_a_clear_gross_edge():
     v = decide(stats)
     assert v.outcome == "lost_to_costs" and v.label == "Costs eat it"
     assert stats.net.sharpe == pytest.approx(0.2, abs=1e-9)
-    assert _pct(stats.net.psr) in v.reasons[0] and "0.20" in v.reasons[0]
-    assert f"{stats.costs.break_even_multiple:.2f} times" in v.reasons[1]
+    assert stats.costs.break_even_multiple == pytest.approx(1.5 / 1.3)
+    assert _pct(stats.net_dsr) in v.reasons[0] and "0.20" in v.reasons[0]
+    assert "1.15 times" in v.reasons[0] and "86.7 %" in v.reasons[0]
 
 
-def test_selection_luck_when_the_best_of_many_noise_sets_is_chosen():
-    # 200 skill-less sets over 5 years: the best annual SR ~ 2.7 x 0.45 ~ 1.2 passes PSR on its
-    # own, but the DSR (Bailey & Lopez de Prado 2014) sees it is what luck alone would give.
+def test_costs_that_take_a_sliver_do_not_eat_the_edge():
+    # gross SR 0.54 over 10 years passes PSR(0) (Z(0.54 sqrt(10)) = Z(1.71) ~ 0.956); costs of
+    # 0.04 SR leave net 0.50 (Z(1.58) ~ 0.943 < 0.95), but they take 7.4 % of gross P&L
+    # (break-even multiple 13.5 > 5): not material, so the net result just needs more data.
+    gross = _exact_sharpe(10 * DAYS, 0.54, seed=4)
+    sd = gross.std(ddof=1)
+    cost = np.full_like(gross, 0.04 * sd / math.sqrt(DAYS))
+    stats = first_pass_statistics(gross, cost, spa_reps=0)
+    assert stats.gross_dsr >= 0.95 > stats.net_dsr
+    assert stats.costs.break_even_multiple == pytest.approx(0.54 / 0.04)
+    v = decide(stats)
+    assert v.outcome == "too_little_data"
+    assert decide(stats, VerdictThresholds(material_cost_multiple=20)).outcome == "lost_to_costs"
+
+
+def test_the_best_of_many_noise_sets_does_not_beat_luck():
+    # 200 skill-less sets over 5 years: the best annual SR ~ 2.7 x 0.45 ~ 1.2 passes PSR(0) on its
+    # own, but the DSR (Bailey & Lopez de Prado 2014) compares it with the expected best of the
+    # trials, and the SPA test (Hansen 2005) sees that the sets together do not beat zero.
     rng = np.random.default_rng(5)
     gross = rng.normal(0.0, 1000.0, (5 * DAYS, 200))
     stats = first_pass_statistics(gross, np.zeros_like(gross), spa_reps=300, seed=5)
     v = decide(stats)
     assert stats.gross.psr >= 0.95 and stats.net.psr >= 0.95
-    assert v.outcome == "selection_luck" and v.label == "Likely luck"
     assert stats.dsr < 0.95
-    assert _pct(stats.dsr) in v.reasons[0]
-    assert f"{stats.expected_max_sharpe:.2f}" in v.reasons[0]
-    assert stats.spa.consistent > 0.05  # the SPA test agrees: noise does not beat doing nothing
-    assert f"{stats.spa.consistent:.3f}" in v.reasons[1]
+    # independent sets: the effective number is the raw one (Li & Ji 2005: the eigenvalues of
+    # a sample correlation of independent series lie below 2, so the count is their sum, N)
+    assert stats.dsr_trials == 200
+    # the best set lands just above the expected best of 200 (SR0), so close that confirming
+    # it would take more than the 10 extra years "needs more data" may ask for: no edge
+    assert 0 < stats.gross.sharpe - stats.expected_max_sharpe < 0.2
+    assert v.outcome == "no_edge"
+    assert f"{stats.expected_max_sharpe:.2f}" in v.reasons[0] and "more years" in v.reasons[0]
+    spa = next(c for c in v.checks if c.key == "spa")
+    assert stats.spa.consistent > 0.05 and spa.status == "fail"
+    assert f"{stats.spa.consistent:.3f}" in spa.finding
+
+
+def test_every_check_is_listed_even_after_the_first_failure():
+    # a tiny gross Sharpe ratio fails the first edge check; the deflated Sharpe ratios (here
+    # about Z(0.1 sqrt(10)) ~ 0.62) and the SPA are still computed and listed with figures
+    gross = _exact_sharpe(10 * DAYS, 0.10, seed=1)
+    stats = first_pass_statistics(gross, np.zeros_like(gross), spa_reps=100)
+    v = decide(stats)
+    keys = [c.key for c in v.checks]
+    assert keys == ["history", "gross_edge", "beats_luck", "gross_dsr", "costs", "spa",
+                    "net_dsr", "stability", "selection"]
+    by_key = {c.key: c for c in v.checks}
+    assert by_key["gross_edge"].status == "fail" and by_key["history"].status == "pass"
+    assert by_key["gross_dsr"].status == "fail"
+    assert by_key["gross_dsr"].figure == _pct(stats.gross_dsr)
+    assert by_key["spa"].figure == f"p = {stats.spa.consistent:.3f}"
+    assert by_key["stability"].status == "skip"
+
+
+def test_autocorrelated_pnl_passes_the_iid_deflated_test_but_not_the_spa():
+    # Daily P&L following an AR(1) with rho 0.9 (5 years, SR 1.0 a year): the PSR/DSR assume
+    # independent days and pass (Z(1.0 sqrt(5)) ~ 0.987), while the stationary bootstrap of the
+    # SPA test (Politis & Romano 1994; Hansen 2005) sees a long-run variance (1 + rho)/(1 - rho)
+    # = 19 times larger (Hamilton 1994, AR(1) long-run variance [memory]) and does not reject.
+    rng = np.random.default_rng(11)
+    n = 5 * DAYS
+    e = rng.normal(size=n)
+    x = np.empty(n)
+    x[0] = e[0]
+    for t in range(1, n):
+        x[t] = 0.9 * x[t - 1] + e[t]
+    x = (x - x.mean()) / x.std(ddof=1)
+    gross = 1000.0 * (x + 1.0 / math.sqrt(DAYS))
+    stats = first_pass_statistics(gross, np.zeros_like(gross), spa_reps=500, seed=11)
+    v = decide(stats)
+    assert stats.net_dsr >= 0.95
+    assert v.outcome == "selection_luck" and v.label == "Likely luck"
+    assert "SPA test p-value" in v.reasons[0]
+
+
+def test_a_history_shorter_than_the_minimum_gets_no_verdict():
+    # a strong edge on 100 days: no verdict on so short a history (the minimum is a documented
+    # house threshold of 126 days, half a year)
+    gross = _exact_sharpe(100, 3.0, seed=12)
+    v = decide(first_pass_statistics(gross, np.zeros_like(gross), spa_reps=0))
+    assert v.outcome == "not_judged" and v.label == "No verdict"
+    assert "100 days" in v.reasons[0] and "126 days" in v.reasons[0]
+
+
+def test_unknown_selection_cannot_promote_but_a_failure_still_fails():
+    gross, cost = _plateau_sweep(5)
+    single = first_pass_statistics(gross[:, 0], cost[:, 0], spa_reps=0, selection_known=False)
+    v = decide(single)
+    assert v.outcome == "not_judged" and "Uncorrected for selection" in v.reasons[0]
+    weak = _exact_sharpe(10 * DAYS, 0.1, seed=1)
+    assert decide(first_pass_statistics(weak, np.zeros_like(weak), spa_reps=0,
+                                        selection_known=False)).outcome == "no_edge"
+
+
+def test_a_seen_holdout_is_a_warning_on_the_verdict():
+    gross, cost = _plateau_sweep(5)
+    stats = first_pass_statistics(gross, cost, grid_shape=(3, 4), spa_reps=100, seed=5)
+    v = decide(stats, holdout_seen="unlocked on 2026-03-01 by Ana Ruiz.")
+    assert v.outcome == "passes"
+    assert v.reasons[-1] == "Holdout already seen: unlocked on 2026-03-01 by Ana Ruiz."
+    assert v.checks[-1].key == "holdout" and v.checks[-1].status == "warn"
 
 
 def _plateau_sweep(seed: int) -> tuple[np.ndarray, np.ndarray]:
@@ -100,6 +204,10 @@ def test_passes_when_a_plateau_survives_costs_and_selection():
     assert stats.dsr >= 0.95 and stats.spa.consistent <= 0.05
     assert not stats.stability.isolated
     assert f"{stats.net.sharpe:.2f}" in v.reasons[0] and _pct(stats.dsr) in v.reasons[0]
+    # twelve sets sharing one edge are about one trial (Li & Ji 2005: one dominant eigenvalue)
+    assert stats.n_trials == 12 and stats.dsr_trials < 12
+    assert f"{stats.dsr_trials} effective of 12 trials" in v.reasons[0]
+    assert all(c.status in ("pass", "skip") for c in v.checks)
     assert not any("spike" in r for r in v.reasons)
 
 
@@ -125,10 +233,11 @@ def test_isolated_spike_warns_and_fails_only_when_asked():
 
 
 def test_thresholds_move_the_outcome():
-    # the same SR 1.0, one-year result passes the gross PSR check at confidence 0.8 (PSR ~ 0.84)
+    # the same SR 1.0, one-year result passes the deflated check at confidence 0.8 (PSR ~ 0.84)
     gross = _exact_sharpe(DAYS, 1.0, seed=2)
     stats = first_pass_statistics(gross, np.zeros_like(gross), spa_reps=100)
     assert decide(stats, VerdictThresholds(confidence=0.8, alpha=0.5)).outcome != "too_little_data"
+    assert decide(stats, VerdictThresholds(min_days=300)).outcome == "not_judged"
     assert decide(stats, VerdictThresholds(min_sharpe=1.5)).outcome == "no_edge"
 
 

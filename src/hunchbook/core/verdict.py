@@ -1,21 +1,30 @@
 """Plain-language verdict on a sweep's first-pass statistics: what to do with the idea next.
 
-Checks run in order and the first that fails decides (see docs/statistics.md):
+Every check is computed and listed with its figure and pass/fail; the first check that fails
+decides the outcome (see docs/statistics.md, "Verdict"):
 
-1. gross annual Sharpe ratio below ``min_sharpe``                          -> ``no_edge``
-2. gross PSR(0) below ``confidence``: fewer days than the gross MinTRL     -> ``too_little_data``
-   (otherwise ``no_edge``)
-3. net PSR(0) below ``confidence``                                          -> ``lost_to_costs``
-4. DSR below ``confidence`` or SPA consistent p-value above ``alpha``       -> ``selection_luck``
-   (also an isolated spike on the grid when ``spike_fails`` is set)
-5. otherwise                                                                -> ``passes``
-
-An isolated best cell always adds a warning to the reasons.
+1. ``history``      fewer than ``min_days`` days                              -> ``not_judged``
+2. ``gross_edge``   gross annual Sharpe ratio below ``min_sharpe``            -> ``no_edge``
+3. ``beats_luck``   gross Sharpe ratio not above SR0, the best that the trials
+                    would reach by luck alone                                 -> ``no_edge``
+4. ``gross_dsr``    gross deflated Sharpe ratio below ``confidence``          -> ``too_little_data``
+                    (``no_edge`` when more than ``max_more_years`` would be needed)
+5. ``costs``        net deflated Sharpe ratio below ``confidence`` while the costs are material
+                    (break-even multiple below ``material_cost_multiple``)    -> ``lost_to_costs``
+6. ``spa``          SPA consistent p-value above ``alpha``                    -> ``selection_luck``
+7. ``net_dsr``      net deflated Sharpe ratio below ``confidence`` (costs not to blame): as
+                    check 4 on the net figures
+8. ``stability``    an isolated spike on the grid: a warning, or ``selection_luck`` with
+                    ``spike_fails``
+9. ``selection``    the number of trials behind the result is unknown         -> ``not_judged``
+10. ``holdout``     the held-out years were already seen for this idea: a warning
+11. otherwise                                                                  -> ``passes``
 """
 
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -26,6 +35,7 @@ if TYPE_CHECKING:  # labels are read by the window at start-up: keep scipy out o
 
 #: Short product label of each outcome.
 LABELS = {
+    "not_judged": "No verdict",
     "no_edge": "No edge",
     "too_little_data": "Needs more data",
     "lost_to_costs": "Costs eat it",
@@ -35,6 +45,7 @@ LABELS = {
 
 #: What to do next, one plain sentence per outcome.
 ACTIONS = {
+    "not_judged": "Give the verdict what it needs (see the reasons) and judge the idea again.",
     "no_edge": "Discard the idea, or rethink the signal before spending more time on it.",
     "too_little_data": "Keep the idea open and test it on a longer history or more markets.",
     "lost_to_costs": "Trade less often (longer windows, a slower signal, a no-trade buffer) "
@@ -47,18 +58,29 @@ ACTIONS = {
 CAUTION = ("Hypothetical backtest results: not investment advice; past results do not predict "
            "future ones. Managing other people's money is regulated - follow your local rules.")
 
+#: Status of a check: it passed, it failed (the first failure decides), it only warns, or it
+#: could not be computed.
+STATUSES = ("pass", "fail", "warn", "skip")
+
 
 @dataclass(frozen=True)
 class VerdictThresholds:
-    """Thresholds of :func:`decide`.
+    """Thresholds of :func:`decide` (documented in docs/statistics.md).
 
-    ``min_sharpe`` is the smallest gross annualised Sharpe ratio worth pursuing; ``confidence``
-    the probability PSR and DSR must reach; ``alpha`` the largest acceptable SPA p-value;
-    ``spike_fails`` turns an isolated best cell on the grid into a ``selection_luck`` outcome.
+    ``min_days`` is the shortest history judged at all; ``min_sharpe`` the smallest gross
+    annualised Sharpe ratio worth pursuing; ``confidence`` the probability the deflated Sharpe
+    ratios must reach; ``max_more_years`` the most extra history "needs more data" may ask for
+    (beyond it the result is too weak to confirm: no edge); ``material_cost_multiple`` the
+    break-even cost multiple below which costs count as material; ``alpha`` the largest
+    acceptable SPA p-value; ``spike_fails`` turns an isolated best cell on the grid into a
+    ``selection_luck`` outcome.
     """
 
+    min_days: int = 126
     min_sharpe: float = 0.3
     confidence: float = 0.95
+    max_more_years: float = 10.0
+    material_cost_multiple: float = 5.0
     alpha: float = 0.05
     spike_fails: bool = False
 
@@ -68,83 +90,231 @@ class VerdictThresholds:
             if not 0.0 < value < 1.0:
                 raise HunchbookError(f"verdict threshold '{name}': expected a probability "
                                      f"between 0 and 1, got {value}")
+        for name in ("min_days", "max_more_years", "material_cost_multiple"):
+            if not getattr(self, name) > 0:
+                raise HunchbookError(f"verdict threshold '{name}': expected a positive number, "
+                                     f"got {getattr(self, name)}")
+
+
+@dataclass(frozen=True)
+class Check:
+    """One check of the verdict: its key, a short name, the status, the figure it rests on
+    and one plain sentence saying what it found."""
+
+    key: str
+    name: str
+    status: str
+    figure: str
+    finding: str
 
 
 @dataclass(frozen=True)
 class Verdict:
-    """Outcome of :func:`decide`: machine key, short label, next action, reasons and numbers."""
+    """Outcome of :func:`decide`: machine key, short label, next action, the reasons (the
+    deciding check first), every check in order, and the key numbers."""
 
     outcome: str
     label: str
     action: str
     reasons: tuple[str, ...]
     numbers: dict[str, float | int | bool | None]
+    checks: tuple[Check, ...] = ()
 
 
-def decide(stats: FirstPassStats, thresholds: VerdictThresholds = VerdictThresholds()) -> Verdict:
-    """Decide what a sweep's first-pass statistics say about the idea (checks in module order)."""
+def decide(stats: FirstPassStats, thresholds: VerdictThresholds = VerdictThresholds(), *,
+           holdout_seen: str | None = None) -> Verdict:
+    """Decide what a sweep's first-pass statistics say about the idea.
+
+    Every check of the module docstring is run and listed; the first failing one decides.
+    ``holdout_seen`` is a sentence saying when and by whom the idea's held-out years were
+    unlocked (None when they were not).
+    """
     t = thresholds
-    gross, net = stats.gross, stats.net
-    reasons: list[str] = []
-    spike = stats.stability is not None and stats.stability.isolated
-
-    if not gross.sharpe >= t.min_sharpe:
-        outcome = "no_edge"
-        if math.isnan(gross.sharpe):
-            reasons.append("The chosen set's gross P&L never varies, so it has no Sharpe ratio.")
-        else:
-            reasons.append(f"Gross Sharpe ratio {gross.sharpe:.2f} a year is below the "
-                           f"{t.min_sharpe:.2f} worth pursuing.")
-    elif not gross.psr >= t.confidence:
-        reasons.append(f"Gross Sharpe ratio {gross.sharpe:.2f} a year, but {stats.n_days} days "
-                       f"give only {_pct(gross.psr)} confidence that it is above zero "
-                       f"(PSR; {_pct(t.confidence)} needed).")
-        if stats.n_days < gross.min_trl_days < math.inf:
-            outcome = "too_little_data"
-            reasons.append(f"About {gross.min_trl_days:.0f} days "
-                           f"({gross.min_trl_years:.1f} years) would be needed at this "
-                           "Sharpe ratio (minimum track record length).")
-        else:
-            outcome = "no_edge"
-    elif not net.psr >= t.confidence:
-        outcome = "lost_to_costs"
-        reasons.append(f"Before costs the edge is clear (gross PSR {_pct(gross.psr)}), but the "
-                       f"net Sharpe ratio is {net.sharpe:.2f} a year and net PSR only "
-                       f"{_pct(net.psr)}.")
-        costs = stats.costs
-        if costs.gross_total > 0 and costs.cost_total > 0:
-            reasons.append(f"Costs take {_pct(costs.cost_total / costs.gross_total)} of gross "
-                           f"P&L; the break-even is {costs.break_even_multiple:.2f} times "
-                           "the assumed costs.")
-    else:
-        outcome = "passes"
-        if not stats.dsr >= t.confidence:
-            outcome = "selection_luck"
-            reasons.append(f"Deflated Sharpe ratio {_pct(stats.dsr)} is below "
-                           f"{_pct(t.confidence)}: the best of {stats.n_trials} trials would "
-                           f"reach a Sharpe ratio near {stats.expected_max_sharpe:.2f} a year "
-                           "by luck alone.")
-        if stats.spa is not None and not stats.spa.consistent <= t.alpha:
-            outcome = "selection_luck"
-            reasons.append(f"SPA test p-value {stats.spa.consistent:.3f} is above {t.alpha:.3f}: "
-                           f"the {stats.n_sets} sets together do not beat doing nothing.")
-        if spike and t.spike_fails:
-            outcome = "selection_luck"
-        if outcome == "passes":
-            spa_text = ("" if stats.spa is None
-                        else f", SPA p-value {stats.spa.consistent:.3f}")
-            reasons.append(f"Net Sharpe ratio {net.sharpe:.2f} a year holds after costs "
-                           f"(net PSR {_pct(net.psr)}) and after selection (DSR "
-                           f"{_pct(stats.dsr)}{spa_text}).")
-        if stats.spa is None:
-            reasons.append("The SPA test was not run.")
-    if spike:
-        s = stats.stability
-        reasons.append(f"Warning: the chosen set is an isolated spike on the grid (net Sharpe "
-                       f"{s.value:.2f} a year, its {s.n_neighbours} neighbours average "
-                       f"{s.neighbour_mean:.2f}).")
+    found: list[tuple[Check, str | None]] = []  # each check and the outcome its failure gives
+    for make in _CHECKS:
+        found.append(make(stats, t))
+    if holdout_seen:
+        found.append((Check("holdout", "Holdout", "warn", "seen",
+                            f"Holdout already seen: {holdout_seen}"), None))
+    outcome = next((fail for check, fail in found if check.status == "fail"), "passes")
+    checks = tuple(check for check, _ in found)
+    deciding = [c.finding for c in checks if c.status == "fail"][:1]
+    if outcome == "passes":
+        deciding = [_passing_sentence(stats)]
+    warnings = [c.finding for c in checks if c.status == "warn"]
     return Verdict(outcome=outcome, label=LABELS[outcome], action=ACTIONS[outcome],
-                   reasons=tuple(reasons), numbers=_numbers(stats))
+                   reasons=tuple(deciding + warnings), numbers=_numbers(stats), checks=checks)
+
+
+Outcome = tuple[Check, "str | None"]
+
+
+def _history(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
+    ok = s.n_days >= t.min_days
+    finding = (f"{s.n_days:,} days of history" if ok else
+               f"{s.n_days:,} days are too short a history to judge (at least "
+               f"{t.min_days:,} days are needed).")
+    return Check("history", "History", "pass" if ok else "fail", f"{s.n_days:,} days",
+                 finding), "not_judged"
+
+
+def _gross_edge(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
+    sr = s.gross.sharpe
+    if math.isnan(sr):
+        return Check("gross_edge", "Gross edge", "fail", "n/a",
+                     "The chosen set's gross P&L never varies, so it has no Sharpe ratio."), \
+            "no_edge"
+    ok = sr >= t.min_sharpe
+    finding = (f"Gross Sharpe ratio {sr:.2f} a year is {'at or above' if ok else 'below'} the "
+               f"{t.min_sharpe:.2f} worth pursuing.")
+    return Check("gross_edge", "Gross edge", _status(ok), f"{sr:.2f} a year", finding), "no_edge"
+
+
+def _beats_luck(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
+    sr, sr0 = s.gross.sharpe, s.expected_max_sharpe
+    trials = _trials_text(s)
+    if math.isnan(sr):
+        return Check("beats_luck", "Beats luck", "skip", "n/a",
+                     "No Sharpe ratio to compare with luck."), None
+    ok = sr > sr0
+    finding = (f"Gross Sharpe ratio {sr:.2f} a year is {'above' if ok else 'not above'} "
+               f"{sr0:.2f}, the best that {trials} would reach by luck alone"
+               + ("." if ok else ": no edge beyond what the search itself produces."))
+    return Check("beats_luck", "Beats luck", _status(ok), f"{sr:.2f} vs {sr0:.2f}",
+                 finding), "no_edge"
+
+
+def _gross_dsr(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
+    return _deflated(s, t, "gross")
+
+
+def _costs(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
+    gross_total, cost_total = s.costs.gross_total, s.costs.cost_total
+    multiple = s.costs.break_even_multiple
+    if not cost_total > 0 or not gross_total > 0:
+        return Check("costs", "Costs", "skip", "n/a",
+                     "No costs, or no gross profit for them to take."), None
+    share = cost_total / gross_total
+    material = multiple < t.material_cost_multiple
+    net_fails = not s.net_dsr >= t.confidence
+    figure = f"{_pct(share)} of gross"
+    if net_fails and material:
+        finding = (f"Before costs the edge holds (gross DSR {_pct(s.gross_dsr)}), but net of "
+                   f"costs the Sharpe ratio is {s.net.sharpe:.2f} a year and the net DSR only "
+                   f"{_pct(s.net_dsr)}: costs take {_pct(share)} of gross P&L (break-even at "
+                   f"{multiple:.2f} times the assumed costs).")
+        return Check("costs", "Costs", "fail", figure, finding), "lost_to_costs"
+    finding = (f"Costs take {_pct(share)} of gross P&L (break-even at {multiple:.2f} times the "
+               "assumed costs)" + ("." if material or not net_fails else
+                                   ": too little to blame for the net result."))
+    return Check("costs", "Costs", "pass", figure, finding), None
+
+
+def _net_dsr(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
+    return _deflated(s, t, "net")
+
+
+def _deflated(s: FirstPassStats, t: VerdictThresholds, side: str) -> Outcome:
+    series = s.gross if side == "gross" else s.net
+    dsr = s.gross_dsr if side == "gross" else s.net_dsr
+    key, name = f"{side}_dsr", f"{side.capitalize()} deflated Sharpe"
+    if math.isnan(dsr):
+        return Check(key, name, "skip", "n/a", f"No {side} deflated Sharpe ratio."), None
+    ok = dsr >= t.confidence
+    figure = _pct(dsr)
+    if ok:
+        return Check(key, name, "pass", figure,
+                     f"{side.capitalize()} deflated Sharpe ratio {figure} reaches "
+                     f"{_pct(t.confidence)} over {_trials_text(s)}."), None
+    years = _more_years(s, series, t)
+    if series.sharpe > s.expected_max_sharpe and years <= t.max_more_years:
+        finding = (f"{side.capitalize()} Sharpe ratio {series.sharpe:.2f} a year beats luck "
+                   f"({s.expected_max_sharpe:.2f}), but {s.n_days:,} days give a deflated "
+                   f"Sharpe ratio of only {figure} ({_pct(t.confidence)} needed); about "
+                   f"{years:.1f} more years at this Sharpe ratio would settle it.")
+        return Check(key, name, "fail", figure, finding), "too_little_data"
+    more = ("at least " + f"{t.max_more_years:g}" if math.isfinite(years) else "unboundedly")
+    finding = (f"{side.capitalize()} deflated Sharpe ratio {figure} is below "
+               f"{_pct(t.confidence)}, and {more} more years would be needed to confirm a "
+               f"Sharpe ratio this close to luck ({series.sharpe:.2f} vs "
+               f"{s.expected_max_sharpe:.2f}).")
+    return Check(key, name, "fail", figure, finding), "no_edge"
+
+
+def _more_years(s: FirstPassStats, series: object, t: VerdictThresholds) -> float:
+    """Extra years for the deflated test to reach the confidence at the present Sharpe ratio
+    (minimum track record length against SR0; Bailey & López de Prado 2012, 2014)."""
+    from hunchbook.core.stats.psr import min_track_record_length
+
+    sr0 = s.expected_max_sharpe / math.sqrt(s.periods)
+    days = min_track_record_length(series.sharpe_per_period, series.skew, series.kurtosis,  # type: ignore[attr-defined]
+                                   sr_star=sr0, alpha=1.0 - t.confidence)
+    return max(days - s.n_days, 0.0) / s.periods if math.isfinite(days) else math.inf
+
+
+def _spa(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
+    if s.spa is None:
+        return Check("spa", "SPA test", "skip", "not run", "The SPA test was not run."), None
+    p = s.spa.consistent
+    ok = p <= t.alpha
+    sets = _plural(s.spa_sets, "set")
+    finding = (f"SPA test p-value {p:.3f} is {'within' if ok else 'above'} {t.alpha:.3f}: the "
+               f"{sets} together {'beat' if ok else 'do not beat'} doing nothing.")
+    return Check("spa", "SPA test", _status(ok), f"p = {p:.3f}", finding), "selection_luck"
+
+
+def _stability(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
+    st = s.stability
+    if st is None:
+        return Check("stability", "Grid stability", "skip", "no grid",
+                     "One parameter set or no grid: nothing to compare with."), None
+    figure = f"{st.value:.2f} vs {st.neighbour_mean:.2f}"
+    if not st.isolated:
+        return Check("stability", "Grid stability", "pass", figure,
+                     f"The chosen set's neighbours on the grid average a net Sharpe ratio of "
+                     f"{st.neighbour_mean:.2f} against its {st.value:.2f}."), None
+    finding = (f"Warning: the chosen set is an isolated spike on the grid (net Sharpe "
+               f"{st.value:.2f} a year, its {_plural(st.n_neighbours, 'neighbour')} average "
+               f"{st.neighbour_mean:.2f}).")
+    return Check("stability", "Grid stability", "fail" if t.spike_fails else "warn", figure,
+                 finding), "selection_luck"
+
+
+def _selection(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
+    if s.selection_known:
+        return Check("selection", "Selection counted", "pass", _trials_text(s),
+                     f"Every trial behind the result is counted ({_trials_text(s)})."), None
+    return Check("selection", "Selection counted", "fail", "unknown",
+                 "Uncorrected for selection: the number of trials behind this P&L is unknown, "
+                 "so it cannot be promoted (give the number of trials)."), "not_judged"
+
+
+_CHECKS: tuple[Callable[[FirstPassStats, VerdictThresholds], Outcome], ...] = (
+    _history, _gross_edge, _beats_luck, _gross_dsr, _costs, _spa, _net_dsr, _stability,
+    _selection)
+
+
+def _passing_sentence(s: FirstPassStats) -> str:
+    spa = "" if s.spa is None else f", SPA p-value {s.spa.consistent:.3f}"
+    return (f"Net Sharpe ratio {s.net.sharpe:.2f} a year holds after costs and after selection "
+            f"(net DSR {_pct(s.net_dsr)} over {_trials_text(s)}{spa}).")
+
+
+def _trials_text(s: FirstPassStats) -> str:
+    raw = s.n_trials
+    if raw == 1:
+        return "1 trial"
+    if s.dsr_trials < raw:
+        return f"{s.dsr_trials:,} effective of {raw:,} trials"
+    return f"{raw:,} trials"
+
+
+def _status(ok: bool) -> str:
+    return "pass" if ok else "fail"
+
+
+def _plural(n: int, word: str) -> str:
+    return f"{n:,} {word}" + ("" if n == 1 else "s")
 
 
 def _pct(p: float) -> str:
@@ -161,10 +331,14 @@ def _numbers(stats: FirstPassStats) -> dict[str, float | int | bool | None]:
         "net_psr": stats.net.psr,
         "gross_min_trl_days": stats.gross.min_trl_days,
         "net_min_trl_days": stats.net.min_trl_days,
-        "dsr": stats.dsr,
+        "gross_dsr": stats.gross_dsr,
+        "dsr": stats.net_dsr,
         "expected_max_sharpe": stats.expected_max_sharpe,
         "n_trials": stats.n_trials,
+        "effective_trials": stats.dsr_trials,
+        "selection_known": stats.selection_known,
         "spa_consistent": None if stats.spa is None else stats.spa.consistent,
+        "spa_sets": stats.spa_sets,
         "break_even_cost_multiple": stats.costs.break_even_multiple,
         "isolated_spike": None if stats.stability is None else stats.stability.isolated,
     }

@@ -35,7 +35,7 @@ DEMO_TAG = "invented-demo"
 #: Called after each recorded demo run with (runs done, runs in all).
 BuildProgress = Callable[[int, int], None]
 #: Runs the demo catalogue records (for progress).
-DEMO_RUNS = 8
+DEMO_RUNS = 9
 
 
 class _Clock:
@@ -236,9 +236,8 @@ class _Builder:
         yield "2025-02-18T17"
         run = self.run(i, THEO, demo_rules.STORAGE)
         yield "2025-02-19T14"
-        self.note(i, INES, f"Gross Sharpe {_gross(run)} on {run.summary.statistics.n_days} "
-                  f"days is promising, but {_min_trl(run)} would be needed to trust it. Theo "
-                  "to look for a longer storage-day calendar.", kind="decision")
+        self.note(i, INES, f"Promising, not proof: {run.summary.verdict.reasons[0]} Theo to "
+                  "look for a longer storage-day calendar.", kind="decision")
 
     def _gold(self) -> Story:
         yield "2025-03-03T09"
@@ -334,6 +333,12 @@ class _Builder:
         self.rules(i, NIA, demo_rules.VOL_FILTER)
         yield "2025-04-11T16"
         self.review(i, "accept", "Accepted. Run it on the full history.")
+        yield "2025-04-14T17"
+        quarter = self.run(i, NIA, demo_rules.VOL_FILTER_QUARTER)
+        yield "2025-04-15T10"
+        self.note(i, INES, f"{quarter.summary.verdict.label}: {quarter.summary.verdict.reasons[0]} "
+                  "A quarter tells us nothing either way, and it still counts as trials. Full "
+                  "history next, as agreed.", kind="decision")
 
     def _early(self) -> Story:
         for day, title, hyp, by, markets, text in (
@@ -391,8 +396,3 @@ def _chosen(run: IdeaRun) -> str:
 def _cost_share(run: IdeaRun) -> str:
     costs = run.summary.statistics.costs
     return f"{costs.cost_total / costs.gross_total:.0%}" if costs.gross_total > 0 else "all"
-
-
-def _min_trl(run: IdeaRun) -> str:
-    days = run.summary.statistics.gross.min_trl_days
-    return f"about {days / 252:.1f} years" if days < float("inf") else "far more years"

@@ -76,8 +76,8 @@ PLANTED: dict[str, Planted] = {
     "NATGAS": Planted(event=0.07),
     "GOLD": Planted(trend=1.2, trend_days=60),
     "COPPER": Planted(trend=1.2, trend_days=60),
-    "CORN": Planted(trend=1.8, reversal=0.03),
-    "SOYBEAN": Planted(trend=1.8, reversal=0.03, season=0.08),
+    "CORN": Planted(trend=1.8, reversal=0.05),
+    "SOYBEAN": Planted(trend=1.8, reversal=0.05, season=0.08),
     "TNOTE10": Planted(trend=2.0, trend_days=250, reversal=0.012),
     "EQIDX": Planted(trend=2.4, trend_days=250, month_end=0.25),
 }

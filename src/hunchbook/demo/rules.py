@@ -43,9 +43,9 @@ REVERSION = rule_file(
     "-sign(zscore(close, n)) if abs(zscore(close, n)) > entry else 0")
 
 STORAGE = rule_file(
-    "Storage-report drift", "Follow the storage day's move for a few days (2025 only).",
+    "Storage-report drift", "Follow the storage day's move for a few days (2021 only).",
     ("NATGAS",), "days = [1, 2, 3]", 'hold(sign(diff(close, 1)) * event("storage"), days)',
-    top="start = 2025-01-02\nend = 2025-12-31\n")
+    top="start = 2021-01-04\nend = 2021-12-31\n")
 
 GOLD_RATES = rule_file(
     "Gold after rate shocks", "Follow GOLD for a month after a large TNOTE10 move.", ("GOLD",),
@@ -86,6 +86,12 @@ VOL_FILTER = rule_file(
     ("TNOTE10",), "fast = [16, 32]\nslow = [128]\nconstraint = \"fast < slow\"",
     "sign(ewm(close, fast) - ewm(close, slow)) "
     "if std(diff(close, 1), 20) < mean(std(diff(close, 1), 20), 250) else 0")
+VOL_FILTER_QUARTER = rule_file(
+    "Ten-year trend, calm markets", "The same rule on one recent quarter only.",
+    ("TNOTE10",), "fast = [16, 32]\nslow = [128]\nconstraint = \"fast < slow\"",
+    "sign(ewm(close, fast) - ewm(close, slow)) "
+    "if std(diff(close, 1), 20) < mean(std(diff(close, 1), 20), 250) else 0",
+    top="start = 2021-09-01\nend = 2021-12-31\n")
 WEATHER = rule_file(
     "Grain weather-premium fade", "In July, fade CORN's move of the last n bars.", ("CORN",),
     "n = [20, 40]", "-sign(diff(close, n)) if month == 7 else 0")

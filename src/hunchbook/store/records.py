@@ -178,3 +178,23 @@ class ImportReport:
     added: dict[str, int]
     already_present: dict[str, int]
     conflicts: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class EarlierStrategy:
+    """Trials an idea ran under one earlier strategy (a rule text whose signal, roll, sizing,
+    costs or dates differ from the new one, or sets outside the new space): the latest rule
+    text of that strategy, the parameter sets and each one's stored net Sharpe ratio."""
+
+    rule_text: str
+    parameter_sets: tuple[dict[str, float], ...]
+    net_sharpes: tuple[float | None, ...]
+
+
+@dataclass(frozen=True)
+class TrialHistory:
+    """An idea's trials as they will stand once a new space has run: the ``total`` count and the
+    trials run before, outside the new space, grouped by strategy."""
+
+    total: int
+    earlier: tuple[EarlierStrategy, ...]

@@ -29,7 +29,7 @@ from typing import TYPE_CHECKING, Any
 from hunchbook.core.errors import RecordError
 from hunchbook.store import chain, pnl, validate
 from hunchbook.store.errors import CatalogueError
-from hunchbook.store.records import Revision, RunRecord
+from hunchbook.store.records import EarlierStrategy, Revision, RunRecord, TrialHistory
 from hunchbook.store.sqlite_lib import Database
 
 if TYPE_CHECKING:
@@ -196,16 +196,30 @@ def trial_sharpes(db: Database, idea_id: int) -> list[float]:
 
 
 def prospective_trials(db: Database, idea_id: int, strategy_key: str,
-                       parameter_sets: Sequence[Mapping[str, float]]) -> tuple[int, list[float]]:
-    """The trial count once these sets run under this strategy, and the net Sharpe of every
-    *other* trial already recorded (the new run supplies its own sets' Sharpe ratios)."""
+                       parameter_sets: Sequence[Mapping[str, float]]) -> TrialHistory:
+    """The trial count once these sets run under this strategy, and every *other* trial already
+    recorded, grouped by strategy with the latest rule text of that strategy (so that it can be
+    recomputed on the current data) and its stored net Sharpe ratio."""
     new = {(strategy_key, params_key(s)) for s in parameter_sets}
     rows = db.execute(
         "SELECT strategy_key, params, net_sharpe FROM (SELECT strategy_key, params, net_sharpe, "
         "row_number() OVER (PARTITION BY strategy_key, params ORDER BY run_id DESC) AS newest "
         "FROM trials WHERE idea_id = ?) WHERE newest = 1 ORDER BY rowid", [idea_id]).fetchall()
-    others = [float(r[2]) for r in rows if (r[0], r[1]) not in new and r[2] is not None]
-    return len({(r[0], r[1]) for r in rows} | new), others
+    # the latest revision's text of each strategy (SQLite takes the bare column from the row
+    # holding the maximum)
+    latest = dict((key, text) for key, text, _ in db.execute(
+        "SELECT u.strategy_key, v.text, max(v.number) FROM trials u JOIN runs r ON r.id = "
+        "u.run_id JOIN rule_revisions v ON v.id = r.revision_id WHERE u.idea_id = ? "
+        "GROUP BY u.strategy_key", [idea_id]))
+    groups: dict[str, list[tuple[str, float | None]]] = {}
+    for key, params, sharpe in rows:
+        if (key, params) not in new:
+            groups.setdefault(key, []).append((params, sharpe))
+    earlier = tuple(EarlierStrategy(
+        rule_text=latest[key], parameter_sets=tuple(json.loads(p) for p, _ in items),
+        net_sharpes=tuple(None if v is None else float(v) for _, v in items))
+        for key, items in groups.items())
+    return TrialHistory(total=len({(r[0], r[1]) for r in rows} | new), earlier=earlier)
 
 
 _SELECT = ("SELECT r.*, v.number AS revision_number FROM runs r "

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -22,6 +23,7 @@ from hunchbook.core.stats.costs import (
     break_even_cost_per_contract,
     cost_sensitivity,
 )
+from hunchbook.core.stats.effective_trials import effective_trials
 from hunchbook.core.stats.inputs import as_count, as_matrix, as_number
 from hunchbook.core.stats.psr import (
     deflated_sharpe,
@@ -111,11 +113,17 @@ class FirstPassStats:
     """First-pass statistics of a sweep (see :func:`first_pass_statistics`).
 
     ``chosen`` is the column of the chosen set and ``chosen_cell`` its flat grid cell (None
-    without a grid). ``dsr`` is the Deflated Sharpe Ratio of the chosen set's net P&L;
-    ``expected_max_sharpe`` (SR0, annualised) the expected best of ``n_trials`` skill-less trials
-    whose annualised Sharpe ratios have variance ``trial_sharpe_var``. ``spa`` is the SPA test of
-    all sets' net P&L against zero (None if no replications were asked for); ``stability`` is
-    None without a grid. ``notes`` explain special cases in plain words.
+    without a grid). ``n_trials`` counts every trial behind the choice (this sweep's sets and
+    any earlier ones); ``effective_trials`` is their effective number, estimated from the
+    correlation of their daily net P&L (None when not estimated: every trial then counts).
+    ``dsr`` (= ``net_dsr``) and ``gross_dsr`` are the Deflated Sharpe Ratios of the chosen set's
+    net and gross P&L over ``dsr_trials`` trials; ``expected_max_sharpe`` (SR0, annualised) the
+    expected best of that many skill-less trials whose annualised Sharpe ratios have variance
+    ``trial_sharpe_var``. ``spa`` is the SPA test against zero of the net P&L of every trial
+    recomputed on these days (``spa_sets`` of them; None if no replications were asked for);
+    ``stability`` is None without a grid. ``selection_known`` is False when the number of
+    trials behind the P&L was not given (the result is then uncorrected for selection).
+    ``notes`` explain special cases in plain words.
     """
 
     n_days: int
@@ -133,6 +141,28 @@ class FirstPassStats:
     stability: StabilityStats | None
     costs: CostStats
     notes: tuple[str, ...]
+    gross_dsr: float = math.nan
+    effective_trials: float | None = None
+    selection_known: bool = True
+    spa_set_count: int | None = None
+
+    @property
+    def net_dsr(self) -> float:
+        """The Deflated Sharpe Ratio of the chosen set's net P&L (the same as ``dsr``)."""
+        return self.dsr
+
+    @property
+    def dsr_trials(self) -> int:
+        """The number of trials the deflated Sharpe ratios count: the effective number
+        rounded up, or every trial when it was not estimated."""
+        if self.effective_trials is None:
+            return self.n_trials
+        return max(1, min(self.n_trials, math.ceil(self.effective_trials - 1e-9)))
+
+    @property
+    def spa_sets(self) -> int:
+        """How many sets the SPA test covered."""
+        return self.n_sets if self.spa_set_count is None else self.spa_set_count
 
     def to_dict(self) -> dict[str, object]:
         """JSON-safe nested dict: NaN and infinities become None, tuples become lists."""
@@ -146,8 +176,11 @@ def first_pass_statistics(
     grid_shape: tuple[int, ...] | None = None,
     cell_index: np.ndarray | None = None,
     chosen: int | None = None,
+    other_net: np.ndarray | None = None,
     n_trials: int | None = None,
     trial_sharpe_var: float | None = None,
+    other_trial_sharpes: Sequence[float] = (),
+    selection_known: bool = True,
     contracts_traded: np.ndarray | None = None,
     spa_reps: int = 1000,
     block_size: float | None = None,
@@ -168,9 +201,17 @@ def first_pass_statistics(
         simply absent from the matrices and their cells stay empty. Default: column k is cell k,
         which needs K == prod(grid_shape).
     chosen : column of the set to describe; default the best annualised net Sharpe ratio.
-    n_trials : number of trials for the DSR; default K.
+        Whichever set is chosen, every set is a trial: picking one never makes it one trial.
+    other_net : (T, J) daily net P&L of earlier trials (say, earlier revisions of the rules)
+        recomputed on the same days; they join the effective number of trials, the trials'
+        Sharpe variance and the SPA test.
+    n_trials : every trial behind the choice; default K + J + len(other_trial_sharpes). Trials
+        beyond the K + J columns count one each in the effective number.
     trial_sharpe_var : variance of the trials' annualised Sharpe ratios; default the variance
-        (ddof 1) of the K sets' annualised net Sharpe ratios (0 for a single set).
+        (ddof 1) of the K + J columns' annualised net Sharpe ratios and ``other_trial_sharpes``
+        (0 for a single trial).
+    other_trial_sharpes : annualised net Sharpe ratios of trials that were not recomputed.
+    selection_known : False when the number of trials behind the P&L is unknown.
     contracts_traded : (K,) contracts traded by each set, for the break-even cost per contract.
     spa_reps, block_size, seed : SPA bootstrap settings (see :func:`spa_test`); 0 reps skips it.
     periods : periods per year (252 trading days).
@@ -191,24 +232,42 @@ def first_pass_statistics(
     chosen = _chosen(chosen, net_sharpes)
     notes: list[str] = []
 
-    n_trials = n_sets if n_trials is None else as_count(n_trials, "number of trials")
+    trials_m = net_m
+    if other_net is not None:
+        others = as_matrix(other_net, "earlier trials' net P&L")
+        if others.shape[0] != n_days:
+            raise HunchbookError(f"earlier trials' net P&L: expected {n_days} days like the "
+                                 f"gross P&L, got {others.shape[0]}")
+        trials_m = np.hstack([net_m, others])
+    extra_sharpes = np.asarray(other_trial_sharpes, dtype=float).ravel()
+    counted = trials_m.shape[1] + extra_sharpes.size
+    n_trials = counted if n_trials is None else as_count(n_trials, "number of trials")
     if trial_sharpe_var is None:
-        finite = net_sharpes[np.isfinite(net_sharpes)]
+        all_sharpes = np.concatenate([_column_sharpes(trials_m, periods), extra_sharpes])
+        finite = all_sharpes[np.isfinite(all_sharpes)]
         trial_sharpe_var = float(np.var(finite, ddof=1)) if finite.size > 1 else 0.0
     else:
         trial_sharpe_var = as_number(trial_sharpe_var, "trial Sharpe variance")
+    effective = None
+    if trials_m.shape[1] > 1:
+        estimate = effective_trials(trials_m)
+        effective = min(float(n_trials),
+                        estimate.effective + max(n_trials - trials_m.shape[1], 0))
     if n_trials == 1:
         notes.append("One trial: no selection to correct for, so the DSR equals PSR(0).")
+    dsr_trials = (n_trials if effective is None
+                  else max(1, min(n_trials, math.ceil(effective - 1e-9))))
 
     gross_stats = _series_stats(gross_m[:, chosen], periods)
     net_stats = _series_stats(net_m[:, chosen], periods)
-    net_skew, net_kurt = net_stats.skew, net_stats.kurtosis
-    sr0 = expected_max_sharpe(n_trials, trial_sharpe_var)
-    dsr = deflated_sharpe(net_stats.sharpe_per_period, n_days, net_skew, net_kurt, n_trials,
-                          trial_sharpe_var, periods)
+    sr0 = expected_max_sharpe(dsr_trials, trial_sharpe_var)
+    dsr = deflated_sharpe(net_stats.sharpe_per_period, n_days, net_stats.skew,
+                          net_stats.kurtosis, dsr_trials, trial_sharpe_var, periods)
+    gross_dsr = deflated_sharpe(gross_stats.sharpe_per_period, n_days, gross_stats.skew,
+                                gross_stats.kurtosis, dsr_trials, trial_sharpe_var, periods)
 
     spa_reps = as_count(spa_reps, "SPA replications", minimum=0)
-    spa = (spa_test(net_m, reps=spa_reps, block_size=block_size, seed=seed)
+    spa = (spa_test(trials_m, reps=spa_reps, block_size=block_size, seed=seed)
            if spa_reps > 0 else None)
 
     cells = None
@@ -231,7 +290,8 @@ def first_pass_statistics(
         chosen_cell=None if cells is None else int(cells[chosen]),
         gross=gross_stats, net=net_stats, dsr=dsr, expected_max_sharpe=sr0,
         n_trials=n_trials, trial_sharpe_var=trial_sharpe_var, spa=spa, stability=stability,
-        costs=costs, notes=tuple(notes))
+        costs=costs, notes=tuple(notes), gross_dsr=gross_dsr, effective_trials=effective,
+        selection_known=bool(selection_known), spa_set_count=trials_m.shape[1])
 
 
 def _series_stats(x: np.ndarray, periods: int) -> SeriesStats:
