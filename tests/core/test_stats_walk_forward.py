@@ -154,6 +154,7 @@ def test_none_when_too_little_to_walk():
 @pytest.mark.parametrize(("kwargs", "field"), [
     ({"train_days": 1}, "train_days"), ({"test_days": 0}, "test_days"),
     ({"periods": 0}, "periods"), ({"test_days": 2.5}, "test_days"),
+    ({"anchored": "no"}, "anchored"),
 ])
 def test_bad_arguments_are_clear_errors(kwargs, field):
     with pytest.raises(HunchbookError, match=field):

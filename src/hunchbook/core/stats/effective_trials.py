@@ -98,7 +98,8 @@ def effective_trials(net: np.ndarray, *, max_sets: int = MAX_SETS) -> EffectiveT
     if n_varying > max_sets:
         varying = varying[np.round(np.linspace(0, n_varying - 1, max_sets)).astype(np.intp)]
         sampled = max_sets
-    count = li_ji_count(_correlation(x[:, varying])) if n_varying else 0.0
+    columns = x if varying.size == n_sets else x[:, varying]
+    count = li_ji_count(_correlation(columns)) if n_varying else 0.0
     if sampled:
         count *= n_varying / sampled
     effective = min(max(count + (n_sets - n_varying), 1.0), float(n_sets))

@@ -111,11 +111,11 @@ def backtest_overfitting(net: np.ndarray, *, splits: int = 16,
     rows = max(1, CHUNK_BYTES // (16 * n_sets))
     for first in range(0, n_splits // 2, rows):
         chosen = np.arange(first, min(first + rows, n_splits // 2))
-        both = np.concatenate([chosen, n_splits - 1 - chosen])  # each split, then its complement
-        scores = score(member[both] @ sums, member[both] @ squares, half_days)
-        a, b = scores[:chosen.size], scores[chosen.size:]
-        ranks[both[:chosen.size]] = _oos_rank(a, b)
-        ranks[both[chosen.size:]] = _oos_rank(b, a)
+        mirrored = n_splits - 1 - chosen  # the complement of each chosen split
+        both = np.concatenate([chosen, mirrored])
+        a, b = np.split(score(member[both] @ sums, member[both] @ squares, half_days), 2)
+        ranks[chosen] = _oos_rank(a, b)
+        ranks[mirrored] = _oos_rank(b, a)
     omega = ranks / (n_sets + 1)
     logits = np.log(omega / (1.0 - omega))
     return OverfitResult(

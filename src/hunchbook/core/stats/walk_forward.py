@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from hunchbook.core.errors import HunchbookError
 from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.core.plain import json_safe
 from hunchbook.core.stats.inputs import as_count, as_matrix
@@ -93,6 +94,8 @@ def walk_forward(net: np.ndarray, *, train_days: int | None = None,
     """
     x = as_matrix(net, "net P&L matrix")
     periods = as_count(periods, "periods")
+    if not isinstance(anchored, bool | np.bool_):
+        raise HunchbookError(f"anchored: expected true or false, got {anchored!r}")
     n_days, n_sets = x.shape
     train, test = default_windows(n_days, periods)
     if test_days is not None:
