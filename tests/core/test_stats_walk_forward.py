@@ -143,6 +143,14 @@ def test_default_windows_rule(days, expected):
         assert (days - train) // test >= 2  # at least two test periods always fit
 
 
+def test_default_training_window_follows_a_given_test_period():
+    # documented rule: half the history rounded down to whole test periods, at most 3 years
+    assert default_windows(1000, test_days=100) == (500, 100)
+    assert default_windows(1000, test_days=300) == (300, 300)
+    result = walk_forward(np.random.default_rng(2).standard_normal((1000, 3)), test_days=100)
+    assert (result.train_days, result.test_days, result.start) == (500, 100, 500)
+
+
 def test_none_when_too_little_to_walk():
     rng = np.random.default_rng(0)
     assert walk_forward(rng.standard_normal((1000, 1))) is None

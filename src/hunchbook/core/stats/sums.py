@@ -13,8 +13,10 @@ import numpy as np
 FLAT_TOLERANCE = 1e-12
 
 
-def sharpe_from_sums(sums: np.ndarray, squares: np.ndarray, n: int) -> np.ndarray:
+def sharpe_from_sums(sums: np.ndarray, squares: np.ndarray, n: int | np.ndarray) -> np.ndarray:
     """Per-period Sharpe ratio ``mean / sd`` (ddof 1) of windows of ``n`` days from their sums.
+
+    ``n`` may be an array that broadcasts against ``sums`` (windows of different lengths).
 
     ``mean = sums / n``, ``var = (squares - sums * mean) / (n - 1)``. A window whose P&L does
     not vary (variance within rounding of zero) has no Sharpe ratio; so that sets can still be

@@ -58,14 +58,16 @@ class WalkForwardResult:
         return json_safe(figures)
 
 
-def default_windows(n_days: int, periods: int = DAYS_PER_YEAR) -> tuple[int, int]:
+def default_windows(n_days: int, periods: int = DAYS_PER_YEAR,
+                    test_days: int | None = None) -> tuple[int, int]:
     """Default ``(train_days, test_days)`` for a history of ``n_days``.
 
-    ``test = min(periods, n_days // 4)`` (a year, or a quarter of a short history) and
-    ``train = min(3 * periods, half the history rounded down to whole test periods)``, so at
-    least two test periods follow the first training window.
+    ``test = min(periods, n_days // 4)`` (a year, or a quarter of a short history) unless
+    ``test_days`` is given, and ``train = min(3 * periods, half the history rounded down to
+    whole test periods)``: with both defaults at least two test periods follow the first
+    training window.
     """
-    test = min(periods, n_days // 4)
+    test = min(periods, n_days // 4) if test_days is None else test_days
     train = min(TRAIN_YEARS * periods, (n_days // 2) // test * test) if test else 0
     return train, test
 
@@ -97,9 +99,9 @@ def walk_forward(net: np.ndarray, *, train_days: int | None = None,
     if not isinstance(anchored, bool | np.bool_):
         raise HunchbookError(f"anchored: expected true or false, got {anchored!r}")
     n_days, n_sets = x.shape
-    train, test = default_windows(n_days, periods)
     if test_days is not None:
-        test = as_count(test_days, "test_days")
+        test_days = as_count(test_days, "test_days")
+    train, test = default_windows(n_days, periods, test_days)
     if train_days is not None:
         train = as_count(train_days, "train_days", minimum=2)
     if n_sets < 2 or test < 1 or train < 2 or (n_days - train) // test < 2:
