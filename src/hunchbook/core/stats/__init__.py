@@ -6,6 +6,11 @@ from hunchbook.core.stats.costs import (
     break_even_cost_per_contract,
     cost_sensitivity,
 )
+from hunchbook.core.stats.effective_trials import (
+    EffectiveTrials,
+    effective_trials,
+    li_ji_count,
+)
 from hunchbook.core.stats.first_pass import (
     CostStats,
     FirstPassStats,
@@ -13,6 +18,7 @@ from hunchbook.core.stats.first_pass import (
     StabilityStats,
     first_pass_statistics,
 )
+from hunchbook.core.stats.overfitting import OverfitResult, backtest_overfitting
 from hunchbook.core.stats.psr import (
     deflated_sharpe,
     expected_max_sharpe,
@@ -30,19 +36,27 @@ from hunchbook.core.stats.sharpe import (
 )
 from hunchbook.core.stats.spa import SpaResult, spa_test, stationary_bootstrap_indices
 from hunchbook.core.stats.stability import neighbour_counts, neighbour_means, stability_flag
+from hunchbook.core.stats.walk_forward import WalkForwardResult, default_windows, walk_forward
 
 __all__ = [
     "CostStats",
+    "EffectiveTrials",
     "FirstPassStats",
+    "OverfitResult",
     "SeriesStats",
     "SpaResult",
     "StabilityStats",
+    "WalkForwardResult",
+    "backtest_overfitting",
     "break_even_cost_multiple",
     "break_even_cost_per_contract",
     "cost_sensitivity",
+    "default_windows",
     "deflated_sharpe",
+    "effective_trials",
     "expected_max_sharpe",
     "first_pass_statistics",
+    "li_ji_count",
     "min_track_record_length",
     "moments",
     "neighbour_counts",
@@ -57,4 +71,5 @@ __all__ = [
     "stability_flag",
     "stationary_bootstrap_indices",
     "t_statistic",
+    "walk_forward",
 ]
