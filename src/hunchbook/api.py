@@ -35,6 +35,7 @@ if TYPE_CHECKING:  # the statistics (and scipy) are imported when a sweep is jud
 PORTFOLIO = "portfolio"
 
 
+
 def load_rules(path: str | os.PathLike[str]) -> RuleSpec:
     """Read and validate a rule file (raises :class:`RuleError` naming file, key and column)."""
     return read_rules(path)
@@ -78,7 +79,9 @@ class SweepReport:
     """A whole declared parameter space run: per-set summaries, statistics and the verdict.
 
     ``summaries[k]`` holds set k's portfolio metrics (as in :class:`SetResult`) and per-market
-    totals; ``chosen`` is the set with the best net Sharpe ratio, which the statistics judge.
+    totals; ``chosen`` is the set the statistics judge (the best net Sharpe ratio, or the best
+    of the picked sets); ``walk_forward_pnl`` the walk-forward test's spliced out-of-sample
+    daily net P&L by date (None when the test did not apply).
     """
 
     rules: RuleSpec
@@ -87,6 +90,7 @@ class SweepReport:
     chosen: int
     statistics: FirstPassStats
     verdict: Verdict
+    walk_forward_pnl: pd.Series | None = None
 
     @property
     def sets(self) -> tuple[dict[str, float], ...]:
@@ -274,17 +278,23 @@ class Study:
         shape, cells = self._grid_cells(sets)
         earlier = earlier or EarlierTrials()
         other_net = earlier.on_dates(outcome.dates[start:stop])
-        from hunchbook.core.stats import first_pass_statistics
+        from hunchbook.core.stats import first_pass_statistics, selection_tests
 
+        net = outcome.net[start:stop]
+        walk, overfit = selection_tests(net) if len(sets) > 1 else (None, None)
         statistics = first_pass_statistics(
             outcome.gross[start:stop], outcome.cost[start:stop], grid_shape=shape,
             cell_index=cells,
             chosen=chosen, other_net=other_net,
             n_trials=earlier.n_trials(len(sets)), other_trial_sharpes=earlier.sharpes,
+            walk_forward=walk, overfitting=overfit,
             contracts_traded=outcome.contracts, spa_reps=spa_reps, seed=seed)
+        walk_pnl = None if walk is None else pd.Series(
+            walk.oos_pnl, index=pd.DatetimeIndex(outcome.dates[start + walk.start:stop]))
         return SweepReport(rules=self.rules, outcome=outcome, summaries=summaries,
                            chosen=chosen, statistics=statistics,
-                           verdict=decide(statistics, holdout_seen=holdout_seen))
+                           verdict=decide(statistics, holdout_seen=holdout_seen),
+                           walk_forward_pnl=walk_pnl)
 
     def _grid_cells(self, sets: list[dict[str, float]]) -> tuple[tuple[int, ...] | None,
                                                                  np.ndarray | None]:

@@ -15,6 +15,7 @@ from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.prices import data_fingerprint
 from hunchbook.core.results import RunSummary
 from hunchbook.core.sweep import CancelCheck, Progress, SweepRunner, run_sweep
+from hunchbook.store import pnl
 from hunchbook.store.records import TrialHistory
 from hunchbook.starter import STARTER_HINT, is_starter
 
@@ -27,6 +28,15 @@ class IdeaRun:
     chosen: SetResult
     run_id: int
     revision_number: int
+
+
+def daily_pnl(chosen: SetResult, walk_forward: pd.Series | None) -> pd.DataFrame:
+    """The daily P&L kept with a run: the chosen set's, and beside it the walk-forward test's
+    out-of-sample net P&L (NaN outside the test)."""
+    frame = chosen.portfolio[list(pnl.PNL_COLUMNS)]
+    if walk_forward is None:
+        return frame
+    return frame.assign(**{pnl.WALK_FORWARD: walk_forward.reindex(frame.index)})
 
 
 def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLike[str], *,
@@ -82,6 +92,6 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
         run_id = catalogue.record_run(
             idea_id, revision_id=revision.id, summary=summary,
             data_fingerprint=data_fingerprint(study.data), engine_version=__version__,
-            daily_pnl=chosen.portfolio[["gross_pnl", "cost", "net_pnl"]], by=by)
+            daily_pnl=daily_pnl(chosen, report.walk_forward_pnl), by=by)
     return IdeaRun(summary=summary, chosen=chosen, run_id=run_id,
                    revision_number=revision.number)

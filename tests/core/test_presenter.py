@@ -31,8 +31,18 @@ def test_rows_carry_the_record_fields(run) -> None:  # noqa: F811
     stats = record.statistics
     rows = _rows(statistic_rows(stats))
     assert rows["Probabilistic Sharpe (vs 0)"] == (stats.gross.psr, stats.net.psr)
-    assert rows[f"Deflated Sharpe ({stats.n_trials} trials)"] == (None, stats.dsr)
+    label = next(k for k in rows if k.startswith("Deflated Sharpe ("))
+    assert label.endswith(f"of {stats.n_trials} trials)") or label.endswith(
+        f"({stats.n_trials} trials)")
+    assert str(stats.dsr_trials) in label
+    assert rows[label] == (stats.gross_dsr, stats.dsr)
+    assert rows["Best Sharpe by luck"] == (None, stats.expected_max_sharpe)
     assert rows["SPA p-value (4 sets)"] == (None, stats.spa.consistent)
+    walk = stats.walk_forward
+    assert rows["Walk-forward Sharpe (out of sample)"] == (
+        None, None if walk is None else walk.oos_sharpe)
+    assert rows["Prob. of backtest overfitting"] == (
+        None, None if stats.overfitting is None else stats.overfitting.pbo)
     assert rows["Days in the statistics"] == (None, stats.n_days)
     markets = market_table(record)
     assert [name for name, _ in markets.rows] == ["M1", "M2"]

@@ -122,11 +122,30 @@ STATISTIC_FIGURES: list[Figure[FirstPassStats]] = [
     Figure("Min. track record (years)", "years", lambda s: s.gross.min_trl_years,
            lambda s: s.net.min_trl_years,
            "Years needed for 95 % confidence that the Sharpe ratio is above zero."),
-    Figure(lambda s: f"Deflated Sharpe ({_plural(s.n_trials, 'trial')})", "pct", None,
-           lambda s: s.dsr, "Probabilistic Sharpe corrected for the best of all trials ever run."),
-    Figure(lambda s: f"SPA p-value ({_plural(s.n_sets, 'set')})", "pvalue", None,
+    Figure(lambda s: f"Deflated Sharpe ({_trials(s)})", "pct", lambda s: s.gross_dsr,
+           lambda s: s.dsr, "Probabilistic Sharpe against the best Sharpe ratio that all the "
+           "trials ever run would reach by luck; correlated trials count as fewer."),
+    Figure("Best Sharpe by luck", "ratio", None, lambda s: s.expected_max_sharpe,
+           "The Sharpe ratio the best of the trials would reach with no edge at all (SR0 of "
+           "the deflated Sharpe)."),
+    Figure(lambda s: f"SPA p-value ({_plural(s.spa_sets, 'set')})", "pvalue", None,
            lambda s: None if s.spa is None else s.spa.consistent,
-           "Chance that no set beats doing nothing (Hansen's consistent p-value)."),
+           "Chance that no set ever run beats doing nothing (Hansen's consistent p-value)."),
+    Figure("Walk-forward Sharpe (out of sample)", "ratio", None,
+           lambda s: None if s.walk_forward is None else s.walk_forward.oos_sharpe,
+           "Net Sharpe ratio of choosing the best set on past years only and trading it the "
+           "next year, spliced over the history."),
+    Figure("Walk-forward PSR (out of sample)", "pct", None,
+           lambda s: None if s.walk_forward is None else s.walk_forward.oos_psr,
+           "Probability that the walk-forward Sharpe ratio is truly above zero."),
+    Figure("Walk-forward set changes", "pct", None,
+           lambda s: None if s.walk_forward is None else s.walk_forward.changed_share,
+           "Share of the yearly re-selections that picked a different set than the year "
+           "before."),
+    Figure("Prob. of backtest overfitting", "pct", None,
+           lambda s: None if s.overfitting is None else s.overfitting.pbo,
+           "How often the best set on half the history ranks in the bottom half on the other "
+           "half (CSCV; 50 % is pure luck, near 0 % a robust choice)."),
     Figure("Break-even cost multiple", "multiple", None, lambda s: s.costs.break_even_multiple,
            "How many times the assumed costs the gross P&L would bear."),
     Figure("Days in the statistics", "count", None, lambda s: s.n_days,
@@ -167,6 +186,13 @@ class Table:
 def performance_rows(performance: Performance) -> list[FigureRow]:
     """The chosen set's gross and net figures over its whole history."""
     return [f.row(performance) for f in PERFORMANCE_FIGURES]
+
+
+def _trials(s: FirstPassStats) -> str:
+    """The trials a deflated Sharpe ratio counts: effective and raw."""
+    if s.dsr_trials < s.n_trials:
+        return f"{s.dsr_trials:,} effective of {s.n_trials:,} trials"
+    return _plural(s.n_trials, "trial")
 
 
 def statistic_rows(statistics: FirstPassStats) -> list[FigureRow]:

@@ -35,7 +35,7 @@ DEMO_TAG = "invented-demo"
 #: Called after each recorded demo run with (runs done, runs in all).
 BuildProgress = Callable[[int, int], None]
 #: Runs the demo catalogue records (for progress).
-DEMO_RUNS = 9
+DEMO_RUNS = 10
 
 
 class _Clock:
@@ -307,6 +307,11 @@ class _Builder:
             yield f"{day}T14"
             self.rules(i, by, text)
             self.note(i, by, "Rule file saved with the submission; grid kept small.")
+            if markets == ["COPPER"]:
+                copper = i
+        yield "2025-04-04T16"
+        self.review(copper, "accept", "Accepted. Run it once the curve columns of the COPPER "
+                    "file are checked.")
         yield "2025-04-07T09"
         i = self.idea(title="Soybean crush-season seasonality",
                       hypothesis="SOYBEAN rises from September to November.",
@@ -339,6 +344,11 @@ class _Builder:
         self.note(i, INES, f"{quarter.summary.verdict.label}: {quarter.summary.verdict.reasons[0]} "
                   "A quarter tells us nothing either way, and it still counts as trials. Full "
                   "history next, as agreed.", kind="decision")
+        yield "2025-04-16T17"
+        full = self.run(i, NIA, demo_rules.VOL_FILTER)
+        yield "2025-04-17T10"
+        self.note(i, NIA, f"Full history: {full.summary.verdict.label.lower()}. "
+                  f"{full.summary.verdict.reasons[0]}")
 
     def _early(self) -> Story:
         for day, title, hyp, by, markets, text in (

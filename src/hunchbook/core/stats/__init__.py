@@ -14,9 +14,12 @@ from hunchbook.core.stats.effective_trials import (
 from hunchbook.core.stats.first_pass import (
     CostStats,
     FirstPassStats,
+    OverfitStats,
     SeriesStats,
     StabilityStats,
+    WalkForwardStats,
     first_pass_statistics,
+    selection_tests,
 )
 from hunchbook.core.stats.overfitting import OverfitResult, backtest_overfitting
 from hunchbook.core.stats.psr import (
@@ -42,6 +45,9 @@ __all__ = [
     "CostStats",
     "EffectiveTrials",
     "FirstPassStats",
+    "OverfitStats",
+    "WalkForwardStats",
+    "selection_tests",
     "OverfitResult",
     "SeriesStats",
     "SpaResult",

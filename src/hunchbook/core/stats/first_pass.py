@@ -25,6 +25,7 @@ from hunchbook.core.stats.costs import (
 )
 from hunchbook.core.stats.effective_trials import effective_trials
 from hunchbook.core.stats.inputs import as_count, as_matrix, as_number
+from hunchbook.core.stats.overfitting import OverfitResult, backtest_overfitting
 from hunchbook.core.stats.psr import (
     deflated_sharpe,
     expected_max_sharpe,
@@ -48,6 +49,13 @@ from hunchbook.core.stats.stability import (
     neighbour_means,
     stability_flag,
 )
+from hunchbook.core.stats.walk_forward import WalkForwardResult
+from hunchbook.core.stats.walk_forward import walk_forward as walk_forward_test
+
+#: Blocks of the PBO's combinatorially symmetric cross-validation (Bailey et al. 2017 suggest 16).
+PBO_SPLITS = 16
+#: Fewest days in one PBO block: shorter histories use fewer blocks.
+MIN_BLOCK_DAYS = 21
 
 
 @dataclass(frozen=True)
@@ -109,6 +117,35 @@ class CostStats:
 
 
 @dataclass(frozen=True)
+class OverfitStats:
+    """The probability of backtest overfitting of a sweep's selection, as kept with a run
+    (see :func:`hunchbook.core.stats.overfitting.backtest_overfitting`)."""
+
+    pbo: float
+    splits: int
+    combinations: int
+    median_oos_rank: float
+
+
+@dataclass(frozen=True)
+class WalkForwardStats:
+    """The walk-forward test of a sweep's selection, as kept with a run (see
+    :func:`hunchbook.core.stats.walk_forward.walk_forward`): windows, the share of periods whose
+    chosen set changed, the out-of-sample days and their net Sharpe ratio and PSR(0), beside
+    the best set's in-sample net Sharpe ratio; ``chosen`` is the set traded in each period."""
+
+    train_days: int
+    test_days: int
+    anchored: bool
+    oos_days: int
+    changed_share: float
+    oos_sharpe: float
+    oos_psr: float
+    in_sample_sharpe: float
+    chosen: tuple[int, ...]
+
+
+@dataclass(frozen=True)
 class FirstPassStats:
     """First-pass statistics of a sweep (see :func:`first_pass_statistics`).
 
@@ -123,6 +160,8 @@ class FirstPassStats:
     recomputed on these days (``spa_sets`` of them; None if no replications were asked for);
     ``stability`` is None without a grid. ``selection_known`` is False when the number of
     trials behind the P&L was not given (the result is then uncorrected for selection).
+    ``overfitting`` and ``walk_forward`` test the selection over this sweep's sets (None with
+    one set, a short history, or when not asked for).
     ``notes`` explain special cases in plain words.
     """
 
@@ -145,6 +184,8 @@ class FirstPassStats:
     effective_trials: float | None = None
     selection_known: bool = True
     spa_set_count: int | None = None
+    overfitting: OverfitStats | None = None
+    walk_forward: WalkForwardStats | None = None
 
     @property
     def net_dsr(self) -> float:
@@ -181,6 +222,8 @@ def first_pass_statistics(
     trial_sharpe_var: float | None = None,
     other_trial_sharpes: Sequence[float] = (),
     selection_known: bool = True,
+    walk_forward: WalkForwardResult | None = None,
+    overfitting: OverfitResult | None = None,
     contracts_traded: np.ndarray | None = None,
     spa_reps: int = 1000,
     block_size: float | None = None,
@@ -212,6 +255,8 @@ def first_pass_statistics(
         (0 for a single trial).
     other_trial_sharpes : annualised net Sharpe ratios of trials that were not recomputed.
     selection_known : False when the number of trials behind the P&L is unknown.
+    walk_forward, overfitting : the walk-forward test and the probability of backtest
+        overfitting of the sweep (see :func:`selection_tests`), kept as figures.
     contracts_traded : (K,) contracts traded by each set, for the break-even cost per contract.
     spa_reps, block_size, seed : SPA bootstrap settings (see :func:`spa_test`); 0 reps skips it.
     periods : periods per year (252 trading days).
@@ -291,7 +336,28 @@ def first_pass_statistics(
         gross=gross_stats, net=net_stats, dsr=dsr, expected_max_sharpe=sr0,
         n_trials=n_trials, trial_sharpe_var=trial_sharpe_var, spa=spa, stability=stability,
         costs=costs, notes=tuple(notes), gross_dsr=gross_dsr, effective_trials=effective,
-        selection_known=bool(selection_known), spa_set_count=trials_m.shape[1])
+        selection_known=bool(selection_known), spa_set_count=trials_m.shape[1],
+        overfitting=None if overfitting is None else OverfitStats(
+            pbo=overfitting.pbo, splits=overfitting.splits,
+            combinations=overfitting.combinations,
+            median_oos_rank=overfitting.median_oos_rank),
+        walk_forward=None if walk_forward is None else WalkForwardStats(
+            train_days=walk_forward.train_days, test_days=walk_forward.test_days,
+            anchored=walk_forward.anchored, oos_days=int(walk_forward.oos_pnl.size),
+            changed_share=walk_forward.changed_share, oos_sharpe=walk_forward.oos_sharpe,
+            oos_psr=walk_forward.oos_psr, in_sample_sharpe=walk_forward.in_sample_sharpe,
+            chosen=walk_forward.chosen))
+
+
+def selection_tests(net: np.ndarray, *, periods: int = DAYS_PER_YEAR
+                    ) -> tuple[WalkForwardResult | None, OverfitResult | None]:
+    """The walk-forward test (default windows) and the probability of backtest overfitting
+    (16 splits, fewer on a short history) of choosing the best of a sweep's sets (T x K daily
+    net P&L); None for a test that does not apply (one set, too few days)."""
+    net_m = as_matrix(net, "net P&L")
+    splits = min(PBO_SPLITS, 2 * (net_m.shape[0] // (2 * MIN_BLOCK_DAYS)))
+    overfit = backtest_overfitting(net_m, splits=splits) if splits >= 2 else None
+    return walk_forward_test(net_m, periods=periods), overfit
 
 
 def _series_stats(x: np.ndarray, periods: int) -> SeriesStats:
