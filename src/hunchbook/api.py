@@ -342,4 +342,5 @@ def _with_overrides(spec: Any, costs: Mapping[str, Mapping[str, float]]) -> Any:
     return spec.with_costs(merged) if merged else spec
 
 
-__all__ = ["PORTFOLIO", "EarlierTrials", "SetResult", "Study", "SweepReport", "load_data", "load_rules", "run"]
+__all__ = ["PORTFOLIO", "EarlierTrials", "SetResult", "Study", "SweepReport", "load_data",
+           "load_rules", "run"]

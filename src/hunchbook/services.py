@@ -6,18 +6,18 @@ import os
 from dataclasses import dataclass
 from pathlib import Path
 
-from hunchbook import __version__
 import pandas as pd
 
+from hunchbook import __version__
 from hunchbook.api import EarlierTrials, SetResult, Study
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.prices import data_fingerprint
 from hunchbook.core.results import RunSummary
 from hunchbook.core.sweep import CancelCheck, Progress, SweepRunner, run_sweep
+from hunchbook.starter import STARTER_HINT, is_starter
 from hunchbook.store import pnl
 from hunchbook.store.records import TrialHistory
-from hunchbook.starter import STARTER_HINT, is_starter
 
 
 @dataclass(frozen=True)

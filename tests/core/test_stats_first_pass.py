@@ -11,7 +11,7 @@ import pytest
 from scipy import stats
 
 from hunchbook.core.errors import HunchbookError
-from hunchbook.core.stats import first_pass_statistics
+from hunchbook.core.stats import first_pass_statistics, judge_pick
 
 
 def _sweep(seed: int = 0, days: int = 1500, sets: int = 9) -> tuple[np.ndarray, np.ndarray]:
@@ -182,3 +182,17 @@ def test_bad_inputs_raise_clear_errors():
         first_pass_statistics(gross[:2], cost[:2])
     with pytest.raises(HunchbookError, match="contracts traded"):
         first_pass_statistics(gross, cost, contracts_traded=np.ones(3), spa_reps=0)
+
+
+def test_a_picked_set_is_deflated_with_the_whole_sweep():
+    # Bailey & Lopez de Prado (2014): the DSR of a set chosen out of N trials uses N (here the
+    # Li & Ji effective count) and the trials' Sharpe variance, whichever set was picked; the
+    # pick gives the same DSR as judging the sweep with that set chosen
+    gross, cost = _sweep()
+    sweep = first_pass_statistics(gross, cost, spa_reps=100)
+    for k in (sweep.chosen, (sweep.chosen + 3) % 9):
+        picked = judge_pick(gross[:, k], cost[:, k], sweep)
+        chosen = first_pass_statistics(gross, cost, chosen=k, spa_reps=100)
+        assert picked.dsr == chosen.dsr and picked.gross_dsr == chosen.gross_dsr
+        assert picked.dsr_trials == sweep.dsr_trials > 1 and picked.spa == sweep.spa
+        assert picked.dsr < picked.net.psr  # judged alone it would look better

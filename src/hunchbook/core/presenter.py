@@ -196,8 +196,10 @@ def _trials(s: FirstPassStats) -> str:
 
 
 def statistic_rows(statistics: FirstPassStats) -> list[FigureRow]:
-    """The first-pass statistics of the chosen set (PSR, DSR with its trials, SPA, ...)."""
-    return [f.row(statistics) for f in STATISTIC_FIGURES]
+    """The first-pass statistics of the chosen set (PSR, DSR with its trials, SPA, ...); a
+    figure that does not apply to the run (no walk-forward test for one set, say) is left out."""
+    rows = (f.row(statistics) for f in STATISTIC_FIGURES)
+    return [r for r in rows if r.gross is not None or r.net is not None]
 
 
 def market_table(run: RunSummary) -> Table:

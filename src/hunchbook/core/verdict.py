@@ -151,7 +151,7 @@ Outcome = tuple[Check, "str | None"]
 
 def _history(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
     ok = s.n_days >= t.min_days
-    finding = (f"{s.n_days:,} days of history" if ok else
+    finding = (f"{s.n_days:,} days of history." if ok else
                f"{s.n_days:,} days are too short a history to judge (at least "
                f"{t.min_days:,} days are needed).")
     return Check("history", "History", "pass" if ok else "fail", f"{s.n_days:,} days",
@@ -177,9 +177,13 @@ def _beats_luck(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
         return Check("beats_luck", "Beats luck", "skip", "n/a",
                      "No Sharpe ratio to compare with luck."), None
     ok = sr > sr0
-    finding = (f"Gross Sharpe ratio {sr:.2f} a year is {'above' if ok else 'not above'} "
-               f"{sr0:.2f}, the best that {trials} would reach by luck alone"
-               + ("." if ok else ": no edge beyond what the search itself produces."))
+    if s.dsr_trials == 1:
+        finding = (f"One trial: luck alone would give a Sharpe ratio of 0, and the gross Sharpe "
+                   f"ratio is {sr:.2f} a year.")
+    else:
+        finding = (f"Gross Sharpe ratio {sr:.2f} a year is {'above' if ok else 'not above'} "
+                   f"{sr0:.2f}, the best that {trials} would reach by luck alone"
+                   + ("." if ok else ": no edge beyond what the search itself produces."))
     return Check("beats_luck", "Beats luck", _status(ok), f"{sr:.2f} vs {sr0:.2f}",
                  finding), "no_edge"
 
@@ -257,9 +261,12 @@ def _spa(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
         return Check("spa", "SPA test", "skip", "not run", "The SPA test was not run."), None
     p = s.spa.consistent
     ok = p <= t.alpha
-    sets = _plural(s.spa_sets, "set")
-    finding = (f"SPA test p-value {p:.3f} is {'within' if ok else 'above'} {t.alpha:.3f}: the "
-               f"{sets} together {'beat' if ok else 'do not beat'} doing nothing.")
+    if s.spa_sets == 1:
+        whom = f"the set {'beats' if ok else 'does not beat'}"
+    else:
+        whom = f"the {s.spa_sets:,} sets together {'beat' if ok else 'do not beat'}"
+    finding = (f"SPA test p-value {p:.3f} is {'within' if ok else 'above'} {t.alpha:.3f}: "
+               f"{whom} doing nothing.")
     return Check("spa", "SPA test", _status(ok), f"p = {p:.3f}", finding), "selection_luck"
 
 

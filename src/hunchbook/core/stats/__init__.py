@@ -19,6 +19,7 @@ from hunchbook.core.stats.first_pass import (
     StabilityStats,
     WalkForwardStats,
     first_pass_statistics,
+    judge_pick,
     selection_tests,
 )
 from hunchbook.core.stats.overfitting import OverfitResult, backtest_overfitting
@@ -47,6 +48,7 @@ __all__ = [
     "FirstPassStats",
     "OverfitStats",
     "WalkForwardStats",
+    "judge_pick",
     "selection_tests",
     "OverfitResult",
     "SeriesStats",

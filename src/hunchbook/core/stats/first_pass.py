@@ -23,7 +23,7 @@ from hunchbook.core.stats.costs import (
     break_even_cost_per_contract,
     cost_sensitivity,
 )
-from hunchbook.core.stats.effective_trials import effective_trials
+from hunchbook.core.stats.effective_trials import effective_trials as estimate_effective_trials
 from hunchbook.core.stats.inputs import as_count, as_matrix, as_number
 from hunchbook.core.stats.overfitting import OverfitResult, backtest_overfitting
 from hunchbook.core.stats.psr import (
@@ -220,6 +220,7 @@ def first_pass_statistics(
     other_net: np.ndarray | None = None,
     n_trials: int | None = None,
     trial_sharpe_var: float | None = None,
+    effective_trials: float | None = None,
     other_trial_sharpes: Sequence[float] = (),
     selection_known: bool = True,
     walk_forward: WalkForwardResult | None = None,
@@ -253,6 +254,8 @@ def first_pass_statistics(
     trial_sharpe_var : variance of the trials' annualised Sharpe ratios; default the variance
         (ddof 1) of the K + J columns' annualised net Sharpe ratios and ``other_trial_sharpes``
         (0 for a single trial).
+    effective_trials : the effective number of the ``n_trials`` when it is already known (a set
+        picked out of a judged sweep); default: estimated from the columns.
     other_trial_sharpes : annualised net Sharpe ratios of trials that were not recomputed.
     selection_known : False when the number of trials behind the P&L is unknown.
     walk_forward, overfitting : the walk-forward test and the probability of backtest
@@ -293,9 +296,10 @@ def first_pass_statistics(
         trial_sharpe_var = float(np.var(finite, ddof=1)) if finite.size > 1 else 0.0
     else:
         trial_sharpe_var = as_number(trial_sharpe_var, "trial Sharpe variance")
-    effective = None
-    if trials_m.shape[1] > 1:
-        estimate = effective_trials(trials_m)
+    effective = None if effective_trials is None else min(
+        float(n_trials), as_number(effective_trials, "effective number of trials"))
+    if effective is None and trials_m.shape[1] > 1:
+        estimate = estimate_effective_trials(trials_m)
         effective = min(float(n_trials),
                         estimate.effective + max(n_trials - trials_m.shape[1], 0))
     if n_trials == 1:
@@ -347,6 +351,23 @@ def first_pass_statistics(
             changed_share=walk_forward.changed_share, oos_sharpe=walk_forward.oos_sharpe,
             oos_psr=walk_forward.oos_psr, in_sample_sharpe=walk_forward.in_sample_sharpe,
             chosen=walk_forward.chosen))
+
+
+def judge_pick(gross: np.ndarray, cost: np.ndarray, sweep: FirstPassStats) -> FirstPassStats:
+    """Statistics of one set picked out of a judged sweep (a click on its heatmap, say).
+
+    The set's own daily gross P&L and cost are deflated with the sweep's trials: their count,
+    effective number and Sharpe variance, never as one trial. The tests of the sweep as a whole
+    (SPA, walk-forward, PBO) are the sweep's; the grid-stability check is the chosen set's
+    and is left out.
+    """
+    own = first_pass_statistics(gross, cost, n_trials=sweep.n_trials,
+                                effective_trials=sweep.effective_trials,
+                                trial_sharpe_var=sweep.trial_sharpe_var, spa_reps=0,
+                                periods=sweep.periods)
+    return dataclasses.replace(own, spa=sweep.spa, spa_set_count=sweep.spa_sets,
+                               overfitting=sweep.overfitting, walk_forward=sweep.walk_forward,
+                               selection_known=sweep.selection_known)
 
 
 def selection_tests(net: np.ndarray, *, periods: int = DAYS_PER_YEAR
