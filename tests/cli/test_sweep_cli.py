@@ -12,6 +12,7 @@ import pytest
 
 from hunchbook.cli import main
 from hunchbook.core.stats import first_pass_statistics
+from hunchbook.core.verdict import LABELS
 from hunchbook.demo import write_demo_data
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
@@ -30,12 +31,13 @@ def test_every_example_gives_sweep_statistics_and_verdict(example, demo_dir, tmp
     assert main(["run", str(EXAMPLES / example), "--data", str(demo_dir), "--json",
                  str(out), "--workers", "1"]) == 0
     printed = capsys.readouterr().out
-    assert "Verdict:" in printed and "Deflated Sharpe (" in printed
+    assert "Verdict:" in printed and "Deflated Sharpe" in printed and "Checks" in printed
     payload = json.loads(out.read_text())
     assert len(payload["sets"]) >= 1
     assert payload["statistics"]["n_trials"] == len(payload["sets"])
-    assert payload["verdict"]["outcome"] in {"no_edge", "too_little_data", "lost_to_costs",
-                                             "selection_luck", "passes"}
+    assert payload["verdict"]["outcome"] in LABELS
+    assert [c["key"] for c in payload["verdict"]["checks"]][:3] == [
+        "history", "gross_edge", "beats_luck"]
     assert payload["verdict"]["reasons"]
     chosen = payload["chosen"]
     best = max(payload["sets"], key=lambda s: s["net_sharpe"] or -1e9)
@@ -53,7 +55,7 @@ def test_stats_on_a_run_pnl_file(demo_dir, tmp_path, capsys):
     assert main(["stats", str(pnl), "--trials", "40", "--trial-sharpe-var", "0.1",
                  "--json", str(out)]) == 0
     printed = capsys.readouterr().out
-    assert "Deflated Sharpe (40 trials)" in printed
+    assert "Deflated Sharpe" in printed and "Trials counted" in printed
     payload = json.loads(out.read_text())
     # the same numbers as the statistics functions on the markets' rows summed by date
     table = pd.read_csv(pnl)

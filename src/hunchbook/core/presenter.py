@@ -41,13 +41,15 @@ class FigureRow:
 @dataclass(frozen=True)
 class Figure(Generic[T]):
     """How one figure is read from a record: label (text, or made from the record), kind,
-    gross and net readers (None: no such column) and a note."""
+    gross and net readers (None: no such column), a note, and whether it applies to a record
+    (a figure that does not is left out, rather than shown as missing)."""
 
     label: str | Callable[[T], str]
     kind: str
     gross: Callable[[T], Any] | None
     net: Callable[[T], Any] | None
     note: str = ""
+    applies: Callable[[T], bool] = lambda record: True
 
     def row(self, record: T) -> FigureRow:
         """The figure's row for one record."""
@@ -122,9 +124,14 @@ STATISTIC_FIGURES: list[Figure[FirstPassStats]] = [
     Figure("Min. track record (years)", "years", lambda s: s.gross.min_trl_years,
            lambda s: s.net.min_trl_years,
            "Years needed for 95 % confidence that the Sharpe ratio is above zero."),
-    Figure(lambda s: f"Deflated Sharpe ({_trials(s)})", "pct", lambda s: s.gross_dsr,
-           lambda s: s.dsr, "Probabilistic Sharpe against the best Sharpe ratio that all the "
-           "trials ever run would reach by luck; correlated trials count as fewer."),
+    Figure("Trials counted", "count", None, lambda s: s.n_trials,
+           "Every parameter set ever run for the idea (or behind this P&L)."),
+    Figure("Effective trials", "count", None, lambda s: s.dsr_trials,
+           "The trials counted as independent ones: correlated sets count as fewer "
+           "(Li & Ji 2005)."),
+    Figure("Deflated Sharpe", "pct", lambda s: s.gross_dsr, lambda s: s.dsr,
+           "Probabilistic Sharpe against the best Sharpe ratio that the effective trials would "
+           "reach by luck."),
     Figure("Best Sharpe by luck", "ratio", None, lambda s: s.expected_max_sharpe,
            "The Sharpe ratio the best of the trials would reach with no edge at all (SR0 of "
            "the deflated Sharpe)."),
@@ -134,18 +141,22 @@ STATISTIC_FIGURES: list[Figure[FirstPassStats]] = [
     Figure("Walk-forward Sharpe (out of sample)", "ratio", None,
            lambda s: None if s.walk_forward is None else s.walk_forward.oos_sharpe,
            "Net Sharpe ratio of choosing the best set on past years only and trading it the "
-           "next year, spliced over the history."),
+           "next year, spliced over the history.",
+           applies=lambda s: s.walk_forward is not None),
     Figure("Walk-forward PSR (out of sample)", "pct", None,
            lambda s: None if s.walk_forward is None else s.walk_forward.oos_psr,
-           "Probability that the walk-forward Sharpe ratio is truly above zero."),
+           "Probability that the walk-forward Sharpe ratio is truly above zero.",
+           applies=lambda s: s.walk_forward is not None),
     Figure("Walk-forward set changes", "pct", None,
            lambda s: None if s.walk_forward is None else s.walk_forward.changed_share,
            "Share of the yearly re-selections that picked a different set than the year "
-           "before."),
+           "before.",
+           applies=lambda s: s.walk_forward is not None),
     Figure("Prob. of backtest overfitting", "pct", None,
            lambda s: None if s.overfitting is None else s.overfitting.pbo,
            "How often the best set on half the history ranks in the bottom half on the other "
-           "half (CSCV; 50 % is pure luck, near 0 % a robust choice)."),
+           "half (CSCV; 50 % is pure luck, near 0 % a robust choice).",
+           applies=lambda s: s.overfitting is not None),
     Figure("Break-even cost multiple", "multiple", None, lambda s: s.costs.break_even_multiple,
            "How many times the assumed costs the gross P&L would bear."),
     Figure("Days in the statistics", "count", None, lambda s: s.n_days,
@@ -188,18 +199,10 @@ def performance_rows(performance: Performance) -> list[FigureRow]:
     return [f.row(performance) for f in PERFORMANCE_FIGURES]
 
 
-def _trials(s: FirstPassStats) -> str:
-    """The trials a deflated Sharpe ratio counts: effective and raw."""
-    if s.dsr_trials < s.n_trials:
-        return f"{s.dsr_trials:,} effective of {s.n_trials:,} trials"
-    return _plural(s.n_trials, "trial")
-
-
 def statistic_rows(statistics: FirstPassStats) -> list[FigureRow]:
     """The first-pass statistics of the chosen set (PSR, DSR with its trials, SPA, ...); a
     figure that does not apply to the run (no walk-forward test for one set, say) is left out."""
-    rows = (f.row(statistics) for f in STATISTIC_FIGURES)
-    return [r for r in rows if r.gross is not None or r.net is not None]
+    return [f.row(statistics) for f in STATISTIC_FIGURES if f.applies(statistics)]
 
 
 def market_table(run: RunSummary) -> Table:

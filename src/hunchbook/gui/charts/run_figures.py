@@ -11,7 +11,7 @@ import pandas as pd
 from hunchbook.core.presenter import FigureRow, format_params, format_value, number
 from hunchbook.core.presenter import performance_rows as _performance_rows
 from hunchbook.core.presenter import statistic_rows as _statistic_rows
-from hunchbook.core.verdict import ACTIONS, LABELS
+from hunchbook.core.verdict import ACTIONS, LABELS, Check
 from hunchbook.store.records import RunRecord
 
 
@@ -23,6 +23,7 @@ class VerdictText:
     label: str
     action: str
     reasons: tuple[str, ...]
+    checks: tuple[Check, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -48,7 +49,8 @@ def verdict_text(run: RunRecord) -> VerdictText:
         return VerdictText(outcome=outcome, label=LABELS.get(outcome, outcome),
                            action=ACTIONS.get(outcome, ""), reasons=(EARLIER_SHAPE,))
     v = run.result.verdict
-    return VerdictText(outcome=v.outcome, label=v.label, action=v.action, reasons=v.reasons)
+    return VerdictText(outcome=v.outcome, label=v.label, action=v.action, reasons=v.reasons,
+                       checks=v.checks)
 
 
 def epoch_seconds(index: pd.Index) -> np.ndarray:

@@ -4,8 +4,9 @@ from __future__ import annotations
 
 from PySide6.QtCore import QEvent, QRectF, Qt
 from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPaintEvent, QPalette
-from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QVBoxLayout, QWidget
+from PySide6.QtWidgets import QFrame, QGridLayout, QHBoxLayout, QLabel, QVBoxLayout, QWidget
 
+from hunchbook.core.verdict import Check
 from hunchbook.gui.charts.run_figures import VerdictText
 
 #: Hue of each verdict outcome; unknown outcomes are grey.
@@ -17,6 +18,11 @@ OUTCOME_HUES = {
     "no_edge": QColor(192, 52, 52),
 }
 NEUTRAL_HUE = QColor(128, 128, 128)
+#: Mark and hue of each check status (the first failing check decides the outcome).
+STATUS_MARKS = {"pass": ("\u2713", QColor(38, 140, 74)), "fail": ("\u2717", QColor(192, 52, 52)),
+                "warn": ("!", QColor(196, 142, 0)), "skip": ("\u2013", NEUTRAL_HUE)}
+#: Checks shown side by side in the banner.
+CHECK_COLUMNS = 3
 #: Width of the coloured stripe and corner radius, in pixels.
 STRIPE = 6
 RADIUS = 4
@@ -67,6 +73,7 @@ class VerdictBanner(QFrame):
         action_font.setBold(True)
         self.action.setFont(action_font)
         self.reasons = _plain_label()
+        self.checks = ChecksGrid()
         self.subtitle = _plain_label()
         small = QFont(self.subtitle.font())
         small.setPointSizeF(small.pointSizeF() * 0.9)
@@ -82,6 +89,7 @@ class VerdictBanner(QFrame):
         layout.addWidget(self.subtitle)
         layout.addLayout(top)
         layout.addWidget(self.reasons)
+        layout.addWidget(self.checks)
         self.clear()
 
     def set_verdict(self, verdict: VerdictText, *, subtitle: str = "") -> None:
@@ -91,6 +99,7 @@ class VerdictBanner(QFrame):
         self.action.setText(verdict.action)
         self.reasons.setText("\n".join(f"•  {r}" for r in verdict.reasons))
         self.reasons.setVisible(bool(verdict.reasons))
+        self.checks.set_checks(verdict.checks)
         self.subtitle.setText(subtitle)
         self.subtitle.setVisible(bool(subtitle))
         self._recolour()
@@ -126,8 +135,59 @@ class VerdictBanner(QFrame):
         _set_text_colour(self.label, label)
         _set_text_colour(self.action, text)
         _set_text_colour(self.reasons, text)
+        self.checks.recolour(text, dark=self.palette().color(
+            QPalette.ColorGroup.Active, QPalette.ColorRole.Window).lightnessF() < 0.5)
         _set_text_colour(self.subtitle, mix_colours(background, text, 0.7))
         self.update()
+
+
+class ChecksGrid(QWidget):
+    """Every check of the verdict in order, side by side: a pass/fail mark, the check's name
+    and its figure; hovering shows the check's finding in a sentence."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.grid = QGridLayout(self)
+        self.grid.setContentsMargins(0, 4, 0, 0)
+        self.grid.setHorizontalSpacing(6)
+        self.grid.setVerticalSpacing(1)
+        self.rows: list[tuple[Check, QLabel, QLabel, QLabel]] = []
+
+    def set_checks(self, checks: tuple[Check, ...]) -> None:
+        """Show these checks (none hides the grid)."""
+        while self.grid.count():
+            item = self.grid.takeAt(0)
+            if item.widget() is not None:
+                item.widget().deleteLater()
+        self.rows = []
+        per_column = -(-len(checks) // CHECK_COLUMNS) if checks else 0
+        for i, check in enumerate(checks):
+            row, column = (i % per_column, 3 * (i // per_column)) if per_column else (0, 0)
+            mark = QLabel(STATUS_MARKS.get(check.status, STATUS_MARKS["skip"])[0])
+            name = _plain_label(check.name, wrap=False)
+            figure = _plain_label(check.figure, wrap=False)
+            for widget in (mark, name, figure):
+                widget.setToolTip(check.finding)
+            mark.setAccessibleName(f"{check.name}: {check.status}")
+            self.grid.addWidget(mark, row, column)
+            self.grid.addWidget(name, row, column + 1)
+            self.grid.addWidget(figure, row, column + 2)
+            self.rows.append((check, mark, name, figure))
+        for column in range(3 * CHECK_COLUMNS):
+            self.grid.setColumnStretch(column, 1 if column % 3 == 2 else 0)
+        self.setVisible(bool(checks))
+
+    def recolour(self, text: QColor, *, dark: bool) -> None:
+        """Colour the marks by status, readable on a light or dark background, and the names
+        and figures in the banner's text colour."""
+        for check, mark, name, figure in self.rows:
+            _set_text_colour(name, text)
+            _set_text_colour(figure, text)
+            hue = STATUS_MARKS.get(check.status, STATUS_MARKS["skip"])[1]
+            _set_text_colour(mark, hue.lighter(150) if dark else hue)
+            font = QFont(mark.font())
+            font.setBold(True)
+            mark.setFont(font)
 
 
 def _set_text_colour(label: QLabel, colour: QColor) -> None:
