@@ -12,7 +12,8 @@ from hunchbook import __version__
 from hunchbook.api import EarlierTrials, SetResult, Study
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError, RuleError
-from hunchbook.core.prices import data_fingerprint
+from hunchbook.core.prices import MarketData, data_fingerprint
+from hunchbook.core.rules import parse_rules
 from hunchbook.core.results import RunSummary
 from hunchbook.core.sweep import CancelCheck, Progress, SweepRunner, run_sweep
 from hunchbook.starter import STARTER_HINT, is_starter
@@ -40,19 +41,27 @@ def daily_pnl(chosen: SetResult, walk_forward: pd.Series | None) -> pd.DataFrame
 
 
 def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLike[str], *,
+                             loaded: MarketData | None = None,
                              runner: SweepRunner | None = None,
                              cancel: CancelCheck | None = None) -> EarlierTrials:
     """The idea's earlier trials recomputed on the current data, so that the SPA test, the
     effective number of trials and the trials' Sharpe variance cover every set ever run.
 
-    A strategy whose rule text no longer runs on this data (a market left the folder, say)
-    keeps its stored net Sharpe ratios: its trials still count, one each.
+    ``loaded`` is the data already read for the new run: rule texts on the same markets reuse
+    it instead of reading the folder again. A strategy whose rule text no longer runs on this
+    data (a market left the folder, say) keeps its stored net Sharpe ratios: its trials still
+    count, one each.
     """
     frames: list[pd.DataFrame] = []
     sharpes: list[float] = []
     for strategy in history.earlier:
         try:
-            study = Study.from_text(strategy.rule_text, data_folder)
+            rules = parse_rules(strategy.rule_text)
+            if loaded is not None and all(m in loaded.bars for m in (*rules.markets,
+                                                                      *rules.reads)):
+                study = Study(rules, loaded)
+            else:
+                study = Study.from_text(strategy.rule_text, data_folder)
         except HunchbookError:
             sharpes += [v for v in strategy.net_sharpes if v is not None]
             continue
@@ -81,7 +90,8 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
         raise RuleError(STARTER_HINT, file=rule_file)
     study = Study.from_text(rule_text, data_folder, file=rule_file)
     history = catalogue.prospective_trials(idea_id, rule_text, study.parameter_sets())
-    earlier = recompute_earlier_trials(history, data_folder, runner=runner, cancel=cancel)
+    earlier = recompute_earlier_trials(history, data_folder, loaded=study.data, runner=runner,
+                                       cancel=cancel)
     report = study.sweep(runner=runner, progress=progress, cancel=cancel, earlier=earlier,
                          spa_reps=spa_reps)
     chosen = study.run_set(report.sets[report.chosen])
