@@ -13,8 +13,8 @@ from hunchbook.api import EarlierTrials, SetResult, Study
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.prices import MarketData, data_fingerprint
-from hunchbook.core.rules import parse_rules
 from hunchbook.core.results import RunSummary
+from hunchbook.core.rules import parse_rules
 from hunchbook.core.sweep import CancelCheck, Progress, SweepRunner, run_sweep
 from hunchbook.starter import STARTER_HINT, is_starter
 from hunchbook.store import pnl
