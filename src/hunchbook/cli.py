@@ -223,6 +223,9 @@ def _print_and_write(args: argparse.Namespace, run: RunSummary, chosen: SetResul
     from hunchbook.report import format_judgement, format_single, format_sweep
 
     print(format_single(run) if len(run.sets) == 1 else format_sweep(run))
+    if len(run.sets) > 1 and getattr(args, "params", None):  # the picked set in full
+        print()
+        print(format_single(run))
     print()
     print(format_judgement(run))
     print(CAUTION)

@@ -11,7 +11,7 @@ import pytest
 #: Short demo data window: quick runs stay fast.
 SHORT_START, SHORT_END = "2015-01-02", "2018-12-31"
 #: The demo desk's accepted idea that has rules and no run yet.
-ACCEPTED_TITLE = "Ten-year note trend with a volatility filter"
+ACCEPTED_TITLE = "Crude roll-yield tilt"
 #: A submitted idea waiting for review.
 SUBMITTED_TITLE = "Copper carry from the curve slope"
 #: A tested idea with two runs.

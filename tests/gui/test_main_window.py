@@ -486,7 +486,8 @@ def test_pnl_csv_and_report_exports(qtbot, window, tmp_path):
     run = window.runs.current_run()
     assert window.exports.export_pnl_csv(tmp_path / "pnl.csv")
     back = pd.read_csv(tmp_path / "pnl.csv", index_col="date", parse_dates=True)
-    assert list(back.columns) == ["gross_pnl", "cost", "net_pnl"]
+    # the chosen set's P&L, and the walk-forward test's out-of-sample net P&L beside it
+    assert list(back.columns) == ["gross_pnl", "cost", "net_pnl", "walk_forward_net"]
     assert len(back) == len(run.daily_pnl)
     assert back["net_pnl"].sum() == pytest.approx(run.daily_pnl["net_pnl"].sum())
     assert window.exports.export_report(tmp_path / "report.html")

@@ -307,10 +307,10 @@ class _Builder:
             yield f"{day}T14"
             self.rules(i, by, text)
             self.note(i, by, "Rule file saved with the submission; grid kept small.")
-            if markets == ["COPPER"]:
-                copper = i
+            if markets == ["CRUDE"]:
+                crude = i
         yield "2025-04-04T16"
-        self.review(copper, "accept", "Accepted. Run it once the curve columns of the COPPER "
+        self.review(crude, "accept", "Accepted. Run it once the curve columns of the CRUDE "
                     "file are checked.")
         yield "2025-04-07T09"
         i = self.idea(title="Soybean crush-season seasonality",

@@ -355,22 +355,22 @@ def _pnl_csv(text: str, name: str) -> pd.DataFrame:
         rows = list(csv.reader(io.StringIO(text)))
     except csv.Error as exc:
         raise CatalogueError(f"not valid CSV ({exc})", field=name) from None
-    header = ["date", *pnl.PNL_COLUMNS]
-    if not rows or rows[0] != header:
-        raise CatalogueError(f"the first line must be {','.join(header)}", field=name)
+    headers = (["date", *pnl.PNL_COLUMNS], ["date", *pnl.PNL_COLUMNS, pnl.WALK_FORWARD])
+    if not rows or rows[0] not in headers:
+        raise CatalogueError(f"the first line must be {','.join(headers[0])} (and "
+                             f"{pnl.WALK_FORWARD} after a walk-forward test)", field=name)
+    columns = rows[0][1:]
+    expected = f"expected date (YYYY-MM-DD) and {len(columns)} numbers"
     dates, values = [], []
     for line, row in enumerate(rows[1:], start=2):
-        if len(row) != 4 or not re.match(r"^\d{4}-\d{2}-\d{2}$", row[0]):
-            raise CatalogueError("expected date (YYYY-MM-DD) and three numbers",
-                                 field=f"{name} line {line}")
+        if len(row) != len(rows[0]) or not re.match(r"^\d{4}-\d{2}-\d{2}$", row[0]):
+            raise CatalogueError(expected, field=f"{name} line {line}")
         try:
             values.append([float(v) for v in row[1:]])
             dates.append(pd.Timestamp(row[0]))
         except ValueError:
-            raise CatalogueError("expected date (YYYY-MM-DD) and three numbers",
-                                 field=f"{name} line {line}") from None
-    return pd.DataFrame(values, index=pd.DatetimeIndex(dates), columns=list(pnl.PNL_COLUMNS),
-                        dtype=float)
+            raise CatalogueError(expected, field=f"{name} line {line}") from None
+    return pd.DataFrame(values, index=pd.DatetimeIndex(dates), columns=columns, dtype=float)
 
 
 def _member_ref(t: _Table, key: str, members: dict[str, str], used: set[str],

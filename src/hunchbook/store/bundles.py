@@ -129,7 +129,7 @@ def _toml(value: Any) -> Any:
 def _pnl_text(frame: Any) -> str:
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow(["date", *pnl.PNL_COLUMNS])
+    writer.writerow(["date", *frame.columns])
     for date, row in zip(frame.index.strftime("%Y-%m-%d"), frame.itertuples(index=False),
                          strict=True):
         writer.writerow([date, *(repr(float(v)) for v in row)])
