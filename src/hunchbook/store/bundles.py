@@ -24,7 +24,6 @@ from hunchbook.store import (
     chain,
     ideas,
     journal,
-    pnl,
     preregistration,
     reviews,
     revisions,
