@@ -211,7 +211,7 @@ HOSTILE = {
     "broken toml": (lambda m: m | {"bundle.toml": m["bundle.toml"][:-40]}, "not valid TOML"),
     "bad run json": (_run_json_edit, "expected exactly the keys"),
     "bad pnl csv": (_pnl_edit, "line 6"),
-    "results of another schema": (_results_edit(b'"schema": 1', b'"schema": 7'), "schema 1"),
+    "results of another schema": (_results_edit(b'"schema": 2', b'"schema": 7'), "schema 2"),
     "results field of the wrong kind": (_results_edit(b'"currency": "USD"', b'"currency": 5'),
                                         "field 'currency': expected text"),
     "wrong format version": (_manifest_edit("format_version = 2", "format_version = 9"),

@@ -81,8 +81,13 @@ class Verdict:
     numbers: dict[str, float | int | bool | None]
 
 
-def decide(stats: FirstPassStats, thresholds: VerdictThresholds = VerdictThresholds()) -> Verdict:
-    """Decide what a sweep's first-pass statistics say about the idea (checks in module order)."""
+def decide(stats: FirstPassStats, thresholds: VerdictThresholds = VerdictThresholds(), *,
+           holdout_seen: str | None = None) -> Verdict:
+    """Decide what a sweep's first-pass statistics say about the idea (checks in module order).
+
+    ``holdout_seen``: the warning that the idea's held-out years were already unlocked
+    (:func:`hunchbook.core.holdout.holdout_seen_note`), appended as the last reason.
+    """
     t = thresholds
     gross, net = stats.gross, stats.net
     reasons: list[str] = []
@@ -143,6 +148,8 @@ def decide(stats: FirstPassStats, thresholds: VerdictThresholds = VerdictThresho
         reasons.append(f"Warning: the chosen set is an isolated spike on the grid (net Sharpe "
                        f"{s.value:.2f} a year, its {s.n_neighbours} neighbours average "
                        f"{s.neighbour_mean:.2f}).")
+    if holdout_seen:
+        reasons.append(holdout_seen)
     return Verdict(outcome=outcome, label=LABELS[outcome], action=ACTIONS[outcome],
                    reasons=tuple(reasons), numbers=_numbers(stats))
 
