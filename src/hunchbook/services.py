@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import datetime as dt
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 from hunchbook import __version__
@@ -13,8 +13,9 @@ from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import RuleError
 from hunchbook.core.history import HOLDOUT_SHARE, common_history, default_boundary
 from hunchbook.core.holdout import held_out, holdout_figures, holdout_seen_note
-from hunchbook.core.prices import data_fingerprint
+from hunchbook.core.prices import data_fingerprint, held_out_dates, load_data
 from hunchbook.core.results import RunSummary
+from hunchbook.core.rules import parse_rules
 from hunchbook.core.sweep import CancelCheck, Progress, SweepCancelled, SweepRunner
 from hunchbook.starter import STARTER_HINT, is_starter
 from hunchbook.store.errors import CatalogueError
@@ -38,7 +39,9 @@ class IdeaRun:
 @dataclass(frozen=True)
 class HoldoutPlan:
     """What unlocking an idea's holdout will run: the in-sample run it continues, its rule
-    revision and chosen set, and the held-out dates (from ``boundary`` on)."""
+    revision and chosen set, and the held-out dates (from ``boundary`` on; ``held_out_days``
+    of them, ``first_held`` to ``last_held``, in the data folder's files of the rules'
+    markets; ``None`` when no data folder was looked at)."""
 
     idea_id: int
     run_id: int
@@ -46,6 +49,9 @@ class HoldoutPlan:
     revision_number: int
     chosen_params: dict[str, float]
     boundary: dt.date
+    held_out_days: int | None = None
+    first_held: dt.date | None = None
+    last_held: dt.date | None = None
 
 
 def default_holdout_reason(folder: str | os.PathLike[str]) -> tuple[dt.date, str]:
@@ -112,14 +118,17 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
                    held_out_days=study.data.held_out_days)
 
 
-def holdout_plan(catalogue: Catalogue, idea_id: int) -> HoldoutPlan:
-    """What :func:`unlock_holdout` would run for the idea, for a person to confirm.
+def holdout_plan(catalogue: Catalogue, idea_id: int,
+                 data_folder: str | os.PathLike[str] | None = None) -> HoldoutPlan:
+    """What :func:`unlock_holdout` would run for the idea, for a person to confirm; with a
+    data folder, which held-out dates it holds (their dates are read, not their prices' use).
 
     Raises
     ------
-    CatalogueError
+    HunchbookError
         When the holdout cannot be unlocked (already seen, with who and when; no run; a run
-        that saw past the boundary): :meth:`Catalogue.unlock_problem` says why.
+        that saw past the boundary: :meth:`Catalogue.unlock_problem` says why), or the data
+        folder cannot be read.
     """
     problem = catalogue.unlock_problem(idea_id)
     if problem is not None:
@@ -127,9 +136,16 @@ def holdout_plan(catalogue: Catalogue, idea_id: int) -> HoldoutPlan:
     run = catalogue.runs(idea_id)[-1]
     setting = catalogue.holdout_boundary()
     assert setting is not None
-    return HoldoutPlan(idea_id=idea_id, run_id=run.id, revision_id=run.revision_id,
+    plan = HoldoutPlan(idea_id=idea_id, run_id=run.id, revision_id=run.revision_id,
                        revision_number=run.revision_number,
                        chosen_params=dict(run.chosen_params), boundary=setting.boundary)
+    if data_folder is None:
+        return plan
+    rules = parse_rules(catalogue.revision(run.revision_id).text)
+    dates = held_out_dates(load_data(data_folder, [*rules.markets, *rules.reads]),
+                           setting.boundary)
+    return replace(plan, held_out_days=len(dates), first_held=dates[0] if dates else None,
+                   last_held=dates[-1] if dates else None)
 
 
 def unlock_holdout(catalogue: Catalogue, idea_id: int, data_folder: str | os.PathLike[str], *,

@@ -122,12 +122,18 @@ def load_data(folder: str | os.PathLike[str], markets: Iterable[str] | None = No
         bars[market] = read_market_csv(path, market)
     if before is None:
         return MarketData(folder=str(root), library=library, bars=bars)
-    cut = np.datetime64(before, "ns")
-    later = [b.frame.loc[b.frame["date"] >= cut, "date"] for b in bars.values()]
-    held_out = len(pd.unique(pd.concat(later).to_numpy())) if later else 0
+    whole = MarketData(folder=str(root), library=library, bars=bars)
     return MarketData(folder=str(root), library=library,
                       bars={m: cut_bars(b, before) for m, b in bars.items()}, before=before,
-                      held_out_days=held_out)
+                      held_out_days=len(held_out_dates(whole, before)))
+
+
+def held_out_dates(data: MarketData, before: dt.date) -> list[dt.date]:
+    """The distinct dates on or after ``before`` on which any market read has a row."""
+    cut = np.datetime64(before, "ns")
+    dates = [b.frame.loc[b.frame["date"] >= cut, "date"].to_numpy() for b in data.bars.values()]
+    found = np.unique(np.concatenate(dates)) if dates else np.array([], "datetime64[ns]")
+    return [dt.date.fromisoformat(str(d)[:10]) for d in found.astype("datetime64[D]")]
 
 
 def cut_bars(bars: MarketBars, before: dt.date) -> MarketBars:
