@@ -102,13 +102,8 @@ def format_statistics(stats: FirstPassStats, verdict: Verdict, chosen: str | Non
 
 def format_holdout_plan(plan: HoldoutPlan, *, by: str) -> str:
     """What unlocking an idea's holdout will run, for the person to confirm."""
-    if plan.held_out_days is None:
-        dates = f"the dates from {plan.boundary} on"
-    elif plan.held_out_days:
-        dates = (f"{plan.held_out_days:,} held-out days, {plan.first_held} to "
-                 f"{plan.last_held}")
-    else:
-        dates = f"no held-out days: the data folder ends before {plan.boundary}"
+    dates = (f"the dates from {plan.boundary} on" if plan.held_out_days is None else
+             f"{plan.held_out_days:,} held-out days, {plan.first_held} to {plan.last_held}")
     return "\n".join([
         f"Unlock the held-out years of idea {plan.idea_id}, once, as {by}:",
         f"  rules      : revision {plan.revision_number} (of run {plan.run_id})",

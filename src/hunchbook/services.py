@@ -10,7 +10,7 @@ from pathlib import Path
 from hunchbook import __version__
 from hunchbook.api import SetResult, Study
 from hunchbook.catalogue import Catalogue
-from hunchbook.core.errors import RuleError
+from hunchbook.core.errors import DataError, RuleError
 from hunchbook.core.history import HOLDOUT_SHARE, common_history, default_boundary
 from hunchbook.core.holdout import held_out, holdout_figures, holdout_seen_note
 from hunchbook.core.prices import data_fingerprint, held_out_dates, load_data
@@ -128,7 +128,7 @@ def holdout_plan(catalogue: Catalogue, idea_id: int,
     HunchbookError
         When the holdout cannot be unlocked (already seen, with who and when; no run; a run
         that saw past the boundary: :meth:`Catalogue.unlock_problem` says why), or the data
-        folder cannot be read.
+        folder cannot be read or holds no date on or after the boundary.
     """
     problem = catalogue.unlock_problem(idea_id)
     if problem is not None:
@@ -144,8 +144,10 @@ def holdout_plan(catalogue: Catalogue, idea_id: int,
     rules = parse_rules(catalogue.revision(run.revision_id).text)
     dates = held_out_dates(load_data(data_folder, [*rules.markets, *rules.reads]),
                            setting.boundary)
-    return replace(plan, held_out_days=len(dates), first_held=dates[0] if dates else None,
-                   last_held=dates[-1] if dates else None)
+    if not dates:
+        raise DataError(f"no date on or after the holdout boundary {setting.boundary}: "
+                        "nothing is held out in this data folder yet", file=str(data_folder))
+    return replace(plan, held_out_days=len(dates), first_held=dates[0], last_held=dates[-1])
 
 
 def unlock_holdout(catalogue: Catalogue, idea_id: int, data_folder: str | os.PathLike[str], *,

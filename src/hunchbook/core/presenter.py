@@ -142,23 +142,23 @@ HOLDOUT_HEADERS = ("In-sample", "Held out")
 
 #: The chosen set on the held-out dates beside its in-sample record (see HOLDOUT_HEADERS).
 HOLDOUT_FIGURES: list[Figure[HoldoutFigures]] = [
-    Figure("Net Sharpe ratio", "ratio", lambda f: f.in_sample_net_sharpe,
-           lambda f: f.net_sharpe, "Annualised net Sharpe ratio; in-sample on the days all "
-           "sets share, as the statistics measure it."),
-    Figure("Gross Sharpe ratio", "ratio", None, lambda f: f.gross_sharpe,
-           "Annualised Sharpe ratio before costs on the held-out dates."),
-    Figure("Days", "count", lambda f: f.in_sample_days, lambda f: f.days,
-           "Trading days measured."),
-    Figure("Net P&L", "money", None, lambda f: f.net_total,
-           "Sum of daily net P&L on the held-out dates."),
-    Figure("Net max drawdown", "money", None, lambda f: f.net_max_drawdown,
-           "Largest fall of cumulative net P&L from a running peak on the held-out dates."),
-    Figure("Probabilistic Sharpe (vs 0)", "pct", None, lambda f: f.psr,
-           "Probability that the true held-out Sharpe ratio is above zero (Bailey & López "
-           "de Prado 2012)."),
-    Figure("Consistency p-value", "pvalue", None, lambda f: f.p_value,
+    Figure("Net Sharpe", "ratio", lambda f: f.in_sample_net_sharpe, lambda f: f.net_sharpe,
+           "Annualised net Sharpe ratio; in-sample on the days all sets share, as the "
+           "statistics measure it."),
+    Figure("PSR (vs 0)", "pct", None, lambda f: f.psr,
+           "Probabilistic Sharpe ratio: the probability that the true held-out Sharpe ratio "
+           "is above zero (Bailey & López de Prado 2012)."),
+    Figure("Consistency p", "pvalue", None, lambda f: f.p_value,
            "Chance of a held-out Sharpe ratio this far below the in-sample one if the "
            "in-sample one were true (one-sided; Lo 2002 standard error)."),
+    Figure("Days", "count", lambda f: f.in_sample_days, lambda f: f.days,
+           "Trading days measured."),
+    Figure("Gross Sharpe", "ratio", None, lambda f: f.gross_sharpe,
+           "Annualised Sharpe ratio before costs on the held-out dates."),
+    Figure("Net P&L", "money", None, lambda f: f.net_total,
+           "Sum of daily net P&L on the held-out dates."),
+    Figure("Net drawdown", "money", None, lambda f: f.net_max_drawdown,
+           "Largest fall of cumulative net P&L from a running peak on the held-out dates."),
 ]
 
 #: One row per market of the chosen set.
