@@ -62,10 +62,11 @@ def _boundary(row: dict[str, Any]) -> HoldoutBoundary:
 def insert_view(db: Database, *, idea_id: int, revision_id: int, run_id: int,
                 chosen_params: dict[str, float], boundary: dt.date, data_fingerprint: str,
                 engine_version: str, figures: HoldoutFigures, daily_pnl: Any, by: str,
-                at: str) -> int:
-    """Write an idea's unlocking (checked by the caller: one per idea) and return its id."""
+                at: str, view_uuid: str | None = None) -> int:
+    """Write an idea's unlocking (checked by the caller: one per idea) and return its id;
+    ``view_uuid`` keeps the identity of one read from a bundle."""
     return chain.append(db, "holdout_views", {
-        "uuid": str(uuidlib.uuid4()), "idea_id": idea_id, "revision_id": revision_id,
+        "uuid": view_uuid or str(uuidlib.uuid4()), "idea_id": idea_id, "revision_id": revision_id,
         "run_id": run_id, "chosen_params": json.dumps(validate.param_set(chosen_params,
                                                                          "chosen_params")),
         "boundary": boundary.isoformat(),

@@ -169,7 +169,8 @@ class ImportReport:
     """What importing a bundle did.
 
     ``added`` and ``already_present`` count records by kind (``revisions``,
-    ``preregistrations``, ``journal``, ``reviews``, ``runs``); ``conflicts`` lists every
+    ``preregistrations``, ``journal``, ``reviews``, ``runs``, ``holdout``: the idea's
+    unlocking of its held-out years); ``conflicts`` lists every
     difference between the bundle and the catalogue that was kept as the catalogue had it.
     """
 
