@@ -121,7 +121,8 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
 def holdout_plan(catalogue: Catalogue, idea_id: int,
                  data_folder: str | os.PathLike[str] | None = None) -> HoldoutPlan:
     """What :func:`unlock_holdout` would run for the idea, for a person to confirm; with a
-    data folder, which held-out dates it holds (their dates are read, not their prices' use).
+    data folder, also the held-out dates it holds for the run's markets (only dates are
+    taken from those rows).
 
     Raises
     ------
@@ -173,12 +174,12 @@ def unlock_holdout(catalogue: Catalogue, idea_id: int, data_folder: str | os.Pat
     text = catalogue.revision(plan.revision_id).text
     if progress is not None:
         progress(0, 2)
-    in_sample = Study.from_text(text, data_folder, before=plan.boundary)
-    if data_fingerprint(in_sample.data) != run.data_fingerprint:
+    read = data_fingerprint(Study.from_text(text, data_folder, before=plan.boundary).data)
+    if read != run.data_fingerprint:
         raise CatalogueError(
             f"the data before the boundary in {Path(data_folder)} are not those run {run.id} "
-            f"was made on (fingerprint {data_fingerprint(in_sample.data)[:12]}, the run's "
-            f"{run.data_fingerprint[:12]}); unlock on the data the run used", field="data")
+            f"was made on (fingerprint {read[:12]}, the run's {run.data_fingerprint[:12]}); "
+            "unlock on the data the run used", field="data")
     _check(cancel)
     study = Study.from_text(text, data_folder)
     whole = study.run_set(plan.chosen_params).portfolio

@@ -39,6 +39,7 @@ class UnlockDialog(QDialog):
         super().__init__(parent)
         self.setObjectName("unlockHoldoutDialog")
         self.setWindowTitle("Unlock the held-out years")
+        self.setMinimumWidth(480)
         self.plan = plan
         intro = QLabel(f"Run the pre-registered chosen set of \u201c{title}\u201d once on its "
                        "held-out years? This is done once for this idea: it is journalled, and "
@@ -77,6 +78,7 @@ class BoundaryDialog(QDialog):
         super().__init__(parent)
         self.setObjectName("holdoutBoundaryDialog")
         self.setWindowTitle("Holdout boundary")
+        self.setMinimumWidth(480)
         self.current = current
         now = (f"Now: {current.boundary}, set by {current.set_by} on {current.set_at[:10]}: "
                f"{current.reason}" if current is not None else
