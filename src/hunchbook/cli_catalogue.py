@@ -265,7 +265,8 @@ def _ideas_show(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps({"idea": _plain(idea), "revisions": [_plain(r) for r in revisions],
                           "preregistrations": [_plain(p) for p in prereg],
-                          "runs": [_plain(r) for r in runs],
+                          "runs": [{**_plain(r), "result": r.result and r.result.to_dict()}
+                                   for r in runs],
                           "reviews": [_plain(r) for r in reviews],
                           "journal": [_plain(e) for e in entries],
                           "holdout": None if seen is None else {

@@ -85,6 +85,11 @@ def test_run_show_unlock_and_show_again(desk, data, tmp_path, capsys) -> None:
     assert shown["boundary"] == BOUNDARY and [s["idea"] for s in shown["seen"]] == [1]
     assert _main("ideas", "show", "1", *c) == 0
     assert "Holdout seen by Ines Marwood on" in capsys.readouterr().out
+    assert _main("ideas", "show", "1", *c, "--json") == 0
+    shown = json.loads(capsys.readouterr().out)
+    assert shown["holdout"]["seen_by"] == "Ines Marwood"
+    assert shown["holdout"]["figures"] == payload["figures"]
+    assert shown["runs"][0]["result"]["holdout_boundary"] == BOUNDARY
 
 
 def test_setting_the_boundary_needs_a_reason(desk, capsys) -> None:
