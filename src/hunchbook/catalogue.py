@@ -563,20 +563,18 @@ class Catalogue:
         current = holdout.current(self.db)
         if current is None:
             return "the catalogue has no holdout boundary yet (a quick run sets one)"
-        runs = runmod.of_idea(self.db, idea_id)
+        runs = holdout.run_boundaries(self.db, idea_id)
         if not runs:
             return f"idea {idea_id} has no run yet: run it before the boundary first"
-        for run in runs:
-            edge = _run_boundary(run)
+        for run_id, edge in runs:
             if edge is None or edge > current.boundary:
                 saw = "the whole history" if edge is None else f"the dates before {edge}"
-                return (f"run {run.id} of idea {idea_id} saw {saw}, past the holdout "
+                return (f"run {run_id} of idea {idea_id} saw {saw}, past the holdout "
                         f"boundary {current.boundary}: its held-out years are not unseen")
-        edge = _run_boundary(runs[-1])
+        last, edge = runs[-1]
         if edge != current.boundary:
-            return (f"the latest run of idea {idea_id} (run {runs[-1].id}) was made before "
-                    f"{edge}, not at the boundary in force ({current.boundary}): run it again "
-                    "first")
+            return (f"the latest run of idea {idea_id} (run {last}) was made before {edge}, "
+                    f"not at the boundary in force ({current.boundary}): run it again first")
         return None
 
     def record_holdout_view(self, idea_id: int, *, run_id: int, figures: HoldoutFigures,
@@ -656,12 +654,6 @@ def _check_rules_for_acceptance(idea_id: int, revision: Revision | None) -> None
 
 def _space(space: dict[str, Any]) -> str:
     return json.dumps(space, sort_keys=True) if space else "none"
-
-
-def _run_boundary(run: RunRecord) -> dt.date | None:
-    """The holdout boundary a run's data were cut at (None: it saw the whole history)."""
-    edge = run.result.holdout_boundary if run.result is not None else None
-    return None if edge is None else dt.date.fromisoformat(edge)
 
 
 def _holdout_text(run: RunRecord, figures: HoldoutFigures, by: str) -> str:

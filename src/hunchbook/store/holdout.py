@@ -76,6 +76,16 @@ def insert_view(db: Database, *, idea_id: int, revision_id: int, run_id: int,
         "daily_pnl": pnl.encode(pnl.clean(daily_pnl)), "seen_by": by, "seen_at": at})
 
 
+def run_boundaries(db: Database, idea_id: int) -> list[tuple[int, dt.date | None]]:
+    """Each run of the idea, oldest first: its id and the holdout boundary its data were cut at
+    (None: it saw the whole history, or was recorded before runs carried a boundary). Read by
+    SQLite from the stored record, without decoding the runs."""
+    rows = db.execute("SELECT id, json_extract(summary, '$.holdout_boundary') FROM runs "
+                      "WHERE idea_id = ? ORDER BY id", [idea_id]).fetchall()
+    return [(run_id, None if edge is None else dt.date.fromisoformat(edge))
+            for run_id, edge in rows]
+
+
 _SELECT = ("SELECT h.*, v.number AS revision_number FROM holdout_views h "
            "JOIN rule_revisions v ON v.id = h.revision_id")
 
