@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import datetime as dt
 import os
 from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass, replace
@@ -41,9 +42,11 @@ def load_rules(path: str | os.PathLike[str]) -> RuleSpec:
     return read_rules(path)
 
 
-def load_data(folder: str | os.PathLike[str], markets: list[str] | None = None) -> MarketData:
-    """Read a data folder's market library and price files (all markets, or those named)."""
-    return _load_data(folder, markets)
+def load_data(folder: str | os.PathLike[str], markets: list[str] | None = None, *,
+              before: dt.date | None = None) -> MarketData:
+    """Read a data folder's market library and price files (all markets, or those named);
+    with ``before`` (a holdout boundary) only the rows dated before it."""
+    return _load_data(folder, markets, before=before)
 
 
 @dataclass(frozen=True)
@@ -97,13 +100,16 @@ class SweepReport:
         """The parameter sets run, in grid order."""
         return self.outcome.sets
 
-    def summarise(self, chosen: SetResult, *, currency: str, data_folder: str) -> RunSummary:
+    def summarise(self, chosen: SetResult, *, currency: str, data_folder: str,
+                  holdout_boundary: dt.date | None = None) -> RunSummary:
         """The run record: every set's figures, the chosen set in full (``chosen``, from
-        :meth:`Study.run_set` on ``sets[self.chosen]``), the statistics and the verdict."""
+        :meth:`Study.run_set` on ``sets[self.chosen]``), the statistics and the verdict;
+        ``holdout_boundary`` the date the study's data were cut at, if any."""
         return build_run_summary(
             name=self.rules.name, markets=self.rules.markets, currency=currency,
             data_folder=data_folder, parameter_sets=self.sets, set_metrics=self.summaries,
-            chosen_metrics=chosen.metrics, statistics=self.statistics, verdict=self.verdict)
+            chosen_metrics=chosen.metrics, statistics=self.statistics, verdict=self.verdict,
+            holdout_boundary=None if holdout_boundary is None else holdout_boundary.isoformat())
 
 
 @dataclass(frozen=True)
@@ -145,7 +151,8 @@ class Study:
         The parsed rule file.
     data
         The data folder's contents; must hold every market the rules trade or read. When the
-        position reads events, the folder's events file is read into ``self.data``.
+        position reads events, the folder's events file is read into ``self.data`` (cut at
+        the data's holdout boundary, like the prices).
     file
         The rule file's name, given in every :class:`RuleError` the study raises.
     """
@@ -163,7 +170,8 @@ class Study:
                            if rules.constraint else None)
         reads = self.position.data_used()
         if data.events is None and any(isinstance(node, EventRef) for node in reads):
-            data = replace(data, events=read_events(data.folder, data.library))
+            data = replace(data, events=read_events(data.folder, data.library,
+                                                    before=data.before))
         self.data = data
         others = [n.market for n in reads if isinstance(n, SeriesRef) and n.market is not None]
         built = {m: build_continuous(data.bars[m], rules.roll)
@@ -189,25 +197,28 @@ class Study:
 
     @classmethod
     def from_text(cls, text: str, data_folder: str | os.PathLike[str], *,
-                  file: str | os.PathLike[str] | None = None) -> Study:
+                  file: str | os.PathLike[str] | None = None,
+                  before: dt.date | None = None) -> Study:
         """Parse rule text, load its markets from a data folder and prepare them.
 
-        ``file`` names where the text came from in every :class:`RuleError`. Raises
-        :class:`~hunchbook.core.errors.HunchbookError` for bad rules or data.
+        ``file`` names where the text came from in every :class:`RuleError`; ``before`` (a
+        holdout boundary) cuts the data before anything is built, so that nothing reads a
+        price dated on or after it. Raises :class:`~hunchbook.core.errors.HunchbookError`
+        for bad rules or data.
         """
         name = None if file is None else str(file)
         rules = parse_rules(text, file=name)
-        data = load_data(data_folder, [*rules.markets, *rules.reads])
+        data = load_data(data_folder, [*rules.markets, *rules.reads], before=before)
         try:
             return cls(rules, data, file=name)
         except RuleError as exc:  # found on meeting the data: point at it in the text
             raise locate_error(text, exc) from None
 
     @classmethod
-    def from_file(cls, path: str | os.PathLike[str],
-                  data_folder: str | os.PathLike[str]) -> Study:
+    def from_file(cls, path: str | os.PathLike[str], data_folder: str | os.PathLike[str], *,
+                  before: dt.date | None = None) -> Study:
         """Read a rule file and prepare it on a data folder (see :meth:`from_text`)."""
-        return cls.from_text(read_rule_text(path), data_folder, file=path)
+        return cls.from_text(read_rule_text(path), data_folder, file=path, before=before)
 
     def parameter_sets(self, fixed: Mapping[str, float] | None = None) -> list[dict[str, float]]:
         """Declared parameter sets that satisfy the constraint, optionally filtered by values."""

@@ -19,6 +19,7 @@ from typing import TYPE_CHECKING, Any
 from hunchbook import __version__
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
+from hunchbook.cli_holdout import register as register_holdout_commands
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.plain import json_safe
 from hunchbook.core.verdict import CAUTION
@@ -90,7 +91,8 @@ def _build_parser() -> argparse.ArgumentParser:
                      help="worker processes for a sweep (default: CPU count)")
     run.add_argument("--idea", type=_positive_int, metavar="ID",
                      help="save the rule file as this idea's revision and record the run, its "
-                          "trial count and verdict on the idea")
+                          "trial count and verdict on the idea (on the dates before the "
+                          "catalogue's holdout boundary)")
     run.add_argument("--catalogue", type=Path, metavar="PATH",
                      help="catalogue for --idea (default: $HUNCHBOOK_CATALOGUE or the user data "
                           "folder)")
@@ -119,6 +121,7 @@ def _build_parser() -> argparse.ArgumentParser:
     stats.set_defaults(handler=_cmd_stats)
 
     register_catalogue_commands(commands)
+    register_holdout_commands(commands)
 
     data = commands.add_parser(
         "data", help="data folder tools",
@@ -215,6 +218,8 @@ def _run_for_idea(args: argparse.Namespace) -> int:
     print(f"Recorded as run {outcome.run_id} of idea {args.idea} (rule revision "
           f"{outcome.revision_number}); the idea now counts {outcome.summary.statistics.n_trials} "
           "trials.")
+    print(f"In-sample up to {outcome.boundary} (the holdout boundary, not included); "
+          f"{outcome.held_out_days:,} held-out days locked.")
     return 0
 
 

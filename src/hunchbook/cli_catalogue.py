@@ -201,6 +201,10 @@ def _catalogue(group: Any) -> None:
              lambda p: p.add_argument("destination", type=Path, metavar="PATH"))
 
 
+#: How other command modules (:mod:`hunchbook.cli_holdout`) add a group and a command.
+group, command = _group, _command
+
+
 # -- handlers ------------------------------------------------------------------------------
 def open_catalogue(args: argparse.Namespace, *, create: bool = False,
                    read_only: bool = False) -> Catalogue:
@@ -257,12 +261,17 @@ def _ideas_show(args: argparse.Namespace) -> int:
         revisions, runs = cat.revisions(idea.id), cat.runs(idea.id)
         reviews, entries = cat.reviews(idea.id), cat.journal(idea.id)
         prereg = cat.preregistrations(idea.id)
+        seen = cat.holdout_view(idea.id)
     if args.json:
         print(json.dumps({"idea": _plain(idea), "revisions": [_plain(r) for r in revisions],
                           "preregistrations": [_plain(p) for p in prereg],
-                          "runs": [_plain(r) for r in runs],
+                          "runs": [{**_plain(r), "result": r.result and r.result.to_dict()}
+                                   for r in runs],
                           "reviews": [_plain(r) for r in reviews],
-                          "journal": [_plain(e) for e in entries]}, indent=1))
+                          "journal": [_plain(e) for e in entries],
+                          "holdout": None if seen is None else {
+                              **_plain(seen), "boundary": seen.boundary.isoformat(),
+                              "figures": seen.figures.to_dict()}}, indent=1))
         return 0
     print(_idea_text(idea))
     if prereg:
@@ -278,6 +287,9 @@ def _ideas_show(args: argparse.Namespace) -> int:
               f"{run.set_count} set(s)  net SR {sharpe}  verdict {run.verdict_label}")
         for reason in (run.result.verdict.reasons if run.result else ()):
             print(f"      - {reason}")
+    if seen is not None:
+        print(f"\nHoldout seen by {seen.seen_by} on {seen.seen_at[:10]} (run {seen.run_id}): "
+              + seen.figures.finding())
     print(f"\nReviews ({len(reviews)}):")
     for v in reviews:
         print(f"  {v.at[:10]}  {v.reviewer}: {v.decision}. {v.comments}")

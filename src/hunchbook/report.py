@@ -2,11 +2,15 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from hunchbook.core.presenter import (
+    HOLDOUT_HEADERS,
     FigureRow,
     Table,
     format_params,
     format_value,
+    holdout_rows,
     market_table,
     performance_rows,
     set_table,
@@ -16,15 +20,20 @@ from hunchbook.core.results import RunSummary
 from hunchbook.core.stats import FirstPassStats
 from hunchbook.core.verdict import Verdict
 
+if TYPE_CHECKING:
+    from hunchbook.services import HoldoutPlan
+    from hunchbook.store.records import HoldoutView
+
 #: How many parameter sets a sweep table lists.
 SWEEP_ROWS = 10
 #: Width of the label column of a figures table.
 LABEL_WIDTH = 34
 
 
-def figures_text(rows: list[FigureRow]) -> list[str]:
+def figures_text(rows: list[FigureRow],
+                 headers: tuple[str, str] = ("Gross", "Net")) -> list[str]:
     """A gross/net figures table as lines (figures with one value show it under Net)."""
-    lines = [f"{'':<{LABEL_WIDTH}}{'Gross':>14}{'Net':>14}"]
+    lines = [f"{'':<{LABEL_WIDTH}}{headers[0]:>14}{headers[1]:>14}"]
     for row in rows:
         gross = "" if row.gross is None and row.net is not None \
             else format_value(row.gross, row.kind)
@@ -97,3 +106,24 @@ def format_statistics(stats: FirstPassStats, verdict: Verdict, chosen: str | Non
 
 #: How each check status reads in text output.
 STATUS_TEXT = {"pass": "pass", "fail": "FAIL", "warn": "warn", "skip": "-"}
+
+
+def format_holdout_plan(plan: HoldoutPlan, *, by: str) -> str:
+    """What unlocking an idea's holdout will run, for the person to confirm."""
+    dates = (f"the dates from {plan.boundary} on" if plan.held_out_days is None else
+             f"{plan.held_out_days:,} held-out days, {plan.first_held} to {plan.last_held}")
+    return "\n".join([
+        f"Unlock the held-out years of idea {plan.idea_id}, once, as {by}:",
+        f"  rules      : revision {plan.revision_number} (of run {plan.run_id})",
+        f"  chosen set : {format_params(plan.chosen_params)}",
+        f"  dates      : {dates} (boundary {plan.boundary})",
+        "Every later run of this idea will say 'Holdout already seen'."])
+
+
+def format_holdout(view: HoldoutView) -> str:
+    """An idea's held-out figures beside the in-sample ones, who saw them and when."""
+    f = view.figures
+    head = (f"Held-out years of idea {view.idea_id}: {f.first_date} to {f.last_date}, seen by "
+            f"{view.seen_by} on {view.seen_at[:16].replace('T', ' ')} (run {view.run_id}, "
+            f"rule revision {view.revision_number}, set {format_params(view.chosen_params)})")
+    return "\n".join([head, *figures_text(holdout_rows(f), HOLDOUT_HEADERS), f.finding()])

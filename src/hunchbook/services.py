@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
+import datetime as dt
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import pandas as pd
@@ -11,24 +12,59 @@ import pandas as pd
 from hunchbook import __version__
 from hunchbook.api import EarlierTrials, SetResult, Study
 from hunchbook.catalogue import Catalogue
-from hunchbook.core.errors import HunchbookError, RuleError
-from hunchbook.core.prices import MarketData, data_fingerprint
+from hunchbook.core.errors import DataError, HunchbookError, RuleError
+from hunchbook.core.history import HOLDOUT_SHARE, common_history, default_boundary
+from hunchbook.core.holdout import held_out, holdout_figures, holdout_seen_note
+from hunchbook.core.prices import MarketData, data_fingerprint, held_out_dates, load_data
 from hunchbook.core.results import RunSummary
 from hunchbook.core.rules import parse_rules
-from hunchbook.core.sweep import CancelCheck, Progress, SweepRunner, run_sweep
+from hunchbook.core.sweep import CancelCheck, Progress, SweepCancelled, SweepRunner, run_sweep
 from hunchbook.starter import STARTER_HINT, is_starter
 from hunchbook.store import pnl
-from hunchbook.store.records import TrialHistory
+from hunchbook.store.errors import CatalogueError
+from hunchbook.store.records import HoldoutView, TrialHistory
 
 
 @dataclass(frozen=True)
 class IdeaRun:
-    """A recorded quick run of an idea: its record, the chosen set's engine output, the run id."""
+    """A recorded quick run of an idea: its record, the chosen set's engine output, the run id,
+    and the holdout boundary its data were cut at with the count of held-out dates the data
+    folder holds for its markets (their prices were not read)."""
 
     summary: RunSummary
     chosen: SetResult
     run_id: int
     revision_number: int
+    boundary: dt.date
+    held_out_days: int
+
+
+@dataclass(frozen=True)
+class HoldoutPlan:
+    """What unlocking an idea's holdout will run: the in-sample run it continues, its rule
+    revision and chosen set, and the held-out dates (from ``boundary`` on; ``held_out_days``
+    of them, ``first_held`` to ``last_held``, in the data folder's files of the rules'
+    markets; ``None`` when no data folder was looked at)."""
+
+    idea_id: int
+    run_id: int
+    revision_id: int
+    revision_number: int
+    chosen_params: dict[str, float]
+    boundary: dt.date
+    held_out_days: int | None = None
+    first_held: dt.date | None = None
+    last_held: dt.date | None = None
+
+
+def default_holdout_reason(folder: str | os.PathLike[str]) -> tuple[dt.date, str]:
+    """The default holdout boundary of a data folder (:mod:`hunchbook.core.history`) and the
+    reason journalled with it."""
+    history = common_history(folder)
+    boundary = default_boundary(history)
+    return boundary, (f"last {100 * HOLDOUT_SHARE:.0f} % of the common history of "
+                      f"{Path(folder)} "
+                      f"({history.first} to {history.last}, {len(history.markets)} markets)")
 
 
 def daily_pnl(chosen: SetResult, walk_forward: pd.Series | None) -> pd.DataFrame:
@@ -42,13 +78,14 @@ def daily_pnl(chosen: SetResult, walk_forward: pd.Series | None) -> pd.DataFrame
 
 def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLike[str], *,
                              loaded: MarketData | None = None,
+                             before: dt.date | None = None,
                              runner: SweepRunner | None = None,
                              cancel: CancelCheck | None = None) -> EarlierTrials:
     """The idea's earlier trials recomputed on the current data, so that the SPA test, the
     effective number of trials and the trials' Sharpe variance cover every set ever run.
 
-    ``loaded`` is the data already read for the new run: rule texts on the same markets reuse
-    it instead of reading the folder again. A strategy whose rule text no longer runs on this
+    ``loaded`` is the data already read for the new run (cut at ``before``, the holdout
+    boundary): rule texts on the same markets reuse it instead of reading the folder again. A strategy whose rule text no longer runs on this
     data (a market left the folder, say) keeps its stored net Sharpe ratios: its trials still
     count, one each.
     """
@@ -61,7 +98,7 @@ def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLi
                                                                       *rules.reads)):
                 study = Study(rules, loaded)
             else:
-                study = Study.from_text(strategy.rule_text, data_folder)
+                study = Study.from_text(strategy.rule_text, data_folder, before=before)
         except HunchbookError:
             sharpes += [v for v in strategy.net_sharpes if v is not None]
             continue
@@ -76,8 +113,13 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
              data_folder: str | os.PathLike[str], *, by: str, rule_file: str | None = None,
              runner: SweepRunner | None = None, progress: Progress | None = None,
              cancel: CancelCheck | None = None, spa_reps: int = 1000) -> IdeaRun:
-    """Save the rule text as the idea's revision, run its whole declared space, judge it with
-    every trial the idea has ever had counted, and record the run on the idea.
+    """Save the rule text as the idea's revision, run its whole declared space on the dates
+    before the catalogue's holdout boundary, judge it with every trial the idea has ever had
+    counted, and record the run on the idea.
+
+    A catalogue without a boundary gets the default one of the data folder (the last 20 % of
+    its common history held out; :mod:`hunchbook.core.history`), set by ``by`` and journalled
+    with the run. Once the idea's holdout was unlocked, the verdict says so in its last reason.
 
     Raises
     ------
@@ -88,20 +130,121 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     """
     if is_starter(rule_text):
         raise RuleError(STARTER_HINT, file=rule_file)
-    study = Study.from_text(rule_text, data_folder, file=rule_file)
+    setting = catalogue.holdout_boundary()
+    if setting is None:
+        boundary, default_reason = default_holdout_reason(data_folder)
+    else:
+        boundary, default_reason = setting.boundary, None
+    study = Study.from_text(rule_text, data_folder, file=rule_file, before=boundary)
     history = catalogue.prospective_trials(idea_id, rule_text, study.parameter_sets())
-    earlier = recompute_earlier_trials(history, data_folder, loaded=study.data, runner=runner,
-                                       cancel=cancel)
+    earlier = recompute_earlier_trials(history, data_folder, loaded=study.data, before=boundary,
+                                       runner=runner, cancel=cancel)
+    seen = catalogue.holdout_view(idea_id)
     report = study.sweep(runner=runner, progress=progress, cancel=cancel, earlier=earlier,
-                         spa_reps=spa_reps)
+                         spa_reps=spa_reps,
+                         holdout_seen=None if seen is None else holdout_seen_note(
+                             seen.seen_at, seen.seen_by))
     chosen = study.run_set(report.sets[report.chosen])
     summary = report.summarise(chosen, currency=study.panel.currency,
-                               data_folder=str(Path(data_folder)))
+                               data_folder=str(Path(data_folder)), holdout_boundary=boundary)
     with catalogue.transaction():  # the revision and its run are kept together, or neither
+        if default_reason is not None and catalogue.holdout_boundary() is None:
+            catalogue.set_holdout_boundary(boundary, by=by, reason=default_reason)
+        current = catalogue.holdout_boundary()
+        if current is None or current.boundary != boundary:
+            raise CatalogueError("the holdout boundary was changed while the run went; run "
+                                 "it again", field="holdout boundary")
         revision = catalogue.save_rules(idea_id, rule_text, by=by)
         run_id = catalogue.record_run(
             idea_id, revision_id=revision.id, summary=summary,
             data_fingerprint=data_fingerprint(study.data), engine_version=__version__,
             daily_pnl=daily_pnl(chosen, report.walk_forward_pnl), by=by)
     return IdeaRun(summary=summary, chosen=chosen, run_id=run_id,
-                   revision_number=revision.number)
+                   revision_number=revision.number, boundary=boundary,
+                   held_out_days=study.data.held_out_days)
+
+
+def holdout_plan(catalogue: Catalogue, idea_id: int,
+                 data_folder: str | os.PathLike[str] | None = None) -> HoldoutPlan:
+    """What :func:`unlock_holdout` would run for the idea, for a person to confirm; with a
+    data folder, also the held-out dates it holds for the run's markets (only dates are
+    taken from those rows).
+
+    Raises
+    ------
+    HunchbookError
+        When the holdout cannot be unlocked (already seen, with who and when; no run; a run
+        that saw past the boundary: :meth:`Catalogue.unlock_problem` says why), or the data
+        folder cannot be read or holds no date on or after the boundary.
+    """
+    problem = catalogue.unlock_problem(idea_id)
+    if problem is not None:
+        raise CatalogueError(problem, field=f"idea {idea_id}")
+    run = catalogue.runs(idea_id)[-1]
+    setting = catalogue.holdout_boundary()
+    assert setting is not None
+    plan = HoldoutPlan(idea_id=idea_id, run_id=run.id, revision_id=run.revision_id,
+                       revision_number=run.revision_number,
+                       chosen_params=dict(run.chosen_params), boundary=setting.boundary)
+    if data_folder is None:
+        return plan
+    rules = parse_rules(catalogue.revision(run.revision_id).text)
+    dates = held_out_dates(load_data(data_folder, [*rules.markets, *rules.reads]),
+                           setting.boundary)
+    if not dates:
+        raise DataError(f"no date on or after the holdout boundary {setting.boundary}: "
+                        "nothing is held out in this data folder yet", file=str(data_folder))
+    return replace(plan, held_out_days=len(dates), first_held=dates[0], last_held=dates[-1])
+
+
+def unlock_holdout(catalogue: Catalogue, idea_id: int, data_folder: str | os.PathLike[str], *,
+                   by: str, progress: Progress | None = None,
+                   cancel: CancelCheck | None = None) -> HoldoutView:
+    """Unlock an idea's held-out years, once: run the chosen set of its latest run, on that
+    run's rule revision, over the whole data folder; keep its figures on the dates from the
+    boundary on beside the in-sample ones; journal who saw them and when.
+
+    The data before the boundary must be those the run was made on (same fingerprint). Every
+    later run of the idea carries "Holdout already seen" in its verdict.
+
+    Raises
+    ------
+    HunchbookError
+        When the holdout cannot be unlocked (see :func:`holdout_plan`), the data before the
+        boundary differ from the run's, fewer than two held-out days exist, or the work was
+        cancelled (:class:`~hunchbook.core.sweep.SweepCancelled`; nothing is recorded).
+    """
+    plan = holdout_plan(catalogue, idea_id)
+    run = catalogue.run(plan.run_id)
+    assert run.result is not None
+    text = catalogue.revision(plan.revision_id).text
+    if progress is not None:
+        progress(0, 2)
+    read = data_fingerprint(Study.from_text(text, data_folder, before=plan.boundary).data)
+    if read != run.data_fingerprint:
+        raise CatalogueError(
+            f"the data before the boundary in {Path(data_folder)} are not those run {run.id} "
+            f"was made on (fingerprint {read[:12]}, the run's {run.data_fingerprint[:12]}); "
+            "unlock on the data the run used", field="data")
+    _check(cancel)
+    study = Study.from_text(text, data_folder)
+    whole = study.run_set(plan.chosen_params).portfolio
+    if progress is not None:
+        progress(1, 2)
+    stats = run.result.statistics
+    figures = holdout_figures(whole, boundary=plan.boundary,
+                              in_sample_sharpe=stats.net.sharpe, in_sample_days=stats.n_days,
+                              in_sample_sets=stats.n_sets)
+    held = held_out(whole, plan.boundary)[["gross_pnl", "cost", "net_pnl"]]
+    _check(cancel)
+    view = catalogue.record_holdout_view(
+        idea_id, run_id=run.id, figures=figures, daily_pnl=held,
+        data_fingerprint=data_fingerprint(study.data), engine_version=__version__, by=by)
+    if progress is not None:
+        progress(2, 2)
+    return view
+
+
+def _check(cancel: CancelCheck | None) -> None:
+    if cancel is not None and cancel():
+        raise SweepCancelled("unlocking the holdout was cancelled; nothing was recorded")

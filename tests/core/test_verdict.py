@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.holdout import holdout_seen_note
 from hunchbook.core.stats import first_pass_statistics
 from hunchbook.core.verdict import Verdict, VerdictThresholds, decide
 
@@ -181,9 +182,10 @@ def test_unknown_selection_cannot_promote_but_a_failure_still_fails():
 def test_a_seen_holdout_is_a_warning_on_the_verdict():
     gross, cost = _plateau_sweep(5)
     stats = first_pass_statistics(gross, cost, grid_shape=(3, 4), spa_reps=100, seed=5)
-    v = decide(stats, holdout_seen="unlocked on 2026-03-01 by Ana Ruiz.")
+    note = holdout_seen_note("2026-03-01T10:00:00", "Ana Ruiz")
+    v = decide(stats, holdout_seen=note)
     assert v.outcome == "passes"
-    assert v.reasons[-1] == "Holdout already seen: unlocked on 2026-03-01 by Ana Ruiz."
+    assert v.reasons[-1] == note and note.startswith("Holdout already seen")
     assert v.checks[-1].key == "holdout" and v.checks[-1].status == "warn"
 
 

@@ -64,7 +64,8 @@ def test_export_then_import_into_an_empty_catalogue_gives_identical_records(
         report = other.import_bundle(path, by="Ines")
         assert report.created and report.conflicts == ()
         assert report.added == {"revisions": 2, "preregistrations": 2,
-                                "journal": len(cat.journal(idea)), "reviews": 1, "runs": 2}
+                                "journal": len(cat.journal(idea)), "reviews": 1, "runs": 2,
+                                "holdout": 0}
         mine, theirs = _records(cat, idea), _records(other, report.idea_id)
         for key in mine:
             if key == "pnl":
@@ -211,7 +212,7 @@ HOSTILE = {
     "broken toml": (lambda m: m | {"bundle.toml": m["bundle.toml"][:-40]}, "not valid TOML"),
     "bad run json": (_run_json_edit, "expected exactly the keys"),
     "bad pnl csv": (_pnl_edit, "line 6"),
-    "results of another schema": (_results_edit(b'"schema": 1', b'"schema": 7'), "schema 1"),
+    "results of another schema": (_results_edit(b'"schema": 2', b'"schema": 7'), "schema 2"),
     "results field of the wrong kind": (_results_edit(b'"currency": "USD"', b'"currency": 5'),
                                         "field 'currency': expected text"),
     "wrong format version": (_manifest_edit("format_version = 2", "format_version = 9"),

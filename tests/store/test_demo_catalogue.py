@@ -68,6 +68,7 @@ def test_every_stored_run_equals_its_re_run(demo: Catalogue, desk: Path,
     the same earlier trials gives exactly the stored verdict and net Sharpe ratio (the
     engine against its own record: no outside source)."""
     fresh = Catalogue(tmp_path / "rerun.sqlite")
+    fresh.set_holdout_boundary(demo.holdout_boundary().boundary, by="t", reason="the demo's")
     twins: dict[int, int] = {}
     for stored in demo.runs():
         if stored.idea_id not in twins:

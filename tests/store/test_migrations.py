@@ -18,7 +18,18 @@ EARLIER = list(range(1, SCHEMA_VERSION))  # version 0 (no file) is covered by ev
 
 
 def _build_old(path: Path, version: int) -> dict[str, object]:
-    """A catalogue at ``version`` holding records written as that version's code wrote them."""
+    """A catalogue at ``version`` holding records written as that version's code wrote them.
+
+    From version 5 on the rows carry their chained hashes: the records are written at version
+    4 and the file brought to ``version`` by the migrations (which compute the hashes exactly
+    as that version's code writes them); the backup of that step is removed.
+    """
+    if version >= 5:
+        old = _build_old(path, 4)
+        open_catalogue_db(path, stop_before=migration_names()[version]).close()
+        for backup in path.parent.glob(f"{path.stem}.v4-backup-*"):
+            backup.unlink()
+        return old
     stop = migration_names()[version]
     db = open_catalogue_db(path, stop_before=stop)
     assert db.execute("PRAGMA user_version").fetchone()[0] == version

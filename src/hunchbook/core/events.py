@@ -8,6 +8,7 @@ listed for the market, else 0.0.
 
 from __future__ import annotations
 
+import datetime as dt
 import os
 from collections.abc import Collection
 from dataclasses import dataclass
@@ -52,7 +53,8 @@ class EventTable:
         return np.isin(dates, listed).astype(float)
 
 
-def read_events(folder: str | os.PathLike[str], markets: Collection[str]) -> EventTable:
+def read_events(folder: str | os.PathLike[str], markets: Collection[str], *,
+                before: dt.date | None = None) -> EventTable:
     """Read a data folder's events file; an empty table when the folder has none.
 
     Parameters
@@ -61,6 +63,8 @@ def read_events(folder: str | os.PathLike[str], markets: Collection[str]) -> Eve
         The data folder.
     markets
         The markets of its market library (a ``market`` cell must name one of them).
+    before
+        Holdout boundary: keep only the events dated before it (``None``: all of them).
 
     Raises
     ------
@@ -94,4 +98,6 @@ def read_events(folder: str | os.PathLike[str], markets: Collection[str]) -> Eve
                         "(leave it blank for an event of every market)", file=file, line=line)
     frame = pd.DataFrame({"date": parse_dates(raw["date"], "date", file, required=True),
                           "event": events, "market": market})
+    if before is not None:
+        frame = frame[frame["date"] < np.datetime64(before, "ns")]
     return EventTable(file=file, frame=frame.reset_index(drop=True))

@@ -10,10 +10,13 @@ from __future__ import annotations
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
-from typing import Any, Generic, TypeVar
+from typing import TYPE_CHECKING, Any, Generic, TypeVar
 
 from hunchbook.core.results import MarketFigures, Performance, RunSummary, SetSummary
 from hunchbook.core.stats.first_pass import FirstPassStats
+
+if TYPE_CHECKING:
+    from hunchbook.core.holdout import HoldoutFigures
 
 #: Shown wherever a figure is missing or undefined.
 MISSING = "—"
@@ -163,6 +166,31 @@ STATISTIC_FIGURES: list[Figure[FirstPassStats]] = [
            "Days every parameter set has, on which the statistics are computed."),
 ]
 
+#: Column titles of the held-out figures: the in-sample value sits where other tables have the
+#: gross one, the held-out value where they have the net one.
+HOLDOUT_HEADERS = ("In-sample", "Held out")
+
+#: The chosen set on the held-out dates beside its in-sample record (see HOLDOUT_HEADERS).
+HOLDOUT_FIGURES: list[Figure[HoldoutFigures]] = [
+    Figure("Net Sharpe", "ratio", lambda f: f.in_sample_net_sharpe, lambda f: f.net_sharpe,
+           "Annualised net Sharpe ratio; in-sample on the days all sets share, as the "
+           "statistics measure it."),
+    Figure("PSR (vs 0)", "pct", None, lambda f: f.psr,
+           "Probabilistic Sharpe ratio: the probability that the true held-out Sharpe ratio "
+           "is above zero (Bailey & López de Prado 2012)."),
+    Figure("Consistency p", "pvalue", None, lambda f: f.p_value,
+           "Chance of a held-out Sharpe ratio this far below the in-sample one if the "
+           "in-sample one were true (one-sided; Lo 2002 standard error)."),
+    Figure("Days", "count", lambda f: f.in_sample_days, lambda f: f.days,
+           "Trading days measured."),
+    Figure("Gross Sharpe", "ratio", None, lambda f: f.gross_sharpe,
+           "Annualised Sharpe ratio before costs on the held-out dates."),
+    Figure("Net P&L", "money", None, lambda f: f.net_total,
+           "Sum of daily net P&L on the held-out dates."),
+    Figure("Net drawdown", "money", None, lambda f: f.net_max_drawdown,
+           "Largest fall of cumulative net P&L from a running peak on the held-out dates."),
+]
+
 #: One row per market of the chosen set.
 MARKET_COLUMNS: list[Column[MarketFigures]] = [
     Column("Gross P&L", "money", lambda m: m.gross_total),
@@ -203,6 +231,11 @@ def statistic_rows(statistics: FirstPassStats) -> list[FigureRow]:
     """The first-pass statistics of the chosen set (PSR, DSR with its trials, SPA, ...); a
     figure that does not apply to the run (no walk-forward test for one set, say) is left out."""
     return [f.row(statistics) for f in STATISTIC_FIGURES if f.applies(statistics)]
+
+
+def holdout_rows(figures: HoldoutFigures) -> list[FigureRow]:
+    """The held-out figures beside the in-sample ones (columns: :data:`HOLDOUT_HEADERS`)."""
+    return [f.row(figures) for f in HOLDOUT_FIGURES]
 
 
 def market_table(run: RunSummary) -> Table:

@@ -3,13 +3,18 @@
 A contract-level CSV has the columns ``date, contract, expiry, close`` (required) and
 ``open, high, low, volume, open_interest`` (optional); other columns are ignored. A CSV with
 ``date, close`` and no ``contract`` column is an already-continuous series.
+
+Held-out years: ``load_data(..., before=D)`` drops every row dated on or after ``D`` as soon
+as a file is read, before anything is built from it, so nothing downstream can read a later
+price; its :func:`data_fingerprint` is then taken over the values read, not the whole files.
 """
 
 from __future__ import annotations
 
+import datetime as dt
 import hashlib
 import os
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -60,15 +65,23 @@ class MarketBars:
 @dataclass(frozen=True)
 class MarketData:
     """A data folder's market library, the raw rows of the markets read from it and, once a
-    rule reads events, its events (:func:`hunchbook.core.events.read_events`)."""
+    rule reads events, its events (:func:`hunchbook.core.events.read_events`).
+
+    ``before`` is the holdout boundary the rows were cut at (``None``: the whole history);
+    ``held_out_days`` counts the distinct dates on or after it that the files held (their
+    prices were dropped unread).
+    """
 
     folder: str
     library: dict[str, MarketSpec]
     bars: dict[str, MarketBars]
     events: EventTable | None = None
+    before: dt.date | None = None
+    held_out_days: int = 0
 
 
-def load_data(folder: str | os.PathLike[str], markets: Iterable[str] | None = None) -> MarketData:
+def load_data(folder: str | os.PathLike[str], markets: Iterable[str] | None = None, *,
+              before: dt.date | None = None) -> MarketData:
     """Read a data folder: its market library and the CSV of each market asked for.
 
     Parameters
@@ -77,11 +90,15 @@ def load_data(folder: str | os.PathLike[str], markets: Iterable[str] | None = No
         Folder holding ``markets.toml`` and ``<market>.csv`` files.
     markets
         Markets to read; all markets of the library when omitted.
+    before
+        Holdout boundary: keep only rows dated before it (a contract left without rows is
+        gone with them); ``None`` keeps the whole history.
 
     Raises
     ------
     DataError
-        When the folder, a market's file or a market's library entry is missing, or a file is bad.
+        When the folder, a market's file or a market's library entry is missing, or a file is
+        bad, or a market has no rows before ``before``.
     MarketSpecError
         When the market library is bad.
     """
@@ -103,12 +120,49 @@ def load_data(folder: str | os.PathLike[str], markets: Iterable[str] | None = No
             raise DataError(f"no price file for market '{market}' (expected {path.name})",
                             file=str(root))
         bars[market] = read_market_csv(path, market)
-    return MarketData(folder=str(root), library=library, bars=bars)
+    if before is None:
+        return MarketData(folder=str(root), library=library, bars=bars)
+    whole = MarketData(folder=str(root), library=library, bars=bars)
+    return MarketData(folder=str(root), library=library,
+                      bars={m: cut_bars(b, before) for m, b in bars.items()}, before=before,
+                      held_out_days=len(held_out_dates(whole, before)))
+
+
+def held_out_dates(data: MarketData, before: dt.date) -> list[dt.date]:
+    """The distinct dates on or after ``before`` on which any market read has a row."""
+    cut = np.datetime64(before, "ns")
+    dates = [b.frame.loc[b.frame["date"] >= cut, "date"].to_numpy() for b in data.bars.values()]
+    found = np.unique(np.concatenate(dates)) if dates else np.array([], "datetime64[ns]")
+    return [dt.date.fromisoformat(str(d)[:10]) for d in found.astype("datetime64[D]")]
+
+
+def cut_bars(bars: MarketBars, before: dt.date) -> MarketBars:
+    """A market's rows dated before ``before`` (the holdout boundary).
+
+    Raises
+    ------
+    DataError
+        Naming the file, when no row is dated before the boundary.
+    """
+    frame = bars.frame[bars.frame["date"] < np.datetime64(before, "ns")]
+    if frame.empty:
+        raise DataError(f"no price rows before the holdout boundary {before.isoformat()} "
+                        f"(the first is dated {bars.frame['date'].iloc[0].date()})",
+                        file=bars.file)
+    return MarketBars(market=bars.market, file=bars.file, frame=frame.reset_index(drop=True),
+                      continuous=bars.continuous)
 
 
 def data_fingerprint(data: MarketData) -> str:
     """SHA-256 over the market library, the price files read, in market order, and the events
-    file when it was read."""
+    file when it was read.
+
+    For data cut at a holdout boundary (``data.before``) the price files and events enter by
+    the values read (:func:`frame_digest`), so that rows on or after the boundary change
+    nothing.
+    """
+    if data.before is not None:
+        return _cut_fingerprint(data)
     digest = hashlib.sha256()
     root = Path(data.folder)
     paths = [root / LIBRARY_FILE, *(Path(b.file) for b in data.bars.values())]
@@ -120,6 +174,39 @@ def data_fingerprint(data: MarketData) -> str:
             for block in iter(lambda: handle.read(1 << 20), b""):
                 digest.update(block)
     return digest.hexdigest()
+
+
+def _cut_fingerprint(data: MarketData) -> str:
+    assert data.before is not None
+    digest = hashlib.sha256(f"before {data.before.isoformat()}\0".encode())
+    library = Path(data.folder) / LIBRARY_FILE
+    digest.update(library.name.encode() + b"\0" + library.read_bytes())
+    for bars in data.bars.values():
+        digest.update(Path(bars.file).name.encode() + b"\0")
+        for chunk in frame_bytes(bars.frame.drop(columns="line")):
+            digest.update(chunk)
+    if data.events is not None and data.events.file is not None:
+        digest.update(Path(data.events.file).name.encode() + b"\0")
+        for chunk in frame_bytes(data.events.frame):
+            digest.update(chunk)
+    return digest.hexdigest()
+
+
+def frame_bytes(frame: pd.DataFrame) -> Iterator[bytes]:
+    """A frame's values as bytes, column by column in name order: the column's name and row
+    count, then its values (numbers and dates in their 8-byte binary form, every NaN and NaT
+    alike; text as UTF-8, each value ended by a zero byte)."""
+    for name in sorted(frame.columns):
+        column = frame[name]
+        yield f"{name}\0{len(column)}\0".encode()
+        if pd.api.types.is_datetime64_any_dtype(column):
+            yield column.to_numpy(dtype="datetime64[ns]").view(np.int64).tobytes()
+        elif pd.api.types.is_numeric_dtype(column):
+            values = column.to_numpy(dtype=float, copy=True)
+            values[np.isnan(values)] = np.nan  # one NaN pattern
+            yield values.tobytes()
+        else:
+            yield "".join(f"{v}\0" for v in column).encode()
 
 
 def read_market_csv(path: str | os.PathLike[str], market: str) -> MarketBars:

@@ -27,7 +27,9 @@ from hunchbook.core.stats.first_pass import FirstPassStats
 from hunchbook.core.verdict import Verdict
 
 #: Version of the record's shape; raised whenever a field is added, removed or renamed.
-SCHEMA = 1
+SCHEMA = 2
+#: Earlier shapes still read: schema 1 had no ``holdout_boundary`` (read as ``None``).
+READABLE_SCHEMAS = (1, SCHEMA)
 
 
 @dataclass(frozen=True)
@@ -109,6 +111,8 @@ class RunSummary:
     """A whole quick run: what ran, every set's figures, the chosen set, statistics, verdict.
 
     ``sets`` are in grid order; ``statistics.chosen`` is the chosen set's position in them.
+    ``holdout_boundary`` is the holdout boundary (``YYYY-MM-DD``) the data were cut at: the
+    run saw only the dates before it (``None``: the whole history).
     """
 
     name: str
@@ -119,6 +123,7 @@ class RunSummary:
     chosen: ChosenSet
     statistics: FirstPassStats
     verdict: Verdict
+    holdout_boundary: str | None = None
     schema: int = SCHEMA
 
     @property
@@ -150,21 +155,23 @@ class RunSummary:
         if not isinstance(data, Mapping):
             raise RecordError("expected a table of run results", field="run")
         schema = data.get("schema")
-        if schema != SCHEMA:
+        if schema not in READABLE_SCHEMAS:
             raise RecordError(f"expected results of schema {SCHEMA}, found {schema!r} (written "
                               "by another version of Hunchbook)", field="schema")
-        return _read(cls, data, "")
+        return dataclasses.replace(_read(cls, data, ""), schema=SCHEMA)
 
 
 def build_run_summary(*, name: str, markets: Sequence[str], currency: str, data_folder: str,
                       parameter_sets: Sequence[Mapping[str, float]],
                       set_metrics: Sequence[Mapping[str, Any]], chosen_metrics: Mapping[str, Any],
-                      statistics: FirstPassStats, verdict: Verdict) -> RunSummary:
+                      statistics: FirstPassStats, verdict: Verdict,
+                      holdout_boundary: str | None = None) -> RunSummary:
     """The run record of a sweep: the one place where the engine's figures become a record.
 
     ``set_metrics[k]`` holds set k's metrics as :func:`hunchbook.core.sweep_summary.
     summarise_sweep` gives them; ``chosen_metrics`` the chosen set's full metrics (``portfolio``
-    as :func:`hunchbook.core.metrics.summarise` gives them, ``markets`` per market).
+    as :func:`hunchbook.core.metrics.summarise` gives them, ``markets`` per market);
+    ``holdout_boundary`` the date the data were cut at, if any.
     """
     sets = tuple(_set_summary(p, m["portfolio"])
                  for p, m in zip(parameter_sets, set_metrics, strict=True))
@@ -175,7 +182,7 @@ def build_run_summary(*, name: str, markets: Sequence[str], currency: str, data_
                       for market, m in chosen_metrics.get("markets", {}).items()))
     return RunSummary(name=name, markets=tuple(markets), currency=currency,
                       data_folder=data_folder, sets=sets, chosen=chosen, statistics=statistics,
-                      verdict=verdict)
+                      verdict=verdict, holdout_boundary=holdout_boundary)
 
 
 def _set_summary(params: Mapping[str, float], p: Mapping[str, Any]) -> SetSummary:
@@ -194,6 +201,17 @@ def _market_figures(market: str, m: Mapping[str, Any]) -> MarketFigures:
         gross_sharpe=m["gross"]["sharpe"], net_sharpe=m["net"]["sharpe"],
         cost_total=m["cost_total"], contracts_traded=m["contracts_traded"],
         contracts_per_year=m["contracts_per_year"], break_even_cost=m["break_even_cost"])
+
+
+def read_record(kind: Any, value: Any, field: str = "") -> Any:
+    """``value`` (plain JSON values) read as the record class ``kind``, checking every field.
+
+    Raises
+    ------
+    RecordError
+        Naming the field (under ``field``) that is missing or of the wrong kind.
+    """
+    return _read(kind, value, field)
 
 
 @cache
@@ -264,5 +282,5 @@ def _shown(value: Any) -> str:
     return text if len(text) <= 40 else text[:37] + "..."
 
 
-__all__ = ["SCHEMA", "ChosenSet", "MarketFigures", "Performance", "PnlFigures", "RunSummary",
-           "SetSummary", "build_run_summary"]
+__all__ = ["READABLE_SCHEMAS", "SCHEMA", "ChosenSet", "MarketFigures", "Performance",
+           "PnlFigures", "RunSummary", "SetSummary", "build_run_summary", "read_record"]

@@ -126,16 +126,15 @@ def decide(stats: FirstPassStats, thresholds: VerdictThresholds = VerdictThresho
     """Decide what a sweep's first-pass statistics say about the idea.
 
     Every check of the module docstring is run and listed; the first failing one decides.
-    ``holdout_seen`` is a sentence saying when and by whom the idea's held-out years were
-    unlocked (None when they were not).
+    ``holdout_seen`` is the warning that the idea's held-out years were already unlocked, when
+    and by whom (:func:`hunchbook.core.holdout.holdout_seen_note`; None when they were not).
     """
     t = thresholds
     found: list[tuple[Check, str | None]] = []  # each check and the outcome its failure gives
     for make in _CHECKS:
         found.append(make(stats, t))
     if holdout_seen:
-        found.append((Check("holdout", "Holdout", "warn", "seen",
-                            f"Holdout already seen: {holdout_seen}"), None))
+        found.append((Check("holdout", "Holdout", "warn", "seen", holdout_seen), None))
     outcome = next((fail for check, fail in found if check.status == "fail"), "passes")
     checks = tuple(check for check, _ in found)
     deciding = [c.finding for c in checks if c.status == "fail"][:1]

@@ -36,6 +36,9 @@ DEMO_TAG = "invented-demo"
 BuildProgress = Callable[[int, int], None]
 #: Runs the demo catalogue records (for progress).
 DEMO_RUNS = 10
+#: The demo desk's holdout boundary: the day after the invented history ends. Its stories are
+#: told on the whole history; the held-out years are those still to come.
+DEMO_HOLDOUT = dt.date(2026, 1, 1)
 
 
 class _Clock:
@@ -131,6 +134,10 @@ class _Builder:
         self.note(None, INES, "Desk rule from today: every idea goes into the "
                   "catalogue with its rationale, markets, rule file and parameter grid BEFORE "
                   "anyone runs it. Invented demo desk.", kind="decision")
+        self.cat.set_holdout_boundary(
+            DEMO_HOLDOUT, by=INES, reason="our history ends on 2025-12-31; the held-out "
+            "years are the ones still to come, and each idea sees them once, when it has "
+            "earned it")
         yield "2025-06-30T14"
         self.note(None, INES, "Half-year review: six ideas tested, one promoted. "
                   "Too many grid points per idea in Q1; keep grids to a handful of values.")

@@ -17,7 +17,13 @@ from PySide6.QtWidgets import QWidget
 
 from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import HunchbookError
-from hunchbook.core.presenter import Table, market_table, set_table
+from hunchbook.core.presenter import (
+    HOLDOUT_HEADERS,
+    Table,
+    holdout_rows,
+    market_table,
+    set_table,
+)
 from hunchbook.core.verdict import CAUTION
 from hunchbook.gui.charts.result_charts import ResultCharts
 from hunchbook.gui.charts.run_figures import (
@@ -29,7 +35,7 @@ from hunchbook.gui.charts.run_figures import (
     verdict_text,
 )
 from hunchbook.gui.charts.theme import light_theme
-from hunchbook.store.records import Idea, RunRecord
+from hunchbook.store.records import HoldoutView, Idea, RunRecord
 
 #: Pixel size of each chart image in the report (the sweep chart is narrower).
 CHART_SIZE = (960, 360)
@@ -37,7 +43,8 @@ SWEEP_SIZE = (720, 400)
 
 #: Caption of each chart, by the names of :meth:`ResultCharts.named`.
 CAPTIONS = {
-    "equity": "Cumulative P&L of the chosen set, gross and net of costs.",
+    "equity": "Cumulative P&L of the chosen set, gross and net of costs (the dashed vertical "
+              "line marks the holdout boundary; held-out curves after it are dashed).",
     "drawdown": "Net drawdown: how far cumulative net P&L stood below its running peak.",
     "sweep": "Net Sharpe ratio of every parameter set run (the chosen set outlined).",
     "contribution": "Total P&L of the chosen set per market, gross and net.",
@@ -90,10 +97,14 @@ def png_bytes(widget: QWidget, size: tuple[int, int] = CHART_SIZE) -> bytes:
     return bytes(data.data())
 
 
-def render_chart_images(run: RunRecord) -> dict[str, bytes]:
-    """PNG images of a run's charts in the light report theme, by chart name."""
+def render_chart_images(run: RunRecord, held_out: HoldoutView | None = None
+                        ) -> dict[str, bytes]:
+    """PNG images of a run's charts in the light report theme, by chart name (with the
+    held-out curves when ``held_out`` continues this run)."""
     charts = ResultCharts(light_theme())
     charts.show_run(run)
+    if held_out is not None and held_out.run_id == run.id:
+        charts.show_held_out(held_out.daily_pnl)
     images = {name: png_bytes(chart, SWEEP_SIZE if name == "sweep" else CHART_SIZE)
               for name, chart in charts.named().items()}
     for chart in (charts.equity, charts.drawdown, charts.contribution, charts.heatmap,
@@ -102,7 +113,7 @@ def render_chart_images(run: RunRecord) -> dict[str, bytes]:
     return images
 
 
-def _figures_table(rows: list[FigureRow]) -> str:
+def _figures_table(rows: list[FigureRow], headers: tuple[str, str] = ("Gross", "Net")) -> str:
     body = []
     for row in rows:
         gross = "" if row.gross is None and row.net is not None \
@@ -110,8 +121,9 @@ def _figures_table(rows: list[FigureRow]) -> str:
         body.append(f'<tr title="{_e(row.note)}"><td>{_e(row.label)}</td>'
                     f'<td class="num">{_e(gross)}</td>'
                     f'<td class="num">{_e(format_value(row.net, row.kind))}</td></tr>')
-    return ('<table><thead><tr><th>Figure</th><th class="num">Gross</th>'
-            '<th class="num">Net</th></tr></thead><tbody>' + "".join(body) + "</tbody></table>")
+    return (f'<table><thead><tr><th>Figure</th><th class="num">{_e(headers[0])}</th>'
+            f'<th class="num">{_e(headers[1])}</th></tr></thead><tbody>' + "".join(body)
+            + "</tbody></table>")
 
 
 def _table(table: Table, empty: str) -> str:
@@ -145,8 +157,28 @@ def _idea_section(idea: Idea) -> str:
     return f"<dl>{body}</dl>"
 
 
-def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str, bytes]) -> str:
-    """The report page as one HTML string (``images``: PNG bytes by chart name)."""
+def _holdout_section(run: RunRecord, held_out: HoldoutView | None) -> str:
+    boundary = run.result.holdout_boundary if run.result else None
+    if held_out is None:
+        if boundary is None:
+            return "<p>This run saw the whole history: nothing was held out of it.</p>"
+        return (f"<p>Locked: this run saw only the dates before {_e(boundary)} (the holdout "
+                "boundary, the dashed line on the charts). The held-out years have not been "
+                "unlocked for this idea.</p>")
+    f = held_out.figures
+    also = ("" if held_out.run_id == run.id else
+            f" These figures continue run {held_out.run_id}, not this run.")
+    return (f"<p>Unlocked by {_e(held_out.seen_by)} on {_e(held_out.seen_at)}: rule revision "
+            f"{_e(held_out.revision_number)}, set {_e(format_params(held_out.chosen_params))} "
+            f"(run {_e(held_out.run_id)}), run once on the held-out dates {_e(f.first_date)} "
+            f"to {_e(f.last_date)}.{_e(also)}</p>"
+            + _figures_table(holdout_rows(f), HOLDOUT_HEADERS) + f"<p>{_e(f.finding())}</p>")
+
+
+def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str, bytes],
+                held_out: HoldoutView | None = None) -> str:
+    """The report page as one HTML string (``images``: PNG bytes by chart name;
+    ``held_out``: the idea's unlocking of its held-out years, if any)."""
     verdict = verdict_text(run)
     title = f"{idea.title} — run {run.id}"
     reasons = "".join(f"<li>{_e(r)}</li>" for r in verdict.reasons)
@@ -167,6 +199,8 @@ def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str,
                   ("Parameter sets run", run.set_count),
                   ("Trials counted for the idea", run.trial_count),
                   ("Data fingerprint", run.data_fingerprint),
+                  ("Holdout boundary", (result.holdout_boundary if result else None)
+                   or "none (the whole history)"),
                   ("Engine version", run.engine_version)]
     provenance_html = "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in provenance)
     return f"""<!DOCTYPE html>
@@ -195,6 +229,8 @@ trials counted for the idea.</p>
 <h2>How far to trust it (days all sets share)</h2>
 {_figures_table(statistic_rows(run))}
 {notes_html}
+<h2>Held-out years</h2>
+{_holdout_section(run, held_out)}
 <h2>Charts</h2>
 {figures}
 <h2>Markets</h2>
@@ -212,7 +248,8 @@ trials counted for the idea.</p>
 
 
 def write_html_report(path: str | os.PathLike[str], *, idea: Idea, run: RunRecord,
-                      rule_text: str, images: dict[str, bytes]) -> None:
+                      rule_text: str, images: dict[str, bytes],
+                      held_out: HoldoutView | None = None) -> None:
     """Write the report atomically (a temporary file beside the target, then a rename).
 
     Raises
@@ -221,7 +258,8 @@ def write_html_report(path: str | os.PathLike[str], *, idea: Idea, run: RunRecor
         The folder is missing or the file cannot be written.
     """
     target = Path(path)
-    text = report_html(idea=idea, run=run, rule_text=rule_text, images=images)
+    text = report_html(idea=idea, run=run, rule_text=rule_text, images=images,
+                       held_out=held_out)
     try:
         write_atomically(target, text.encode("utf-8"))
     except OSError as exc:

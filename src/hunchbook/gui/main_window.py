@@ -39,6 +39,7 @@ from hunchbook.gui.data_menu import DataMenu
 from hunchbook.gui.drops import DropHandler
 from hunchbook.gui.exports import Exports
 from hunchbook.gui.feedback import one_line
+from hunchbook.gui.holdout import HoldoutActions
 from hunchbook.gui.quick_run import QuickRunner
 from hunchbook.gui.sections import registry
 from hunchbook.gui.sections.base import IdeaSection, SectionContext
@@ -99,6 +100,8 @@ class MainWindow(QMainWindow):
 
         self._build_sections()
         self.quick_run = QuickRunner(self)
+        self.holdout = HoldoutActions(self)
+        self.runs.results.holdout.unlock_requested.connect(self.holdout.unlock)
         self.exports = Exports(self)
         self.data_menu = DataMenu(self)
         self.drops = DropHandler(self)
@@ -166,8 +169,9 @@ class MainWindow(QMainWindow):
                             ex.bundle_action, ex.report_action, ex.pnl_action, None,
                             quit_action)),
                  ("&Idea", (run.run_action, run.cancel_action, self.save_rules_action,
-                            self.find_action)),
-                 ("&Data", (data.folder_action, data.library_action, data.check_action)),
+                            self.find_action, None, self.holdout.unlock_action)),
+                 ("&Data", (data.folder_action, data.library_action, data.check_action, None,
+                            self.holdout.boundary_action)),
                  ("&View", tuple(
                      make_action(self, s.tab_title, partial(self.show_section, s.key),
                                  f"Ctrl+{n}" if n < 10 else None, f"Show the {s.key} section")
@@ -317,6 +321,7 @@ class MainWindow(QMainWindow):
         self.save_rules_action.setEnabled(idea_id is not None)
         self.exports.bundle_action.setEnabled(idea_id is not None)
         self.quick_run.update_actions()
+        self.holdout.update_actions()
 
     def _set_tab(self, section: IdeaSection, text: str, tooltip: str) -> None:
         index = self.tabs.indexOf(section)

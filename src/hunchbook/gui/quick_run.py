@@ -162,8 +162,8 @@ class QuickRunner(QObject):
         if idea_id == window.current_idea_id():
             window.show_section("runs")
         window.status_message(f"Run {run_id} recorded (rule revision "
-                              f"{result.revision_number}, {len(result.summary.sets)} sets): "
-                              f"{label}.")
+                              f"{result.revision_number}, {len(result.summary.sets)} sets, "
+                              f"in-sample up to {result.boundary}): {label}.")
         self.finished.emit(run_id)
 
     def _failed(self, message: str) -> None:

@@ -168,12 +168,18 @@ class RunIdeaWorker(Worker):
 
 
 def set_curves(rule_text: str, data_folder: str | os.PathLike[str],
-               params: dict[str, float]) -> tuple[dict[str, float], Any]:
-    """Run one parameter set of a rule file over a data folder; returns ``(params, daily)``
-    with ``daily`` the set's daily portfolio P&L (for a results view's curves)."""
+               params: dict[str, float],
+               boundary: str | None = None) -> tuple[dict[str, float], Any]:
+    """Run one parameter set of a rule file over a data folder, on the dates before the
+    holdout ``boundary`` (``YYYY-MM-DD``; None: the whole history); returns
+    ``(params, daily)`` with ``daily`` the set's daily portfolio P&L (for a results view's
+    curves)."""
+    import datetime as dt
+
     from hunchbook.api import Study
 
-    study = Study.from_text(rule_text, data_folder)
+    before = None if boundary is None else dt.date.fromisoformat(boundary)
+    study = Study.from_text(rule_text, data_folder, before=before)
     result = study.run_set(study.parameter_sets(params)[0])
     return dict(result.params), result.portfolio
 

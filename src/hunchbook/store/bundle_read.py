@@ -12,11 +12,16 @@ A bundle is a zip archive holding plain-text files only:
     statistics and verdict; :class:`hunchbook.core.results.RunSummary`).
 ``runs/<uuid>.csv``
     the chosen set's daily P&L: ``date,gross_pnl,cost,net_pnl``.
+``holdout/<uuid>.json``, ``holdout/<uuid>.csv``
+    when the idea's held-out years were unlocked (the manifest's ``holdout`` table: who, when,
+    the run it continues, the boundary): the held-out figures
+    (:class:`hunchbook.core.holdout.HoldoutFigures`) and daily P&L.
 
 Checks: file and member sizes (declared and actual), member count, member names (no absolute
 paths, ``..``, backslashes or unknown files), encryption, UTF-8, TOML/JSON/CSV syntax, every
 key and type, text lengths, vocabularies, uuids, timestamps, SHA-256 of each rule text, and that
-every reference (run -> revision, correction -> entry) points inside the bundle.
+every reference (run -> revision, correction -> entry, holdout -> run and its revision) points
+inside the bundle.
 """
 
 from __future__ import annotations
@@ -64,6 +69,8 @@ _MEMBER_PATTERNS = {
     "rule": (re.compile(r"^rules/\d{1,6}-[0-9a-f]{64}\.toml$"), MAX_RULE_BYTES),
     "run": (re.compile(rf"^runs/{_UUID}\.json$"), MAX_RUN_JSON_BYTES),
     "pnl": (re.compile(rf"^runs/{_UUID}\.csv$"), MAX_PNL_CSV_BYTES),
+    "holdout": (re.compile(rf"^holdout/{_UUID}\.json$"), MAX_RUN_JSON_BYTES),
+    "holdout_pnl": (re.compile(rf"^holdout/{_UUID}\.csv$"), MAX_PNL_CSV_BYTES),
 }
 
 
@@ -78,6 +85,7 @@ class BundleContent:
     journal: list[dict[str, Any]]
     reviews: list[dict[str, Any]]
     runs: list[dict[str, Any]]
+    holdout: dict[str, Any] | None = None
 
 
 def read_bundle(path: str | os.PathLike[str]) -> BundleContent:
@@ -169,7 +177,7 @@ def _content(members: dict[str, str]) -> dict[str, Any]:
     t = _Table(top, "")
     t.keys(required=("format", "format_version", "idea"),
            optional=("exported_at", "revisions", "preregistrations", "journal", "reviews",
-                     "runs"))
+                     "runs", "holdout"))
     if top["format"] != FORMAT:
         raise CatalogueError(f"format must be '{FORMAT}'", field="format")
     if top["format_version"] != FORMAT_VERSION:
@@ -190,6 +198,8 @@ def _content(members: dict[str, str]) -> dict[str, Any]:
     }
     for key in ("preregistrations", "reviews", "runs"):
         _unique(content[key], key)
+    if "holdout" in top:
+        content["holdout"] = _holdout(t.table("holdout"), members, used, content["runs"])
     extra = sorted(set(members) - used)
     if extra:
         raise CatalogueError(f"file(s) not referenced by {MANIFEST}: {', '.join(extra)}")
@@ -346,6 +356,44 @@ def _run(t: _Table, members: dict[str, str], used: set[str],
     return {"uuid": run_uuid, "revision": revision, "run": cleaned,
             "recorded_at": t.time("recorded_at"),
             "recorded_by": validate.name(t.data["recorded_by"], t.field("recorded_by"))}
+
+
+def _holdout(t: _Table, members: dict[str, str], used: set[str],
+             bundle_runs: list[dict[str, Any]]) -> dict[str, Any]:
+    from hunchbook.core.errors import RecordError
+    from hunchbook.core.holdout import HoldoutFigures
+    from hunchbook.store.holdout import clean_date
+
+    t.keys(required=("uuid", "run", "revision", "chosen_params", "boundary",
+                     "data_fingerprint", "engine_version", "seen_at", "seen_by", "file",
+                     "pnl_file"))
+    run = next((r for r in bundle_runs if r["uuid"] == t.uuid("run")), None)
+    if run is None:
+        raise CatalogueError("names a run the bundle does not hold", field=t.field("run"))
+    if t.uuid("revision") != run["revision"]:
+        raise CatalogueError("is not the rule revision of its run", field=t.field("revision"))
+    chosen = validate.param_set(t.data["chosen_params"], t.field("chosen_params"))
+    if runs.params_key(chosen) != runs.params_key(run["run"].chosen_params):
+        raise CatalogueError("is not the chosen set of its run", field=t.field("chosen_params"))
+    boundary = clean_date(t.data["boundary"], t.field("boundary"))
+    name = _member_ref(t, "file", members, used, "holdout")
+    pnl_name = _member_ref(t, "pnl_file", members, used, "holdout_pnl")
+    try:
+        figures = HoldoutFigures.from_dict(json.loads(members[name]))
+    except (RecordError, json.JSONDecodeError) as exc:
+        raise CatalogueError(str(exc), field=name) from None
+    if figures.boundary != boundary.isoformat():
+        raise CatalogueError(f"figures measured from {figures.boundary}, not the boundary "
+                             f"{boundary}", field=name)
+    return {"uuid": t.uuid(), "run": run["uuid"], "revision": run["revision"],
+            "chosen_params": chosen, "boundary": boundary, "figures": figures,
+            "daily_pnl": pnl.clean(_pnl_csv(members[pnl_name], pnl_name), pnl_name),
+            "data_fingerprint": validate.name(t.data["data_fingerprint"],
+                                              t.field("data_fingerprint")),
+            "engine_version": validate.name(t.data["engine_version"],
+                                            t.field("engine_version")),
+            "seen_at": t.time("seen_at"),
+            "seen_by": validate.name(t.data["seen_by"], t.field("seen_by"))}
 
 
 def _pnl_csv(text: str, name: str) -> pd.DataFrame:

@@ -1,12 +1,16 @@
-"""Idea bundles: export one idea with its revisions, pre-registration, journal, reviews and
-runs to a zip of plain text files, and import such a file without ever overwriting.
+"""Idea bundles: export one idea with its revisions, pre-registration, journal, reviews, runs
+and, once unlocked, its holdout to a zip of plain text files, and import such a file without
+ever overwriting.
 
 Import rules: a bundle is read and checked whole first (:mod:`hunchbook.store.bundle_read`)
 and then applied in one transaction, so nothing is imported partially. An idea whose uuid is
 new is created as the bundle has it. For an idea the catalogue already holds, the idea's own
 fields are never changed; records (revisions, pre-registration versions, journal entries,
 reviews, runs) whose uuid is new are appended, records already present are skipped, and every
-difference is reported as a conflict and kept as the catalogue had it.
+difference is reported as a conflict and kept as the catalogue had it. An idea's unlocking of
+its held-out years travels with it, so that it is seen once however many catalogues hold the
+idea: it is imported when the catalogue has none for the idea (whatever the catalogue's own
+boundary), and a different one already there is kept and reported.
 """
 
 from __future__ import annotations
@@ -22,6 +26,7 @@ from typing import Any
 
 from hunchbook.store import (
     chain,
+    holdout,
     ideas,
     journal,
     preregistration,
@@ -35,7 +40,7 @@ from hunchbook.store.records import ImportReport
 from hunchbook.store.sqlite_lib import Database
 
 #: Record kinds counted in an :class:`ImportReport`.
-RECORD_KINDS = ("revisions", "preregistrations", "journal", "reviews", "runs")
+RECORD_KINDS = ("revisions", "preregistrations", "journal", "reviews", "runs", "holdout")
 _IDEA_FIELDS = ("title", "hypothesis", "rationale", "rationale_kind", "source_kind",
                 "citation", "link", "submitted_by", "reviewer", "markets", "tags", "stage")
 
@@ -90,6 +95,19 @@ def export(db: Database, idea_id: int, path: str | os.PathLike[str], *, at: str,
                             "recorded_at": run.recorded_at, "recorded_by": run.recorded_by,
                             "file": f"runs/{run.uuid}.json",
                             "pnl_file": f"runs/{run.uuid}.csv"})
+    view = holdout.view(db, idea.id)
+    if view is not None:
+        run_uuid = {r.id: r.uuid for r in runs.of_idea(db, idea.id)}
+        files[f"holdout/{view.uuid}.json"] = json.dumps(view.figures.to_dict(), indent=1,
+                                                        allow_nan=False)
+        files[f"holdout/{view.uuid}.csv"] = _pnl_text(view.daily_pnl)
+        doc["holdout"] = {
+            "uuid": view.uuid, "run": run_uuid[view.run_id],
+            "revision": rev_uuid[view.revision_id], "chosen_params": view.chosen_params,
+            "boundary": view.boundary.isoformat(), "data_fingerprint": view.data_fingerprint,
+            "engine_version": view.engine_version, "seen_at": view.seen_at,
+            "seen_by": view.seen_by, "file": f"holdout/{view.uuid}.json",
+            "pnl_file": f"holdout/{view.uuid}.csv"}
     _write_zip(path, {MANIFEST: _manifest_text(doc), **files})
     return path
 
@@ -190,6 +208,8 @@ def import_bundle(db: Database, path: str | os.PathLike[str], *, by: str,
         runs.insert(db, idea_id, revisions.get(db, rev_ids[item["revision"]]), item["run"],
                     by=item["recorded_by"], at=item["recorded_at"], run_uuid=item["uuid"])
         added["runs"] += 1
+    if content.holdout is not None:
+        _import_holdout(db, idea_id, content.holdout, rev_ids, added, present, conflicts)
     report = ImportReport(idea_id=idea_id, created=created, added=added,
                           already_present=present, conflicts=tuple(conflicts))
     chain.append(db, "imports", {"idea_id": idea_id, "bundle_sha256": content.sha256,
@@ -275,6 +295,29 @@ def _import_journal(db: Database, idea_id: int, items: list[dict[str, Any]],
             at=item["at"], corrects=ids.get(item["corrects"]) if item["corrects"] else None,
             entry_uuid=item["uuid"])
         added["journal"] += 1
+
+
+def _import_holdout(db: Database, idea_id: int, item: dict[str, Any], rev_ids: dict[str, int],
+                    added: dict[str, int], present: dict[str, int],
+                    conflicts: list[str]) -> None:
+    local = holdout.view(db, idea_id, with_pnl=False)
+    if local is not None:
+        if local.uuid == item["uuid"]:
+            present["holdout"] += 1
+        else:
+            conflicts.append(f"the bundle's unlocking of the holdout (by {item['seen_by']} on "
+                             f"{item['seen_at'][:10]}) differs from the catalogue's (by "
+                             f"{local.seen_by} on {local.seen_at[:10]}); kept the catalogue's")
+        return
+    _check_uuid_free(db, "holdout_views", item["uuid"])
+    run_id = db.execute("SELECT id FROM runs WHERE uuid = ?", [item["run"]]).fetchone()[0]
+    holdout.insert_view(
+        db, idea_id=idea_id, revision_id=rev_ids[item["revision"]], run_id=run_id,
+        chosen_params=item["chosen_params"], boundary=item["boundary"],
+        data_fingerprint=item["data_fingerprint"], engine_version=item["engine_version"],
+        figures=item["figures"], daily_pnl=item["daily_pnl"], by=item["seen_by"],
+        at=item["seen_at"], view_uuid=item["uuid"])
+    added["holdout"] += 1
 
 
 def _check_uuid_free(db: Database, table: str, record_uuid: str) -> None:

@@ -33,6 +33,10 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     "journal": ("id", "uuid", "idea_id", "kind", "text", "author", "at", "corrects"),
     "reviews": ("id", "uuid", "idea_id", "reviewer", "checklist", "decision", "comments", "at"),
     "imports": ("id", "idea_id", "bundle_sha256", "report", "imported_by", "at"),
+    "holdout_boundaries": ("id", "uuid", "boundary", "reason", "set_by", "set_at"),
+    "holdout_views": ("id", "uuid", "idea_id", "revision_id", "run_id", "chosen_params",
+                      "boundary", "data_fingerprint", "engine_version", "figures", "daily_pnl",
+                      "seen_by", "seen_at"),
 }
 
 

@@ -16,7 +16,7 @@ import sqlite3
 import uuid as uuidlib
 from collections.abc import Iterator
 
-from hunchbook.store import chain, migrations, pnl, revisions, runs, validate
+from hunchbook.store import chain, holdout, migrations, pnl, revisions, runs, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.sqlite_lib import Database
 
@@ -100,6 +100,11 @@ def _records(db: Database) -> Iterator[str]:
             pnl.decode(blob)
         except CatalogueError as exc:
             yield f"run {run_id}: {exc}"
+    for (idea_id,) in db.execute("SELECT idea_id FROM holdout_views").fetchall():
+        try:
+            holdout.view(db, idea_id)
+        except CatalogueError as exc:
+            yield f"holdout of idea {idea_id}: {exc}"
     for idea_id, stored in db.execute("SELECT id, trial_count FROM ideas").fetchall():
         actual = runs.trial_count(db, idea_id)
         if actual != stored:

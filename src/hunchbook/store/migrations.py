@@ -21,6 +21,10 @@ Versions
    (``REPLACE`` would otherwise delete the old row without firing the delete trigger), and
    each row of the chained tables holds its hash chained to the row before
    (:mod:`hunchbook.store.chain`), computed for the existing rows.
+6. ``holdout``: the catalogue's holdout boundary, one append-only row per setting (the
+   latest holds; who set it, when and why), and each idea's single unlocking of its held-out
+   years (``holdout_views``: the run it continues, the chosen set, the boundary, who and when,
+   the held-out figures and daily P&L); both append-only and hash-chained.
 
 Files are opened, recognised and migrated by :mod:`hunchbook.store.opening`.
 """
@@ -42,9 +46,11 @@ from hunchbook.store.vocab import (
 #: The catalogue's migration set, in order.
 MIGRATIONS = Migrations("hunchbook")
 
-#: Tables whose rows are never updated or deleted once written.
+#: Tables whose rows are never updated or deleted once written (from version 1 on).
 APPEND_ONLY = ("rule_revisions", "preregistrations", "runs", "trials", "journal", "reviews",
                "imports")
+#: The tables version 5 chained (later tables are chained when they are created).
+_CHAINED_AT_5 = ("rule_revisions", "preregistrations", "runs", "journal", "reviews", "imports")
 
 
 def _run(db: Database, statements: list[str]) -> None:
@@ -273,13 +279,62 @@ def _tamper_evidence(db: Database) -> None:
             + " AND ".join(f"{column} = new.{column}" for column in key) + ")" for key in keys)
         db.execute(f"CREATE TRIGGER {table}_no_replace BEFORE INSERT ON {table} WHEN {taken} "
                    + _refusal(table))
-    for table in chain.COLUMNS:
+    for table in _CHAINED_AT_5:
         db.execute(f"ALTER TABLE {table} ADD COLUMN row_hash TEXT")
         db.execute(f"DROP TRIGGER {table}_no_update")
         chain.seal(db, table)
         db.execute(f"CREATE TRIGGER {table}_no_update BEFORE UPDATE ON {table} "
                    + _refusal(table))
     db.execute("PRAGMA user_version = 5")
+
+
+#: The keys of the holdout tables (as :data:`_KEYS` for version 5).
+_HOLDOUT_KEYS = {
+    "holdout_boundaries": (("id",), ("uuid",)),
+    "holdout_views": (("id",), ("uuid",), ("idea_id",)),
+}
+
+
+@MIGRATIONS(name="0006_holdout")
+def _holdout(db: Database) -> None:
+    _run(db, [
+        """CREATE TABLE holdout_boundaries (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            boundary TEXT NOT NULL CHECK (boundary GLOB
+                '[0-9][0-9][0-9][0-9]-[0-9][0-9]-[0-9][0-9]'),
+            reason TEXT NOT NULL,
+            set_by TEXT NOT NULL,
+            set_at TEXT NOT NULL,
+            row_hash TEXT
+        ) STRICT""",
+        """CREATE TABLE holdout_views (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            idea_id INTEGER NOT NULL UNIQUE REFERENCES ideas(id),
+            revision_id INTEGER NOT NULL REFERENCES rule_revisions(id),
+            run_id INTEGER NOT NULL REFERENCES runs(id),
+            chosen_params TEXT NOT NULL,
+            boundary TEXT NOT NULL,
+            data_fingerprint TEXT NOT NULL,
+            engine_version TEXT NOT NULL,
+            figures TEXT NOT NULL,
+            daily_pnl BLOB NOT NULL,
+            seen_by TEXT NOT NULL,
+            seen_at TEXT NOT NULL,
+            row_hash TEXT
+        ) STRICT""",
+    ])
+    for table, keys in _HOLDOUT_KEYS.items():
+        for action in ("UPDATE", "DELETE"):
+            db.execute(f"CREATE TRIGGER {table}_no_{action.lower()} BEFORE {action} ON "
+                       f"{table} " + _refusal(table))
+        taken = " OR ".join(
+            f"EXISTS (SELECT 1 FROM {table} WHERE "
+            + " AND ".join(f"{column} = new.{column}" for column in key) + ")" for key in keys)
+        db.execute(f"CREATE TRIGGER {table}_no_replace BEFORE INSERT ON {table} WHEN {taken} "
+                   + _refusal(table))
+    db.execute("PRAGMA user_version = 6")
 
 
 #: The schema version this code writes (the number of migrations).

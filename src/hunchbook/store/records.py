@@ -2,15 +2,15 @@
 
 from __future__ import annotations
 
+import datetime as dt
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, NamedTuple
 
 if TYPE_CHECKING:
     import pandas as pd
 
-if TYPE_CHECKING:
+    from hunchbook.core.holdout import HoldoutFigures
     from hunchbook.core.results import RunSummary
-
 
 
 @dataclass(frozen=True)
@@ -169,7 +169,8 @@ class ImportReport:
     """What importing a bundle did.
 
     ``added`` and ``already_present`` count records by kind (``revisions``,
-    ``preregistrations``, ``journal``, ``reviews``, ``runs``); ``conflicts`` lists every
+    ``preregistrations``, ``journal``, ``reviews``, ``runs``, ``holdout``: the idea's
+    unlocking of its held-out years); ``conflicts`` lists every
     difference between the bundle and the catalogue that was kept as the catalogue had it.
     """
 
@@ -198,3 +199,42 @@ class TrialHistory:
 
     total: int
     earlier: tuple[EarlierStrategy, ...]
+
+
+@dataclass(frozen=True)
+class HoldoutBoundary:
+    """One setting of the catalogue's holdout boundary: runs see only the dates before
+    ``boundary``; who set it, when and why. The latest setting holds."""
+
+    id: int
+    uuid: str
+    boundary: dt.date
+    reason: str
+    set_by: str
+    set_at: str
+
+
+@dataclass(frozen=True)
+class HoldoutView:
+    """An idea's one unlocking of its held-out years.
+
+    ``run_id`` is the in-sample run it continues (on rule revision ``revision_number``, with
+    the chosen set ``chosen_params``); ``figures`` the held-out figures beside the in-sample
+    ones; ``data_fingerprint`` that of the whole data read; ``daily_pnl`` the chosen set's
+    daily P&L on the held-out dates (decoded by ``Catalogue.holdout_view``).
+    """
+
+    id: int
+    uuid: str
+    idea_id: int
+    revision_id: int
+    revision_number: int
+    run_id: int
+    chosen_params: dict[str, float]
+    boundary: dt.date
+    data_fingerprint: str
+    engine_version: str
+    figures: HoldoutFigures
+    seen_by: str
+    seen_at: str
+    daily_pnl: pd.DataFrame | None = field(default=None, compare=False)

@@ -1,6 +1,9 @@
-"""Equity chart: cumulative gross and net P&L on a date axis, with overlays of other sets."""
+"""Equity chart: cumulative gross and net P&L on a date axis, with overlays of other sets, the
+holdout boundary and, once unlocked, the held-out curves after it."""
 
 from __future__ import annotations
+
+import datetime as dt
 
 import numpy as np
 import pandas as pd
@@ -8,7 +11,8 @@ import pyqtgraph as pg
 from PySide6.QtCore import Qt
 
 from hunchbook.gui.charts.axes import DATE_CHART_AXIS_WIDTH, AmountAxis
-from hunchbook.gui.charts.run_figures import equity_curves, format_params
+from hunchbook.gui.charts.holdout_marks import BoundaryLine, continued, held_out_pen
+from hunchbook.gui.charts.run_figures import epoch_seconds, equity_curves, format_params
 from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
 
 
@@ -21,7 +25,8 @@ def smooth_long_series(item: pg.PlotItem) -> None:
 
 class EquityChart(pg.PlotWidget):
     """Cumulative gross and net P&L of the chosen set; ``add_overlay`` draws another set's
-    curves dashed, named in the legend."""
+    curves dashed, named in the legend; ``set_boundary`` the holdout line and
+    ``set_held_out`` the held-out curves continuing the chosen set's after it."""
 
     def __init__(self, parent=None, *, theme: ChartTheme | None = None) -> None:
         super().__init__(parent, axisItems={"bottom": pg.DateAxisItem(),
@@ -36,17 +41,24 @@ class EquityChart(pg.PlotWidget):
         self.gross_curve = item.plot(name="Gross", pen=pg.mkPen(self.theme.gross, width=1.5))
         self.net_curve = item.plot(name="Net", pen=pg.mkPen(self.theme.net, width=2))
         item.addLine(y=0, pen=pg.mkPen(with_alpha(self.theme.foreground, 90)))
+        self.boundary = BoundaryLine(item, self.theme)
+        self.held_gross = item.plot(pen=held_out_pen(self.theme, width=1.5, gross=True))
+        self.held_net = item.plot(pen=held_out_pen(self.theme))
         self.overlays: list[pg.PlotDataItem] = []
         self.has_data = False
+        self.has_held_out = False
+        self._ends = (0.0, 0.0)
         set_title(self, "Cumulative P&L of the chosen set", self.theme)
 
     def set_daily(self, daily: pd.DataFrame | None, *, currency: str = "") -> None:
         """Show a daily P&L table (date index; gross_pnl and net_pnl columns)."""
         self.clear_overlays()
+        self.set_held_out(None)
         x, gross, net = equity_curves(daily)
         self.gross_curve.setData(x, gross)
         self.net_curve.setData(x, net)
         self.has_data = bool(x.size)
+        self._ends = (float(gross[-1]), float(net[-1])) if x.size else (0.0, 0.0)
         title = "Cumulative P&L of the chosen set"
         set_title(self, f"{title} ({currency})" if currency else title, self.theme)
         self.getPlotItem().enableAutoRange()
@@ -64,6 +76,32 @@ class EquityChart(pg.PlotWidget):
                                                           style=Qt.PenStyle.DotLine))
         self.overlays += [net_item, gross_item]
 
+    def set_boundary(self, boundary: dt.date | str | None) -> None:
+        """Show the holdout boundary (a date or ``YYYY-MM-DD``; None hides it)."""
+        self.boundary.set(boundary)
+
+    def set_held_out(self, daily: pd.DataFrame | None) -> None:
+        """Draw the held-out daily P&L (date index; gross_pnl, net_pnl) as curves continuing
+        the chosen set's, dashed and named in the legend; None removes them."""
+        shown = daily is not None and not daily.empty
+        for curve, name in ((self.held_net, "Net, held out"), (self.held_gross,
+                                                                 "Gross, held out")):
+            self.legend.removeItem(curve)
+            if shown:
+                self.legend.addItem(curve, name)
+        if not shown:
+            empty = np.zeros(0)
+            self.held_gross.setData(empty, empty)
+            self.held_net.setData(empty, empty)
+            self.has_held_out = False
+            return
+        assert daily is not None
+        x = epoch_seconds(daily.index)
+        self.held_gross.setData(x, continued(self._ends[0], daily["gross_pnl"].to_numpy()))
+        self.held_net.setData(x, continued(self._ends[1], daily["net_pnl"].to_numpy()))
+        self.has_held_out = True
+        self.getPlotItem().enableAutoRange()
+
     def clear_overlays(self) -> None:
         """Remove every overlaid set."""
         for overlay in self.overlays:
@@ -73,6 +111,8 @@ class EquityChart(pg.PlotWidget):
     def clear_data(self) -> None:
         """Show nothing."""
         self.clear_overlays()
+        self.set_held_out(None)
+        self.boundary.set(None)
         empty = np.zeros(0)
         self.gross_curve.setData(empty, empty)
         self.net_curve.setData(empty, empty)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import pandas as pd
 from PySide6.QtWidgets import QWidget
 
 from hunchbook.gui.charts.contribution import ContributionChart
@@ -48,6 +49,9 @@ class ResultCharts:
         currency = run.result.currency if run.result else ""
         self.equity.set_daily(run.daily_pnl, currency=currency)
         self.drawdown.set_daily(run.daily_pnl)
+        boundary = run.result.holdout_boundary if run.result else None
+        self.equity.set_boundary(boundary)
+        self.drawdown.set_boundary(boundary)
         self.contribution.set_totals(market_totals(run), currency=currency)
         self.costs.set_curve(*cost_curve(run))
         space = parameter_space(run)
@@ -59,6 +63,11 @@ class ResultCharts:
             self.heatmap.set_space(space, chosen)
         elif self.sweep == "profile":
             self.profile.set_space(space, chosen)
+
+    def show_held_out(self, daily: pd.DataFrame | None) -> None:
+        """Draw the held-out daily P&L after the shown run's curves (None: remove it)."""
+        self.equity.set_held_out(daily)
+        self.drawdown.set_held_out(daily)
 
     def clear(self) -> None:
         """Empty every chart."""

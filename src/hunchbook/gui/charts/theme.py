@@ -21,6 +21,7 @@ class ChartTheme:
     drawdown: QColor
     accent: QColor
     dark: bool
+    held_out: QColor
 
 
 def _theme(background: QColor, foreground: QColor) -> ChartTheme:
@@ -28,10 +29,11 @@ def _theme(background: QColor, foreground: QColor) -> ChartTheme:
     if dark:
         return ChartTheme(background, foreground, 0.18, gross=QColor(160, 168, 182),
                           net=QColor(92, 170, 250), drawdown=QColor(236, 112, 99),
-                          accent=QColor(246, 190, 80), dark=True)
+                          accent=QColor(246, 190, 80), dark=True,
+                          held_out=QColor(86, 204, 170))
     return ChartTheme(background, foreground, 0.12, gross=QColor(128, 134, 146),
                       net=QColor(24, 96, 190), drawdown=QColor(196, 62, 50),
-                      accent=QColor(214, 134, 0), dark=False)
+                      accent=QColor(214, 134, 0), dark=False, held_out=QColor(0, 128, 110))
 
 
 def palette_theme(palette: QPalette | None = None) -> ChartTheme:

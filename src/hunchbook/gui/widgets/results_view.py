@@ -1,4 +1,5 @@
-"""Results of one run: verdict banner, gross/net figures, statistics and charts."""
+"""Results of one run: verdict banner, gross/net figures, statistics, the held-out years and
+charts."""
 
 from __future__ import annotations
 
@@ -30,8 +31,9 @@ from hunchbook.gui.charts.run_figures import (
 )
 from hunchbook.gui.html_report import CAUTION, render_chart_images, write_html_report
 from hunchbook.gui.widgets.figures_model import FiguresModel
+from hunchbook.gui.widgets.holdout_panel import HoldoutPanel
 from hunchbook.gui.widgets.verdict_banner import VerdictBanner, mix_colours
-from hunchbook.store.records import Idea, RunRecord
+from hunchbook.store.records import HoldoutView, Idea, RunRecord
 
 
 def run_subtitle(run: RunRecord, title: str) -> str:
@@ -111,6 +113,8 @@ class ResultsView(QWidget):
         self.statistics = FiguresModel(self)
         self.performance_table = _figures_table(self.performance)
         self.statistics_table = _figures_table(self.statistics)
+        self.holdout = HoldoutPanel()
+        self.held_out: HoldoutView | None = None
         self.charts = ResultCharts()
         self.charts.heatmap.cell_clicked.connect(self.set_requested)
         self.charts.profile.point_clicked.connect(self.set_requested)
@@ -141,7 +145,12 @@ class ResultsView(QWidget):
         left.addWidget(self.sweep_slot, 1)
 
         charts = QWidget()
-        grid = QGridLayout(charts)
+        column = QVBoxLayout(charts)
+        column.setContentsMargins(0, 0, 0, 0)
+        column.setSpacing(6)
+        column.addWidget(self.holdout)
+        grid = QGridLayout()
+        column.addLayout(grid, 1)
         grid.setContentsMargins(0, 0, 0, 0)
         grid.setSpacing(6)
         grid.addWidget(self.equity_slot, 0, 0, 1, 2)
@@ -204,7 +213,17 @@ class ResultsView(QWidget):
         self.statistics.set_rows(statistic_rows(run))
         self._fit_tables()
         self.charts.show_run(run)
+        self.show_holdout(None, None)
         self._show_slots()
+
+    def show_holdout(self, view: HoldoutView | None, problem: str | None) -> None:
+        """Show the shown run's idea's held-out years: ``view`` its unlocking (None: locked;
+        its curves are drawn after the boundary when it continues this run) and ``problem``
+        why it cannot be unlocked now (None: it can)."""
+        self.held_out = view
+        self.holdout.show_state(self.run, view, problem)
+        continues = view is not None and self.run is not None and view.run_id == self.run.id
+        self.charts.show_held_out(view.daily_pnl if continues and view is not None else None)
 
     def _show_slots(self) -> None:
         shown = self.charts.named()
@@ -228,6 +247,8 @@ class ResultsView(QWidget):
         self.statistics.set_rows([])
         self._fit_tables()
         self.charts.clear()
+        self.holdout.show_state(None, None, None)
+        self.held_out = None
         self._show_slots()
 
     def export_html(self, path: str | os.PathLike[str], *, idea: Idea, run: RunRecord,
@@ -239,5 +260,6 @@ class ResultsView(QWidget):
         HunchbookError
             The file could not be written.
         """
+        held_out = self.held_out if self.run is not None and self.run.id == run.id else None
         write_html_report(path, idea=idea, run=run, rule_text=rule_text,
-                          images=render_chart_images(run))
+                          images=render_chart_images(run, held_out), held_out=held_out)

@@ -1,5 +1,6 @@
-"""The Runs section: an idea's run history with verdicts; the chosen run's results below, where
-a heatmap click overlays that parameter set's curves (computed on a worker)."""
+"""The Runs section: an idea's run history with verdicts; the chosen run's results below (with
+the idea's held-out years), where a heatmap click overlays that parameter set's curves
+(computed on a worker, on the dates before the run's holdout boundary)."""
 
 from __future__ import annotations
 
@@ -136,6 +137,8 @@ class RunsPanel(IdeaSection):
         if self.catalogue is not None and idea_id == self.idea_id and \
                 {r.id for r in self.catalogue.runs(idea_id)} != self._run_ids:
             self.show_idea(idea_id)
+        elif self._run is not None:
+            self._show_holdout()
 
     def current_run(self) -> RunRecord | None:
         """The run whose results are shown (daily P&L decoded), if any."""
@@ -150,7 +153,16 @@ class RunsPanel(IdeaSection):
             return
         self._run = self.catalogue.run(run_id)
         self.results.show_run(self._run, title=self._title)
+        self._show_holdout()
         self.run_shown.emit(run_id)
+
+    def _show_holdout(self) -> None:
+        """Show the idea's held-out years beside the shown run."""
+        if self.catalogue is None or self._run is None:
+            return
+        idea_id = self._run.idea_id
+        self.results.show_holdout(self.catalogue.holdout_view(idea_id),
+                                  self.catalogue.unlock_problem(idea_id))
 
     def show_set_curves(self, params: dict) -> CallWorker | None:
         """Compute one parameter set of the shown run on a worker and overlay its curves
@@ -163,7 +175,8 @@ class RunsPanel(IdeaSection):
             self.message.emit("Choose a data folder to see that set's curves.")
             return None
         rule_text = self.catalogue.revision(run.revision_id).text
-        worker = CallWorker(set_curves, rule_text, folder, dict(params))
+        boundary = run.result.holdout_boundary if run.result else None
+        worker = CallWorker(set_curves, rule_text, folder, dict(params), boundary)
         run_id = run.id
 
         def shown(result: tuple[dict, Any]) -> None:
