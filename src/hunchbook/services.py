@@ -85,9 +85,9 @@ def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLi
     effective number of trials and the trials' Sharpe variance cover every set ever run.
 
     ``loaded`` is the data already read for the new run (cut at ``before``, the holdout
-    boundary): rule texts on the same markets reuse it instead of reading the folder again. A strategy whose rule text no longer runs on this
-    data (a market left the folder, say) keeps its stored net Sharpe ratios: its trials still
-    count, one each.
+    boundary): rule texts on the same markets reuse it instead of reading the folder again. A
+    strategy whose rule text no longer runs on this data (a market left the folder, say) keeps
+    its stored net Sharpe ratios: its trials still count, one each.
     """
     frames: list[pd.DataFrame] = []
     sharpes: list[float] = []
