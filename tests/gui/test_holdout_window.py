@@ -96,7 +96,8 @@ def test_unlocking_through_the_window(qtbot, window, monkeypatch, tmp_path) -> N
                     and window.holdout.dialog.isVisible(), timeout=20000)
     dialog = window.holdout.dialog
     # the held-out dates of the run's market, counted with pandas from its price file
-    dates = pd.read_csv(window.data_folder / "TNOTE10.csv", usecols=["date"])["date"]
+    (market,) = run.result.markets
+    dates = pd.read_csv(window.data_folder / f"{market}.csv", usecols=["date"])["date"]
     later = dates[dates >= "2018-01-02"]
     assert dialog.facts == {
         "Who": "Test Reviewer",
