@@ -46,7 +46,7 @@ def _set_boundary(qtbot, window) -> None:
     window.holdout.boundary_action.trigger()
     dialog = window.holdout.dialog
     assert isinstance(dialog, BoundaryDialog) and dialog.isVisible()
-    assert "Now: 2026-01-01, set by Ines Marwood" in dialog.now.text()
+    assert "Now: 2025-01-02, set by Ines Marwood" in dialog.now.text()
     dialog.date.setDate(QDate(BOUNDARY.year, BOUNDARY.month, BOUNDARY.day))
     assert not dialog.set_button.isEnabled()  # no reason yet
     qtbot.keyClicks(dialog.reason, "hold out 2018 for the trend ideas")
@@ -62,7 +62,7 @@ def test_unlocking_through_the_window(qtbot, window, monkeypatch, tmp_path) -> N
     setting = window.catalogue.holdout_boundary()
     assert (setting.boundary, setting.set_by) == (BOUNDARY, "Test Reviewer")
     assert window.catalogue.journal()[-1].text == (
-        "Holdout boundary set to 2018-01-02 (was 2026-01-01): hold out 2018 for the trend "
+        "Holdout boundary set to 2018-01-02 (was 2025-01-02): hold out 2018 for the trend "
         "ideas")
 
     idea_id = idea_id_by_title(window, ACCEPTED_TITLE)

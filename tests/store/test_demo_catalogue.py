@@ -57,7 +57,7 @@ def test_demo_runs_are_consistent_with_the_catalogue(demo: Catalogue) -> None:
 def test_demo_runs_reach_the_verdict_each_story_tells(demo: Catalogue) -> None:
     """Each real run lands on the outcome its story (and its journal notes) describe."""
     assert [r.verdict_label for r in demo.runs()] == [
-        "passes", "selection_luck", "selection_luck", "lost_to_costs", "too_little_data",
+        "passes", "too_little_data", "selection_luck", "lost_to_costs", "too_little_data",
         "no_edge", "lost_to_costs", "passes", "not_judged", "no_edge"]
 
 
@@ -136,3 +136,18 @@ def test_the_built_desk_is_kept_once_per_version_and_copied(tmp_path: Path) -> N
     assert catalogue.read_bytes() == (first / CATALOGUE_FILE).read_bytes()
     assert sorted(p.name for p in data.iterdir()) == sorted(
         p.name for p in (first / DATA_DIR).iterdir())
+
+
+def test_the_promoted_trend_idea_saw_its_holdout_once(demo: Catalogue) -> None:
+    """The demo's promoted idea unlocked its held-out year in the tool (not elsewhere): one
+    unlocking, by the research lead, journalled with who and when (engine against its own
+    record: no outside source)."""
+    (view,) = demo.holdout_views()
+    idea = demo.idea(view.idea_id)
+    assert idea.title == "Two-average trend across the book" and idea.stage == "promoted"
+    assert view.boundary == demo.holdout_boundary().boundary
+    assert view.seen_by == DESK.people[0].name
+    entries = [e for e in demo.journal(view.idea_id) if e.text.startswith("Holdout unlocked")]
+    assert len(entries) == 1 and entries[0].by == view.seen_by
+    assert entries[0].at == view.seen_at
+    assert demo.unlock_problem(view.idea_id) is not None  # once per idea

@@ -24,7 +24,7 @@ from hunchbook.core.runners import InProcess
 from hunchbook.demo import rules as demo_rules
 from hunchbook.demo.desk import DESK
 from hunchbook.demo.rules import BOOK
-from hunchbook.services import IdeaRun, run_idea
+from hunchbook.services import IdeaRun, run_idea, unlock_holdout
 from hunchbook.store.errors import CatalogueError
 
 INES, THEO, NIA = (p.name for p in DESK.people)
@@ -38,7 +38,7 @@ BuildProgress = Callable[[int, int], None]
 DEMO_RUNS = 10
 #: The demo desk's holdout boundary: the day after the invented history ends. Its stories are
 #: told on the whole history; the held-out years are those still to come.
-DEMO_HOLDOUT = dt.date(2026, 1, 1)
+DEMO_HOLDOUT = dt.date(2025, 1, 2)
 
 
 class _Clock:
@@ -135,9 +135,8 @@ class _Builder:
                   "catalogue with its rationale, markets, rule file and parameter grid BEFORE "
                   "anyone runs it. Invented demo desk.", kind="decision")
         self.cat.set_holdout_boundary(
-            DEMO_HOLDOUT, by=INES, reason="our history ends on 2025-12-31; the held-out "
-            "years are the ones still to come, and each idea sees them once, when it has "
-            "earned it")
+            DEMO_HOLDOUT, by=INES, reason="the last year of our history (2025) stays "
+            "locked; each idea sees it once, when it has earned it")
         yield "2025-06-30T14"
         self.note(None, INES, "Half-year review: six ideas tested, one promoted. "
                   "Too many grid points per idea in Q1; keep grids to a handful of values.")
@@ -161,9 +160,15 @@ class _Builder:
         self.note(i, INES, f"Net Sharpe {_net(run)} a year over {_years(run)} years with "
                   f"{_chosen(run)}; costs take {_cost_share(run)} of gross. The edge is spread "
                   "over several sectors, not one lucky market.")
+        yield "2025-01-17T10"
+        view = unlock_holdout(self.cat, i, self.data, by=INES)
+        f = view.figures
+        yield "2025-01-17T11"
+        self.note(i, NIA, f"Held-out 2025: net Sharpe {f.net_sharpe:.2f} against "
+                  f"{f.in_sample_net_sharpe:.2f} in sample. {f.finding()}")
         yield "2025-01-20T11"
-        self.stage(i, "promoted", INES, "Passes first pass; moving to full "
-                   "research with out-of-sample years held back.")
+        self.stage(i, "promoted", INES, "Passes first pass and its locked year; moving to "
+                   "full research.")
 
     def _breakout(self) -> Story:
         yield "2025-01-15T09"
