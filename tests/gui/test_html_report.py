@@ -68,6 +68,11 @@ def test_report_carries_the_verdict_statistics_and_caution(report, runs):
     assert run.data_fingerprint in text and run.engine_version in text
     assert run.recorded_at in text
     assert "Deflated Sharpe" in text and "Effective trials" in text
+    # every check of the verdict, in order, with its figure and finding
+    checks = text[text.index('<table class="checks">'):]
+    positions = [checks.index(html.escape(c.finding)) for c in run.result.verdict.checks]
+    assert positions == sorted(positions) and len(positions) >= 8
+    assert all(f"<td>{html.escape(c.figure)}</td>" in text for c in run.result.verdict.checks)
     assert f"{100 * run.result.statistics.dsr:.1f} %" in text
     for m in run.result.chosen.markets:
         assert f"<td>{m.market}</td>" in text

@@ -506,6 +506,12 @@ def test_heatmap_cell_shows_that_sets_curves(qtbot, window):
     with qtbot.waitSignal(window.runs.curves_shown, timeout=30000) as blocker:
         window.runs.results.set_requested.emit(params)
     assert blocker.args == [params]
+    # the picked set is judged with every trial of the run, never as one trial (Bailey & Lopez
+    # de Prado 2014: the deflated Sharpe ratio of a selected result counts all the trials)
+    note = window.runs.results.pick_note
+    stats = run.result.statistics
+    assert note.isVisible() and f"one of the run's {stats.n_trials} trials" in note.text()
+    assert "never as one trial" in note.text()
 
 
 def test_layout_and_paths_are_remembered(qtbot, demo_catalogue, short_data):

@@ -24,7 +24,7 @@ from hunchbook.core.presenter import (
     market_table,
     set_table,
 )
-from hunchbook.core.verdict import CAUTION
+from hunchbook.core.verdict import CAUTION, Check
 from hunchbook.gui.charts.result_charts import ResultCharts
 from hunchbook.gui.charts.run_figures import (
     FigureRow,
@@ -67,6 +67,10 @@ h2 { font-size: 1.15em; margin-top: 1.8em; border-bottom: 1px solid #ddd; }
 .verdict.no_edge { border-color: #c03434; background: #f9e8e8; }
 table { border-collapse: collapse; margin: 0.5em 0; }
 th, td { padding: 0.2em 0.8em; border-bottom: 1px solid #eee; text-align: left; }
+table.checks tr.fail td:first-child { color: #b02a2a; font-weight: bold; }
+table.checks tr.pass td:first-child { color: #26804a; }
+table.checks tr.warn td:first-child { color: #9a6f00; font-weight: bold; }
+table.checks caption { text-align: left; font-size: 0.9em; color: #555; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
 dl { display: grid; grid-template-columns: max-content 1fr; gap: 0.2em 1em; }
 dt { font-weight: bold; } dd { margin: 0; white-space: pre-wrap; }
@@ -175,6 +179,22 @@ def _holdout_section(run: RunRecord, held_out: HoldoutView | None) -> str:
             + _figures_table(holdout_rows(f), HOLDOUT_HEADERS) + f"<p>{_e(f.finding())}</p>")
 
 
+#: How each check status reads in the report.
+CHECK_STATUS = {"pass": "pass", "fail": "FAIL", "warn": "warning", "skip": "not run"}
+
+
+def _checks_table(checks: tuple[Check, ...]) -> str:
+    """Every check of the verdict in order, with its status, figure and finding."""
+    if not checks:
+        return ""
+    rows = "".join(f'<tr class="{_e(c.status)}"><td>{_e(CHECK_STATUS.get(c.status, c.status))}'
+                   f"</td><td>{_e(c.name)}</td><td>{_e(c.figure)}</td><td>{_e(c.finding)}</td>"
+                   "</tr>" for c in checks)
+    return ('<table class="checks"><caption>Every check, in order: the first that fails '
+            "decides</caption><thead><tr><th>Status</th><th>Check</th><th>Figure</th>"
+            f"<th>Finding</th></tr></thead><tbody>{rows}</tbody></table>")
+
+
 def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str, bytes],
                 held_out: HoldoutView | None = None) -> str:
     """The report page as one HTML string (``images``: PNG bytes by chart name;
@@ -220,6 +240,7 @@ trials counted for the idea.</p>
 <div class="label">{_e(verdict.label)}</div>
 <p><strong>{_e(verdict.action)}</strong></p>
 <ul>{reasons}</ul>
+{_checks_table(verdict.checks)}
 </section>
 <h2>Idea</h2>
 {_idea_section(idea)}

@@ -27,6 +27,7 @@ from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.collector import collect_on_ui_thread
 
 if TYPE_CHECKING:
+    from hunchbook.core.stats import FirstPassStats
     from hunchbook.core.sweep import SweepRunner
 
 _log = logging.getLogger("hunchbook.gui")
@@ -168,12 +169,13 @@ class RunIdeaWorker(Worker):
 
 
 def set_curves(rule_text: str, data_folder: str | os.PathLike[str],
-               params: dict[str, float],
-               boundary: str | None = None) -> tuple[dict[str, float], Any]:
+               params: dict[str, float], boundary: str | None = None,
+               sweep: FirstPassStats | None = None) -> tuple[dict[str, float], Any, Any]:
     """Run one parameter set of a rule file over a data folder, on the dates before the
     holdout ``boundary`` (``YYYY-MM-DD``; None: the whole history); returns
-    ``(params, daily)`` with ``daily`` the set's daily portfolio P&L (for a results view's
-    curves)."""
+    ``(params, daily, verdict)`` with ``daily`` the set's daily portfolio P&L (for a results
+    view's curves) and ``verdict`` the set judged as picked out of the run whose statistics
+    are ``sweep`` (with all its trials, never as one; None without them)."""
     import datetime as dt
 
     from hunchbook.api import Study
@@ -181,7 +183,15 @@ def set_curves(rule_text: str, data_folder: str | os.PathLike[str],
     before = None if boundary is None else dt.date.fromisoformat(boundary)
     study = Study.from_text(rule_text, data_folder, before=before)
     result = study.run_set(study.parameter_sets(params)[0])
-    return dict(result.params), result.portfolio
+    daily = result.portfolio
+    verdict = None
+    if sweep is not None and len(daily) >= 3:
+        from hunchbook.core.stats import judge_pick
+        from hunchbook.core.verdict import decide
+
+        verdict = decide(judge_pick(daily["gross_pnl"].to_numpy(), daily["cost"].to_numpy(),
+                                    sweep))
+    return dict(result.params), daily, verdict
 
 
 def _first_line(text: str) -> str:

@@ -14,6 +14,7 @@ from hunchbook.gui.charts.axes import DATE_CHART_AXIS_WIDTH, AmountAxis
 from hunchbook.gui.charts.holdout_marks import BoundaryLine, continued, held_out_pen
 from hunchbook.gui.charts.run_figures import epoch_seconds, equity_curves, format_params
 from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
+from hunchbook.store.pnl import WALK_FORWARD
 
 
 def smooth_long_series(item: pg.PlotItem) -> None:
@@ -26,7 +27,8 @@ def smooth_long_series(item: pg.PlotItem) -> None:
 class EquityChart(pg.PlotWidget):
     """Cumulative gross and net P&L of the chosen set; ``add_overlay`` draws another set's
     curves dashed, named in the legend; ``set_boundary`` the holdout line and
-    ``set_held_out`` the held-out curves continuing the chosen set's after it."""
+    ``set_held_out`` the held-out curves continuing the chosen set's after it. A daily table
+    with the walk-forward column also draws the walk-forward test's out-of-sample net curve."""
 
     def __init__(self, parent=None, *, theme: ChartTheme | None = None) -> None:
         super().__init__(parent, axisItems={"bottom": pg.DateAxisItem(),
@@ -44,6 +46,9 @@ class EquityChart(pg.PlotWidget):
         self.boundary = BoundaryLine(item, self.theme)
         self.held_gross = item.plot(pen=held_out_pen(self.theme, width=1.5, gross=True))
         self.held_net = item.plot(pen=held_out_pen(self.theme))
+        self.walk_curve = item.plot(pen=pg.mkPen(with_alpha(self.theme.foreground, 200),
+                                                 width=1.5, style=Qt.PenStyle.DashDotLine))
+        self.has_walk_forward = False
         self.overlays: list[pg.PlotDataItem] = []
         self.has_data = False
         self.has_held_out = False
@@ -59,9 +64,28 @@ class EquityChart(pg.PlotWidget):
         self.net_curve.setData(x, net)
         self.has_data = bool(x.size)
         self._ends = (float(gross[-1]), float(net[-1])) if x.size else (0.0, 0.0)
+        self._set_walk_forward(daily, net)
         title = "Cumulative P&L of the chosen set"
         set_title(self, f"{title} ({currency})" if currency else title, self.theme)
         self.getPlotItem().enableAutoRange()
+
+    def _set_walk_forward(self, daily: pd.DataFrame | None, net: np.ndarray) -> None:
+        """The walk-forward test's out-of-sample net P&L, cumulated from the chosen set's net
+        equity on the day before the test starts, so the gap shows the cost of choosing
+        without hindsight."""
+        self.legend.removeItem(self.walk_curve)
+        column = None if daily is None else daily.get(WALK_FORWARD)
+        known = np.zeros(0, dtype=bool) if column is None else column.notna().to_numpy()
+        self.has_walk_forward = bool(known.any())
+        if not self.has_walk_forward:
+            self.walk_curve.setData(np.zeros(0), np.zeros(0))
+            return
+        assert daily is not None and column is not None
+        first = int(np.argmax(known))
+        level = float(net[first - 1]) if first > 0 else 0.0
+        values = column.to_numpy(dtype=float)[known]
+        self.walk_curve.setData(epoch_seconds(daily.index[known]), level + np.cumsum(values))
+        self.legend.addItem(self.walk_curve, "Net, walk-forward")
 
     def add_overlay(self, params: dict[str, float], daily: pd.DataFrame) -> None:
         """Draw a parameter set's gross and net equity dashed, named after the set."""
@@ -116,4 +140,5 @@ class EquityChart(pg.PlotWidget):
         empty = np.zeros(0)
         self.gross_curve.setData(empty, empty)
         self.net_curve.setData(empty, empty)
+        self._set_walk_forward(None, empty)
         self.has_data = False

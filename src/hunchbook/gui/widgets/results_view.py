@@ -22,6 +22,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from hunchbook.core.verdict import Verdict
 from hunchbook.gui.charts.result_charts import ResultCharts
 from hunchbook.gui.charts.run_figures import (
     format_params,
@@ -46,6 +47,18 @@ def run_subtitle(run: RunRecord, title: str) -> str:
     parts.append(f"rules revision {run.revision_number}")
     parts.append(f"run {run.recorded_at[:16].replace('T', ' ')} by {run.recorded_by}")
     return "  ·  ".join(parts)
+
+
+def pick_sentence(params: dict, verdict: Verdict) -> str:
+    """One line judging a set picked on the heatmap, with the run's trials."""
+    trials = verdict.numbers.get("n_trials")
+    effective = verdict.numbers.get("effective_trials")
+    counted = (f"one of the run's {trials} trials ({effective} effective)"
+               if trials and effective and effective != trials else
+               f"one of the run's {trials} trials")
+    reason = verdict.reasons[0] if verdict.reasons else ""
+    return (f"Picked {format_params(dict(params))} (dashed): {verdict.label}, judged as "
+            f"{counted}, never as one trial. {reason}")
 
 
 def _heading(text: str) -> QLabel:
@@ -109,6 +122,10 @@ class ResultsView(QWidget):
         super().__init__(parent)
         self.run: RunRecord | None = None
         self.banner = VerdictBanner()
+        self.pick_note = QLabel()
+        self.pick_note.setWordWrap(True)
+        self.pick_note.setTextFormat(Qt.TextFormat.PlainText)
+        self.pick_note.setObjectName("pickNote")
         self.performance = FiguresModel(self)
         self.statistics = FiguresModel(self)
         self.performance_table = _figures_table(self.performance)
@@ -179,6 +196,7 @@ class ResultsView(QWidget):
         layout.setContentsMargins(8, 8, 8, 6)
         layout.setSpacing(8)
         layout.addWidget(self.banner)
+        layout.addWidget(self.pick_note)
         layout.addWidget(splitter, 1)
         layout.addWidget(self.caution)
         self._recolour()
@@ -208,6 +226,7 @@ class ResultsView(QWidget):
     def show_run(self, run: RunRecord, *, title: str) -> None:
         """Show a recorded run (from ``Catalogue.run``, daily P&L decoded)."""
         self.run = run
+        self.pick_note.hide()
         self.banner.set_verdict(verdict_text(run), subtitle=run_subtitle(run, title))
         self.performance.set_rows(performance_rows(run))
         self.statistics.set_rows(statistic_rows(run))
@@ -232,16 +251,22 @@ class ResultsView(QWidget):
                            (self.costs_slot, "costs")):
             slot.show_chart(shown.get(name))
 
-    def show_set_curves(self, params: dict, daily: pd.DataFrame) -> None:
+    def show_set_curves(self, params: dict, daily: pd.DataFrame, *,
+                        verdict: Verdict | None = None) -> None:
         """Overlay one parameter set's gross and net equity (dashed), replacing any earlier
-        overlay; ``daily`` has a date index and gross_pnl, cost, net_pnl columns."""
+        overlay; ``daily`` has a date index and gross_pnl, cost, net_pnl columns. ``verdict``
+        judges the set as picked out of the run (with all the run's trials): it is shown in a
+        line under the banner."""
         self.charts.equity.clear_overlays()
         self.charts.equity.add_overlay(dict(params), daily)
         self.charts.heatmap.mark_shown(dict(params))
+        self.pick_note.setText("" if verdict is None else pick_sentence(params, verdict))
+        self.pick_note.setVisible(verdict is not None)
 
     def clear(self) -> None:
         """Show no run."""
         self.run = None
+        self.pick_note.hide()
         self.banner.clear()
         self.performance.set_rows([])
         self.statistics.set_rows([])

@@ -176,12 +176,13 @@ class RunsPanel(IdeaSection):
             return None
         rule_text = self.catalogue.revision(run.revision_id).text
         boundary = run.result.holdout_boundary if run.result else None
-        worker = CallWorker(set_curves, rule_text, folder, dict(params), boundary)
+        sweep = run.result.statistics if run.result else None
+        worker = CallWorker(set_curves, rule_text, folder, dict(params), boundary, sweep)
         run_id = run.id
 
-        def shown(result: tuple[dict, Any]) -> None:
+        def shown(result: tuple[dict, Any, Any]) -> None:
             if self._run is not None and self._run.id == run_id:
-                self.results.show_set_curves(result[0], result[1])
+                self.results.show_set_curves(result[0], result[1], verdict=result[2])
                 self.message.emit("Showing set " + ", ".join(
                     f"{k}={v:g}" for k, v in result[0].items()) + " (dashed).")
                 self.curves_shown.emit(result[0])
