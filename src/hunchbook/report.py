@@ -94,12 +94,14 @@ def format_judgement(run: RunSummary) -> str:
 def format_statistics(stats: FirstPassStats, verdict: Verdict, chosen: str | None = None) -> str:
     """Statistics of a chosen set's daily P&L and the verdict, as plain lines."""
     head = f"Statistics of the chosen set ({chosen})" if chosen else "Statistics"
-    lines = [f"{head}, {stats.n_days:,} common days:", *figures_text(statistic_rows(stats)), "",
+    rows = statistic_rows(stats)
+    lines = [f"{head}, {stats.n_days:,} common days:", *figures_text(rows), "",
+             "What they mean:", *(f"  {r.label}: {r.note}" for r in rows if r.note), "",
              f"Verdict: {verdict.label}. {verdict.action}"]
     lines += [f"  - {reason}" for reason in verdict.reasons]
     if verdict.checks:
         lines += ["", "Checks (in order; the first that fails decides):"]
-        lines += [f"  {STATUS_TEXT[c.status]:<5} {c.name:<24} {c.figure:<18} {c.finding}"
+        lines += [f"  {STATUS_TEXT[c.status]:<5} {c.name:<24} {c.figure:<20} {c.finding}"
                   for c in verdict.checks]
     return "\n".join(lines)
 

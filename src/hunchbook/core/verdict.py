@@ -202,10 +202,11 @@ def _costs(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
     net_fails = not s.net_dsr >= t.confidence
     figure = f"{_pct(share)} of gross"
     if net_fails and material:
-        finding = (f"Before costs the edge holds (gross DSR {_pct(s.gross_dsr)}), but net of "
-                   f"costs the Sharpe ratio is {s.net.sharpe:.2f} a year and the net DSR only "
-                   f"{_pct(s.net_dsr)}: costs take {_pct(share)} of gross P&L (break-even at "
-                   f"{multiple:.2f} times the assumed costs).")
+        before = (f"Before costs the edge holds (gross DSR {_pct(s.gross_dsr)}), but net"
+                  if s.gross_dsr >= t.confidence else "Net")
+        finding = (f"{before} of costs the Sharpe ratio is {s.net.sharpe:.2f} a year and the net "
+                   f"DSR only {_pct(s.net_dsr)}: costs take {_pct(share)} of gross P&L "
+                   f"(break-even at {multiple:.2f} times the assumed costs).")
         return Check("costs", "Costs", "fail", figure, finding), "lost_to_costs"
     finding = (f"Costs take {_pct(share)} of gross P&L (break-even at {multiple:.2f} times the "
                "assumed costs)" + ("." if material or not net_fails else
@@ -236,10 +237,13 @@ def _deflated(s: FirstPassStats, t: VerdictThresholds, side: str) -> Outcome:
                    f"Sharpe ratio of only {figure} ({_pct(t.confidence)} needed); about "
                    f"{years:.1f} more years at this Sharpe ratio would settle it.")
         return Check(key, name, "fail", figure, finding), "too_little_data"
-    more = ("at least " + f"{t.max_more_years:g}" if math.isfinite(years) else "unboundedly")
+    if math.isfinite(years):
+        why = (f"and at least {t.max_more_years:g} more years would be needed to confirm a "
+               "Sharpe ratio this close to luck")
+    else:
+        why = "and no amount of extra history would confirm a Sharpe ratio no better than luck"
     finding = (f"{side.capitalize()} deflated Sharpe ratio {figure} is below "
-               f"{_pct(t.confidence)}, and {more} more years would be needed to confirm a "
-               f"Sharpe ratio this close to luck ({series.sharpe:.2f} vs "
+               f"{_pct(t.confidence)}, {why} ({series.sharpe:.2f} vs "
                f"{s.expected_max_sharpe:.2f}).")
     return Check(key, name, "fail", figure, finding), "no_edge"
 
@@ -288,7 +292,9 @@ def _stability(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
 
 def _selection(s: FirstPassStats, t: VerdictThresholds) -> Outcome:
     if s.selection_known:
-        return Check("selection", "Selection counted", "pass", _trials_text(s),
+        figure = (f"{s.n_trials:,} ({s.dsr_trials:,} effective)" if s.dsr_trials < s.n_trials
+                  else f"{s.n_trials:,}")
+        return Check("selection", "Selection counted", "pass", figure,
                      f"Every trial behind the result is counted ({_trials_text(s)})."), None
     return Check("selection", "Selection counted", "fail", "unknown",
                  "Uncorrected for selection: the number of trials behind this P&L is unknown, "

@@ -70,6 +70,7 @@ th, td { padding: 0.2em 0.8em; border-bottom: 1px solid #eee; text-align: left; 
 table.checks tr.fail td:first-child { color: #b02a2a; font-weight: bold; }
 table.checks tr.pass td:first-child { color: #26804a; }
 table.checks tr.warn td:first-child { color: #9a6f00; font-weight: bold; }
+td.note { font-size: 0.85em; color: #555; }
 table.checks caption { text-align: left; font-size: 0.9em; color: #555; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
 dl { display: grid; grid-template-columns: max-content 1fr; gap: 0.2em 1em; }
@@ -117,16 +118,20 @@ def render_chart_images(run: RunRecord, held_out: HoldoutView | None = None
     return images
 
 
-def _figures_table(rows: list[FigureRow], headers: tuple[str, str] = ("Gross", "Net")) -> str:
+def _figures_table(rows: list[FigureRow], headers: tuple[str, str] = ("Gross", "Net"), *,
+                   explained: bool = False) -> str:
+    """A gross/net figures table; ``explained`` adds a column saying what each figure means."""
     body = []
     for row in rows:
         gross = "" if row.gross is None and row.net is not None \
             else format_value(row.gross, row.kind)
+        meaning = f'<td class="note">{_e(row.note)}</td>' if explained else ""
         body.append(f'<tr title="{_e(row.note)}"><td>{_e(row.label)}</td>'
                     f'<td class="num">{_e(gross)}</td>'
-                    f'<td class="num">{_e(format_value(row.net, row.kind))}</td></tr>')
+                    f'<td class="num">{_e(format_value(row.net, row.kind))}</td>{meaning}</tr>')
+    head = "<th>What it means</th>" if explained else ""
     return (f'<table><thead><tr><th>Figure</th><th class="num">{_e(headers[0])}</th>'
-            f'<th class="num">{_e(headers[1])}</th></tr></thead><tbody>' + "".join(body)
+            f'<th class="num">{_e(headers[1])}</th>{head}</tr></thead><tbody>' + "".join(body)
             + "</tbody></table>")
 
 
@@ -248,7 +253,7 @@ trials counted for the idea.</p>
 <p>Chosen set: {_e(format_params(dict(run.chosen_params)))}.</p>
 {_figures_table(performance_rows(run))}
 <h2>How far to trust it (days all sets share)</h2>
-{_figures_table(statistic_rows(run))}
+{_figures_table(statistic_rows(run), explained=True)}
 {notes_html}
 <h2>Held-out years</h2>
 {_holdout_section(run, held_out)}
