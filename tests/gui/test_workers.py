@@ -130,8 +130,8 @@ def test_run_worker_bad_data_folder_fails_clearly(qtbot, demo_catalogue, tmp_pat
 def test_set_curves_gives_the_sets_daily_pnl(short_data):
     """One set's curves: net = gross - cost on every day (common practice, no source), and
     the same days as the API's own run of that set."""
-    params, daily = set_curves(RULES, short_data, {"n": 60.0})
-    assert params == {"n": 60.0}
+    params, daily, verdict = set_curves(RULES, short_data, {"n": 60.0})
+    assert params == {"n": 60.0} and verdict is None  # no run to judge it against
     pd.testing.assert_series_equal(daily["net_pnl"], daily["gross_pnl"] - daily["cost"],
                                    check_names=False)
     study = Study.from_text(RULES, short_data)

@@ -6,6 +6,7 @@ byte for byte with what it was before the change."""
 from __future__ import annotations
 
 import datetime as dt
+import dataclasses
 import json
 from pathlib import Path
 
@@ -86,8 +87,9 @@ def _record(cat_path: Path, data: Path) -> dict[str, object]:
                                  "WHERE id = ?", [outcome.run_id]).fetchone()
             boundary = outcome.summary.holdout_boundary
             # what the window computes before unlocking: a clicked set's curves
-            params, curves = set_curves(text, data, dict(outcome.summary.chosen.params),
-                                        boundary)
+            params, curves, pick = set_curves(text, data,
+                                              dict(outcome.summary.chosen.params), boundary,
+                                              outcome.summary.statistics)
             plan = holdout_plan(cat, idea, data)
             out[name] = {
                 "summary json": json.dumps(outcome.summary.to_dict(), allow_nan=False),
@@ -95,6 +97,8 @@ def _record(cat_path: Path, data: Path) -> dict[str, object]:
                 "stored daily P&L": cat.run(outcome.run_id).daily_pnl.to_csv(),
                 "chosen set P&L table": outcome.chosen.pnl.to_csv(),
                 "set curves": curves.to_csv(),
+                "picked set's verdict": json.dumps(dataclasses.asdict(pick), allow_nan=False,
+                                                   default=str),
                 "held-out dates": (plan.first_held, plan.last_held, plan.held_out_days),
                 "boundary": boundary,
             }
