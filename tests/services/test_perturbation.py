@@ -5,8 +5,8 @@ byte for byte with what it was before the change."""
 
 from __future__ import annotations
 
-import datetime as dt
 import dataclasses
+import datetime as dt
 import json
 from pathlib import Path
 
