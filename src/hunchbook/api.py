@@ -27,7 +27,7 @@ from hunchbook.core.rules import locate_error, parse_rules, read_rule_text, read
 from hunchbook.core.rules.model import SERIES_NAMES, RuleSpec
 from hunchbook.core.sweep import CancelCheck, Progress, SweepOutcome, SweepRunner, run_sweep
 from hunchbook.core.sweep_summary import summarise_sweep
-from hunchbook.core.verdict import Verdict, decide
+from hunchbook.core.verdict import Check, Verdict, decide
 
 if TYPE_CHECKING:  # the statistics (and scipy) are imported when a sweep is judged
     from hunchbook.core.stats import FirstPassStats
@@ -99,6 +99,11 @@ class SweepReport:
     def sets(self) -> tuple[dict[str, float], ...]:
         """The parameter sets run, in grid order."""
         return self.outcome.sets
+
+    def rejudged(self, warnings: Sequence[Check]) -> SweepReport:
+        """The same report with the verdict given again with these warnings (facts found after
+        the sweep, such as the chosen set's correlation with ideas already promoted)."""
+        return replace(self, verdict=decide(self.statistics, warnings=warnings))
 
     def summarise(self, chosen: SetResult, *, currency: str, data_folder: str,
                   holdout_boundary: dt.date | None = None) -> RunSummary:
@@ -249,7 +254,7 @@ class Study:
               runner: SweepRunner | None = None, progress: Progress | None = None,
               cancel: CancelCheck | None = None, earlier: EarlierTrials | None = None,
               spa_reps: int = 1000, seed: int = 0,
-              holdout_seen: str | None = None) -> SweepReport:
+              warnings: Sequence[Check] = ()) -> SweepReport:
         """Run the whole declared parameter space and judge one set of it.
 
         Every declared set runs and counts as a trial, whichever set is judged: a set picked
@@ -267,9 +272,9 @@ class Study:
             Trials run before, outside this space (see :class:`EarlierTrials`).
         spa_reps, seed
             Bootstrap replications and seed of the SPA test.
-        holdout_seen
-            When the idea's held-out years were unlocked: the sentence saying when and by
-            whom (every later verdict carries it).
+        warnings
+            Checks that only warn, added to the verdict (see
+            :func:`hunchbook.core.verdict.warning`).
         """
         sets = self.parameter_sets()
         candidates = {_key(s) for s in self.parameter_sets(pick)} if pick else None
@@ -304,7 +309,7 @@ class Study:
             walk.oos_pnl, index=pd.DatetimeIndex(outcome.dates[start + walk.start:stop]))
         return SweepReport(rules=self.rules, outcome=outcome, summaries=summaries,
                            chosen=chosen, statistics=statistics,
-                           verdict=decide(statistics, holdout_seen=holdout_seen),
+                           verdict=decide(statistics, warnings=warnings),
                            walk_forward_pnl=walk_pnl)
 
     def _grid_cells(self, sets: list[dict[str, float]]) -> tuple[tuple[int, ...] | None,

@@ -14,7 +14,7 @@ from hunchbook.api import EarlierTrials, SetResult, Study
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import DataError, HunchbookError, RuleError
 from hunchbook.core.history import HOLDOUT_SHARE, common_history, default_boundary
-from hunchbook.core.holdout import held_out, holdout_figures, holdout_seen_note
+from hunchbook.core.holdout import held_out, holdout_figures, holdout_seen_warning
 from hunchbook.core.prices import MarketData, data_fingerprint, held_out_dates, load_data
 from hunchbook.core.results import RunSummary
 from hunchbook.core.rules import parse_rules
@@ -142,8 +142,8 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     seen = catalogue.holdout_view(idea_id)
     report = study.sweep(runner=runner, progress=progress, cancel=cancel, earlier=earlier,
                          spa_reps=spa_reps,
-                         holdout_seen=None if seen is None else holdout_seen_note(
-                             seen.seen_at, seen.seen_by))
+                         warnings=() if seen is None else (
+                             holdout_seen_warning(seen.seen_at, seen.seen_by),))
     chosen = study.run_set(report.sets[report.chosen])
     summary = report.summarise(chosen, currency=study.panel.currency,
                                data_folder=str(Path(data_folder)), holdout_boundary=boundary)

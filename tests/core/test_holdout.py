@@ -20,6 +20,7 @@ from hunchbook.core.holdout import (
     held_out,
     holdout_figures,
     holdout_seen_note,
+    holdout_seen_warning,
 )
 from hunchbook.core.stats import first_pass_statistics
 from hunchbook.core.verdict import decide
@@ -142,7 +143,8 @@ def test_holdout_seen_is_the_last_reason_of_the_verdict():
     assert note == ("Holdout already seen: the held-out years were unlocked for this idea on "
                     "2026-03-04 by Ines Marwood, so they no longer test these rules out of "
                     "sample.")
-    plain, seen = decide(statistics), decide(statistics, holdout_seen=note)
+    seen_warning = holdout_seen_warning("2026-03-04T09:15:00.000000Z", "Ines Marwood")
+    plain, seen = decide(statistics), decide(statistics, warnings=(seen_warning,))
     assert seen.reasons == (*plain.reasons, note)
     assert (seen.outcome, seen.action, seen.numbers) == (plain.outcome, plain.action,
                                                          plain.numbers)

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from hunchbook.core.errors import HunchbookError
-from hunchbook.core.holdout import holdout_seen_note
+from hunchbook.core.holdout import holdout_seen_note, holdout_seen_warning
 from hunchbook.core.stats import first_pass_statistics
 from hunchbook.core.verdict import Verdict, VerdictThresholds, decide
 
@@ -183,7 +183,7 @@ def test_a_seen_holdout_is_a_warning_on_the_verdict():
     gross, cost = _plateau_sweep(5)
     stats = first_pass_statistics(gross, cost, grid_shape=(3, 4), spa_reps=100, seed=5)
     note = holdout_seen_note("2026-03-01T10:00:00", "Ana Ruiz")
-    v = decide(stats, holdout_seen=note)
+    v = decide(stats, warnings=(holdout_seen_warning("2026-03-01T10:00:00", "Ana Ruiz"),))
     assert v.outcome == "passes"
     assert v.reasons[-1] == note and note.startswith("Holdout already seen")
     assert v.checks[-1].key == "holdout" and v.checks[-1].status == "warn"

@@ -34,6 +34,7 @@ from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.core.plain import json_safe
 from hunchbook.core.results import read_record
 from hunchbook.core.stats.sharpe import moments, sharpe_ratio, sharpe_se_iid
+from hunchbook.core.verdict import Check, warning
 
 #: Largest p-value at which the held-out years are said to fall short of the in-sample ones.
 ALPHA = 0.05
@@ -171,6 +172,11 @@ def holdout_figures(daily: pd.DataFrame, *, boundary: dt.date, in_sample_sharpe:
         skew=skew, kurtosis=kurt, psr=psr, in_sample_net_sharpe=in_sample_sharpe,
         in_sample_days=in_sample_days, in_sample_sets=in_sample_sets, z=z, p_value=p_value,
         alpha=alpha)
+
+
+def holdout_seen_warning(at: str, by: str) -> Check:
+    """The warning every verdict of an idea carries once its holdout was unlocked."""
+    return warning("holdout", "Holdout", "seen", holdout_seen_note(at, by))
 
 
 def holdout_seen_note(at: str, by: str) -> str:

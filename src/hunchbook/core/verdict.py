@@ -17,14 +17,14 @@ decides the outcome (see docs/statistics.md, "Verdict"):
 8. ``stability``    an isolated spike on the grid: a warning, or ``selection_luck`` with
                     ``spike_fails``
 9. ``selection``    the number of trials behind the result is unknown         -> ``not_judged``
-10. ``holdout``     the held-out years were already seen for this idea: a warning
+10. warnings given by the caller (the holdout already seen, ...): listed, never deciding
 11. otherwise                                                                  -> ``passes``
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -121,20 +121,26 @@ class Verdict:
     checks: tuple[Check, ...] = ()
 
 
+def warning(key: str, name: str, figure: str, finding: str) -> Check:
+    """A check that only warns: facts about the run beyond its statistics (the holdout was
+    already seen, the idea is mostly the same bet as one already promoted, ...), listed after
+    the statistical checks and added to the reasons; it never decides the outcome."""
+    return Check(key, name, "warn", figure, finding)
+
+
 def decide(stats: FirstPassStats, thresholds: VerdictThresholds = VerdictThresholds(), *,
-           holdout_seen: str | None = None) -> Verdict:
+           warnings: Sequence[Check] = ()) -> Verdict:
     """Decide what a sweep's first-pass statistics say about the idea.
 
     Every check of the module docstring is run and listed; the first failing one decides.
-    ``holdout_seen`` is the warning that the idea's held-out years were already unlocked, when
-    and by whom (:func:`hunchbook.core.holdout.holdout_seen_note`; None when they were not).
+    ``warnings`` (see :func:`warning`) are listed after the statistical checks and added to
+    the reasons, in order.
     """
     t = thresholds
     found: list[tuple[Check, str | None]] = []  # each check and the outcome its failure gives
     for make in _CHECKS:
         found.append(make(stats, t))
-    if holdout_seen:
-        found.append((Check("holdout", "Holdout", "warn", "seen", holdout_seen), None))
+    found += [(w, None) for w in warnings]
     outcome = next((fail for check, fail in found if check.status == "fail"), "passes")
     checks = tuple(check for check, _ in found)
     deciding = [c.finding for c in checks if c.status == "fail"][:1]
