@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import zipfile
 from pathlib import Path
 from typing import Any
 
@@ -106,4 +107,18 @@ def desk(path: Path) -> Path:
         cat.record_run(idea, revision_id=revision.id, by="Nia",
                        **run_args([{"fast": 5.0, "slow": 50.0}], [0.4]))
         cat.add_entry(idea_id=idea, kind="note", text="Roll dates checked.", by="Theo")
+    return path
+
+
+def bundle_members(path: Path) -> dict[str, bytes]:
+    """Every member of a bundle file, by name."""
+    with zipfile.ZipFile(path) as archive:
+        return {n: archive.read(n) for n in archive.namelist()}
+
+
+def write_bundle(path: Path, members: dict[str, bytes]) -> Path:
+    """A bundle file holding exactly these members (for hand-made, hostile bundles)."""
+    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as archive:
+        for name, data in members.items():
+            archive.writestr(name, data)
     return path

@@ -14,7 +14,14 @@ import pytest
 from hunchbook.catalogue import CHECKLIST, Catalogue
 from hunchbook.store import bundle_read
 from hunchbook.store.errors import CatalogueError
-from tests.store.helpers import RULES, accepted_idea, run_args, table_counts
+from tests.store.helpers import (
+    RULES,
+    accepted_idea,
+    bundle_members,
+    run_args,
+    table_counts,
+    write_bundle,
+)
 
 
 @pytest.fixture
@@ -146,18 +153,6 @@ def test_diverging_pre_registration_histories_are_reported_not_merged(
 
 
 # -- hostile bundles ------------------------------------------------------------------------
-def _members(path: Path) -> dict[str, bytes]:
-    with zipfile.ZipFile(path) as archive:
-        return {n: archive.read(n) for n in archive.namelist()}
-
-
-def _write(path: Path, members: dict[str, bytes]) -> Path:
-    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as archive:
-        for name, data in members.items():
-            archive.writestr(name, data)
-    return path
-
-
 def _manifest_edit(old: str, new: str) -> Any:
     def edit(members: dict[str, bytes]) -> dict[str, bytes]:
         text = members["bundle.toml"].decode()
@@ -225,7 +220,7 @@ def test_hostile_bundles_are_rejected_whole(cat: Catalogue, exported: tuple[int,
                                             tmp_path: Path, case: str) -> None:
     _, path = exported
     edit, message = HOSTILE[case]
-    bad = _write(tmp_path / "bad.zip", edit(_members(path)))
+    bad = write_bundle(tmp_path / "bad.zip", edit(bundle_members(path)))
     with Catalogue(tmp_path / "victim.sqlite") as victim:
         before = table_counts(victim)
         with pytest.raises(CatalogueError, match=message):
@@ -272,12 +267,12 @@ def test_a_run_referring_to_a_missing_revision_is_rejected(cat: Catalogue,
                                                            exported: tuple[int, Path],
                                                            tmp_path: Path) -> None:
     _, path = exported
-    members = _members(path)
+    members = bundle_members(path)
     manifest = tomllib.loads(members["bundle.toml"].decode())
     rev_uuid = manifest["revisions"][1]["uuid"]
     text = members["bundle.toml"].decode()
     head, _, tail = text.partition("[[runs]]")
-    bad = _write(tmp_path / "bad.zip", members | {
+    bad = write_bundle(tmp_path / "bad.zip", members | {
         "bundle.toml": (head + "[[runs]]" + tail.replace(rev_uuid, rev_uuid[:-4] + "0000"))
         .encode()})
     with pytest.raises(CatalogueError, match="revision the bundle does not hold"):
@@ -290,7 +285,7 @@ def test_export_never_overwrites_unless_asked(cat: Catalogue, exported: tuple[in
         cat.export_bundle(idea, path)
     cat.export_bundle(idea, path, overwrite=True)
     assert set(CHECKLIST) == set(tomllib.loads(
-        _members(path)["bundle.toml"].decode())["reviews"][0]["checklist"])
+        bundle_members(path)["bundle.toml"].decode())["reviews"][0]["checklist"])
 
 
 def test_a_failure_while_applying_leaves_nothing_behind(cat: Catalogue,
@@ -299,11 +294,11 @@ def test_a_failure_while_applying_leaves_nothing_behind(cat: Catalogue,
     """A bundle that passes every check but collides while being applied (a journal entry's
     uuid already belongs to another idea here) is rolled back whole."""
     _, path = exported
-    members = _members(path)
+    members = bundle_members(path)
     manifest = tomllib.loads(members["bundle.toml"].decode())
     old_uuid = manifest["idea"]["uuid"]
     new_uuid = old_uuid[:-12] + "000000000000"
-    clone = _write(tmp_path / "clone.zip", members | {
+    clone = write_bundle(tmp_path / "clone.zip", members | {
         "bundle.toml": members["bundle.toml"].decode().replace(
             f'[idea]\nuuid = "{old_uuid}"', f'[idea]\nuuid = "{new_uuid}"').encode()})
     with Catalogue(tmp_path / "victim.sqlite") as victim:

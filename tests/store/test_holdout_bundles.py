@@ -6,7 +6,6 @@ from __future__ import annotations
 
 import dataclasses
 import datetime as dt
-import zipfile
 from pathlib import Path
 
 import pandas as pd
@@ -14,7 +13,7 @@ import pytest
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.store.errors import CatalogueError
-from tests.store.helpers import table_counts
+from tests.store.helpers import bundle_members, table_counts, write_bundle
 from tests.store.test_holdout_store import BOUNDARY, _run, _unlock, accepted_idea
 
 
@@ -52,28 +51,16 @@ def test_another_unlocking_in_the_catalogue_is_kept_and_reported(cat: Catalogue,
     idea, path = unlocked
     with Catalogue(tmp_path / "other.sqlite") as other:
         copy = other.import_bundle(path, by="Theo").idea_id
-    members = _members(path)
+    members = bundle_members(path)
     view = cat.holdout_view(idea)
     text = members["bundle.toml"].decode().replace(view.uuid, "0" * 8 + view.uuid[8:])
     renamed = {n.replace(view.uuid, "0" * 8 + view.uuid[8:]): v for n, v in members.items()}
-    bundle = _write(tmp_path / "renamed.zip", renamed | {"bundle.toml": text.encode()})
+    bundle = write_bundle(tmp_path / "renamed.zip", renamed | {"bundle.toml": text.encode()})
     with Catalogue(tmp_path / "other.sqlite") as other:
         report = other.import_bundle(bundle, by="Theo")
         assert report.added["holdout"] == 0
         assert any("differs from the catalogue's" in c for c in report.conflicts)
         assert other.holdout_view(copy).uuid == view.uuid
-
-
-def _members(path: Path) -> dict[str, bytes]:
-    with zipfile.ZipFile(path) as archive:
-        return {n: archive.read(n) for n in archive.namelist()}
-
-
-def _write(path: Path, members: dict[str, bytes]) -> Path:
-    with zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as archive:
-        for name, data in members.items():
-            archive.writestr(name, data)
-    return path
 
 
 def _edit_manifest(old: str, new: str):
@@ -111,7 +98,7 @@ def test_a_bundle_whose_holdout_does_not_add_up_is_refused_whole(cat, unlocked, 
                                                                  case) -> None:
     _, path = unlocked
     edit, message = HOSTILE[case]
-    bad = _write(tmp_path / "bad.zip", edit(_members(path)))
+    bad = write_bundle(tmp_path / "bad.zip", edit(bundle_members(path)))
     with Catalogue(tmp_path / "victim.sqlite") as victim:
         before = table_counts(victim)
         with pytest.raises(CatalogueError, match=message):
@@ -122,11 +109,12 @@ def test_a_bundle_whose_holdout_does_not_add_up_is_refused_whole(cat, unlocked, 
 def test_the_run_it_names_must_be_in_the_bundle(cat, unlocked, tmp_path) -> None:
     idea, path = unlocked
     run_uuid = cat.run(cat.holdout_view(idea).run_id).uuid
-    text = _members(path)["bundle.toml"].decode()
+    text = bundle_members(path)["bundle.toml"].decode()
     holdout_part = text[text.index("[holdout]"):]
     edited = text.replace(holdout_part, holdout_part.replace(
         f'run = "{run_uuid}"', 'run = "00000000-0000-4000-8000-000000000000"'))
-    bad = _write(tmp_path / "bad.zip", _members(path) | {"bundle.toml": edited.encode()})
+    bad = write_bundle(tmp_path / "bad.zip",
+                       bundle_members(path) | {"bundle.toml": edited.encode()})
     with Catalogue(tmp_path / "victim.sqlite") as victim, \
             pytest.raises(CatalogueError, match="holdout.run: names a run the bundle does not"):
         victim.import_bundle(bad, by="Ines")
