@@ -152,6 +152,21 @@ def test_hlz_null_strategies_have_uniform_p_values():
     assert np.corrcoef(t[:, 0], t[:, 1])[0, 1] == pytest.approx(expected, abs=0.02)
 
 
+def test_simulated_medians_are_statsmodels_medians_over_the_draws():
+    # reference library: replay the draws (one chunk) and adjust each family with statsmodels;
+    # the strategy is column 0, the known others next, then the simulated ones
+    from hunchbook.core.stats.haircut import HLZ_MODEL
+
+    known = np.array([0.004, 0.3, 0.02])
+    cut = sharpe_haircut(1.0, 10.0, 20, others=known, draws=60, seed=9)
+    t = HLZ_MODEL.t_statistics(np.random.default_rng(9), 60, 16)
+    families = [np.concatenate([[cut.p_value], known, row]) for row in 2 * stats.norm.sf(t)]
+    for method in ("holm", "bhy"):
+        expected = np.median([multipletests(f, method=STATSMODELS[method])[1][0]
+                              for f in families])
+        assert getattr(cut, method).p_value == pytest.approx(expected, rel=1e-12)
+
+
 def test_simulation_is_seeded():
     a = sharpe_haircut(0.8, 7.0, 30, seed=11)
     assert sharpe_haircut(0.8, 7.0, 30, seed=11) == a

@@ -186,9 +186,16 @@ def adjust_p_values(p_values: Any, method: str) -> np.ndarray:
         raise HunchbookError(f"p-values: expected at least one, got shape {p.shape}")
     if not np.all((p >= 0.0) & (p <= 1.0)):
         raise HunchbookError("p-values: expected probabilities between 0 and 1")
-    m = p.shape[-1]
     order = np.argsort(p, axis=-1, kind="stable")
-    ranked = np.take_along_axis(p, order, axis=-1)
+    adjusted = _adjust_ranked(np.take_along_axis(p, order, axis=-1), method)
+    out = np.empty_like(p)
+    np.put_along_axis(out, order, adjusted, axis=-1)
+    return out
+
+
+def _adjust_ranked(ranked: np.ndarray, method: str) -> np.ndarray:
+    """Adjusted p-values of p-values sorted along the last axis (in that order)."""
+    m = ranked.shape[-1]
     if method == "bonferroni":
         adjusted = m * ranked
     elif method == "holm":
@@ -196,9 +203,7 @@ def adjust_p_values(p_values: Any, method: str) -> np.ndarray:
     else:
         scaled = m * bhy_constant(m) * ranked / np.arange(1, m + 1)
         adjusted = np.minimum.accumulate(scaled[..., ::-1], axis=-1)[..., ::-1]
-    out = np.empty_like(p)
-    np.put_along_axis(out, order, np.minimum(adjusted, 1.0), axis=-1)
-    return out
+    return np.minimum(adjusted, 1.0)
 
 
 def sharpe_haircut(sharpe: float, years: float, tests: int, *, others: Any = None,
@@ -259,11 +264,14 @@ def _simulated(p_single: float, known: np.ndarray, simulated: int, draws: int,
     holm, bhy = [], []
     for start in range(0, draws, chunk):
         rows = min(chunk, draws - start)
-        sim_p = 2.0 * norm.sf(model.t_statistics(rng, rows, simulated))
-        family = np.concatenate([np.full((rows, 1), p_single),
-                                 np.broadcast_to(known, (rows, known.size)), sim_p], axis=1)
-        holm.append(adjust_p_values(family, "holm")[:, 0])
-        bhy.append(adjust_p_values(family, "bhy")[:, 0])
+        others = np.concatenate([np.broadcast_to(known, (rows, known.size)),
+                                 2.0 * norm.sf(model.t_statistics(rng, rows, simulated))], axis=1)
+        ranked = np.sort(np.concatenate([np.full((rows, 1), p_single), others], axis=1), axis=1)
+        # the strategy's place in each draw: ahead of the others that tie with it, as a stable
+        # sort of [strategy, others] puts it (the same as adjust_p_values(...)[:, 0])
+        place = np.count_nonzero(others < p_single, axis=1)[:, None]
+        holm.append(np.take_along_axis(_adjust_ranked(ranked, "holm"), place, axis=1))
+        bhy.append(np.take_along_axis(_adjust_ranked(ranked, "bhy"), place, axis=1))
     return float(np.median(np.concatenate(holm))), float(np.median(np.concatenate(bhy)))
 
 
