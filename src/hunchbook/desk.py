@@ -23,6 +23,7 @@ from hunchbook.core.plain import json_safe
 from hunchbook.core.stats.haircut import (
     DRAWS,
     METHOD_NAMES,
+    MONTHS_PER_YEAR,
     Haircut,
     expected_false_promotions,
     sharpe_haircut,
@@ -99,7 +100,7 @@ def idea_p_value(idea: TestedIdea) -> float:
     """The two-sided p-value of a tested idea's latest net Sharpe ratio (NaN when unknown)."""
     years = idea.years
     if idea.net_sharpe is None or years is None or not math.isfinite(idea.net_sharpe) \
-            or years * 12 <= 1:
+            or years * MONTHS_PER_YEAR <= 1:
         return math.nan
     return sharpe_p_value(idea.net_sharpe, years)
 
