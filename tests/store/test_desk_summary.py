@@ -151,3 +151,30 @@ def test_report_haircuts_against_scipy_and_statsmodels(desk_path: Path) -> None:
     # expected false promotions: the largest BHY p-value among the promotions x promotions
     promoted = [row[p.idea.idea_id] for p in report.promoted]
     assert report.expected_false == pytest.approx(max(bhy[promoted]) * 2, rel=1e-10)
+
+
+def test_unknown_evidence_is_simulated_or_reported() -> None:
+    # a summary written by hand: promoted idea 1 (SR 1.0 over 2,520 days = 10 years), idea 2
+    # without a Sharpe ratio (a flat P&L), idea 3 promoted but with 10 days of history
+    from hunchbook.store.desk import DeskSummary, TestedIdea
+
+    def idea(n: int, sharpe: float | None, days: int, promoted: bool) -> TestedIdea:
+        return TestedIdea(idea_id=n, title=f"I{n}", stage="promoted" if promoted else "tested",
+                          run_id=n, run_at="2025-01-01", net_sharpe=sharpe, days=days,
+                          days_per_year=252, promoted_at="2025-02-01" if promoted else None)
+
+    summary = DeskSummary(period="year", periods=(), runs=3, sets_run=3, trials=3,
+                          promotions=2, ideas=(idea(1, 1.0, 2520, True), idea(2, None, 500, False),
+                                               idea(3, 2.0, 10, True)))
+    report = desk_report(summary, draws=200, seed=1)
+    assert (report.tests, report.unknown) == (3, 2)
+    first, short = report.promoted
+    # methods.md s.12: SR 1.0 over 120 months -> p_S 0.001986474; Bonferroni over M = 3
+    assert first.haircut.p_value == pytest.approx(0.001986474, abs=5e-10)
+    assert first.haircut.bonferroni.p_value == pytest.approx(3 * 0.001986474, abs=2e-9)
+    assert first.haircut.simulated == 2  # ideas 2 and 3 have no p-value: drawn
+    assert short.haircut is None and "no Sharpe ratio" in short.problem
+    # expected false promotions count the promotion with a p-value only
+    assert report.expected_false == pytest.approx(first.haircut.bhy.p_value)
+    text = format_desk(report)
+    assert "3 I3" in text and "n/a" in text and "2 tested idea(s) have no Sharpe ratio" in text
