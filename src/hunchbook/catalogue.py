@@ -34,6 +34,7 @@ Holdout: ``holdout_boundary``, ``holdout_boundaries``, ``set_holdout_boundary``,
 ``holdout_view``, ``holdout_views``, ``unlock_problem``, ``record_holdout_view``.
 Bundles: ``export_bundle``, ``import_bundle``. Upkeep: ``backup``, ``check``,
 ``schema_version``, ``transaction``, ``close``.
+Desk: ``desk_summary`` (ideas tested, runs, trials and promotions per period).
 
 Stages (``STAGES``): draft -> submitted -> accepted | returned; accepted -> tested (by
 recording a run) -> promoted | shelved (see ``TRANSITIONS``).
@@ -85,6 +86,7 @@ if TYPE_CHECKING:
 from hunchbook.store import (
     bundles,
     check,
+    desk,
     files,
     holdout,
     ideas,
@@ -615,6 +617,13 @@ class Catalogue:
             view = holdout.view(self.db, idea.id)
         assert view is not None
         return view
+
+    # -- desk -------------------------------------------------------------------------------
+    def desk_summary(self, period: str = "year") -> desk.DeskSummary:
+        """Ideas tested, runs, sets, new trials and promotions per ``period`` (``year``,
+        ``quarter`` or ``month``), and every tested idea's latest figures (see
+        :mod:`hunchbook.store.desk`). Writes nothing."""
+        return desk.summary(self.db, period)
 
     # -- bundles --------------------------------------------------------------------------
     def export_bundle(self, idea_id: int, path: str | os.PathLike[str], *,

@@ -19,6 +19,7 @@ from typing import TYPE_CHECKING, Any
 from hunchbook import __version__
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
+from hunchbook.cli_desk import register as register_desk_command
 from hunchbook.cli_holdout import register as register_holdout_commands
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.plain import json_safe
@@ -122,6 +123,7 @@ def _build_parser() -> argparse.ArgumentParser:
 
     register_catalogue_commands(commands)
     register_holdout_commands(commands)
+    register_desk_command(commands)
 
     data = commands.add_parser(
         "data", help="data folder tools",

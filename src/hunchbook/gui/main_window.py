@@ -45,6 +45,7 @@ from hunchbook.gui.sections import registry
 from hunchbook.gui.sections.base import IdeaSection, SectionContext
 from hunchbook.gui.sections.rules import RulesSection
 from hunchbook.gui.widgets.catalogue_panel import CataloguePanel
+from hunchbook.gui.widgets.desk_dialog import open_desk_dialog
 from hunchbook.gui.widgets.idea_header import IdeaHeader
 from hunchbook.gui.widgets.new_idea import NewIdeaDialog
 from hunchbook.gui.widgets.runs_panel import RunsPanel
@@ -163,6 +164,10 @@ class MainWindow(QMainWindow):
                                             self.choose_catalogue, std.Open,
                                             "Open or create a catalogue file")
         quit_action = make_action(self, "Quit", self.close, std.Quit)
+        self.desk_action = make_action(
+            self, "Desk\u2026", partial(open_desk_dialog, self), "Ctrl+D",
+            "Ideas tested and promoted, and each promotion's Sharpe ratio haircut for them",
+            pix.SP_FileDialogInfoView)
         run, ex, data = self.quick_run, self.exports, self.data_menu
 
         menus = (("&File", (self.new_idea_action, open_catalogue_action, None, ex.import_action,
@@ -172,10 +177,10 @@ class MainWindow(QMainWindow):
                             self.find_action, None, self.holdout.unlock_action)),
                  ("&Data", (data.folder_action, data.library_action, data.check_action, None,
                             self.holdout.boundary_action)),
-                 ("&View", tuple(
+                 ("&View", (self.desk_action, None, *(
                      make_action(self, s.tab_title, partial(self.show_section, s.key),
                                  f"Ctrl+{n}" if n < 10 else None, f"Show the {s.key} section")
-                     for n, s in enumerate(self._sections, start=1))))
+                     for n, s in enumerate(self._sections, start=1)))))
         for title, actions in menus:
             menu = self.menuBar().addMenu(title)
             for act in actions:
@@ -185,7 +190,8 @@ class MainWindow(QMainWindow):
         toolbar.setMovable(False)
         toolbar.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextBesideIcon)
         for act in (self.new_idea_action, run.run_action, self.save_rules_action, None,
-                    data.folder_action, data.check_action, None, ex.report_action):
+                    data.folder_action, data.check_action, None, ex.report_action, None,
+                    self.desk_action):
             toolbar.addSeparator() if act is None else toolbar.addAction(act)
         self.addToolBar(toolbar)
 

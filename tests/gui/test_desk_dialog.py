@@ -1,0 +1,94 @@
+"""The Desk dialog on the demo catalogue: ideas tested per period, the promoted idea's haircut
+Sharpe ratios (recomputed with scipy and statsmodels: Harvey & Liu 2015, Journal of Portfolio
+Management 42(1)), the worker thread, the period choice and Copy report."""
+
+from __future__ import annotations
+
+import math
+import threading
+
+import pytest
+from PySide6.QtGui import QGuiApplication
+from scipy import stats
+from statsmodels.stats.multitest import multipletests
+
+from hunchbook.core.verdict import CAUTION
+from hunchbook.desk import format_desk
+from hunchbook.gui.main_window import MainWindow
+from hunchbook.gui.widgets import desk_dialog as dialog_module
+from hunchbook.gui.widgets.desk_dialog import DeskDialog
+from tests.gui.desk_fixtures import demo_catalogue_copy
+
+
+@pytest.fixture
+def window(qtbot, tmp_path_factory, tmp_path):
+    win = MainWindow(remember=False, keep_layout=False)
+    qtbot.addWidget(win)
+    assert win.open_catalogue(demo_catalogue_copy(tmp_path_factory, tmp_path))
+    win.show()
+    qtbot.waitExposed(win)
+    return win
+
+
+def _cells(table) -> list[list[str]]:
+    return [[table.item(r, c).text() for c in range(table.columnCount())]
+            for r in range(table.rowCount())]
+
+
+def test_desk_dialog_on_the_demo(qtbot, window, monkeypatch):
+    threads = []
+    real = dialog_module.load_desk_report
+
+    def recording(*args, **kwargs):
+        threads.append(threading.current_thread())
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(dialog_module, "load_desk_report", recording)
+    assert window.desk_action.shortcut().toString() == "Ctrl+D"
+    window.desk_action.trigger()
+    dialog = window.findChild(DeskDialog)
+    assert dialog is not None and dialog.isVisible()
+    with qtbot.waitSignal(dialog.report_shown, timeout=20000) as blocker:
+        pass
+    report = blocker.args[0]
+    assert threads and threads[0] is not threading.main_thread()  # computed on a worker
+
+    # the demo desk (hunchbook.demo.catalogue): 7 ideas tested in 2025, 10 runs, 57 sets,
+    # 51 trials, 1 promotion, counted from its stories
+    assert _cells(dialog.period_table) == [["2025", "7", "10", "57", "51", "1"],
+                                           ["Total", "7", "10", "57", "51", "1"]]
+    assert "tested 7 idea(s) in 51 trial(s)" in dialog.headline.text()
+    (row,) = _cells(dialog.promoted_table)
+    assert row[0] == "1 Two-average trend across the book"
+
+    # recomputed: every tested idea's p-value (Student t, 12 x years - 1 df), statsmodels
+    ideas = window.catalogue.desk_summary().ideas
+    family = [2 * stats.t.sf(abs(i.net_sharpe) * math.sqrt(i.days / 252), 12 * i.days / 252 - 1)
+              for i in ideas]
+    k = [i.idea_id for i in ideas].index(1)
+    years = ideas[k].days / 252
+    for column, method in zip(row[4:], ("bonferroni", "holm", "fdr_by"), strict=True):
+        p = multipletests(family, method=method)[1][k]
+        hsr = stats.t.ppf(1 - p / 2, 12 * years - 1) / math.sqrt(years)
+        cut = round(100 * (ideas[k].net_sharpe - hsr) / ideas[k].net_sharpe)
+        assert column == f"{hsr:.2f} (-{cut} %)"
+    bhy = multipletests(family, method="fdr_by")[1][k]
+    assert f"Expected false promotions under BHY: {bhy:.2f} of 1" in dialog.notes.text()
+    assert CAUTION.split(":")[0] in "".join(w.text() for w in dialog.findChildren(
+        type(dialog.notes)))
+
+    dialog.copy_report()
+    assert QGuiApplication.clipboard().text() == format_desk(report)
+
+    with qtbot.waitSignal(dialog.report_shown, timeout=20000) as blocker:
+        dialog.period_box.setCurrentIndex(2)  # by month
+    assert blocker.args[0].summary.period == "month"
+    assert [r[0] for r in _cells(dialog.period_table)] == [
+        "2025-01", "2025-02", "2025-03", "2025-04", "Total"]
+
+
+def test_desk_needs_a_catalogue(qtbot):
+    win = MainWindow(remember=False, keep_layout=False)
+    qtbot.addWidget(win)
+    assert dialog_module.open_desk_dialog(win) is None
+    assert win.last_error.startswith("Open a catalogue first")
