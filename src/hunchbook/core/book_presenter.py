@@ -17,8 +17,9 @@ BOOK_COLUMNS: list[Column[IdeaCorrelation]] = [
     Column("Correlation", "ratio", lambda c: c.correlation,
            "Correlation of the two daily net P&L series over the dates both have: 1 is the "
            "same bet, 0 an unrelated one, -1 the opposite bet."),
-    Column("Common days", "count", lambda c: c.days,
-           "Dates on which both have P&L, the days the correlation is measured on."),
+    Column("Days", "count", lambda c: c.days,
+           "Common days: the dates on which both have P&L, those the correlation is measured "
+           "on."),
 ]
 
 #: The book's Sharpe ratio without and with the run (one value each).
@@ -36,8 +37,7 @@ BOOK_FIGURES: list[Figure[BookComparison]] = [
 
 def book_label(book: BookComparison) -> str:
     """The book's row name: how many ideas it combines."""
-    return (f"The book ({book.book_ideas} idea{'' if book.book_ideas == 1 else 's'} at equal "
-            "risk)")
+    return f"Book ({book.book_ideas} idea{'' if book.book_ideas == 1 else 's'}, equal risk)"
 
 
 def book_table(book: BookComparison) -> Table:
