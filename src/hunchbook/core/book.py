@@ -160,7 +160,7 @@ def compare_with_book(net: pd.Series, promoted: Sequence[PromotedPnl], *,
                            sharpe_after=math.nan, sharpe_change=math.nan, threshold=threshold,
                            min_days=min_days)
     if not promoted:
-        return replace(empty, note="No idea is promoted: there is no book to compare with.")
+        return replace(empty, note="No other idea is promoted: there is no book to compare with.")
     if not joined:
         return replace(empty, note="No promoted idea could be compared with this run (too few "
                                    "common days, or flat P&L), so there is no book.")
