@@ -4,7 +4,7 @@ ideas and their book, the book's Sharpe ratio without and with the run, and the 
 from __future__ import annotations
 
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
-from PySide6.QtGui import QFont
+from PySide6.QtGui import QFont, QResizeEvent
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QHeaderView,
@@ -129,6 +129,23 @@ class BookPanel(QWidget):
             layout.addWidget(widget)
         self.book: BookComparison | None = None
 
+    def hasHeightForWidth(self) -> bool:  # noqa: N802 (Qt override)
+        """False: the panel's wrapped lines would make the whole scrolled column take its
+        preferred heights (the sweep chart below would grow past the window); the panel sets
+        its own height from its width instead (:meth:`resizeEvent`)."""
+        return False
+
+    def resizeEvent(self, event: QResizeEvent) -> None:  # noqa: N802 (Qt override)
+        """Keep the height the wrapped lines need at this width."""
+        super().resizeEvent(event)
+        self._fit_height()
+
+    def _fit_height(self) -> None:
+        layout = self.layout()
+        height = layout.heightForWidth(self.width()) if self.width() > 0 else -1
+        if height > 0 and height != self.minimumHeight():
+            self.setMinimumHeight(height)
+
     def show_run(self, run: RunRecord | None) -> None:
         """Show a run's comparison (None: no run, the panel is hidden)."""
         self.setVisible(run is not None)
@@ -154,6 +171,7 @@ class BookPanel(QWidget):
             [*book_notes(book), *([threshold_sentence(book)] if book.ideas else [])])
         self.notes.setText(notes)
         self.table.setToolTip(None if book is None else threshold_sentence(book))
+        self._fit_height()
 
 
 def _sharpe_text(book: BookComparison | None) -> str:

@@ -161,9 +161,9 @@ class ResultsView(QWidget):
         left.addWidget(_heading("How far to trust it (days all sets share)"))
         left.addWidget(self.statistics_table)
         left.addSpacing(6)
-        left.addWidget(self.book_panel)
-        left.addSpacing(6)
         left.addWidget(self.sweep_slot, 1)
+        left.addSpacing(6)
+        left.addWidget(self.book_panel)
 
         charts = QWidget()
         column = QVBoxLayout(charts)
