@@ -28,7 +28,8 @@ API
 ---
 Ideas: ``add_idea``, ``idea``, ``update_idea``, ``list_ideas``, ``set_stage``,
 ``preregistrations``. Rules: ``save_rules``, ``revisions``, ``latest_revision``,
-``revision``. Runs: ``record_run``, ``trial_count``, ``trial_sharpes``, ``runs``, ``run``.
+``revision``. Runs: ``record_run``, ``trial_count``, ``trial_sharpes``, ``runs``, ``run``,
+``promoted_pnl``.
 Journal: ``add_entry``, ``correct_entry``, ``journal``. Reviews: ``review``, ``reviews``.
 Holdout: ``holdout_boundary``, ``holdout_boundaries``, ``set_holdout_boundary``,
 ``holdout_view``, ``holdout_views``, ``unlock_problem``, ``record_holdout_view``.
@@ -80,6 +81,7 @@ from typing import TYPE_CHECKING, Any
 import platformdirs
 
 if TYPE_CHECKING:
+    from hunchbook.core.book import PromotedPnl
     from hunchbook.core.holdout import HoldoutFigures
     from hunchbook.core.results import RunSummary
 
@@ -94,6 +96,7 @@ from hunchbook.store import (
     migrations,
     opening,
     preregistration,
+    promoted,
     search,
     validate,
 )
@@ -427,6 +430,11 @@ class Catalogue:
     def run(self, run_id: int) -> RunRecord:
         """One run with its daily P&L decoded into ``daily_pnl``."""
         return runmod.get(self.db, run_id)
+
+    def promoted_pnl(self, exclude_idea: int | None = None) -> list[PromotedPnl]:
+        """The daily net P&L of each promoted idea's latest run (the book a new run is compared
+        with, :mod:`hunchbook.core.book`), ``exclude_idea`` left out."""
+        return promoted.promoted_pnl(self.db, exclude_idea)
 
     # -- journal --------------------------------------------------------------------------
     def add_entry(self, *, idea_id: int | None, kind: str, text: str, by: str) -> int:

@@ -287,6 +287,10 @@ def _ideas_show(args: argparse.Namespace) -> int:
               f"{run.set_count} set(s)  net SR {sharpe}  verdict {run.verdict_label}")
         for reason in (run.result.verdict.reasons if run.result else ()):
             print(f"      - {reason}")
+        if run.result is not None and run.result.book is not None:
+            from hunchbook.core.book_presenter import book_line
+
+            print(f"      {book_line(run.result.book)}")
     if seen is not None:
         print(f"\nHoldout seen by {seen.seen_by} on {seen.seen_at[:10]} (run {seen.run_id}): "
               + seen.figures.finding())

@@ -4,6 +4,14 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+from hunchbook.core.book_presenter import (
+    BOOK_COLUMNS,
+    BOOK_HEADING,
+    book_notes,
+    book_rows,
+    book_table,
+    threshold_sentence,
+)
 from hunchbook.core.presenter import (
     HOLDOUT_HEADERS,
     FigureRow,
@@ -21,6 +29,7 @@ from hunchbook.core.stats import FirstPassStats
 from hunchbook.core.verdict import Verdict
 
 if TYPE_CHECKING:
+    from hunchbook.core.book import BookComparison
     from hunchbook.services import HoldoutPlan
     from hunchbook.store.records import HoldoutView
 
@@ -87,8 +96,25 @@ def format_sweep(run: RunSummary) -> str:
 def format_judgement(run: RunSummary) -> str:
     """The statistics of the chosen set and the verdict with its reasons."""
     params = run.chosen.params
-    return format_statistics(run.statistics, run.verdict,
+    text = format_statistics(run.statistics, run.verdict,
                              chosen=format_params(params) if params else None)
+    return text if run.book is None else f"{text}\n\n{format_book(run.book)}"
+
+
+def format_book(book: BookComparison) -> str:
+    """The chosen set against the promoted ideas and their book, with what each figure means."""
+    lines = [f"{BOOK_HEADING}:"]
+    if book.ideas:
+        lines += table_text(book_table(book))
+    if book.book_ideas:
+        lines += [f"{r.label:<{LABEL_WIDTH}}{format_value(r.net, r.kind):>14}"
+                  for r in book_rows(book)]
+    lines += [f"  {note}" for note in book_notes(book)]
+    if book.ideas:
+        lines += ["What they mean:", *(f"  {c.label}: {c.note}" for c in BOOK_COLUMNS),
+                  *(f"  {r.label}: {r.note}" for r in book_rows(book) if book.book_ideas),
+                  f"  {threshold_sentence(book)}"]
+    return "\n".join(lines)
 
 
 def format_statistics(stats: FirstPassStats, verdict: Verdict, chosen: str | None = None) -> str:

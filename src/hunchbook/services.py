@@ -12,6 +12,7 @@ import pandas as pd
 from hunchbook import __version__
 from hunchbook.api import EarlierTrials, SetResult, Study
 from hunchbook.catalogue import Catalogue
+from hunchbook.core.book import compare_with_book
 from hunchbook.core.errors import DataError, HunchbookError, RuleError
 from hunchbook.core.history import HOLDOUT_SHARE, common_history, default_boundary
 from hunchbook.core.holdout import held_out, holdout_figures, holdout_seen_warning
@@ -119,7 +120,10 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
 
     A catalogue without a boundary gets the default one of the data folder (the last 20 % of
     its common history held out; :mod:`hunchbook.core.history`), set by ``by`` and journalled
-    with the run. Once the idea's holdout was unlocked, the verdict says so in its last reason.
+    with the run. The chosen set is compared with the promoted ideas (the idea itself left out;
+    :mod:`hunchbook.core.book`): the record keeps the comparison, and the verdict warns when the
+    run is mostly the same bet as one of them or as their book. Once the idea's holdout was
+    unlocked, the verdict says so in its last reason.
 
     Raises
     ------
@@ -139,14 +143,18 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     history = catalogue.prospective_trials(idea_id, rule_text, study.parameter_sets())
     earlier = recompute_earlier_trials(history, data_folder, loaded=study.data, before=boundary,
                                        runner=runner, cancel=cancel)
-    seen = catalogue.holdout_view(idea_id)
     report = study.sweep(runner=runner, progress=progress, cancel=cancel, earlier=earlier,
-                         spa_reps=spa_reps,
-                         warnings=() if seen is None else (
-                             holdout_seen_warning(seen.seen_at, seen.seen_by),))
+                         spa_reps=spa_reps)
     chosen = study.run_set(report.sets[report.chosen])
-    summary = report.summarise(chosen, currency=study.panel.currency,
-                               data_folder=str(Path(data_folder)), holdout_boundary=boundary)
+    book = compare_with_book(chosen.portfolio["net_pnl"],
+                             catalogue.promoted_pnl(exclude_idea=idea_id))
+    seen = catalogue.holdout_view(idea_id)
+    report = report.rejudged(  # the facts found after the sweep, given together
+        [*book.warnings(), *([] if seen is None else
+                             [holdout_seen_warning(seen.seen_at, seen.seen_by)])])
+    summary = replace(report.summarise(chosen, currency=study.panel.currency,
+                                       data_folder=str(Path(data_folder)),
+                                       holdout_boundary=boundary), book=book)
     with catalogue.transaction():  # the revision and its run are kept together, or neither
         if default_reason is not None and catalogue.holdout_boundary() is None:
             catalogue.set_holdout_boundary(boundary, by=by, reason=default_reason)

@@ -312,16 +312,16 @@ def test_quick_run_works_off_the_ui_thread_while_the_ui_keeps_turning(qtbot, win
 def test_search_and_filters_narrow_the_table(qtbot, window):
     """The search box runs the catalogue's full-text search; filters combine with it."""
     panel = window.catalogue_panel
-    assert panel.proxy.rowCount() == 15
+    assert panel.proxy.rowCount() == 16
     window.find_action.trigger()
     qtbot.keyClicks(panel.search, "grid")
     expected = {i.id for i in window.catalogue.list_ideas(text="grid")}
     qtbot.waitUntil(lambda: set(panel.visible_ids()) == expected, timeout=3000)
-    assert 0 < len(expected) < 15
+    assert 0 < len(expected) < 16
     panel.stage.setCurrentIndex(panel.stage.findData("tested"))
     both = {i.id for i in window.catalogue.list_ideas(text="grid", stage="tested")}
     assert set(panel.visible_ids()) == both
-    assert panel.count.text() == f"{len(both)} of 15 ideas"
+    assert panel.count.text() == f"{len(both)} of 16 ideas"
     panel.clear_filters()
     panel.author.setCurrentIndex(panel.author.findData("Theo Brackwater"))
     theo = {i.id for i in window.catalogue.list_ideas(author="Theo Brackwater")}
@@ -336,9 +336,9 @@ def test_sorting_the_table_by_a_header_click(qtbot, window):
     qtbot.mouseClick(header.viewport(), Qt.MouseButton.LeftButton,
                      pos=header.viewport().rect().center().__class__(x, 5))
     counts = [int(t or 0) for t in (window.catalogue_panel.proxy.index(
-        r, IdeaTableModel.TRIALS).data() for r in range(15))]
+        r, IdeaTableModel.TRIALS).data() for r in range(16))]
     assert counts in (sorted(counts), sorted(counts, reverse=True))
-    assert counts != [counts[0]] * 15
+    assert counts != [counts[0]] * 16
 
 
 def test_idea_form_autosaves_and_journals_the_edit(qtbot, window):
@@ -548,7 +548,7 @@ def test_screenshot_option_writes_a_png(qtbot, demo_catalogue, short_data, tmp_p
 
 def test_demo_opens_on_the_accepted_idea_with_its_data(qtbot, tmp_path, monkeypatch):
     """``--demo`` shows the window at once, prepares the demo desk and data on a worker (never
-    on the UI thread), then opens the 15-idea catalogue with the accepted idea selected and
+    on the UI thread), then opens the 16-idea catalogue with the accepted idea selected and
     sets the data folder."""
     import threading
 
@@ -569,7 +569,7 @@ def test_demo_opens_on_the_accepted_idea_with_its_data(qtbot, tmp_path, monkeypa
         win = session.window
         assert session.wait_for_demo_data()
         assert threads and threading.main_thread() not in threads
-        assert win.catalogue_panel.model.rowCount() == 15
+        assert win.catalogue_panel.model.rowCount() == 16
         assert win.catalogue.idea(win.current_idea_id()).stage == "accepted"
         assert (win.data_folder / "markets.toml").is_file()
         assert len(win.library) == 8

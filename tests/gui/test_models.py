@@ -57,7 +57,7 @@ def test_idea_model_shows_every_idea_with_verdict_labels(catalogue):
     ideas = catalogue.list_ideas()
     model = IdeaTableModel()
     model.set_ideas(ideas)
-    assert model.rowCount() == len(ideas) == 15
+    assert model.rowCount() == len(ideas) == 16
     labels = {i.id: verdict_label(i.last_verdict) for i in ideas}
     shown = dict(zip(_column(model, 0, ID_ROLE), _column(model, IdeaTableModel.VERDICT),
                      strict=True))
@@ -123,7 +123,7 @@ def test_proxy_limits_to_search_ids(catalogue):
     proxy.set_filters(ids=[])
     assert proxy.rowCount() == 0
     proxy.set_filters()
-    assert proxy.rowCount() == 15
+    assert proxy.rowCount() == 16
 
 
 def test_update_idea_replaces_one_row_and_keeps_order(qtbot, catalogue):
@@ -135,7 +135,7 @@ def test_update_idea_replaces_one_row_and_keeps_order(qtbot, catalogue):
     changed = summary_of(catalogue.idea(idea.id))._replace(title="AAA first now")
     with qtbot.waitSignal(model.layoutChanged):
         model.update_idea(changed)
-    assert model.rowCount() == 15
+    assert model.rowCount() == 16
     assert model.index(0, IdeaTableModel.TITLE).data() == "AAA first now"
     assert model.index(0, 0).data(ID_ROLE) == idea.id
 

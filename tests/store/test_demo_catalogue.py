@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
+import pandas as pd
 import pytest
 from scipy.stats import kurtosis, norm, skew
 
@@ -58,7 +59,7 @@ def test_demo_runs_reach_the_verdict_each_story_tells(demo: Catalogue) -> None:
     """Each real run lands on the outcome its story (and its journal notes) describe."""
     assert [r.verdict_label for r in demo.runs()] == [
         "passes", "too_little_data", "selection_luck", "lost_to_costs", "too_little_data",
-        "no_edge", "lost_to_costs", "passes", "not_judged", "no_edge"]
+        "no_edge", "lost_to_costs", "passes", "not_judged", "no_edge", "passes"]
 
 
 def test_every_stored_run_equals_its_re_run(demo: Catalogue, desk: Path,
@@ -90,7 +91,7 @@ def test_every_stored_run_equals_its_re_run(demo: Catalogue, desk: Path,
 
 def test_every_idea_has_a_rule_file_that_runs_on_the_demo_data(demo: Catalogue,
                                                                 desk: Path) -> None:
-    """All 15 ideas carry a rule file, and each runs its first parameter set on the data."""
+    """All 16 ideas carry a rule file, and each runs its first parameter set on the data."""
     for idea in demo.list_ideas():
         revision = demo.latest_revision(idea.id)
         assert revision is not None, idea.title
@@ -151,3 +152,24 @@ def test_the_promoted_trend_idea_saw_its_holdout_once(demo: Catalogue) -> None:
     assert len(entries) == 1 and entries[0].by == view.seen_by
     assert entries[0].at == view.seen_at
     assert demo.unlock_problem(view.idea_id) is not None  # once per idea
+
+
+def test_the_analysts_variant_is_told_it_is_the_promoted_trend_again(demo: Catalogue) -> None:
+    """The demo's faster variant of the promoted trend idea, run after the promotion, is told
+    it is mostly the same bet as idea 1, at the correlation pandas computes from the two stored
+    daily net P&L series (reference: pandas ``corr`` over the common dates); no other demo run
+    is the same bet as the promoted idea, and the variant was shelved for it."""
+    (variant,) = [i for i in demo.list_ideas() if i.title.startswith("Two-average trend with")]
+    (trend,) = demo.list_ideas(stage="promoted")
+    run = demo.run(demo.runs(variant.id)[-1].id)
+    promoted = demo.run(run.result.book.ideas[0].run_id)
+    assert promoted.idea_id == trend.id == 1
+    joined = pd.concat([run.daily_pnl["net_pnl"], promoted.daily_pnl["net_pnl"]], axis=1,
+                       join="inner")
+    rho = joined.corr().iloc[0, 1]
+    assert rho >= 0.8
+    assert (f"Mostly the same bet as idea 1 ({trend.title}): correlation {rho:.2f} over "
+            f"{len(joined):,} common days.") in run.result.verdict.reasons
+    assert variant.stage == "shelved"
+    others = [demo.run(r.id).result for r in demo.runs() if r.idea_id != variant.id]
+    assert not any(c.key.startswith("same_bet") for r in others for c in r.verdict.checks)

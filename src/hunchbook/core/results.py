@@ -21,12 +21,15 @@ from dataclasses import dataclass
 from functools import cache
 from typing import Any
 
+from hunchbook.core.book import BookComparison
 from hunchbook.core.errors import RecordError
 from hunchbook.core.plain import json_safe
 from hunchbook.core.stats.first_pass import FirstPassStats
 from hunchbook.core.verdict import Verdict
 
-#: Version of the record's shape; raised whenever a field is added, removed or renamed.
+#: Version of the record's shape; raised whenever a field is removed or renamed, or a field is
+#: added that a reader cannot do without. An optional field with a default (``book``) keeps it:
+#: records without the field read with the default, and readers that do not know it skip it.
 SCHEMA = 2
 #: Earlier shapes still read: schema 1 had no ``holdout_boundary`` (read as ``None``).
 READABLE_SCHEMAS = (1, SCHEMA)
@@ -112,7 +115,9 @@ class RunSummary:
 
     ``sets`` are in grid order; ``statistics.chosen`` is the chosen set's position in them.
     ``holdout_boundary`` is the holdout boundary (``YYYY-MM-DD``) the data were cut at: the
-    run saw only the dates before it (``None``: the whole history).
+    run saw only the dates before it (``None``: the whole history). ``book`` is the chosen set
+    against the promoted ideas (:mod:`hunchbook.core.book`; ``None``: not compared, as for a
+    run outside the catalogue or one recorded before the comparison existed).
     """
 
     name: str
@@ -124,6 +129,7 @@ class RunSummary:
     statistics: FirstPassStats
     verdict: Verdict
     holdout_boundary: str | None = None
+    book: BookComparison | None = None
     schema: int = SCHEMA
 
     @property

@@ -1,4 +1,4 @@
-"""The invented demo desk's catalogue: 15 ideas across every stage, each with a real rule file,
+"""The invented demo desk's catalogue: 16 ideas across every stage, each with a real rule file,
 journal notes, reviews and runs carrying verdicts of each kind.
 
 Everything here is invented: the firm (Fernhollow Lane Partners, see :data:`DESK`), its people,
@@ -35,7 +35,7 @@ DEMO_TAG = "invented-demo"
 #: Called after each recorded demo run with (runs done, runs in all).
 BuildProgress = Callable[[int, int], None]
 #: Runs the demo catalogue records (for progress).
-DEMO_RUNS = 10
+DEMO_RUNS = 11
 #: The demo desk's holdout boundary: the day after the invented history ends. Its stories are
 #: told on the whole history; the held-out years are those still to come.
 DEMO_HOLDOUT = dt.date(2025, 1, 2)
@@ -119,7 +119,7 @@ class _Builder:
         written in the order a real desk would have written it."""
         stories = [self._desk(), self._trend(), self._breakout(), self._reversion(),
                    self._natgas(), self._gold(), self._slow_rates(), self._waiting(),
-                   self._early()]
+                   self._early(), self._trend_variant()]
         queue = [(next(story), k, story) for k, story in enumerate(stories)]
         heapq.heapify(queue)
         while queue:
@@ -138,8 +138,9 @@ class _Builder:
             DEMO_HOLDOUT, by=INES, reason="the last year of our history (2025) stays "
             "locked; each idea sees it once, when it has earned it")
         yield "2025-06-30T14"
-        self.note(None, INES, "Half-year review: six ideas tested, one promoted. "
-                  "Too many grid points per idea in Q1; keep grids to a handful of values.")
+        self.note(None, INES, "Half-year review: eight ideas run, one promoted; another that "
+                  "passed was the promoted trend again. Too many grid points per idea in Q1; "
+                  "keep grids to a handful of values.")
 
     def _trend(self) -> Story:
         yield "2025-01-08T09"
@@ -389,6 +390,37 @@ class _Builder:
         yield "2025-05-09T11"
         self.stage(i, "shelved", THEO, "No economic link that would pull the two "
                    "back together; dropping it before testing.")
+
+    def _trend_variant(self) -> Story:
+        yield "2025-05-12T09"
+        i = self.idea(title="Two-average trend with faster averages",
+                      hypothesis="The desk's trend idea turns late; shorter averages catch "
+                                 "turns sooner and keep the edge.",
+                      rationale="As for the two-average trend: news is absorbed slowly, so "
+                                "moves persist; faster averages react to them earlier.",
+                      rationale_kind="behavioural", submitted_by=THEO, markets=list(BOOK),
+                      tags=["trend"], stage="submitted")
+        yield "2025-05-12T10"
+        self.rules(i, THEO, demo_rules.TREND_FASTER)
+        yield "2025-05-13T16"
+        self.review(i, "accept", "Accepted; see how it compares with the trend idea we "
+                    "promoted.")
+        yield "2025-05-15T17"
+        run = self.run(i, THEO, demo_rules.TREND_FASTER)
+        book = run.summary.book
+        assert book is not None and book.ideas
+        same = book.ideas[0]
+        yield "2025-05-16T10"
+        self.note(i, INES, f"{run.summary.verdict.label} on its own (net Sharpe {_net(run)}), "
+                  f"but it is mostly the same bet as idea {same.idea_id}: correlation "
+                  f"{same.correlation:.2f} over {same.days:,} common days. Added to the book "
+                  f"at equal risk it would move the book's Sharpe ratio from "
+                  f"{book.sharpe_before:.2f} to {book.sharpe_after:.2f}. Not promoting a "
+                  "second copy of the trend.", kind="decision")
+        yield "2025-05-16T11"
+        self.stage(i, "shelved", INES, f"Mostly the same bet as idea {same.idea_id} "
+                   f"(correlation {same.correlation:.2f}); the faster lengths go into that "
+                   "idea's research instead.")
 
 
 def _gross(run: IdeaRun) -> str:

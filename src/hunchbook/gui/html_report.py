@@ -35,11 +35,13 @@ from hunchbook.gui.charts.run_figures import (
     verdict_text,
 )
 from hunchbook.gui.charts.theme import light_theme
+from hunchbook.gui.html_book import BOOK_CAPTION, book_section
 from hunchbook.store.records import HoldoutView, Idea, RunRecord
 
-#: Pixel size of each chart image in the report (the sweep chart is narrower).
+#: Pixel size of each chart image in the report (the sweep and book charts differ).
 CHART_SIZE = (960, 360)
 SWEEP_SIZE = (720, 400)
+SIZES = {"sweep": SWEEP_SIZE, "book": (720, 220)}
 
 #: Caption of each chart, by the names of :meth:`ResultCharts.named`.
 CAPTIONS = {
@@ -49,6 +51,7 @@ CAPTIONS = {
     "sweep": "Net Sharpe ratio of every parameter set run (the chosen set outlined).",
     "contribution": "Total P&L of the chosen set per market, gross and net.",
     "costs": "Net Sharpe ratio of the chosen set with costs scaled by each multiple.",
+    "book": BOOK_CAPTION,
 }
 
 _STYLE = """
@@ -110,10 +113,10 @@ def render_chart_images(run: RunRecord, held_out: HoldoutView | None = None
     charts.show_run(run)
     if held_out is not None and held_out.run_id == run.id:
         charts.show_held_out(held_out.daily_pnl)
-    images = {name: png_bytes(chart, SWEEP_SIZE if name == "sweep" else CHART_SIZE)
+    images = {name: png_bytes(chart, SIZES.get(name, CHART_SIZE))
               for name, chart in charts.named().items()}
     for chart in (charts.equity, charts.drawdown, charts.contribution, charts.heatmap,
-                  charts.profile, charts.costs):
+                  charts.profile, charts.costs, charts.book):
         chart.deleteLater()
     return images
 
@@ -255,6 +258,8 @@ trials counted for the idea.</p>
 <h2>How far to trust it (days all sets share)</h2>
 {_figures_table(statistic_rows(run), explained=True)}
 {notes_html}
+<h2>Against the book (promoted ideas)</h2>
+{book_section(run)}
 <h2>Held-out years</h2>
 {_holdout_section(run, held_out)}
 <h2>Charts</h2>

@@ -7,7 +7,7 @@ writing, WAL, migrating), :mod:`~hunchbook.store.migrations` (schema versions),
 :mod:`~hunchbook.store.chain` (the append-only rows' hash chain),
 :mod:`~hunchbook.store.ideas`, :mod:`~hunchbook.store.revisions`,
 :mod:`~hunchbook.store.preregistration`, :mod:`~hunchbook.store.runs` (and
-:mod:`~hunchbook.store.pnl`), :mod:`~hunchbook.store.journal`,
+:mod:`~hunchbook.store.pnl`, :mod:`~hunchbook.store.promoted`), :mod:`~hunchbook.store.journal`,
 :mod:`~hunchbook.store.reviews`, :mod:`~hunchbook.store.search`,
 :mod:`~hunchbook.store.bundles` (and :mod:`~hunchbook.store.bundle_read`),
 :mod:`~hunchbook.store.check`. Most code should use :class:`hunchbook.catalogue.Catalogue`.

@@ -5,6 +5,7 @@ from __future__ import annotations
 import pandas as pd
 from PySide6.QtWidgets import QWidget
 
+from hunchbook.gui.charts.book import BookChart
 from hunchbook.gui.charts.contribution import ContributionChart
 from hunchbook.gui.charts.cost_sensitivity import CostSensitivityChart
 from hunchbook.gui.charts.drawdown import DrawdownChart
@@ -30,8 +31,8 @@ def sweep_kind(space: ParameterSpace) -> str:
 
 
 class ResultCharts:
-    """Equity, drawdown (x-linked to equity), contribution, sweep (heatmap or profile) and
-    cost-sensitivity charts, created together in one theme."""
+    """Equity, drawdown (x-linked to equity), contribution, sweep (heatmap or profile),
+    cost-sensitivity and against-the-book charts, created together in one theme."""
 
     def __init__(self, theme: ChartTheme | None = None) -> None:
         theme = theme or palette_theme()
@@ -42,6 +43,7 @@ class ResultCharts:
         self.heatmap = SweepHeatmap(theme=theme)
         self.profile = SweepProfile(theme=theme)
         self.costs = CostSensitivityChart(theme=theme)
+        self.book = BookChart(theme=theme)
         self.sweep = "none"
 
     def show_run(self, run: RunRecord) -> None:
@@ -54,6 +56,7 @@ class ResultCharts:
         self.drawdown.set_boundary(boundary)
         self.contribution.set_totals(market_totals(run), currency=currency)
         self.costs.set_curve(*cost_curve(run))
+        self.book.set_comparison(run.result.book if run.result else None)
         space = parameter_space(run)
         self.sweep = sweep_kind(space)
         chosen = dict(run.chosen_params) if run.chosen_params else None
@@ -72,7 +75,7 @@ class ResultCharts:
     def clear(self) -> None:
         """Empty every chart."""
         for chart in (self.equity, self.drawdown, self.contribution, self.heatmap,
-                      self.profile, self.costs):
+                      self.profile, self.costs, self.book):
             chart.clear_data()
         self.sweep = "none"
 
@@ -90,4 +93,6 @@ class ResultCharts:
             out["contribution"] = self.contribution
         if self.costs.has_data:
             out["costs"] = self.costs
+        if self.book.has_data:
+            out["book"] = self.book
         return out

@@ -1,5 +1,5 @@
-"""Results of one run: verdict banner, gross/net figures, statistics, the held-out years and
-charts."""
+"""Results of one run: verdict banner, gross/net figures, statistics, the run against the book,
+the held-out years and charts."""
 
 from __future__ import annotations
 
@@ -31,6 +31,7 @@ from hunchbook.gui.charts.run_figures import (
     verdict_text,
 )
 from hunchbook.gui.html_report import CAUTION, render_chart_images, write_html_report
+from hunchbook.gui.widgets.book_panel import BookPanel
 from hunchbook.gui.widgets.figures_model import FiguresModel
 from hunchbook.gui.widgets.holdout_panel import HoldoutPanel
 from hunchbook.gui.widgets.verdict_banner import VerdictBanner, mix_colours
@@ -144,6 +145,7 @@ class ResultsView(QWidget):
         self.contribution_slot = ChartSlot([c.contribution],
                                            "No per-market figures were recorded for this run.")
         self.costs_slot = ChartSlot([c.costs], "No cost sensitivity was recorded for this run.")
+        self.book_panel = BookPanel(c.book)
         self.caution = QLabel(CAUTION)
         self.caution.setWordWrap(True)
         small = QFont(self.caution.font())
@@ -160,6 +162,8 @@ class ResultsView(QWidget):
         left.addWidget(self.statistics_table)
         left.addSpacing(6)
         left.addWidget(self.sweep_slot, 1)
+        left.addSpacing(6)
+        left.addWidget(self.book_panel)
 
         charts = QWidget()
         column = QVBoxLayout(charts)
@@ -232,6 +236,7 @@ class ResultsView(QWidget):
         self.statistics.set_rows(statistic_rows(run))
         self._fit_tables()
         self.charts.show_run(run)
+        self.book_panel.show_run(run)
         self.show_holdout(None, None)
         self._show_slots()
 
@@ -272,6 +277,7 @@ class ResultsView(QWidget):
         self.statistics.set_rows([])
         self._fit_tables()
         self.charts.clear()
+        self.book_panel.show_run(None)
         self.holdout.show_state(None, None, None)
         self.held_out = None
         self._show_slots()
