@@ -342,14 +342,15 @@ class Catalogue:
         Promotion is not a plain stage change: it is a promotion review (:meth:`review` with
         the decision ``promote``), and moving to ``promoted`` here is refused.
         """
-        if stage == "promoted":
-            raise CatalogueError(
-                "an idea is promoted by a promotion review, not a stage change: someone other "
-                "than its author answers the promotion checklist ("
-                + ", ".join(PROMOTION_CHECKLIST) + ") and decides 'promote' (hunchbook ideas "
-                "promote, or the window's Review section)", field=f"idea {idea_id}")
         with dbmod.write(self.db):
-            ideas.set_stage(self.db, idea_id, stage, by=by, reason=reason, at=self._now())
+            idea = ideas.get(self.db, idea_id)
+            if stage == "promoted" and stage in TRANSITIONS[idea.stage]:
+                raise CatalogueError(
+                    "an idea is promoted by a promotion review, not a stage change: someone "
+                    "other than its author answers the promotion checklist ("
+                    + ", ".join(PROMOTION_CHECKLIST) + ") and decides 'promote' (hunchbook "
+                    "ideas promote, or the window's Review section)", field=f"idea {idea.id}")
+            ideas.set_stage(self.db, idea.id, stage, by=by, reason=reason, at=self._now())
 
     def preregistrations(self, idea_id: int) -> list[Preregistration]:
         """The idea's pre-registration versions, oldest first (empty before its first run)."""
