@@ -322,19 +322,22 @@ class Catalogue:
         user = validate.name(waiting_for, "waiting_for")
         alone = desk.current(self.db, "one_person_desk")
         mine = [r for r in rows if desk.next_step(r.stage, r.submitted_by, r.reviewer, user,
-                                                  one_person_desk=alone) is not None]
+                                                  one_person_desk=alone,
+                                                  last_verdict=r.last_verdict) is not None]
         return mine if limit is None else mine[:validate.integer(limit, "limit")]
 
     def next_step(self, idea_id: int, user: str) -> str | None:
         """The idea's next step when it is ``user``'s to take, else None: ``review`` (a
         submitted idea someone else wrote, unless another reviewer is named on it),
-        ``rework`` (their own returned idea), ``run`` (their own accepted idea) or
-        ``promotion review`` (a tested idea someone else wrote). On a one-person desk the
-        author may take the reviewers' steps too."""
+        ``rework`` (their own returned idea), ``run`` (their own accepted idea),
+        ``promotion review`` (a tested idea someone else wrote, whose last verdict says
+        promote) or ``rework or shelve`` (their own tested idea with another verdict). On a
+        one-person desk the author may take the reviewers' steps too."""
         idea = ideas.get(self.db, idea_id)
         return desk.next_step(idea.stage, idea.submitted_by, idea.reviewer,
                               validate.name(user, "user"),
-                              one_person_desk=desk.current(self.db, "one_person_desk"))
+                              one_person_desk=desk.current(self.db, "one_person_desk"),
+                              last_verdict=idea.last_verdict)
 
     def set_stage(self, idea_id: int, stage: str, *, by: str, reason: str) -> None:
         """Move an idea along an allowed transition (see ``TRANSITIONS``); journalled.

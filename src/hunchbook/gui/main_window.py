@@ -115,6 +115,7 @@ class MainWindow(QMainWindow):
     def _build_sections(self) -> None:
         self.catalogue_panel = CataloguePanel(self)
         self.catalogue_panel.idea_selected.connect(self._idea_chosen)
+        self.catalogue_panel.set_user(self.user)
         self.header = IdeaHeader(self)
 
         self.tabs = QTabWidget(self)
@@ -128,6 +129,7 @@ class MainWindow(QMainWindow):
             section.error.connect(self.show_error)
             section.tab_changed.connect(partial(self._set_tab, section))
             section.show_requested.connect(partial(self.show_section, section.key))
+            section.idea_requested.connect(self.select_idea)
             self.tabs.addTab(section, section.tab_title)
             self._sections.append(section)
         self.rules = cast(RulesSection, self.section("rules"))

@@ -18,10 +18,7 @@ from typing import Any
 from hunchbook.store import chain, validate
 from hunchbook.store.records import DeskSetting
 from hunchbook.store.sqlite_lib import Database
-from hunchbook.store.vocab import DESK_SETTINGS, NEXT_STEPS
-
-#: What a review by the idea's own author says about itself.
-BY_AUTHOR = "one-person desk: reviewed by the author"
+from hunchbook.store.vocab import DESK_SETTINGS, NEXT_STEPS, PROMOTION_VERDICT, TESTED_REWORK
 
 
 def clean_key(key: Any, field: str = "setting") -> str:
@@ -56,17 +53,20 @@ def same_person(a: str | None, b: str | None) -> bool:
 
 
 def next_step(stage: str, author: str, reviewer: str | None, user: str, *,
-              one_person_desk: bool) -> str | None:
+              one_person_desk: bool, last_verdict: str | None = None) -> str | None:
     """The next step of an idea that is ``user``'s to take, or None when it waits for someone
     else (or nobody).
 
     See :data:`hunchbook.store.vocab.NEXT_STEPS`: a returned idea waits for its author's
     rework and an accepted one for its author's run; a submitted idea waits for a review by
-    anyone but its author (only by its named ``reviewer`` when it has one), a tested idea for
-    a promotion review by anyone but its author. On a one-person desk the author may take the
-    reviewer's steps too.
+    anyone but its author (only by its named ``reviewer`` when it has one); a tested idea
+    whose last verdict says promote waits for a promotion review by anyone but its author,
+    and with another verdict for its author (rework or shelve). On a one-person desk the
+    author may take the reviewers' steps too.
     """
     whose, step = NEXT_STEPS.get(stage, (None, None))
+    if stage == "tested" and last_verdict != PROMOTION_VERDICT:
+        whose, step = TESTED_REWORK
     if whose == "author":
         return step if same_person(user, author) else None
     if whose != "reviewer":

@@ -10,11 +10,11 @@ from collections.abc import Mapping
 from typing import Any
 
 from hunchbook.store import chain, validate
-from hunchbook.store.desk import BY_AUTHOR, same_person
+from hunchbook.store.desk import same_person
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Review
 from hunchbook.store.sqlite_lib import Database
-from hunchbook.store.vocab import DECISION_LABELS, REVIEW_DECISIONS, REVIEW_KINDS
+from hunchbook.store.vocab import BY_AUTHOR, DECISION_LABELS, REVIEW_DECISIONS, REVIEW_KINDS
 
 
 def kind_of(decision: Any, field: str = "decision") -> str:

@@ -100,15 +100,28 @@ DESK_SETTINGS: dict[str, tuple[bool, str]] = {
                                "so): for a desk of one."),
 }
 
+#: What a review by the idea's own author (on a one-person desk) says about itself.
+BY_AUTHOR = "one-person desk: reviewed by the author"
+
 #: Whose next step an idea waits for at each stage ("author", or "reviewer": anyone but the
-#: author, or the author too on a one-person desk), and what that step is. Ideas at other
-#: stages (draft, promoted, shelved) wait for nobody.
+#: author, or the author too on a one-person desk), and what that step is. A tested idea waits
+#: for a promotion review only when its last verdict is :data:`PROMOTION_VERDICT`; with any
+#: other verdict it waits for its author (:data:`TESTED_REWORK`). Ideas at other stages (draft,
+#: promoted, shelved) wait for nobody.
 NEXT_STEPS: dict[str, tuple[str, str]] = {
     "submitted": ("reviewer", "review"),
     "returned": ("author", "rework"),
     "accepted": ("author", "run"),
     "tested": ("reviewer", "promotion review"),
 }
+
+#: The verdict outcome (see :mod:`hunchbook.core.verdict`) after which a tested idea waits for
+#: its promotion review.
+PROMOTION_VERDICT = "passes"
+
+#: The author's step for a tested idea whose last verdict is another: rework and run again, or
+#: shelve it.
+TESTED_REWORK = ("author", "rework or shelve")
 
 #: Fields of an idea frozen by pre-registration at its first run.
 FROZEN_FIELDS = ("rationale", "markets")
