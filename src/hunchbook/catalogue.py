@@ -545,7 +545,7 @@ class Catalogue:
                     else "only submitted ideas are reviewed"
                 raise CatalogueError(f"idea {idea.id} is '{idea.stage}'; {what}",
                                      field=f"idea {idea.id}")
-            problem = desk.author_review_problem(self.db, idea.id, idea.submitted_by, reviewer)
+            problem = desk.author_review_problem(self.db, idea.submitted_by, reviewer)
             if problem is not None:
                 raise CatalogueError(problem, field=f"idea {idea.id}")
             if decision == "accept":

@@ -36,6 +36,7 @@ from hunchbook.core.prices import LIBRARY_FILE
 from hunchbook.gui import feedback, window_settings
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.data_menu import DataMenu
+from hunchbook.gui.desk_settings import DeskSettings
 from hunchbook.gui.drops import DropHandler
 from hunchbook.gui.exports import Exports
 from hunchbook.gui.feedback import one_line
@@ -75,6 +76,8 @@ class MainWindow(QMainWindow):
         The :class:`~hunchbook.gui.quick_run.QuickRunner` (its signals tell how runs end).
     exports
         The :class:`~hunchbook.gui.exports.Exports` of runs and ideas.
+    desk_settings
+        The :class:`~hunchbook.gui.desk_settings.DeskSettings` (one-person desk).
     data_menu, drops
         The :class:`~hunchbook.gui.data_menu.DataMenu` and the
         :class:`~hunchbook.gui.drops.DropHandler`.
@@ -103,6 +106,7 @@ class MainWindow(QMainWindow):
         self.holdout = HoldoutActions(self)
         self.runs.results.holdout.unlock_requested.connect(self.holdout.unlock)
         self.exports = Exports(self)
+        self.desk_settings = DeskSettings(self)
         self.data_menu = DataMenu(self)
         self.drops = DropHandler(self)
         self._build_actions()
@@ -167,7 +171,8 @@ class MainWindow(QMainWindow):
         quit_action = make_action(self, "Quit", self.close, std.Quit)
         run, ex, data = self.quick_run, self.exports, self.data_menu
 
-        menus = (("&File", (self.new_idea_action, open_catalogue_action, None, ex.import_action,
+        menus = (("&File", (self.new_idea_action, open_catalogue_action,
+                            self.desk_settings.action, None, ex.import_action,
                             ex.bundle_action, ex.report_action, ex.pnl_action, None,
                             quit_action)),
                  ("&Idea", (run.run_action, run.cancel_action, self.save_rules_action,
@@ -324,6 +329,7 @@ class MainWindow(QMainWindow):
         self.exports.bundle_action.setEnabled(idea_id is not None)
         self.quick_run.update_actions()
         self.holdout.update_actions()
+        self.desk_settings.update_actions()
 
     def _set_tab(self, section: IdeaSection, text: str, tooltip: str) -> None:
         index = self.tabs.indexOf(section)

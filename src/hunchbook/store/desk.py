@@ -78,11 +78,10 @@ def next_step(stage: str, author: str, reviewer: str | None, user: str, *,
     return step
 
 
-def author_review_problem(db: Database, idea_id: int, author: str,
-                          reviewer: str) -> str | None:
+def author_review_problem(db: Database, author: str, reviewer: str) -> str | None:
     """Why ``reviewer`` may not review the idea (they wrote it, and the desk is not a
     one-person desk), or None."""
     if not same_person(author, reviewer) or current(db, "one_person_desk"):
         return None
-    return (f"{reviewer} wrote idea {idea_id}: it is reviewed by someone else (four eyes); a "
-            "desk of one can allow it with the desk setting one_person_desk")
+    return (f"{author} wrote this idea, so someone else reviews it (four eyes); a desk "
+            "of one can allow it with the desk setting one_person_desk")

@@ -40,7 +40,8 @@ class ReviewPanel(IdeaSection):
     """The Review section: tick the checklist, write comments and decide. A submitted idea is
     accepted or returned; a tested idea is promoted or declined (its promotion checklist:
     holdout seen, correlation with the book seen, costs checked). ``idea_changed`` follows a
-    recorded review. The tab is marked while the idea waits for a review the user may make.
+    recorded review. The tab is marked while the idea waits for the user's review or promotion
+    review (see :meth:`~hunchbook.catalogue.Catalogue.next_step`).
 
     Four eyes: the author of an idea does not review it (the form stays closed and says so),
     unless the catalogue's desk setting ``one_person_desk`` is on; the review then says it was
@@ -133,8 +134,10 @@ class ReviewPanel(IdeaSection):
             box.setVisible(name == kind)
         for decision, button in self.buttons.items():
             button.setVisible(kind is not None and decision in REVIEW_KINDS[kind].decisions)
-        self.tab_changed.emit(f"{self.tab_title} \u25cf" if may else self.tab_title,
-                              "Waiting for your review" if may else "")
+        step = self.catalogue.next_step(idea_id, self.context.user) if may else None
+        waiting = step in ("review", "promotion review")
+        self.tab_changed.emit(f"{self.tab_title} \u25cf" if waiting else self.tab_title,
+                              f"Waiting for your {step}" if waiting else "")
         self._problem = self._decision_problem(idea) if may else None
         self.status.setText(self._status(idea, kind, own, alone))
         for checks in self.checklists.values():
