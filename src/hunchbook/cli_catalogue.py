@@ -454,7 +454,8 @@ def _ideas_import(args: argparse.Namespace) -> int:
     with open_catalogue(args, create=True) as cat:
         report = cat.import_bundle(args.bundle, by=author(args))
     verb = "created" if report.created else "already in the catalogue; appended to"
-    added = ", ".join(f"{n} {k}" for k, n in report.added.items() if n) or "nothing new"
+    added = ", ".join(f"{n} {k.replace('_', ' ')}" for k, n in report.added.items()
+                      if n) or "nothing new"
     print(f"Idea {report.idea_id} {verb}: {added}.")
     for conflict in report.conflicts:
         print(f"  conflict: {conflict}")
