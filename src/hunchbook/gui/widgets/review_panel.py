@@ -143,6 +143,13 @@ class ReviewPanel(IdeaSection):
         for checks in self.checklists.values():
             for check in checks.values():
                 check.setChecked(False)
+                check.setEnabled(True)
+                check.setToolTip("")
+        if kind == "promotion" and self.catalogue.holdout_view(idea_id) is None:
+            seen = self.promotion_checks["holdout_seen"]
+            seen.setEnabled(False)
+            seen.setToolTip("The held-out years of this idea have not been unlocked (Idea "
+                            "\u25b8 Unlock holdout\u2026).")
         self.comments.clear()
         self.comments.setPlaceholderText(
             "Comments for the author (required when declining)" if kind == "promotion"
