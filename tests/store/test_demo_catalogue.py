@@ -155,3 +155,40 @@ def test_the_promoted_trend_idea_saw_its_holdout_once(demo: Catalogue) -> None:
     assert len(entries) == 1 and entries[0].by == view.seen_by
     assert entries[0].at == view.seen_at
     assert demo.unlock_problem(view.idea_id) is not None  # once per idea
+
+
+def test_every_demo_review_is_made_by_a_second_person(demo: Catalogue) -> None:
+    """Four eyes (common practice, no source): no review and no promotion by the idea's own
+    author; the promoted idea went through a promotion review with every item ticked."""
+    from hunchbook.catalogue import PROMOTION_CHECKLIST
+
+    assert demo.desk_setting("one_person_desk") is False
+    for summary in demo.list_ideas():
+        for review in demo.reviews(summary.id):
+            assert review.reviewer != summary.submitted_by and not review.by_author
+    (promoted,) = demo.list_ideas(stage="promoted")
+    review = demo.reviews(promoted.id)[-1]
+    assert (review.kind, review.decision) == ("promotion", "promote")
+    assert review.checklist == dict.fromkeys(PROMOTION_CHECKLIST, True)
+    stage = [e for e in demo.journal(promoted.id, kind="stage") if "-> promoted" in e.text]
+    assert len(stage) == 1 and stage[0].by == review.reviewer
+    assert stage[0].text.startswith(f"Stage tested -> promoted. Review {review.id}:")
+
+
+def test_the_demo_family_counts_its_trials_together(demo: Catalogue) -> None:
+    """The volatility-filter idea is a variant of the slow rates trend: its runs count the
+    parent's trials as well as its own (its markets differ, so every set of its own is a new
+    trial: common practice, no source)."""
+    titles = {i.title: i.id for i in demo.list_ideas()}
+    parent = titles["Rates trend, traded slowly"]
+    variant = titles["Ten-year note trend with a volatility filter"]
+    link = demo.variant_link(variant)
+    assert link is not None and link.parent_id == parent and link.set_by == DESK.people[2].name
+    family = demo.family(variant)
+    assert [m.id for _, m in family.members()] == [parent, variant]
+    parent_runs, variant_runs = demo.runs(parent), demo.runs(variant)
+    assert variant_runs[0].recorded_at > link.set_at > parent_runs[-1].recorded_at
+    assert variant_runs[0].trial_count == parent_runs[-1].trial_count + \
+        variant_runs[0].set_count
+    assert family.trial_count == demo.idea(parent).trial_count == demo.idea(variant).trial_count
+    assert family.trial_count == sum(m.own_trials for _, m in family.members())
