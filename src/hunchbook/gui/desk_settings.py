@@ -39,15 +39,18 @@ class DeskSettingsDialog(QDialog):
         form = QFormLayout(self)
         self.boxes: dict[str, QCheckBox] = {}
         for key, (_, meaning) in DESK_SETTINGS.items():
-            box = QCheckBox(meaning, self)
+            box = QCheckBox(key.replace("_", " ").capitalize(), self)
             box.setObjectName(f"setting_{key}")
             box.setChecked(values[key])
-            latest = [s for s in history if s.key == key]
-            box.setToolTip("Never changed: the default." if not latest else
-                           f"Set {'on' if latest[-1].value else 'off'} by {latest[-1].set_by} on "
-                           f"{latest[-1].set_at[:10]}: {latest[-1].reason}")
             box.toggled.connect(self._update)
-            form.addRow(key.replace("_", " ").capitalize(), box)
+            latest = [s for s in history if s.key == key]
+            state = QLabel(f"{meaning} " + (
+                "Never changed: off by default." if not latest else
+                f"Set {'on' if latest[-1].value else 'off'} by {latest[-1].set_by} on "
+                f"{latest[-1].set_at[:10]}: {latest[-1].reason}"), self)
+            state.setWordWrap(True)
+            form.addRow(box)
+            form.addRow(state)
             self.boxes[key] = box
         self.reason = QLineEdit(self)
         self.reason.setObjectName("deskSettingReason")

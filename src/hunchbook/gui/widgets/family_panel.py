@@ -30,6 +30,8 @@ from hunchbook.store.records import Family, FamilyMember, IdeaSummary
 
 #: Columns of the family tree.
 COLUMNS = ("Idea", "Stage", "Last verdict", "Own trials")
+#: Most rows the tree shows before it scrolls.
+MAX_ROWS = 8
 
 
 class FamilyPanel(QWidget):
@@ -64,7 +66,6 @@ class FamilyPanel(QWidget):
         self.tree.setHeaderLabels(list(COLUMNS))
         self.tree.setRootIsDecorated(True)
         self.tree.setUniformRowHeights(True)
-        self.tree.setMaximumHeight(150)
         header = self.tree.header()
         header.setStretchLastSection(False)
         header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
@@ -90,6 +91,7 @@ class FamilyPanel(QWidget):
         if catalogue is None or idea_id is None:
             self.summary.clear()
             self.variant_button.setEnabled(False)
+            self._fit_height(1)
             return
         family = self.family = catalogue.family(idea_id)
         items: dict[int, QTreeWidgetItem] = {}
@@ -105,6 +107,7 @@ class FamilyPanel(QWidget):
                     item.setFont(column, font)
             items[member.id] = item
         self.tree.expandAll()
+        self._fit_height(len(family))
         self.summary.setText(
             f"A family of {len(family)} ideas: {family.trial_count} trial(s) in all, each "
             "counted for every member's deflated Sharpe." if len(family) > 1 else
@@ -115,6 +118,13 @@ class FamilyPanel(QWidget):
             "Record this idea as a variant of another (once; never undone)" if own.link is None
             else f"A variant of idea {own.link.parent_id} since {own.link.set_at[:10]} (links "
                  "are never changed)")
+
+    def _fit_height(self, rows: int) -> None:
+        """As tall as the family (up to :data:`MAX_ROWS` rows; more scroll)."""
+        row = max(self.tree.sizeHintForRow(0), self.fontMetrics().height() + 4)
+        self.tree.setFixedHeight(self.tree.header().sizeHint().height()
+                                 + row * min(max(rows, 1), MAX_ROWS)
+                                 + 2 * self.tree.frameWidth() + 4)
 
     def member_ids(self) -> list[int]:
         """The ids shown in the tree, top to bottom."""
