@@ -30,7 +30,9 @@ Ideas: ``add_idea``, ``idea``, ``update_idea``, ``list_ideas``, ``set_stage``,
 ``preregistrations``. Rules: ``save_rules``, ``revisions``, ``latest_revision``,
 ``revision``. Runs: ``record_run``, ``trial_count``, ``trial_sharpes``, ``runs``, ``run``,
 ``promoted_pnl``.
-Journal: ``add_entry``, ``correct_entry``, ``journal``. Reviews: ``review``, ``reviews``.
+Journal: ``add_entry``, ``correct_entry``, ``journal``. Reviews (idea and promotion reviews):
+``review``, ``reviews``, ``next_step``. Families: ``set_variant_of``, ``variant_link``,
+``family``. Desk rules: ``desk_setting``, ``desk_settings``, ``set_desk_setting``.
 Holdout: ``holdout_boundary``, ``holdout_boundaries``, ``set_holdout_boundary``,
 ``holdout_view``, ``holdout_views``, ``unlock_problem``, ``record_holdout_view``.
 Bundles: ``export_bundle``, ``import_bundle``. Upkeep: ``backup``, ``check``,
@@ -38,7 +40,10 @@ Bundles: ``export_bundle``, ``import_bundle``. Upkeep: ``backup``, ``check``,
 Desk: ``desk_summary`` (ideas tested, runs, trials and promotions per period).
 
 Stages (``STAGES``): draft -> submitted -> accepted | returned; accepted -> tested (by
-recording a run) -> promoted | shelved (see ``TRANSITIONS``).
+recording a run) -> promoted | shelved (see ``TRANSITIONS``). Accepting (or returning) and
+promoting are reviews (``review`` with a decision of ``REVIEW_KINDS``), each with its
+checklist, by someone other than the idea's author (four eyes) unless the desk setting
+``one_person_desk`` is on, in which case the review says it was made by the author.
 
 What ``record_run`` expects
 ---------------------------
@@ -49,11 +54,12 @@ a DataFrame with a date index and columns ``gross_pnl``, ``cost``, ``net_pnl``.
 
 Trials
 ------
-``trial_count`` counts distinct (strategy key, parameter set) pairs over all the idea's runs;
-the strategy key hashes the rule file without its ``[parameters]`` table, ``name`` and
-``description`` (see :mod:`hunchbook.store.revisions` and :mod:`hunchbook.store.runs`).
-``trial_sharpes`` gives one annualised net Sharpe per trial (its latest run), for the variance
-the deflated Sharpe needs.
+``trial_count`` counts distinct (strategy key, parameter set) pairs over all the runs of the
+idea's family (the idea and the ideas recorded as its variants, or it as theirs: see
+``set_variant_of``); a trial two members share counts once. The strategy key hashes the rule
+file without its ``[parameters]`` table, ``name`` and ``description`` (see
+:mod:`hunchbook.store.revisions` and :mod:`hunchbook.store.runs`). ``trial_sharpes`` gives one
+annualised net Sharpe per trial (its latest run), for the variance the deflated Sharpe needs.
 
 Holdout
 -------
@@ -89,6 +95,7 @@ from hunchbook.store import (
     bundles,
     check,
     desk,
+    families,
     files,
     holdout,
     ideas,
@@ -98,6 +105,7 @@ from hunchbook.store import (
     preregistration,
     promoted,
     search,
+    settings,
     validate,
 )
 from hunchbook.store import db as dbmod
@@ -106,7 +114,9 @@ from hunchbook.store import revisions as revmod
 from hunchbook.store import runs as runmod
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import (
+    DeskSetting,
     Entry,
+    Family,
     HoldoutBoundary,
     HoldoutView,
     Idea,
@@ -117,11 +127,14 @@ from hunchbook.store.records import (
     Revision,
     RunRecord,
     TrialHistory,
+    VariantLink,
 )
 from hunchbook.store.vocab import (
     CHECKLIST,
-    DECISIONS,
+    DESK_SETTINGS,
     FROZEN_FIELDS,
+    PROMOTION_CHECKLIST,
+    REVIEW_KINDS,
     RUNNABLE_STAGES,
     STAGES,
     TRANSITIONS,
@@ -131,8 +144,8 @@ from hunchbook.store.vocab import (
 if TYPE_CHECKING:
     import pandas as pd
 
-__all__ = ["CHECKLIST", "STAGES", "TRANSITIONS", "Catalogue", "CatalogueError",
-           "default_catalogue_path"]
+__all__ = ["CHECKLIST", "PROMOTION_CHECKLIST", "REVIEW_KINDS", "STAGES", "TRANSITIONS",
+           "Catalogue", "CatalogueError", "default_catalogue_path"]
 
 #: Environment variable that overrides the default catalogue location.
 CATALOGUE_ENV = "HUNCHBOOK_CATALOGUE"
@@ -297,19 +310,55 @@ class Catalogue:
     def list_ideas(self, *, stage: str | None = None, verdict: str | None = None,
                    market: str | None = None, tag: str | None = None,
                    author: str | None = None, source_kind: str | None = None,
-                   text: str | None = None, limit: int | None = None) -> list[IdeaSummary]:
+                   text: str | None = None, waiting_for: str | None = None,
+                   limit: int | None = None) -> list[IdeaSummary]:
         """Ideas matching every filter given, most recently updated first.
 
         ``text`` is a full-text search: every word must appear (as a word or the start of one)
         in the title, hypothesis or rationale, or in one of the idea's journal entries.
+        ``waiting_for`` keeps the ideas whose next step is this person's (see
+        :meth:`next_step`).
         """
-        return search.list_ideas(self.db, stage=stage, verdict=verdict, market=market, tag=tag,
-                                 author=author, source_kind=source_kind, text=text, limit=limit)
+        rows = search.list_ideas(self.db, stage=stage, verdict=verdict, market=market, tag=tag,
+                                 author=author, source_kind=source_kind, text=text,
+                                 limit=None if waiting_for is not None else limit)
+        if waiting_for is None:
+            return rows
+        user = validate.name(waiting_for, "waiting_for")
+        alone = settings.current(self.db, "one_person_desk")
+        mine = [r for r in rows if settings.next_step(r.stage, r.submitted_by, r.reviewer, user,
+                                                  one_person_desk=alone,
+                                                  last_verdict=r.last_verdict) is not None]
+        return mine if limit is None else mine[:validate.integer(limit, "limit")]
+
+    def next_step(self, idea_id: int, user: str) -> str | None:
+        """The idea's next step when it is ``user``'s to take, else None: ``review`` (a
+        submitted idea someone else wrote, unless another reviewer is named on it),
+        ``rework`` (their own returned idea), ``run`` (their own accepted idea),
+        ``promotion review`` (a tested idea someone else wrote, whose last verdict says
+        promote) or ``rework or shelve`` (their own tested idea with another verdict). On a
+        one-person desk the author may take the reviewers' steps too."""
+        idea = ideas.get(self.db, idea_id)
+        return settings.next_step(idea.stage, idea.submitted_by, idea.reviewer,
+                              validate.name(user, "user"),
+                              one_person_desk=settings.current(self.db, "one_person_desk"),
+                              last_verdict=idea.last_verdict)
 
     def set_stage(self, idea_id: int, stage: str, *, by: str, reason: str) -> None:
-        """Move an idea along an allowed transition (see ``TRANSITIONS``); journalled."""
+        """Move an idea along an allowed transition (see ``TRANSITIONS``); journalled.
+
+        Promotion is not a plain stage change: it is a promotion review (:meth:`review` with
+        the decision ``promote``), and moving to ``promoted`` here is refused.
+        """
         with dbmod.write(self.db):
-            ideas.set_stage(self.db, idea_id, stage, by=by, reason=reason, at=self._now())
+            idea = ideas.get(self.db, idea_id)
+            if stage == "promoted" and stage in TRANSITIONS[idea.stage]:
+                raise CatalogueError(
+                    "an idea is promoted by a promotion review, not a stage change: someone "
+                    "other than its author answers the promotion checklist ("
+                    + ", ".join(PROMOTION_CHECKLIST) + ") and decides 'promote' (hunchbook "
+                    "ideas promote, or the window's Review section)", field=f"idea {idea.id}")
+            ideas.set_stage(self.db, idea.id, stage, by=by, reason=reason, at=self._now())
 
     def preregistrations(self, idea_id: int) -> list[Preregistration]:
         """The idea's pre-registration versions, oldest first (empty before its first run)."""
@@ -396,27 +445,30 @@ class Catalogue:
             run_id = runmod.insert(self.db, idea.id, revision, clean, by=by, at=at)
             journal.append(self.db, idea_id=idea.id, kind="run", by=by, at=at,
                            text=_run_text(run_id, revision, clean,
-                                          runmod.trial_count(self.db, idea.id)))
+                                          runmod.trial_count(self.db, idea.id),
+                                          len(families.member_ids(self.db, idea.id))))
             if idea.stage == "accepted":
                 ideas.set_stage(self.db, idea.id, "tested", by=by, at=at, runs_recorded=1,
                                 reason=f"First run recorded (run {run_id}).")
         return run_id
 
     def trial_count(self, idea_id: int) -> int:
-        """Distinct (strategy, parameter set) trials ever run for the idea, across revisions
-        (definition in :mod:`hunchbook.store.runs`)."""
+        """Distinct (strategy, parameter set) trials ever run by the idea and the rest of its
+        family, across revisions (definition in :mod:`hunchbook.store.runs`): the count its
+        deflated Sharpe takes."""
         return runmod.trial_count(self.db, ideas.get(self.db, idea_id).id)
 
     def trial_sharpes(self, idea_id: int) -> list[float]:
-        """Annualised net Sharpe of each trial (latest run of it), for the deflated Sharpe's
-        variance across all trials; trials without a Sharpe are left out."""
+        """Annualised net Sharpe of each trial of the idea's family (latest run of it), for the
+        deflated Sharpe's variance across all trials; trials without a Sharpe are left out."""
         return runmod.trial_sharpes(self.db, ideas.get(self.db, idea_id).id)
 
     def prospective_trials(self, idea_id: int, rule_text: str,
                            parameter_sets: Sequence[Mapping[str, float]]) -> TrialHistory:
         """Trial count as it will stand once ``parameter_sets`` of this rule text have run,
-        and the idea's other trials with the rule text to recompute them: what the deflated
-        Sharpe and the SPA test of a run need before the run is recorded. Writes nothing."""
+        and the other trials of the idea's family with the rule text to recompute them: what
+        the deflated Sharpe and the SPA test of a run need before the run is recorded. Writes
+        nothing."""
         idea = ideas.get(self.db, idea_id)
         _, strategy_key, _ = revmod.analyse(rule_text)
         return runmod.prospective_trials(self.db, idea.id, strategy_key, parameter_sets)
@@ -471,34 +523,63 @@ class Catalogue:
     # -- reviews --------------------------------------------------------------------------
     def review(self, idea_id: int, *, reviewer: str, checklist: Mapping[str, bool],
                decision: str, comments: str) -> int:
-        """Review a submitted idea and return the review id.
+        """Review an idea and return the review id.
 
-        ``checklist`` answers every item of ``CHECKLIST``; ``decision`` is ``accept`` (every
-        item ticked, and the idea's latest rule revision a valid rule file that is not the
-        unedited starter template; stage -> accepted) or ``return`` (comments required; stage
-        -> returned). The review, and the stage change with the comments as its reason, are
-        journalled.
+        Two kinds of review (``REVIEW_KINDS``), told apart by the decision:
+
+        - a submitted idea: ``checklist`` answers every item of ``CHECKLIST``; ``accept``
+          (every item ticked, and the idea's latest rule revision a valid rule file that is
+          not the unedited starter template; stage -> accepted) or ``return`` (comments
+          required; stage -> returned);
+        - a tested idea, the promotion review: ``checklist`` answers every item of
+          ``PROMOTION_CHECKLIST``; ``promote`` (every item ticked; ``holdout_seen`` only when
+          the idea's held-out years were unlocked; stage -> promoted) or ``decline`` (comments
+          required; the idea stays tested).
+
+        The reviewer must not be the idea's author unless the desk setting
+        ``one_person_desk`` is on; such a review is recorded as made by the author and its
+        journal entry says so. The review, and the stage change with the comments as its
+        reason, are journalled.
         """
         reviewer = validate.name(reviewer, "reviewer")
-        answers = reviewmod.clean_checklist(checklist)
+        kind_name = reviewmod.kind_of(decision)
+        kind = REVIEW_KINDS[kind_name]
+        answers = reviewmod.clean_checklist(checklist, kind=kind_name)
         comments = validate.text(comments, "comments", required=False)
         decision = reviewmod.check_decision(decision, answers, comments)
         at = self._now()
         with dbmod.write(self.db):
             idea = ideas.get(self.db, idea_id)
-            if idea.stage != "submitted":
-                raise CatalogueError(f"idea {idea.id} is '{idea.stage}'; only submitted ideas "
-                                     "are reviewed", field=f"idea {idea.id}")
+            if idea.stage != kind.stage:
+                what = "promotion reviews are for tested ideas" if kind_name == "promotion" \
+                    else "only submitted ideas are reviewed"
+                raise CatalogueError(f"idea {idea.id} is '{idea.stage}'; {what}",
+                                     field=f"idea {idea.id}")
+            problem = settings.author_review_problem(self.db, idea.submitted_by, reviewer)
+            if problem is not None:
+                raise CatalogueError(problem, field=f"idea {idea.id}")
             if decision == "accept":
                 _check_rules_for_acceptance(idea.id, revmod.latest(self.db, idea.id))
+            if answers.get("holdout_seen") and holdout.view(self.db, idea.id,
+                                                            with_pnl=False) is None:
+                raise CatalogueError(
+                    f"the held-out years of idea {idea.id} have not been unlocked, so they "
+                    "cannot have been seen: unlock them first, or leave holdout_seen unticked "
+                    "and decline", field="checklist.holdout_seen")
             review_id = reviewmod.insert(self.db, idea.id, reviewer=reviewer, checklist=answers,
                                          decision=decision, comments=comments, at=at)
+            by_author = settings.same_person(reviewer, idea.submitted_by)
             journal.append(self.db, idea_id=idea.id, kind="review", by=reviewer, at=at,
-                           text=reviewmod.journal_text(answers, decision, comments))
-            if idea.reviewer is None:
+                           text=reviewmod.journal_text(answers, decision, comments,
+                                                       by_author=by_author))
+            if kind_name == "idea" and idea.reviewer is None:
                 ideas.update(self.db, idea.id, {"reviewer": reviewer}, at=at)
-            ideas.set_stage(self.db, idea.id, DECISIONS[decision], by=reviewer, at=at,
-                            reason=f"Review {review_id}: {comments or 'checklist complete.'}")
+            stage = kind.decisions[decision]
+            if stage is not None:
+                ideas.set_stage(self.db, idea.id, stage, by=reviewer, at=at,
+                                reason=f"Review {review_id}: {comments or 'checklist complete.'}")
+            else:
+                self.db.execute("UPDATE ideas SET updated_at = ? WHERE id = ?", [at, idea.id])
         return review_id
 
     def acceptance_problem(self, idea_id: int) -> str | None:
@@ -514,6 +595,81 @@ class Catalogue:
     def reviews(self, idea_id: int) -> list[Review]:
         """The idea's reviews, oldest first."""
         return reviewmod.of_idea(self.db, ideas.get(self.db, idea_id).id)
+
+    # -- families -------------------------------------------------------------------------
+    def set_variant_of(self, idea_id: int, parent_id: int, *, by: str,
+                       reason: str) -> VariantLink:
+        """Record the idea as a variant of ``parent_id`` and return the link.
+
+        Once per idea, and never undone: from then on the trials of the whole family (the tree
+        of ideas linked as variants) count for each member's deflated Sharpe, so a variant
+        does not start its trial count afresh. Refused for the idea itself, an idea already
+        linked, or a parent that is one of the idea's own variants (a circle). Journalled on
+        both ideas with who and why.
+        """
+        by = validate.name(by, "by")
+        reason = validate.text(reason, "reason")
+        at = self._now()
+        with dbmod.write(self.db):
+            idea = ideas.get(self.db, idea_id)
+            parent = ideas.get(self.db, parent_id)
+            problem = families.link_problem(self.db, idea.id, parent.id)
+            if problem is not None:
+                raise CatalogueError(problem, field=f"idea {idea.id}")
+            families.insert(self.db, idea.id, parent.id, reason=reason, by=by, at=at)
+            families.refresh_trial_counts(self.db, idea.id)
+            count = runmod.trial_count(self.db, idea.id)
+            size = len(families.member_ids(self.db, idea.id))
+            journal.append(self.db, idea_id=idea.id, kind="edit", by=by, at=at,
+                           text=f"Recorded as a variant of idea {parent.id} '{parent.title}': "
+                                f"{reason} Its family now has {size} ideas and {count} "
+                                "trial(s), which all count for its deflated Sharpe.")
+            journal.append(self.db, idea_id=parent.id, kind="edit", by=by, at=at,
+                           text=f"Idea {idea.id} '{idea.title}' recorded as a variant of this "
+                                f"idea: {reason}")
+            for member in (idea.id, parent.id):
+                self.db.execute("UPDATE ideas SET updated_at = ? WHERE id = ?", [at, member])
+            link = families.link_of(self.db, idea.id)
+        assert link is not None
+        return link
+
+    def variant_link(self, idea_id: int) -> VariantLink | None:
+        """The link making the idea a variant of another, or None."""
+        return families.link_of(self.db, ideas.get(self.db, idea_id).id)
+
+    def family(self, idea_id: int) -> Family:
+        """The idea's family as a tree (a lone idea is a family of one): each member's id,
+        title, stage, author, last verdict and own trials, and the family's trial count."""
+        return families.tree(self.db, ideas.get(self.db, idea_id).id)
+
+    # -- desk rules -----------------------------------------------------------------------
+    def desk_setting(self, key: str) -> bool:
+        """The desk setting in force (see ``DESK_SETTINGS``; its default until first set)."""
+        return settings.current(self.db, settings.clean_key(key))
+
+    def desk_settings(self) -> list[DeskSetting]:
+        """Every setting of the desk rules, oldest first."""
+        return settings.history(self.db)
+
+    def set_desk_setting(self, key: str, value: bool, *, by: str, reason: str) -> DeskSetting:
+        """Turn a desk setting on or off and return the setting in force; ``reason``
+        (required) says why. Journalled as a general ``decision`` entry. Setting the value
+        already set writes nothing."""
+        key = settings.clean_key(key)
+        if not isinstance(value, bool):
+            raise CatalogueError("expected on or off (true or false)", field=key)
+        by = validate.name(by, "by")
+        reason = validate.text(reason, "reason")
+        at = self._now()
+        with dbmod.write(self.db):
+            held = [s for s in settings.history(self.db) if s.key == key]
+            if not held or held[-1].value != value:
+                settings.insert(self.db, key, value, reason=reason, by=by, at=at)
+                journal.append(self.db, idea_id=None, kind="decision", by=by, at=at,
+                               text=f"Desk setting {key} turned {'on' if value else 'off'} "
+                                    f"({DESK_SETTINGS[key][1]}): {reason}")
+                held = [s for s in settings.history(self.db) if s.key == key]
+        return held[-1]
 
     # -- holdout --------------------------------------------------------------------------
     def holdout_boundary(self) -> HoldoutBoundary | None:
@@ -682,12 +838,15 @@ def _holdout_text(run: RunRecord, figures: HoldoutFigures, by: str) -> str:
             f"{figures.boundary}). Held-out PSR {psr}. {figures.finding()}")
 
 
-def _run_text(run_id: int, revision: Revision, run: runmod.RunInput, trials: int) -> str:
+def _run_text(run_id: int, revision: Revision, run: runmod.RunInput, trials: int,
+              family: int) -> str:
     chosen = ", ".join(f"{k}={v:g}" for k, v in run.chosen_params.items()) or "no parameters"
     sharpe = ("n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}")
     verdict = run.result.verdict
+    whose = f" (with its family of {family} ideas)" if family > 1 else ""
     return (f"Run {run_id} on rule revision {revision.number}: {len(run.parameter_sets)} "
-            f"parameter set(s), trial count now {trials}; data {run.data_fingerprint[:12]}, "
+            f"parameter set(s), trial count now {trials}{whose}; data "
+            f"{run.data_fingerprint[:12]}, "
             f"engine {run.engine_version}. Chosen set {chosen}, net Sharpe {sharpe}. "
             f"Verdict: {verdict.label}. {' '.join(verdict.reasons)} Next: {verdict.action}"
             ).strip()

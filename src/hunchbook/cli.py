@@ -21,6 +21,7 @@ from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
 from hunchbook.cli_desk import register as register_desk_command
 from hunchbook.cli_holdout import register as register_holdout_commands
+from hunchbook.cli_settings import register as register_settings_commands
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.plain import json_safe
 from hunchbook.core.verdict import CAUTION
@@ -121,7 +122,7 @@ def _build_parser() -> argparse.ArgumentParser:
     stats.add_argument("--json", metavar="PATH", type=Path, help="write the statistics as JSON")
     stats.set_defaults(handler=_cmd_stats)
 
-    register_catalogue_commands(commands)
+    register_settings_commands(register_catalogue_commands(commands))
     register_holdout_commands(commands)
     register_desk_command(commands)
 

@@ -20,7 +20,9 @@ from typing import TYPE_CHECKING, Any
 from hunchbook.core.verdict import LABELS
 from hunchbook.store.errors import CatalogueError, DamagedCatalogue
 from hunchbook.store.vocab import (
+    BY_AUTHOR,
     CHECKLIST,
+    DECISION_LABELS,
     DECISIONS,
     ENTRY_KINDS,
     RATIONALE_KINDS,
@@ -31,7 +33,7 @@ from hunchbook.store.vocab import (
 
 if TYPE_CHECKING:  # the catalogue (and SQLite) is imported only when a command opens one
     from hunchbook.catalogue import Catalogue
-    from hunchbook.store.records import Idea, IdeaSummary
+    from hunchbook.store.records import Family, Idea, IdeaSummary
 
 #: Environment variable naming the person who writes (default for ``--by``).
 USER_ENV = "HUNCHBOOK_USER"
@@ -39,17 +41,22 @@ USER_ENV = "HUNCHBOOK_USER"
 Handler = Callable[[argparse.Namespace], int]
 
 
-def register(subparsers: Any) -> None:
-    """Add ``ideas``, ``journal``, ``runs`` and ``catalogue`` to an argparse subparsers object."""
-    _ideas(_group(subparsers, "ideas", "the idea catalogue: list, show, add, edit, move, review, "
-                                       "export and import ideas"))
+def register(subparsers: Any) -> dict[str, Any]:
+    """Add ``ideas``, ``journal``, ``runs`` and ``catalogue`` to an argparse subparsers object;
+    return the ``ideas`` and ``catalogue`` groups (other modules add commands to them)."""
+    ideas = _group(subparsers, "ideas", "the idea catalogue: list, show, add, edit, move, "
+                                        "review, promote, link, export and import ideas")
+    _ideas(ideas)
     _journal(_group(subparsers, "journal", "the research journal: add, list and correct "
                                            "entries"))
     runs = _group(subparsers, "runs", "runs recorded against ideas")
     _command(runs, "list", "list recorded runs, newest last", _runs_list,
              "hunchbook runs list --idea 7",
              lambda p: p.add_argument("--idea", type=int, metavar="ID", help="only this idea"))
-    _catalogue(_group(subparsers, "catalogue", "catalogue upkeep: backup, check, demo"))
+    catalogue = _group(subparsers, "catalogue", "catalogue upkeep: backup, check, demo, desk "
+                                                "settings")
+    _catalogue(catalogue)
+    return {"ideas": ideas, "catalogue": catalogue}
 
 
 def _group(subparsers: Any, name: str, help_text: str) -> Any:
@@ -85,6 +92,12 @@ def _ideas(group: Any) -> None:
         p.add_argument("--source", choices=SOURCE_KINDS)
         p.add_argument("--search", metavar="WORDS",
                        help="full-text search of titles, hypotheses, rationales and journal")
+        p.add_argument("--waiting-for-me", action="store_true",
+                       help="only ideas whose next step is yours: submitted ideas others wrote "
+                            "(your review), your returned ideas (your rework), your accepted "
+                            "ideas (your run), tested ideas others wrote (promotion review)")
+        p.add_argument("--by", metavar="NAME",
+                       help="who 'me' is (default: $HUNCHBOOK_USER or login name)")
         p.add_argument("--limit", type=int, metavar="N")
         p.add_argument("--json", action="store_true", help="print JSON instead of a table")
     _command(group, "list", "list ideas, most recently updated first", _ideas_list,
@@ -104,6 +117,10 @@ def _ideas(group: Any) -> None:
                        help="submit for review at once (stage 'submitted')")
         p.add_argument("--rules", type=Path, metavar="RULEFILE",
                        help="keep this rule file as revision 1")
+        p.add_argument("--variant-of", type=int, metavar="ID",
+                       help="record it as a variant of this idea (its family's trials count "
+                            "for its deflated Sharpe); needs --reason")
+        p.add_argument("--reason", help="why it is a variant (with --variant-of)")
     _command(group, "add", "write a new idea down", _ideas_add,
              'hunchbook ideas add --title "Grain carry" --hypothesis "..." --markets CORN,SOYBEAN'
              " --rationale-kind risk_premium --by Nia", add_args, writes=True)
@@ -236,16 +253,24 @@ def author(args: argparse.Namespace) -> str:
 
 
 def _ideas_list(args: argparse.Namespace) -> int:
+    me = author(args) if args.waiting_for_me else None
     with open_catalogue(args, read_only=True) as cat:
         rows = cat.list_ideas(stage=args.stage, verdict=args.verdict, market=args.market,
                               tag=args.tag, author=args.author, source_kind=args.source,
-                              text=args.search, limit=args.limit)
+                              text=args.search, waiting_for=me, limit=args.limit)
+        steps = [cat.next_step(r.id, me) if me else None for r in rows]
     if args.json:
-        print(json.dumps([_plain(r) for r in rows], indent=1))
+        print(json.dumps([{**_plain(r), **({"next_step": step} if me else {})}
+                          for r, step in zip(rows, steps, strict=True)], indent=1))
         return 0
-    print(_table(["id", "stage", "verdict", "net SR", "trials", "author", "title"],
-                 [_summary_row(r) for r in rows]))
-    print(f"{len(rows)} idea(s)")
+    headers = ["id", "stage", "verdict", "net SR", "trials", "author", "title"]
+    table = [_summary_row(r) for r in rows]
+    if me:
+        headers.insert(2, "your next step")
+        for row, step in zip(table, steps, strict=True):
+            row.insert(2, step or "")
+    print(_table(headers, table))
+    print(f"{len(rows)} idea(s)" + (f" waiting for {me}" if me else ""))
     return 0
 
 
@@ -262,6 +287,7 @@ def _ideas_show(args: argparse.Namespace) -> int:
         reviews, entries = cat.reviews(idea.id), cat.journal(idea.id)
         prereg = cat.preregistrations(idea.id)
         seen = cat.holdout_view(idea.id)
+        family = cat.family(idea.id)
     if args.json:
         print(json.dumps({"idea": _plain(idea), "revisions": [_plain(r) for r in revisions],
                           "preregistrations": [_plain(p) for p in prereg],
@@ -271,9 +297,16 @@ def _ideas_show(args: argparse.Namespace) -> int:
                           "journal": [_plain(e) for e in entries],
                           "holdout": None if seen is None else {
                               **_plain(seen), "boundary": seen.boundary.isoformat(),
-                              "figures": seen.figures.to_dict()}}, indent=1))
+                              "figures": seen.figures.to_dict()},
+                          "family": {"trial_count": family.trial_count, "members": [
+                              {**_plain(m), "depth": depth, "children": [
+                                  c.id for c in m.children],
+                               "link": m.link and _plain(m.link)}
+                              for depth, m in family.members()]}}, indent=1))
         return 0
     print(_idea_text(idea))
+    if len(family) > 1:
+        print("\n" + "\n".join(family_lines(family)))
     if prereg:
         print(f"Pre-registered {prereg[0].frozen_at[:10]} (version {prereg[-1].version}): "
               f"parameter space {json.dumps(prereg[-1].parameter_space) or 'none'}")
@@ -296,11 +329,26 @@ def _ideas_show(args: argparse.Namespace) -> int:
               + seen.figures.finding())
     print(f"\nReviews ({len(reviews)}):")
     for v in reviews:
-        print(f"  {v.at[:10]}  {v.reviewer}: {v.decision}. {v.comments}")
+        own = f" ({BY_AUTHOR})" if v.by_author else ""
+        print(f"  {v.at[:10]}  {v.reviewer}: {DECISION_LABELS.get(v.decision, v.decision)}"
+              f"{own}. {v.comments}")
     print(f"\nJournal ({len(entries)}):")
     for e in entries:
         print(_entry_line(e))
     return 0
+
+
+def family_lines(family: Family) -> list[str]:
+    """The family as an indented tree: each member's id, title, stage, last verdict and own
+    trials, the idea asked about marked."""
+    lines = [f"Family ({len(family)} ideas, {family.trial_count} trial(s) counted for each "
+             "one's deflated Sharpe):"]
+    for depth, m in family.members():
+        mark = "*" if m.id == family.idea_id else " "
+        verdict = _verdict_label(m.last_verdict) or "no run yet"
+        lines.append(f" {mark}{'    ' * depth}{'└─ ' if depth else ''}{m.id}  {m.title}  "
+                     f"[{m.stage}; {verdict}; {m.own_trials} own trial(s)]")
+    return lines
 
 
 def _idea_text(idea: Idea) -> str:
@@ -323,16 +371,22 @@ def _idea_text(idea: Idea) -> str:
 
 def _ideas_add(args: argparse.Namespace) -> int:
     fields = _given_fields(args)
+    if (args.variant_of is None) != (args.reason is None):
+        raise CatalogueError("--variant-of and --reason go together: say which idea it is a "
+                             "variant of, and why", field="--variant-of")
     rules_text = _read_text(args.rules) if args.rules else None
     with open_catalogue(args, create=True) as cat, cat.transaction():
         idea_id = cat.add_idea(title=args.title, hypothesis=args.hypothesis,
                                submitted_by=author(args), **fields)
+        if args.variant_of is not None:
+            cat.set_variant_of(idea_id, args.variant_of, by=author(args), reason=args.reason)
         if rules_text is not None:
             cat.save_rules(idea_id, rules_text, by=author(args))
         if args.submit:
             cat.set_stage(idea_id, "submitted", by=author(args), reason="Submitted on creation.")
     print(f"Idea {idea_id} written down" + (" and submitted for review." if args.submit
-                                             else " (draft)."))
+                                             else " (draft).")
+          + (f" It is a variant of idea {args.variant_of}." if args.variant_of else ""))
     return 0
 
 
@@ -404,7 +458,8 @@ def _ideas_import(args: argparse.Namespace) -> int:
     with open_catalogue(args, create=True) as cat:
         report = cat.import_bundle(args.bundle, by=author(args))
     verb = "created" if report.created else "already in the catalogue; appended to"
-    added = ", ".join(f"{n} {k}" for k, n in report.added.items() if n) or "nothing new"
+    added = ", ".join(f"{n} {k.replace('_', ' ')}" for k, n in report.added.items()
+                      if n) or "nothing new"
     print(f"Idea {report.idea_id} {verb}: {added}.")
     for conflict in report.conflicts:
         print(f"  conflict: {conflict}")

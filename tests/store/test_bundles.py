@@ -72,7 +72,7 @@ def test_export_then_import_into_an_empty_catalogue_gives_identical_records(
         assert report.created and report.conflicts == ()
         assert report.added == {"revisions": 2, "preregistrations": 2,
                                 "journal": len(cat.journal(idea)), "reviews": 1, "runs": 2,
-                                "holdout": 0}
+                                "holdout": 0, "variant_link": 0}
         mine, theirs = _records(cat, idea), _records(other, report.idea_id)
         for key in mine:
             if key == "pnl":

@@ -78,8 +78,12 @@ def test_every_stored_run_equals_its_re_run(demo: Catalogue, desk: Path,
                                                    stage="submitted")
             fresh.save_rules(twins[stored.idea_id],
                              demo.revisions(stored.idea_id)[-1].text, by="t")
-            fresh.review(twins[stored.idea_id], reviewer="t", decision="accept",
+            fresh.review(twins[stored.idea_id], reviewer="r", decision="accept",
                          checklist=dict.fromkeys(CHECKLIST, True), comments="")
+            link = demo.variant_link(stored.idea_id)  # a variant counts its family's trials
+            if link is not None:
+                fresh.set_variant_of(twins[stored.idea_id], twins[link.parent_id], by="t",
+                                     reason="as in the demo")
         text = demo.revision(stored.revision_id).text
         again = run_idea(fresh, twins[stored.idea_id], text, desk / DATA_DIR, by="t",
                          runner=InProcess())
@@ -173,3 +177,40 @@ def test_the_analysts_variant_is_told_it_is_the_promoted_trend_again(demo: Catal
     assert variant.stage == "shelved"
     others = [demo.run(r.id).result for r in demo.runs() if r.idea_id != variant.id]
     assert not any(c.key.startswith("same_bet") for r in others for c in r.verdict.checks)
+
+
+def test_every_demo_review_is_made_by_a_second_person(demo: Catalogue) -> None:
+    """Four eyes (common practice, no source): no review and no promotion by the idea's own
+    author; the promoted idea went through a promotion review with every item ticked."""
+    from hunchbook.catalogue import PROMOTION_CHECKLIST
+
+    assert demo.desk_setting("one_person_desk") is False
+    for summary in demo.list_ideas():
+        for review in demo.reviews(summary.id):
+            assert review.reviewer != summary.submitted_by and not review.by_author
+    (promoted,) = demo.list_ideas(stage="promoted")
+    review = demo.reviews(promoted.id)[-1]
+    assert (review.kind, review.decision) == ("promotion", "promote")
+    assert review.checklist == dict.fromkeys(PROMOTION_CHECKLIST, True)
+    stage = [e for e in demo.journal(promoted.id, kind="stage") if "-> promoted" in e.text]
+    assert len(stage) == 1 and stage[0].by == review.reviewer
+    assert stage[0].text.startswith(f"Stage tested -> promoted. Review {review.id}:")
+
+
+def test_the_demo_family_counts_its_trials_together(demo: Catalogue) -> None:
+    """The volatility-filter idea is a variant of the slow rates trend: its runs count the
+    parent's trials as well as its own (its markets differ, so every set of its own is a new
+    trial: common practice, no source)."""
+    titles = {i.title: i.id for i in demo.list_ideas()}
+    parent = titles["Rates trend, traded slowly"]
+    variant = titles["Ten-year note trend with a volatility filter"]
+    link = demo.variant_link(variant)
+    assert link is not None and link.parent_id == parent and link.set_by == DESK.people[2].name
+    family = demo.family(variant)
+    assert [m.id for _, m in family.members()] == [parent, variant]
+    parent_runs, variant_runs = demo.runs(parent), demo.runs(variant)
+    assert variant_runs[0].recorded_at > link.set_at > parent_runs[-1].recorded_at
+    assert variant_runs[0].trial_count == parent_runs[-1].trial_count + \
+        variant_runs[0].set_count
+    assert family.trial_count == demo.idea(parent).trial_count == demo.idea(variant).trial_count
+    assert family.trial_count == sum(m.own_trials for _, m in family.members())

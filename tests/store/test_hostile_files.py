@@ -302,7 +302,7 @@ def _bundle(shared: Path) -> Path:
 
 WRITES = (["journal", "add", "--idea", "1", "Re-ran on the longer history."],
           ["ideas", "add", "--title", "t", "--hypothesis", "h"],
-          ["ideas", "stage", "1", "promoted", "--reason", "strong"])
+          ["ideas", "stage", "1", "shelved", "--reason", "weak"])
 
 
 def _check_reads(results: list[tuple[int, str, str]], path: Path) -> None:

@@ -1,5 +1,8 @@
 """The invented demo desk's catalogue: 16 ideas across every stage, each with a real rule file,
-journal notes, reviews and runs carrying verdicts of each kind.
+journal notes, reviews and runs carrying verdicts of each kind. Every review is made by someone
+other than the idea's author, the promoted idea through a promotion review; two families (the
+ten-year note trend with a volatility filter, a variant of the slow rates trend; the faster
+two-average trend, a variant of the promoted one) count their trials together.
 
 Everything here is invented: the firm (Fernhollow Lane Partners, see :data:`DESK`), its people,
 their ideas, citations, notes and dates. The runs are not: each is a quick run of the idea's
@@ -19,7 +22,7 @@ from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import Any
 
-from hunchbook.catalogue import CHECKLIST, Catalogue
+from hunchbook.catalogue import CHECKLIST, PROMOTION_CHECKLIST, Catalogue
 from hunchbook.core.runners import InProcess
 from hunchbook.demo import rules as demo_rules
 from hunchbook.demo.desk import DESK
@@ -87,6 +90,8 @@ class _Builder:
                  progress: BuildProgress | None) -> None:
         self.cat, self.clock, self.data, self.progress = cat, clock, data, progress
         self.done = 0
+        self.slow_rates = 0  # the rates trend idea, parent of the volatility-filter variant
+        self.trend = 0  # the promoted trend idea, parent of the faster variant
 
     def idea(self, **fields: Any) -> int:
         fields["tags"] = [*fields.get("tags", ()), DEMO_TAG]
@@ -151,6 +156,7 @@ class _Builder:
                                 "gradually, so price moves persist for weeks to months.",
                       rationale_kind="behavioural", submitted_by=INES, markets=list(BOOK),
                       tags=["trend"], stage="submitted")
+        self.trend = i
         yield "2025-01-08T11"
         self.rules(i, INES, demo_rules.TREND)
         yield "2025-01-09T16"
@@ -168,8 +174,11 @@ class _Builder:
         self.note(i, NIA, f"Held-out 2025: net Sharpe {f.net_sharpe:.2f} against "
                   f"{f.in_sample_net_sharpe:.2f} in sample. {f.finding()}")
         yield "2025-01-20T11"
-        self.stage(i, "promoted", INES, "Passes first pass and its locked year; moving to "
-                   "full research.")
+        self.cat.review(i, reviewer=THEO, decision="promote",
+                        checklist=dict.fromkeys(PROMOTION_CHECKLIST, True),
+                        comments="Passes first pass and its locked year. First idea on the "
+                                 "book, so nothing to be correlated with yet; costs are the "
+                                 "desk's own schedule. Moving to full research.")
 
     def _breakout(self) -> Story:
         yield "2025-01-15T09"
@@ -281,6 +290,7 @@ class _Builder:
                       rationale="Rate cycles last years; slow central-bank moves make trends "
                                 "persistent.", rationale_kind="risk_premium",
                       submitted_by=NIA, markets=["TNOTE10", "EQIDX"], tags=["trend", "costs"])
+        self.slow_rates = i
         yield "2025-03-10T10"
         self.rules(i, NIA, demo_rules.RATES_DRAFT)
         yield "2025-03-10T11"
@@ -347,6 +357,9 @@ class _Builder:
                                 "than by forced deleveraging.",
                       rationale_kind="behavioural", submitted_by=NIA, markets=["TNOTE10"],
                       tags=["trend", "rates"], stage="submitted")
+        self.cat.set_variant_of(i, self.slow_rates, by=NIA, reason="The same rates trend with "
+                                "a volatility filter on top: its trials count with the slow "
+                                "version's.")
         yield "2025-04-10T10"
         self.rules(i, NIA, demo_rules.VOL_FILTER)
         yield "2025-04-11T16"
@@ -400,6 +413,8 @@ class _Builder:
                                 "moves persist; faster averages react to them earlier.",
                       rationale_kind="behavioural", submitted_by=THEO, markets=list(BOOK),
                       tags=["trend"], stage="submitted")
+        self.cat.set_variant_of(i, self.trend, by=THEO, reason="The promoted trend idea with "
+                                "faster averages: its trials count with that idea's.")
         yield "2025-05-12T10"
         self.rules(i, THEO, demo_rules.TREND_FASTER)
         yield "2025-05-13T16"

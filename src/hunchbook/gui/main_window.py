@@ -36,6 +36,7 @@ from hunchbook.core.prices import LIBRARY_FILE
 from hunchbook.gui import feedback, window_settings
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.data_menu import DataMenu
+from hunchbook.gui.desk_settings import DeskSettings
 from hunchbook.gui.drops import DropHandler
 from hunchbook.gui.exports import Exports
 from hunchbook.gui.feedback import one_line
@@ -76,6 +77,8 @@ class MainWindow(QMainWindow):
         The :class:`~hunchbook.gui.quick_run.QuickRunner` (its signals tell how runs end).
     exports
         The :class:`~hunchbook.gui.exports.Exports` of runs and ideas.
+    desk_settings
+        The :class:`~hunchbook.gui.desk_settings.DeskSettings` (one-person desk).
     data_menu, drops
         The :class:`~hunchbook.gui.data_menu.DataMenu` and the
         :class:`~hunchbook.gui.drops.DropHandler`.
@@ -104,6 +107,7 @@ class MainWindow(QMainWindow):
         self.holdout = HoldoutActions(self)
         self.runs.results.holdout.unlock_requested.connect(self.holdout.unlock)
         self.exports = Exports(self)
+        self.desk_settings = DeskSettings(self)
         self.data_menu = DataMenu(self)
         self.drops = DropHandler(self)
         self._build_actions()
@@ -116,6 +120,7 @@ class MainWindow(QMainWindow):
     def _build_sections(self) -> None:
         self.catalogue_panel = CataloguePanel(self)
         self.catalogue_panel.idea_selected.connect(self._idea_chosen)
+        self.catalogue_panel.set_user(self.user)
         self.header = IdeaHeader(self)
 
         self.tabs = QTabWidget(self)
@@ -129,6 +134,7 @@ class MainWindow(QMainWindow):
             section.error.connect(self.show_error)
             section.tab_changed.connect(partial(self._set_tab, section))
             section.show_requested.connect(partial(self.show_section, section.key))
+            section.idea_requested.connect(self.select_idea)
             self.tabs.addTab(section, section.tab_title)
             self._sections.append(section)
         self.rules = cast(RulesSection, self.section("rules"))
@@ -170,7 +176,8 @@ class MainWindow(QMainWindow):
             pix.SP_FileDialogInfoView)
         run, ex, data = self.quick_run, self.exports, self.data_menu
 
-        menus = (("&File", (self.new_idea_action, open_catalogue_action, None, ex.import_action,
+        menus = (("&File", (self.new_idea_action, open_catalogue_action,
+                            self.desk_settings.action, None, ex.import_action,
                             ex.bundle_action, ex.report_action, ex.pnl_action, None,
                             quit_action)),
                  ("&Idea", (run.run_action, run.cancel_action, self.save_rules_action,
@@ -328,6 +335,7 @@ class MainWindow(QMainWindow):
         self.exports.bundle_action.setEnabled(idea_id is not None)
         self.quick_run.update_actions()
         self.holdout.update_actions()
+        self.desk_settings.update_actions()
 
     def _set_tab(self, section: IdeaSection, text: str, tooltip: str) -> None:
         index = self.tabs.indexOf(section)

@@ -4,7 +4,9 @@ A bundle is a zip archive holding plain-text files only:
 
 ``bundle.toml``
     format name and version, the idea, its rule revisions (metadata), pre-registration
-    versions, journal entries, reviews and runs (metadata).
+    versions, journal entries, reviews (of the idea and of its promotion) and runs (metadata);
+    when the idea is a variant of another, ``variant_of``: the link (its uuid, who, when, why)
+    and the parent idea's uuid and title.
 ``rules/<number>-<sha256>.toml``
     the text of each rule revision.
 ``runs/<uuid>.json``
@@ -21,7 +23,7 @@ Checks: file and member sizes (declared and actual), member count, member names 
 paths, ``..``, backslashes or unknown files), encryption, UTF-8, TOML/JSON/CSV syntax, every
 key and type, text lengths, vocabularies, uuids, timestamps, SHA-256 of each rule text, and that
 every reference (run -> revision, correction -> entry, holdout -> run and its revision) points
-inside the bundle.
+inside the bundle, and that an idea is not a variant of itself.
 """
 
 from __future__ import annotations
@@ -42,7 +44,7 @@ from typing import TYPE_CHECKING, Any
 
 from hunchbook.store import ideas, pnl, reviews, revisions, runs, validate
 from hunchbook.store.errors import CatalogueError
-from hunchbook.store.vocab import DECISIONS, ENTRY_KINDS
+from hunchbook.store.vocab import ENTRY_KINDS
 
 if TYPE_CHECKING:
     import pandas as pd
@@ -86,6 +88,7 @@ class BundleContent:
     reviews: list[dict[str, Any]]
     runs: list[dict[str, Any]]
     holdout: dict[str, Any] | None = None
+    variant_of: dict[str, Any] | None = None
 
 
 def read_bundle(path: str | os.PathLike[str]) -> BundleContent:
@@ -177,7 +180,7 @@ def _content(members: dict[str, str]) -> dict[str, Any]:
     t = _Table(top, "")
     t.keys(required=("format", "format_version", "idea"),
            optional=("exported_at", "revisions", "preregistrations", "journal", "reviews",
-                     "runs", "holdout"))
+                     "runs", "holdout", "variant_of"))
     if top["format"] != FORMAT:
         raise CatalogueError(f"format must be '{FORMAT}'", field="format")
     if top["format_version"] != FORMAT_VERSION:
@@ -200,6 +203,8 @@ def _content(members: dict[str, str]) -> dict[str, Any]:
         _unique(content[key], key)
     if "holdout" in top:
         content["holdout"] = _holdout(t.table("holdout"), members, used, content["runs"])
+    if "variant_of" in top:
+        content["variant_of"] = _variant_of(t.table("variant_of"), content["idea"]["uuid"])
     extra = sorted(set(members) - used)
     if extra:
         raise CatalogueError(f"file(s) not referenced by {MANIFEST}: {', '.join(extra)}")
@@ -319,11 +324,26 @@ def _journal(tables: list[_Table]) -> list[dict[str, Any]]:
 
 def _review(t: _Table) -> dict[str, Any]:
     t.keys(required=("uuid", "reviewer", "decision", "comments", "at", "checklist"))
-    checklist = reviews.clean_checklist(t.data["checklist"], t.field("checklist"))
+    decision = t.data["decision"]
+    kind = reviews.kind_of(decision, t.field("decision"))
+    checklist = reviews.clean_checklist(t.data["checklist"], t.field("checklist"), kind=kind)
     return {"uuid": t.uuid(), "reviewer": validate.name(t.data["reviewer"], t.field("reviewer")),
-            "decision": validate.choice(t.data["decision"], t.field("decision"), DECISIONS),
+            "decision": decision,
             "comments": validate.text(t.data["comments"], t.field("comments"), required=False),
             "at": t.time("at"), "checklist": checklist}
+
+
+def _variant_of(t: _Table, idea_uuid: str) -> dict[str, Any]:
+    t.keys(required=("uuid", "parent", "parent_title", "reason", "set_by", "set_at"))
+    parent = t.uuid("parent")
+    if parent == idea_uuid:
+        raise CatalogueError("an idea cannot be a variant of itself", field=t.field("parent"))
+    return {"uuid": t.uuid(), "parent": parent,
+            "parent_title": validate.text(t.data["parent_title"], t.field("parent_title"),
+                                          limit=validate.MAX_TITLE, one_line=True),
+            "reason": validate.text(t.data["reason"], t.field("reason")),
+            "set_by": validate.name(t.data["set_by"], t.field("set_by")),
+            "set_at": t.time("set_at")}
 
 
 def _run(t: _Table, members: dict[str, str], used: set[str],

@@ -11,6 +11,12 @@ difference is reported as a conflict and kept as the catalogue had it. An idea's
 its held-out years travels with it, so that it is seen once however many catalogues hold the
 idea: it is imported when the catalogue has none for the idea (whatever the catalogue's own
 boundary), and a different one already there is kept and reported.
+
+Families: an idea that is a variant of another carries its link (who, when, why, and the
+parent's uuid and title). On import the link is made when the catalogue holds the parent (by
+uuid) and the idea has no link yet; otherwise (the parent is not there, the idea is already a
+variant of another idea, or the link would close a circle) nothing is linked and the report
+says why. The family's trial counts follow the link.
 """
 
 from __future__ import annotations
@@ -26,6 +32,7 @@ from typing import Any
 
 from hunchbook.store import (
     chain,
+    families,
     holdout,
     ideas,
     journal,
@@ -40,7 +47,8 @@ from hunchbook.store.records import ImportReport
 from hunchbook.store.sqlite_lib import Database
 
 #: Record kinds counted in an :class:`ImportReport`.
-RECORD_KINDS = ("revisions", "preregistrations", "journal", "reviews", "runs", "holdout")
+RECORD_KINDS = ("revisions", "preregistrations", "journal", "reviews", "runs", "holdout",
+                "variant_link")
 _IDEA_FIELDS = ("title", "hypothesis", "rationale", "rationale_kind", "source_kind",
                 "citation", "link", "submitted_by", "reviewer", "markets", "tags", "stage")
 
@@ -108,6 +116,12 @@ def export(db: Database, idea_id: int, path: str | os.PathLike[str], *, at: str,
             "engine_version": view.engine_version, "seen_at": view.seen_at,
             "seen_by": view.seen_by, "file": f"holdout/{view.uuid}.json",
             "pnl_file": f"holdout/{view.uuid}.csv"}
+    link = families.link_of(db, idea.id)
+    if link is not None:
+        parent = ideas.get(db, link.parent_id)
+        doc["variant_of"] = {"uuid": link.uuid, "parent": parent.uuid,
+                             "parent_title": parent.title, "reason": link.reason,
+                             "set_by": link.set_by, "set_at": link.set_at}
     _write_zip(path, {MANIFEST: _manifest_text(doc), **files})
     return path
 
@@ -189,6 +203,8 @@ def import_bundle(db: Database, path: str | os.PathLike[str], *, by: str,
     _import_preregistrations(db, idea_id, content.preregistrations, rev_ids, added, present,
                              conflicts)
     _import_journal(db, idea_id, content.journal, added, present, conflicts)
+    if content.variant_of is not None:  # before the runs: they count the family's trials
+        _import_variant_link(db, idea_id, content.variant_of, added, present, conflicts)
     known = {r["uuid"] for r in db.query("SELECT uuid FROM reviews WHERE idea_id = ?",
                                          [idea_id])}
     for item in content.reviews:
@@ -318,6 +334,35 @@ def _import_holdout(db: Database, idea_id: int, item: dict[str, Any], rev_ids: d
         figures=item["figures"], daily_pnl=item["daily_pnl"], by=item["seen_by"],
         at=item["seen_at"], view_uuid=item["uuid"])
     added["holdout"] += 1
+
+
+def _import_variant_link(db: Database, idea_id: int, item: dict[str, Any],
+                         added: dict[str, int], present: dict[str, int],
+                         conflicts: list[str]) -> None:
+    local = families.link_of(db, idea_id)
+    parent_id = ideas.id_for_uuid(db, item["parent"])
+    if local is not None:
+        if local.uuid == item["uuid"] or local.parent_id == parent_id:
+            present["variant_link"] += 1
+        else:
+            conflicts.append(f"the bundle records the idea as a variant of "
+                             f"'{item['parent_title']}' ({item['parent']}); here it is a variant "
+                             f"of idea {local.parent_id}, kept")
+        return
+    if parent_id is None:
+        conflicts.append(f"the idea is a variant of '{item['parent_title']}' ({item['parent']}), "
+                         "which this catalogue does not hold: not linked (import that idea, "
+                         "then link them)")
+        return
+    problem = families.link_problem(db, idea_id, parent_id)
+    if problem is not None:
+        conflicts.append(f"not linked as a variant of idea {parent_id}: {problem}")
+        return
+    _check_uuid_free(db, "variant_links", item["uuid"])
+    families.insert(db, idea_id, parent_id, reason=item["reason"], by=item["set_by"],
+                    at=item["set_at"], link_uuid=item["uuid"])
+    families.refresh_trial_counts(db, idea_id)
+    added["variant_link"] += 1
 
 
 def _check_uuid_free(db: Database, table: str, record_uuid: str) -> None:

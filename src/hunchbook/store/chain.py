@@ -37,6 +37,8 @@ COLUMNS: dict[str, tuple[str, ...]] = {
     "holdout_views": ("id", "uuid", "idea_id", "revision_id", "run_id", "chosen_params",
                       "boundary", "data_fingerprint", "engine_version", "figures", "daily_pnl",
                       "seen_by", "seen_at"),
+    "variant_links": ("id", "uuid", "idea_id", "parent_id", "reason", "set_by", "set_at"),
+    "desk_settings": ("id", "uuid", "key", "value", "reason", "set_by", "set_at"),
 }
 
 

@@ -1,6 +1,7 @@
 """Checking a catalogue: SQLite's own integrity and foreign-key checks, the schema version, the
 full-text index, the append-only records' hash chains and their trials, the revision hashes,
-the stored P&L and the denormalised trial counts.
+the stored P&L, the variant links (no circles) and the denormalised trial counts (each idea's
+family's).
 
 The check only reads, inside one read transaction (a consistent view while others write), so
 it works on a read-only file. SQLite's check of a full-text index is written as an ``INSERT``,
@@ -16,7 +17,7 @@ import sqlite3
 import uuid as uuidlib
 from collections.abc import Iterator
 
-from hunchbook.store import chain, holdout, migrations, pnl, revisions, runs, validate
+from hunchbook.store import chain, families, holdout, migrations, pnl, revisions, runs, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.sqlite_lib import Database
 
@@ -105,6 +106,10 @@ def _records(db: Database) -> Iterator[str]:
             holdout.view(db, idea_id)
         except CatalogueError as exc:
             yield f"holdout of idea {idea_id}: {exc}"
+    circles = families.circles(db)
+    if circles:
+        yield (f"variant links: idea(s) {_ids(circles)} are variants of their own variants "
+               "(the links were edited outside the catalogue)")
     for idea_id, stored in db.execute("SELECT id, trial_count FROM ideas").fetchall():
         actual = runs.trial_count(db, idea_id)
         if actual != stored:

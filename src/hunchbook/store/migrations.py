@@ -25,6 +25,10 @@ Versions
    latest holds; who set it, when and why), and each idea's single unlocking of its held-out
    years (``holdout_views``: the run it continues, the chosen set, the boundary, who and when,
    the held-out figures and daily P&L); both append-only and hash-chained.
+7. ``families_and_four_eyes``: ``variant_links`` (an idea recorded as a variant of another,
+   once per idea: who, when, why), ``desk_settings`` (desk rules such as ``one_person_desk``,
+   one row per setting, the latest holds), both append-only and hash-chained; ``reviews``
+   rebuilt to allow the promotion review's decisions (rows, ids and hashes kept).
 
 Files are opened, recognised and migrated by :mod:`hunchbook.store.opening`.
 """
@@ -38,6 +42,7 @@ from hunchbook.store.vocab import (
     DECISIONS,
     ENTRY_KINDS,
     RATIONALE_KINDS,
+    REVIEW_DECISIONS,
     SOURCE_KINDS,
     STAGES,
     sql_list,
@@ -335,6 +340,78 @@ def _holdout(db: Database) -> None:
         db.execute(f"CREATE TRIGGER {table}_no_replace BEFORE INSERT ON {table} WHEN {taken} "
                    + _refusal(table))
     db.execute("PRAGMA user_version = 6")
+
+
+def _append_only(db: Database, tables: dict[str, tuple[tuple[str, ...], ...]]) -> None:
+    """Triggers refusing every update, delete and key-taking insert on these tables (as
+    version 6 wrote them for its own)."""
+    for table, keys in tables.items():
+        for action in ("UPDATE", "DELETE"):
+            db.execute(f"CREATE TRIGGER {table}_no_{action.lower()} BEFORE {action} ON "
+                       f"{table} " + _refusal(table))
+        taken = " OR ".join(
+            f"EXISTS (SELECT 1 FROM {table} WHERE "
+            + " AND ".join(f"{column} = new.{column}" for column in key) + ")" for key in keys)
+        db.execute(f"CREATE TRIGGER {table}_no_replace BEFORE INSERT ON {table} WHEN {taken} "
+                   + _refusal(table))
+
+
+#: The keys of the tables of version 7 (as :data:`_KEYS` for version 5); ``reviews`` is rebuilt.
+_FAMILY_KEYS = {
+    "variant_links": (("id",), ("uuid",), ("idea_id",)),
+    "desk_settings": (("id",), ("uuid",)),
+    "reviews": _KEYS["reviews"],
+}
+
+
+@MIGRATIONS(name="0007_families_and_four_eyes")
+def _families_and_four_eyes(db: Database) -> None:
+    _run(db, [
+        """CREATE TABLE variant_links (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            idea_id INTEGER NOT NULL UNIQUE REFERENCES ideas(id),
+            parent_id INTEGER NOT NULL REFERENCES ideas(id),
+            reason TEXT NOT NULL,
+            set_by TEXT NOT NULL,
+            set_at TEXT NOT NULL,
+            row_hash TEXT,
+            CHECK (parent_id != idea_id)
+        ) STRICT""",
+        "CREATE INDEX variant_links_by_parent ON variant_links (parent_id, idea_id)",
+        """CREATE TABLE desk_settings (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            key TEXT NOT NULL,
+            value TEXT NOT NULL CHECK (value IN ('on', 'off')),
+            reason TEXT NOT NULL,
+            set_by TEXT NOT NULL,
+            set_at TEXT NOT NULL,
+            row_hash TEXT
+        ) STRICT""",
+        # SQLite cannot widen a CHECK in place: the reviews move to a new table with the same
+        # columns (so every row keeps its id and chained hash); dropping the old table fires no
+        # trigger, and nothing refers to its rows.
+        f"""CREATE TABLE reviews_new (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            idea_id INTEGER NOT NULL REFERENCES ideas(id),
+            reviewer TEXT NOT NULL,
+            checklist TEXT NOT NULL,
+            decision TEXT NOT NULL CHECK (decision IN {sql_list(list(REVIEW_DECISIONS))}),
+            comments TEXT NOT NULL,
+            at TEXT NOT NULL,
+            row_hash TEXT
+        ) STRICT""",
+        "INSERT INTO reviews_new (id, uuid, idea_id, reviewer, checklist, decision, comments, "
+        "at, row_hash) SELECT id, uuid, idea_id, reviewer, checklist, decision, comments, at, "
+        "row_hash FROM reviews ORDER BY id",
+        "DROP TABLE reviews",
+        "ALTER TABLE reviews_new RENAME TO reviews",
+        "CREATE INDEX reviews_by_idea ON reviews (idea_id, id)",
+    ])
+    _append_only(db, _FAMILY_KEYS)
+    db.execute("PRAGMA user_version = 7")
 
 
 #: The schema version this code writes (the number of migrations).

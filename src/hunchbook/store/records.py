@@ -152,7 +152,13 @@ class Entry:
 
 @dataclass(frozen=True)
 class Review:
-    """One review: the checklist answers, the decision (accept / return) and comments."""
+    """One review: the checklist answers, the decision and comments.
+
+    ``kind`` is ``idea`` (a submitted idea accepted or returned) or ``promotion`` (a tested
+    idea promoted or declined; see :data:`hunchbook.store.vocab.REVIEW_KINDS`);
+    ``by_author`` is true when the reviewer is the idea's author (allowed only on a one-person
+    desk, and said wherever the review is shown).
+    """
 
     id: int
     uuid: str
@@ -162,6 +168,8 @@ class Review:
     decision: str
     comments: str
     at: str
+    kind: str = "idea"
+    by_author: bool = False
 
 
 @dataclass(frozen=True)
@@ -170,8 +178,9 @@ class ImportReport:
 
     ``added`` and ``already_present`` count records by kind (``revisions``,
     ``preregistrations``, ``journal``, ``reviews``, ``runs``, ``holdout``: the idea's
-    unlocking of its held-out years); ``conflicts`` lists every
-    difference between the bundle and the catalogue that was kept as the catalogue had it.
+    unlocking of its held-out years, ``variant_link``: its link to the idea it is a variant
+    of); ``conflicts`` lists every difference between the bundle and the catalogue that was
+    kept as the catalogue had it, and a variant link that could not be made (with why).
     """
 
     idea_id: int
@@ -238,3 +247,74 @@ class HoldoutView:
     seen_by: str
     seen_at: str
     daily_pnl: pd.DataFrame | None = field(default=None, compare=False)
+
+
+@dataclass(frozen=True)
+class VariantLink:
+    """An idea recorded as a variant of another (its parent): who linked them, when and why.
+    Written once per idea and never undone, so that a family's trials keep counting."""
+
+    id: int
+    uuid: str
+    idea_id: int
+    parent_id: int
+    reason: str
+    set_by: str
+    set_at: str
+
+
+@dataclass(frozen=True)
+class FamilyMember:
+    """One idea of a family tree: its id, title, stage, author, last verdict (outcome key, or
+    None before a run), the trials run under this idea itself (``own_trials``), the link to its
+    parent (None for the root) and its variants (``children``, oldest first)."""
+
+    id: int
+    title: str
+    stage: str
+    submitted_by: str
+    last_verdict: str | None
+    own_trials: int
+    link: VariantLink | None
+    children: tuple[FamilyMember, ...] = ()
+
+
+@dataclass(frozen=True)
+class Family:
+    """An idea's family: the tree of the ideas linked as variants, from its ``root``.
+
+    ``idea_id`` is the idea asked about; ``trial_count`` the distinct trials of every member
+    together, which each member's deflated Sharpe counts (a lone idea is a family of one).
+    """
+
+    idea_id: int
+    root: FamilyMember
+    trial_count: int
+
+    def members(self) -> list[tuple[int, FamilyMember]]:
+        """Every member with its depth in the tree (the root at 0), depth first, variants
+        oldest first."""
+        out: list[tuple[int, FamilyMember]] = []
+        stack = [(0, self.root)]
+        while stack:
+            depth, member = stack.pop()
+            out.append((depth, member))
+            stack.extend((depth + 1, child) for child in reversed(member.children))
+        return out
+
+    def __len__(self) -> int:
+        return len(self.members())
+
+
+@dataclass(frozen=True)
+class DeskSetting:
+    """One setting of a desk rule (see :data:`hunchbook.store.vocab.DESK_SETTINGS`): who set
+    it, when and why. The latest setting of each key holds."""
+
+    id: int
+    uuid: str
+    key: str
+    value: bool
+    reason: str
+    set_by: str
+    set_at: str

@@ -1,4 +1,6 @@
-"""Reviews: the checklist, the decision (accept for testing / return with comments), comments."""
+"""Reviews: the checklist, the decision and comments, for each kind of review (see
+:data:`hunchbook.store.vocab.REVIEW_KINDS`): a submitted idea accepted for testing or returned
+with comments; a tested idea promoted or declined. The kind follows from the decision."""
 
 from __future__ import annotations
 
@@ -10,39 +12,49 @@ from typing import Any
 from hunchbook.store import chain, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import Review
+from hunchbook.store.settings import same_person
 from hunchbook.store.sqlite_lib import Database
-from hunchbook.store.vocab import CHECKLIST, DECISIONS
+from hunchbook.store.vocab import BY_AUTHOR, DECISION_LABELS, REVIEW_DECISIONS, REVIEW_KINDS
 
 
-def clean_checklist(checklist: Any, field: str = "checklist") -> dict[str, bool]:
-    """Every item of :data:`~hunchbook.store.vocab.CHECKLIST` answered ``True`` or ``False``."""
+def kind_of(decision: Any, field: str = "decision") -> str:
+    """The kind of review a decision belongs to (``idea`` or ``promotion``)."""
+    return REVIEW_DECISIONS[validate.choice(decision, field, REVIEW_DECISIONS)]
+
+
+def clean_checklist(checklist: Any, field: str = "checklist", *,
+                    kind: str = "idea") -> dict[str, bool]:
+    """Every item of the kind's checklist answered ``True`` or ``False``."""
+    items = REVIEW_KINDS[kind].checklist
     if not isinstance(checklist, Mapping):
         raise CatalogueError("expected a table of checklist answers", field=field)
-    unknown = [k for k in checklist if k not in CHECKLIST]
-    missing = [k for k in CHECKLIST if k not in checklist]
+    unknown = [k for k in checklist if k not in items]
+    missing = [k for k in items if k not in checklist]
     if unknown or missing:
         raise CatalogueError(
             "; ".join(filter(None, [unknown and f"unknown item(s) {', '.join(map(str, unknown))}",
                                     missing and f"unanswered item(s) {', '.join(missing)}"]))
-            + f" (items: {', '.join(CHECKLIST)})", field=field)
+            + f" (items: {', '.join(items)})", field=field)
     for key, answer in checklist.items():
         if not isinstance(answer, bool):
             raise CatalogueError("expected true or false", field=f"{field}.{key}")
-    return {k: checklist[k] for k in CHECKLIST}
+    return {k: checklist[k] for k in items}
 
 
 def check_decision(decision: Any, checklist: dict[str, bool], comments: str) -> str:
-    """A decision consistent with the checklist: accepting needs every item ticked, returning
-    needs comments saying what to change."""
-    decision = validate.choice(decision, "decision", DECISIONS)
+    """A decision consistent with the checklist: the approving decision (accept, promote)
+    needs every item ticked; returning or declining needs comments saying what to change."""
+    kind = REVIEW_KINDS[kind_of(decision)]
     unmet = [k for k, ok in checklist.items() if not ok]
-    if decision == "accept" and unmet:
-        raise CatalogueError(f"cannot accept with unticked checklist item(s) {', '.join(unmet)};"
-                             " return the idea with comments instead", field="decision")
-    if decision == "return" and not comments:
+    if decision == kind.approves and unmet:
+        other = "/".join(d for d in kind.decisions if d != decision)
+        raise CatalogueError(f"cannot {decision} with unticked checklist item(s) "
+                             f"{', '.join(unmet)}; {other} with comments instead",
+                             field="decision")
+    if decision in kind.needs_comments and not comments:
         raise CatalogueError("say in the comments what the author should change",
                              field="comments")
-    return decision
+    return str(decision)
 
 
 def insert(db: Database, idea_id: int, *, reviewer: str, checklist: dict[str, bool],
@@ -56,13 +68,20 @@ def insert(db: Database, idea_id: int, *, reviewer: str, checklist: dict[str, bo
 
 def of_idea(db: Database, idea_id: int) -> list[Review]:
     """The idea's reviews, oldest first."""
-    return [Review(**{**{k: r[k] for k in Review.__dataclass_fields__},
-                      "checklist": json.loads(r["checklist"])})
-            for r in db.query("SELECT * FROM reviews WHERE idea_id = ? ORDER BY id", [idea_id])]
+    rows = db.query("SELECT r.*, i.submitted_by FROM reviews r JOIN ideas i ON i.id = "
+                    "r.idea_id WHERE r.idea_id = ? ORDER BY r.id", [idea_id])
+    return [Review(id=r["id"], uuid=r["uuid"], idea_id=r["idea_id"], reviewer=r["reviewer"],
+                   checklist=json.loads(r["checklist"]), decision=r["decision"],
+                   comments=r["comments"], at=r["at"],
+                   kind=REVIEW_DECISIONS.get(r["decision"], "idea"),
+                   by_author=same_person(r["reviewer"], r["submitted_by"])) for r in rows]
 
 
-def journal_text(checklist: dict[str, bool], decision: str, comments: str) -> str:
-    """The review as one journal entry."""
+def journal_text(checklist: dict[str, bool], decision: str, comments: str, *,
+                 by_author: bool = False) -> str:
+    """The review as one journal entry (saying so when the author reviewed their own idea)."""
     ticks = "; ".join(f"[{'x' if ok else ' '}] {key}" for key, ok in checklist.items())
-    verb = "Accepted for testing" if decision == "accept" else "Returned with comments"
-    return f"{verb}. Checklist: {ticks}." + (f" Comments: {comments}" if comments else "")
+    kind = "Promotion checklist" if REVIEW_DECISIONS[decision] == "promotion" else "Checklist"
+    own = f" ({BY_AUTHOR[0].upper()}{BY_AUTHOR[1:]}.)" if by_author else ""
+    return (f"{DECISION_LABELS[decision]}.{own} {kind}: {ticks}."
+            + (f" Comments: {comments}" if comments else ""))

@@ -10,11 +10,15 @@ Trials
 Each parameter set of a run is one row in ``trials`` keyed by the revision's *strategy key*
 (see :mod:`hunchbook.store.revisions`) and the set's canonical parameters (names sorted,
 values as floats). **The trial count of an idea is the number of distinct (strategy key,
-parameter set) pairs over all its runs and revisions.** Re-running a set under an unchanged
-strategy (new data, a comment edit, a wider grid) does not add a trial; any change to the
-signal, roll, sizing, costs or dates makes every set a new trial. The trial Sharpe ratios for
-the deflated Sharpe are one per trial: the annualised net Sharpe from the latest run of that
-trial, trials with no Sharpe (a flat series) left out.
+parameter set) pairs over all the runs and revisions of its family**: the idea itself and every
+idea linked to it as a variant (see :mod:`hunchbook.store.families`; a lone idea is a family of
+one). Re-running a set under an unchanged strategy (new data, a comment edit, a wider grid) does
+not add a trial, and neither does a variant running a set some member already ran under the
+same strategy: the same rule text and parameters give the same backtest, whichever idea runs
+it, so a trial two members share counts once. Any change to the signal, markets, roll, sizing,
+costs or dates makes every set a new trial. The trial Sharpe ratios for the deflated Sharpe are
+one per trial: the annualised net Sharpe from the latest run of that trial, trials with no
+Sharpe (a flat series) left out.
 """
 
 from __future__ import annotations
@@ -27,7 +31,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from hunchbook.core.errors import RecordError
-from hunchbook.store import chain, pnl, validate
+from hunchbook.store import chain, families, pnl, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import EarlierStrategy, Revision, RunRecord, TrialHistory
 from hunchbook.store.sqlite_lib import Database
@@ -155,10 +159,11 @@ def set_sharpes(summary: Any, keys: set[str]) -> dict[str, float | None]:
 
 def insert(db: Database, idea_id: int, revision: Revision, run: RunInput, *, by: str, at: str,
            run_uuid: str | None = None) -> int:
-    """Write a cleaned run and its trials; refresh the idea's last verdict and trial count."""
+    """Write a cleaned run and its trials; refresh the idea's last verdict and the trial count
+    of every member of its family."""
     seen = {row[0] for row in db.execute(
-        "SELECT DISTINCT params FROM trials WHERE idea_id = ? AND strategy_key = ?",
-        [idea_id, revision.strategy_key])}
+        families.cte() + "SELECT DISTINCT params FROM trials WHERE idea_id IN (SELECT id FROM "
+        "family) AND strategy_key = ?2", [idea_id, revision.strategy_key])}
     count = trial_count(db, idea_id) + sum(key not in seen for key, _ in run.set_sharpes)
     run_id = chain.append(db, "runs", {
         "uuid": run_uuid or str(uuidlib.uuid4()), "idea_id": idea_id,
@@ -175,42 +180,48 @@ def insert(db: Database, idea_id: int, revision: Revision, run: RunInput, *, by:
     # The latest run by time (an imported older run does not replace a newer verdict).
     db.execute("UPDATE ideas SET (last_verdict, last_net_sharpe, last_run_at) = (SELECT "
                "verdict_label, chosen_net_sharpe, recorded_at FROM runs WHERE idea_id = ?1 "
-               "ORDER BY recorded_at DESC, id DESC LIMIT 1), trial_count = ?2, "
-               "updated_at = max(updated_at, ?3) WHERE id = ?1", [idea_id, count, at])
+               "ORDER BY recorded_at DESC, id DESC LIMIT 1), "
+               "updated_at = max(updated_at, ?2) WHERE id = ?1", [idea_id, at])
+    families.refresh_trial_counts(db, idea_id, count)
     return run_id
 
 
 def trial_count(db: Database, idea_id: int) -> int:
-    """Distinct (strategy key, parameter set) pairs ever run for the idea."""
-    return int(db.execute("SELECT count(*) FROM (SELECT DISTINCT strategy_key, params FROM "
-                          "trials WHERE idea_id = ?)", [idea_id]).fetchone()[0])
+    """Distinct (strategy key, parameter set) pairs ever run by the idea's family."""
+    return families.trial_count(db, idea_id)
+
+
+#: Each trial of the family of the idea bound to ?1 once, from its latest run: strategy key,
+#: parameters, net Sharpe, in the order the trials were first written.
+_LATEST_TRIALS = ("SELECT strategy_key, params, net_sharpe FROM (SELECT strategy_key, params, "
+                  "net_sharpe, rowid AS written, row_number() OVER (PARTITION BY strategy_key, "
+                  "params ORDER BY run_id DESC) AS newest FROM trials WHERE idea_id IN "
+                  "(SELECT id FROM family)) WHERE newest = 1 ORDER BY written")
 
 
 def trial_sharpes(db: Database, idea_id: int) -> list[float]:
-    """One annualised net Sharpe per trial (its latest run), trials without one left out."""
-    rows = db.execute(
-        "SELECT net_sharpe FROM (SELECT net_sharpe, row_number() OVER (PARTITION BY "
-        "strategy_key, params ORDER BY run_id DESC) AS newest FROM trials WHERE idea_id = ?) "
-        "WHERE newest = 1 AND net_sharpe IS NOT NULL ORDER BY rowid", [idea_id]).fetchall()
-    return [float(r[0]) for r in rows]
+    """One annualised net Sharpe per trial of the idea's family (its latest run), trials
+    without one left out."""
+    rows = db.execute(families.cte() + _LATEST_TRIALS, [idea_id]).fetchall()
+    return [float(r[2]) for r in rows if r[2] is not None]
 
 
 def prospective_trials(db: Database, idea_id: int, strategy_key: str,
                        parameter_sets: Sequence[Mapping[str, float]]) -> TrialHistory:
     """The trial count once these sets run under this strategy, and every *other* trial already
-    recorded, grouped by strategy with the latest rule text of that strategy (so that it can be
-    recomputed on the current data) and its stored net Sharpe ratio."""
+    recorded by the idea's family (the idea and its variants, see
+    :mod:`hunchbook.store.families`), grouped by strategy with the latest rule text of that
+    strategy (so that it can be recomputed on the current data) and its stored net Sharpe
+    ratio. A trial several members ran counts once."""
     new = {(strategy_key, params_key(s)) for s in parameter_sets}
-    rows = db.execute(
-        "SELECT strategy_key, params, net_sharpe FROM (SELECT strategy_key, params, net_sharpe, "
-        "row_number() OVER (PARTITION BY strategy_key, params ORDER BY run_id DESC) AS newest "
-        "FROM trials WHERE idea_id = ?) WHERE newest = 1 ORDER BY rowid", [idea_id]).fetchall()
-    # the latest revision's text of each strategy (SQLite takes the bare column from the row
-    # holding the maximum)
+    rows = db.execute(families.cte() + _LATEST_TRIALS, [idea_id]).fetchall()
+    # the latest saved text of each strategy (SQLite takes the bare column from the row
+    # holding the maximum); texts of one strategy differ only in parameters, name and
+    # description, so any member's text recomputes its trials alike
     latest = dict((key, text) for key, text, _ in db.execute(
-        "SELECT u.strategy_key, v.text, max(v.number) FROM trials u JOIN runs r ON r.id = "
-        "u.run_id JOIN rule_revisions v ON v.id = r.revision_id WHERE u.idea_id = ? "
-        "GROUP BY u.strategy_key", [idea_id]))
+        families.cte() + "SELECT u.strategy_key, v.text, max(v.id) FROM trials u JOIN runs r "
+        "ON r.id = u.run_id JOIN rule_revisions v ON v.id = r.revision_id WHERE u.idea_id IN "
+        "(SELECT id FROM family) GROUP BY u.strategy_key", [idea_id]))
     groups: dict[str, list[tuple[str, float | None]]] = {}
     for key, params, sharpe in rows:
         if (key, params) not in new:

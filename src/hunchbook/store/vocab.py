@@ -1,6 +1,9 @@
-"""The catalogue's fixed vocabularies: stages, kinds of rationale, source, journal entry, review."""
+"""The catalogue's fixed vocabularies: stages, kinds of rationale, source, journal entry, review
+(and its checklists), desk settings and whose step each stage waits for."""
 
 from __future__ import annotations
+
+from dataclasses import dataclass
 
 #: Stages of an idea, in pipeline order: written down, sent for review, accepted for testing or
 #: returned with comments, tested (at least one run recorded), promoted to full research or shelved.
@@ -44,8 +47,81 @@ CHECKLIST: dict[str, str] = {
     "series_and_costs_stated": "The continuous-series method and the trading costs are stated.",
 }
 
-#: Review decisions and the stage each leads to.
+#: Decisions of a review of a submitted idea and the stage each leads to (the decisions the
+#: first schema allowed; see :data:`REVIEW_KINDS` for every kind of review).
 DECISIONS = {"accept": "accepted", "return": "returned"}
+
+#: The promotion checklist: what a second person confirms before an idea is promoted.
+PROMOTION_CHECKLIST: dict[str, str] = {
+    "holdout_seen": "The held-out years were unlocked and their figures read.",
+    "book_correlation_seen": "Its correlation with the ideas already on the book was looked at.",
+    "costs_checked": "The trading costs assumed were checked against what the desk pays.",
+}
+
+#: Decisions of a promotion review and the stage each leads to (``None``: the stage stays).
+PROMOTION_DECISIONS: dict[str, str | None] = {"promote": "promoted", "decline": None}
+
+
+@dataclass(frozen=True)
+class ReviewKind:
+    """One kind of review: the stage an idea waits at for it, the checklist the reviewer
+    answers, its decisions (decision -> the stage it leads to, ``None``: stays), the decision
+    that needs every item ticked and those that need comments."""
+
+    stage: str
+    checklist: dict[str, str]
+    decisions: dict[str, str | None]
+    approves: str
+    needs_comments: tuple[str, ...]
+
+
+#: Every kind of review, by name. Both are reviews by someone other than the idea's author
+#: (unless the desk setting ``one_person_desk`` is on), journalled as ``review`` entries.
+REVIEW_KINDS: dict[str, ReviewKind] = {
+    "idea": ReviewKind(stage="submitted", checklist=CHECKLIST, decisions=dict(DECISIONS),
+                       approves="accept", needs_comments=("return",)),
+    "promotion": ReviewKind(stage="tested", checklist=PROMOTION_CHECKLIST,
+                            decisions=PROMOTION_DECISIONS, approves="promote",
+                            needs_comments=("decline",)),
+}
+
+#: How each review decision reads (in the journal, the command line and the window).
+DECISION_LABELS: dict[str, str] = {"accept": "Accepted for testing",
+                                   "return": "Returned with comments", "promote": "Promoted",
+                                   "decline": "Promotion declined"}
+
+#: Every review decision, and the kind of review it belongs to.
+REVIEW_DECISIONS: dict[str, str] = {decision: name for name, kind in REVIEW_KINDS.items()
+                                    for decision in kind.decisions}
+
+#: Desk settings: key -> (default, what it allows). Each is on or off, set with a reason.
+DESK_SETTINGS: dict[str, tuple[bool, str]] = {
+    "one_person_desk": (False, "One person may review their own ideas (each such review says "
+                               "so): for a desk of one."),
+}
+
+#: What a review by the idea's own author (on a one-person desk) says about itself.
+BY_AUTHOR = "one-person desk: reviewed by the author"
+
+#: Whose next step an idea waits for at each stage ("author", or "reviewer": anyone but the
+#: author, or the author too on a one-person desk), and what that step is. A tested idea waits
+#: for a promotion review only when its last verdict is :data:`PROMOTION_VERDICT`; with any
+#: other verdict it waits for its author (:data:`TESTED_REWORK`). Ideas at other stages (draft,
+#: promoted, shelved) wait for nobody.
+NEXT_STEPS: dict[str, tuple[str, str]] = {
+    "submitted": ("reviewer", "review"),
+    "returned": ("author", "rework"),
+    "accepted": ("author", "run"),
+    "tested": ("reviewer", "promotion review"),
+}
+
+#: The verdict outcome (see :mod:`hunchbook.core.verdict`) after which a tested idea waits for
+#: its promotion review.
+PROMOTION_VERDICT = "passes"
+
+#: The author's step for a tested idea whose last verdict is another: rework and run again, or
+#: shelve it.
+TESTED_REWORK = ("author", "rework or shelve")
 
 #: Fields of an idea frozen by pre-registration at its first run.
 FROZEN_FIELDS = ("rationale", "markets")

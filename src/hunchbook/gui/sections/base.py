@@ -14,7 +14,8 @@ section -> window (signals)
     ``idea_changed(int)`` it wrote to this idea (the window refreshes the rest);
     ``message(str)`` a line for the status bar; ``error(str, str)`` an error dialog (title and
     one-line message); ``tab_changed(str, str)`` new tab text and tooltip;
-    ``show_requested()`` bring this section to the front.
+    ``show_requested()`` bring this section to the front; ``idea_requested(int)`` show another
+    idea (select it in the catalogue).
 
 Adding a section takes one new module with a subclass and one line in the registry.
 """
@@ -80,6 +81,8 @@ class IdeaSection(QWidget):
         The section's tab text and tooltip.
     show_requested()
         Bring this section to the front (for example to show a rule error).
+    idea_requested(int)
+        Show this other idea (for example a member of the idea's family).
     """
 
     #: Key of the section (``--section``, :meth:`MainWindow.show_section`).
@@ -92,6 +95,7 @@ class IdeaSection(QWidget):
     error = Signal(str, str)
     tab_changed = Signal(str, str)
     show_requested = Signal()
+    idea_requested = Signal(int)
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)

@@ -7,6 +7,7 @@ from collections.abc import Sequence
 from PySide6.QtCore import QItemSelectionModel, QModelIndex, Qt, QTimer, Signal
 from PySide6.QtWidgets import (
     QAbstractItemView,
+    QCheckBox,
     QComboBox,
     QGridLayout,
     QHeaderView,
@@ -31,7 +32,8 @@ _ANY = "Any"
 
 
 class CataloguePanel(QWidget):
-    """Search box, filters (stage, verdict, market, tag, author) and the idea table.
+    """Search box, filters (stage, verdict, market, tag, author, waiting for me) and the idea
+    table.
 
     Signals
     -------
@@ -62,6 +64,16 @@ class CataloguePanel(QWidget):
         self.market = self._combo("Market", [])
         self.tag = self._combo("Tag", [])
         self.author = self._combo("Author", [])
+        self._user = ""
+        self.waiting = QCheckBox("Waiting for me", self)
+        self.waiting.setObjectName("waitingFilter")
+        self.waiting.setToolTip(
+            "Only the ideas whose next step is yours: submitted ideas others wrote (your "
+            "review, unless another reviewer is named), your returned ideas (your rework), your "
+            "accepted ideas (your run), tested ideas others wrote whose verdict says promote "
+            "(their promotion review) and your tested ideas with another verdict (rework or "
+            "shelve).")
+        self.waiting.toggled.connect(self.apply_filters)
 
         self.table = QTableView(self)
         self.table.setObjectName("ideaTable")
@@ -96,6 +108,7 @@ class CataloguePanel(QWidget):
                                             ("Author", self.author))):
             filters.addWidget(QLabel(label, self), (n // 3) * 2, n % 3)
             filters.addWidget(combo, (n // 3) * 2 + 1, n % 3)
+        filters.addWidget(self.waiting, 3, 2)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(6, 6, 6, 6)
         layout.addWidget(self.search)
@@ -104,6 +117,11 @@ class CataloguePanel(QWidget):
         layout.addWidget(self.count)
 
     # -- public API -----------------------------------------------------------------------
+    def set_user(self, user: str) -> None:
+        """Whose next steps the "Waiting for me" filter shows."""
+        self._user = user
+        self.apply_filters()
+
     def set_catalogue(self, catalogue: Catalogue | None) -> None:
         """Show this catalogue's ideas (the filters are reset)."""
         self._catalogue = catalogue
@@ -120,21 +138,28 @@ class CataloguePanel(QWidget):
             self.select_idea(current)
 
     def refresh_idea(self, idea_id: int) -> None:
-        """Re-read one idea's line (after an edit, a run, a review)."""
+        """Re-read one idea's line (after an edit, a run, a review), and those of its family
+        (their trial counts move together)."""
         if self._catalogue is None:
             return
-        self.model.update_idea(summary_of(self._catalogue.idea(idea_id)))
-        self.proxy.refresh()
-        self._show_count()
+        for _, member in self._catalogue.family(idea_id).members():
+            self.model.update_idea(summary_of(self._catalogue.idea(member.id)))
+        if self.waiting.isChecked():
+            self.apply_filters()  # a review or run moves the idea to someone else's list
+        else:
+            self.proxy.refresh()
+            self._show_count()
 
     def apply_filters(self) -> None:
         """Filter the table by the search text and the chosen filters."""
         self._search_timer.stop()
         ids = None
         text = self.search.text().strip()
-        if text and self._catalogue is not None:
+        waiting = self.waiting.isChecked() and bool(self._user)
+        if (text or waiting) and self._catalogue is not None:
             try:
-                ids = [i.id for i in self._catalogue.list_ideas(text=text)]
+                ids = [i.id for i in self._catalogue.list_ideas(
+                    text=text or None, waiting_for=self._user if waiting else None)]
                 self.search.setToolTip("")
             except HunchbookError as exc:
                 ids = []
@@ -173,6 +198,7 @@ class CataloguePanel(QWidget):
         """Empty the search box and set every filter to any."""
         for combo in (self.stage, self.verdict, self.market, self.tag, self.author):
             combo.setCurrentIndex(0)
+        self.waiting.setChecked(False)
         self.search.clear()
         self.apply_filters()
 

@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.sections.base import IdeaSection, SectionContext
+from hunchbook.gui.widgets.family_panel import FamilyPanel
 from hunchbook.store.records import Idea
 from hunchbook.store.vocab import RATIONALE_KINDS, SOURCE_KINDS
 
@@ -121,7 +122,8 @@ class AmendDialog(QDialog):
 
 class IdeaForm(IdeaSection):
     """The Idea section: title, hypothesis, rationale and its kind, source, submitted by,
-    markets and tags, in a scroll area; ``idea_changed`` follows each saved edit."""
+    markets and tags, and the idea's family (:class:`FamilyPanel`), in a scroll area;
+    ``idea_changed`` follows each saved edit and a recorded variant link."""
 
     key = "idea"
     tab_title = "Idea"
@@ -170,6 +172,10 @@ class IdeaForm(IdeaSection):
         self.saved_label = QLabel(body)
         self.saved_label.setObjectName("savedLabel")
         self.saved_label.setWordWrap(True)
+        self.family = FamilyPanel(body)
+        self.family.linked.connect(self.idea_changed)
+        self.family.member_chosen.connect(self.idea_requested)
+        self.family.message.connect(self.message)
 
         frozen_row = QHBoxLayout()
         frozen_row.addWidget(self.frozen_note, 1)
@@ -187,6 +193,7 @@ class IdeaForm(IdeaSection):
         form.addRow("Tags", self.tags)
         form.addRow("Submitted by", self.submitted_by)
         form.addRow("Reviewer", self.reviewer)
+        form.addRow("Family", self.family)
         layout = QVBoxLayout(body)
         layout.addLayout(frozen_row)
         layout.addLayout(form)
@@ -223,8 +230,10 @@ class IdeaForm(IdeaSection):
         if idea_id is None or self.catalogue is None:
             self._idea = None
             self._set_enabled(False)
+            self.family.show_family(None, None, self.context.user)
             return
         self._fill(self.catalogue.idea(idea_id))
+        self.family.show_family(self.catalogue, idea_id, self.context.user)
 
     def idea(self) -> Idea | None:
         """The idea shown, as last saved."""
