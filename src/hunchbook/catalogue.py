@@ -533,8 +533,9 @@ class Catalogue:
           required; stage -> returned);
         - a tested idea, the promotion review: ``checklist`` answers every item of
           ``PROMOTION_CHECKLIST``; ``promote`` (every item ticked; ``holdout_seen`` only when
-          the idea's held-out years were unlocked; stage -> promoted) or ``decline`` (comments
-          required; the idea stays tested).
+          the idea's held-out years were unlocked, and left unticked only when there are none
+          to see: no boundary, or runs that already saw past it, which the review then says;
+          stage -> promoted) or ``decline`` (comments required; the idea stays tested).
 
         The reviewer must not be the idea's author unless the desk setting
         ``one_person_desk`` is on; such a review is recorded as made by the author and its
@@ -546,10 +547,14 @@ class Catalogue:
         kind = REVIEW_KINDS[kind_name]
         answers = reviewmod.clean_checklist(checklist, kind=kind_name)
         comments = validate.text(comments, "comments", required=False)
-        decision = reviewmod.check_decision(decision, answers, comments)
         at = self._now()
         with dbmod.write(self.db):
             idea = ideas.get(self.db, idea_id)
+            waived = ("holdout_seen",) if kind_name == "promotion" and not answers.get(
+                "holdout_seen") and self._nothing_held_out(idea.id) else ()
+            decision = reviewmod.check_decision(decision, answers, comments, waived=waived)
+            if waived and decision == "promote":
+                comments = (f"{comments} " if comments else "") + NOTHING_HELD_OUT
             if idea.stage != kind.stage:
                 what = "promotion reviews are for tested ideas" if kind_name == "promotion" \
                     else "only submitted ideas are reviewed"
@@ -581,6 +586,13 @@ class Catalogue:
             else:
                 self.db.execute("UPDATE ideas SET updated_at = ? WHERE id = ?", [at, idea.id])
         return review_id
+
+    def _nothing_held_out(self, idea_id: int) -> bool:
+        """True when no held-out years are left unseen for the idea to see: the catalogue has
+        no boundary, or one of its runs already saw past it (runs made before holdouts)."""
+        current = holdout.current(self.db)
+        return current is None or any(edge is None or edge > current.boundary
+                                      for _, edge in holdout.run_boundaries(self.db, idea_id))
 
     def acceptance_problem(self, idea_id: int) -> str | None:
         """Why the idea cannot be accepted for testing yet as far as its rules go (no rule
@@ -802,6 +814,11 @@ class Catalogue:
         by = validate.name(by, "by")
         with dbmod.write(self.db):
             return bundles.import_bundle(self.db, path, by=by, at=self._now())
+
+
+#: Added to a promotion review made without held-out years to see.
+NOTHING_HELD_OUT = ("(No held-out years to see: the catalogue has no holdout boundary, or the "
+                    "idea's runs already saw past it.)")
 
 
 def _check_rules_for_acceptance(idea_id: int, revision: Revision | None) -> None:

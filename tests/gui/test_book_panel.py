@@ -22,7 +22,7 @@ from hunchbook.gui.html_report import render_chart_images, report_html
 from hunchbook.gui.widgets.book_panel import NOT_COMPARED
 from hunchbook.gui.widgets.results_view import ResultsView
 from tests.gui.run_records import HOSTILE_TITLE
-from tests.store.helpers import accepted_idea, run_summary
+from tests.store.helpers import accepted_idea, promote, run_summary
 
 DAYS = 400
 
@@ -49,7 +49,7 @@ def desk(tmp_path_factory):
             cat.record_run(idea, revision_id=revision.id, by="Nia", data_fingerprint="f" * 64,
                            engine_version="0.1.0", daily_pnl=_frame(net),
                            summary=run_summary([{"fast": 5.0, "slow": 50.0}], [0.4]))
-            cat.set_stage(idea, "promoted", by="Ines", reason="Passes.")
+            promote(cat, idea)
         idea = accepted_idea(cat, title="Variant")
         daily = _frame(800.0 * (2.0 * common + rng.standard_normal(DAYS)) + 40.0)
         book = compare_with_book(daily["net_pnl"], cat.promoted_pnl(exclude_idea=idea))

@@ -20,6 +20,7 @@ from hunchbook.core.runners import InProcess
 from hunchbook.demo import rules as demo_rules
 from hunchbook.demo import write_demo_data
 from hunchbook.services import run_idea, unlock_holdout
+from tests.store.helpers import accepted_idea, promote, run_args
 
 
 @pytest.fixture(scope="module")
@@ -47,7 +48,8 @@ def desk(tmp_path: Path, data: Path) -> tuple[Catalogue, int, int]:
     cat = Catalogue(tmp_path / "desk.sqlite")
     trend = _idea(cat, "Two-average trend", demo_rules.TREND)
     _run(cat, trend, demo_rules.TREND, data)
-    cat.set_stage(trend, "promoted", by="Ines", reason="Passes.")
+    unlock_holdout(cat, trend, data, by="Ines")
+    promote(cat, trend)
     variant = _idea(cat, "Faster trend <variant>", demo_rules.TREND_FASTER)
     yield cat, trend, variant
     cat.close()
@@ -134,3 +136,30 @@ def test_the_command_line_prints_the_table_and_writes_it_in_the_json(desk, data,
     shown = capsys.readouterr().out
     assert code == 0 and f"Against the book: highest correlation {row['correlation']:.2f} " \
                          f"(idea {trend})" in shown
+
+
+def test_promotion_waits_for_the_held_out_years_when_there_are_some(tmp_path, data) -> None:
+    """A promotion review needs the held-out years seen when the idea has some left unseen;
+    without a boundary to hold them (runs made on the whole history) the item is waived and the
+    review says so (house rule, common practice, no source)."""
+    from hunchbook.catalogue import NOTHING_HELD_OUT, PROMOTION_CHECKLIST
+    from hunchbook.store.errors import CatalogueError
+
+    with Catalogue(tmp_path / "c.sqlite") as cat:
+        trend = _idea(cat, "Two-average trend", demo_rules.TREND)
+        _run(cat, trend, demo_rules.TREND, data)
+        unseen = {**dict.fromkeys(PROMOTION_CHECKLIST, True), "holdout_seen": False}
+        with pytest.raises(CatalogueError, match="unticked checklist item.*holdout_seen"):
+            cat.review(trend, reviewer="Ines", checklist=unseen, decision="promote",
+                       comments="")
+        assert cat.idea(trend).stage == "tested"
+        unlock_holdout(cat, trend, data, by="Ines")
+        promote(cat, trend)
+        assert cat.idea(trend).stage == "promoted"
+    with Catalogue(tmp_path / "old.sqlite") as cat:
+        idea = accepted_idea(cat, "Run on the whole history")
+        cat.record_run(idea, revision_id=cat.latest_revision(idea).id, by="Nia",
+                       **run_args([{"fast": 5.0, "slow": 50.0}], [0.6]))
+        cat.review(idea, reviewer="Ines", checklist=unseen, decision="promote", comments="")
+        assert cat.idea(idea).stage == "promoted"
+        assert cat.reviews(idea)[-1].comments == NOTHING_HELD_OUT

@@ -122,3 +122,14 @@ def write_bundle(path: Path, members: dict[str, bytes]) -> Path:
         for name, data in members.items():
             archive.writestr(name, data)
     return path
+
+
+def promote(cat: Catalogue, idea_id: int, *, reviewer: str = "Ines") -> int:
+    """Promote a tested idea through the promotion review, by someone other than its author,
+    every item ticked (the held-out years ticked as seen only when they were unlocked)."""
+    from hunchbook.catalogue import PROMOTION_CHECKLIST
+
+    checklist = {**dict.fromkeys(PROMOTION_CHECKLIST, True),
+                 "holdout_seen": cat.holdout_view(idea_id) is not None}
+    return cat.review(idea_id, reviewer=reviewer, checklist=checklist, decision="promote",
+                      comments="Passes.")

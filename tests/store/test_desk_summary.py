@@ -18,7 +18,7 @@ from hunchbook.catalogue import Catalogue
 from hunchbook.desk import desk_report, format_desk, load_desk_report
 from hunchbook.store.desk import DeskPeriod, period_of
 from hunchbook.store.errors import CatalogueError
-from tests.store.helpers import accepted_idea, run_args
+from tests.store.helpers import accepted_idea, promote, run_args
 
 SETS = [{"fast": 5.0, "slow": 50.0}, {"fast": 10.0, "slow": 50.0}]
 
@@ -52,7 +52,7 @@ def build_desk(path: Path) -> None:
         clock.at("2025-01-10T10:00:00")
         cat.record_run(a, revision_id=rev[a], by="Nia", **run_args(SETS, [0.6, 0.8], seed=2))
         clock.at("2025-02-03T10:00:00")
-        cat.set_stage(a, "promoted", by="Ines", reason="Passes.")
+        promote(cat, a)
         clock.at("2025-02-15T10:00:00")
         cat.record_run(b, revision_id=rev[b], by="Theo", **run_args(SETS[:1], [0.1], seed=3))
         clock.at("2025-02-16T10:00:00")
@@ -60,7 +60,7 @@ def build_desk(path: Path) -> None:
         clock.at("2025-04-02T10:00:00")
         cat.record_run(d, revision_id=rev[d], by="Theo", **run_args(SETS, [0.2, 0.3], seed=4))
         clock.at("2025-04-20T10:00:00")
-        cat.set_stage(d, "promoted", by="Ines", reason="Passes too.")
+        promote(cat, d)
         clock.at("2025-05-02T10:00:00")
         cat.set_stage(d, "shelved", by="Ines", reason="Stopped working.")
 

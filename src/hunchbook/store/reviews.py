@@ -41,11 +41,13 @@ def clean_checklist(checklist: Any, field: str = "checklist", *,
     return {k: checklist[k] for k in items}
 
 
-def check_decision(decision: Any, checklist: dict[str, bool], comments: str) -> str:
+def check_decision(decision: Any, checklist: dict[str, bool], comments: str, *,
+                   waived: tuple[str, ...] = ()) -> str:
     """A decision consistent with the checklist: the approving decision (accept, promote)
-    needs every item ticked; returning or declining needs comments saying what to change."""
+    needs every item ticked but the ``waived`` ones (items that cannot apply); returning or
+    declining needs comments saying what to change."""
     kind = REVIEW_KINDS[kind_of(decision)]
-    unmet = [k for k, ok in checklist.items() if not ok]
+    unmet = [k for k, ok in checklist.items() if not ok and k not in waived]
     if decision == kind.approves and unmet:
         other = "/".join(d for d in kind.decisions if d != decision)
         raise CatalogueError(f"cannot {decision} with unticked checklist item(s) "
