@@ -54,13 +54,16 @@ def test_desk_dialog_on_the_demo(qtbot, window, monkeypatch):
     assert threads and threads[0] is not threading.main_thread()  # computed on a worker
 
     # the demo desk (hunchbook.demo.catalogue), all in 2025: the ideas with runs, the runs,
-    # their sets, each tested idea's trials and the promotions, counted from the catalogue's
-    # own records (the by-hand count is in tests/store/test_desk_summary.py)
+    # their sets, each idea's own trials (a family's shared count is not added twice) and the
+    # promotions, counted from the catalogue's own records (the by-hand count is in
+    # tests/store/test_desk_summary.py)
     cat = window.catalogue
     runs = cat.runs()
     tested = {r.idea_id for r in runs}
+    trials = cat.db.execute("SELECT count(*) FROM (SELECT DISTINCT idea_id, strategy_key, "
+                            "params FROM trials)").fetchone()[0]
     counts = [str(len(tested)), str(len(runs)), str(sum(r.set_count for r in runs)),
-              str(sum(cat.idea(i).trial_count for i in tested)),
+              str(trials),
               str(sum(cat.idea(i).stage == "promoted" for i in tested))]
     assert _cells(dialog.period_table) == [["2025", *counts], ["Total", *counts]]
     assert f"tested {counts[0]} idea(s) in {counts[3]} trial(s)" in dialog.headline.text()
