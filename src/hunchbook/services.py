@@ -119,14 +119,17 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
 
     A catalogue without a boundary gets the default one of the data folder (the last 20 % of
     its common history held out; :mod:`hunchbook.core.history`), set by ``by`` and journalled
-    with the run. Once the idea's holdout was unlocked, the verdict says so in its last reason.
+    with the run. Once the idea's holdout was unlocked, the verdict says so in its last reason;
+    a run outside the pre-registration frozen at the first run says so too
+    (:meth:`Catalogue.check_preregistration`).
 
     Raises
     ------
     HunchbookError
         Bad rules or data (nothing is recorded), rules that are still the unedited starter
         template (a placeholder is never recorded as the idea), or a catalogue refusal (for
-        example an idea that has not been accepted for testing).
+        example an idea that has not been accepted for testing, or a run outside the
+        pre-registration in force: checked before the sweep).
     """
     if is_starter(rule_text):
         raise RuleError(STARTER_HINT, file=rule_file)
@@ -136,14 +139,16 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     else:
         boundary, default_reason = setting.boundary, None
     study = Study.from_text(rule_text, data_folder, file=rule_file, before=boundary)
+    # refused here, before the sweep, when the run lies outside the pre-registration in force
+    prereg = catalogue.check_preregistration(idea_id, rule_text, study.parameter_sets())
     history = catalogue.prospective_trials(idea_id, rule_text, study.parameter_sets())
     earlier = recompute_earlier_trials(history, data_folder, loaded=study.data, before=boundary,
                                        runner=runner, cancel=cancel)
     seen = catalogue.holdout_view(idea_id)
     report = study.sweep(runner=runner, progress=progress, cancel=cancel, earlier=earlier,
                          spa_reps=spa_reps,
-                         warnings=() if seen is None else (
-                             holdout_seen_warning(seen.seen_at, seen.seen_by),))
+                         warnings=(*prereg, *(() if seen is None else (
+                             holdout_seen_warning(seen.seen_at, seen.seen_by),))))
     chosen = study.run_set(report.sets[report.chosen])
     summary = report.summarise(chosen, currency=study.panel.currency,
                                data_folder=str(Path(data_folder)), holdout_boundary=boundary)

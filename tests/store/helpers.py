@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
@@ -12,7 +13,7 @@ from hunchbook.catalogue import CHECKLIST, Catalogue
 from hunchbook.core.metrics import summarise
 from hunchbook.core.results import ChosenSet, Performance, PnlFigures, RunSummary, SetSummary
 from hunchbook.core.stats import first_pass_statistics
-from hunchbook.core.verdict import Verdict
+from hunchbook.core.verdict import Check, Verdict
 
 RULES = """name = "Two averages"
 markets = ["CORN", "SOYBEAN"]
@@ -49,10 +50,12 @@ def daily_pnl(days: int = 300, seed: int = 1) -> pd.DataFrame:
 
 
 def run_summary(sets: list[dict[str, float]], sharpes: list[float | None], *,
-                chosen: int = 0, outcome: str = "no_edge", seed: int = 1) -> RunSummary:
+                chosen: int = 0, outcome: str = "no_edge", seed: int = 1,
+                warnings: Sequence[Check] = ()) -> RunSummary:
     """A results record for the store tests: statistics computed by the engine's code on
     generated P&L (one column per set, the chosen one being ``daily_pnl(seed=seed)``), the
-    given per-set net Sharpe ratios and a verdict with the given outcome."""
+    given per-set net Sharpe ratios and a verdict with the given outcome (and ``warnings``
+    among its checks and reasons)."""
     daily = daily_pnl(seed=seed)
     rng = np.random.default_rng(seed + 100)
     gross = np.column_stack([daily["gross_pnl"].to_numpy() if k == chosen
@@ -71,7 +74,8 @@ def run_summary(sets: list[dict[str, float]], sharpes: list[float | None], *,
     performance = Performance(**{**performance, "gross": PnlFigures(**performance["gross"]),
                                  "net": PnlFigures(**performance["net"])})
     verdict = Verdict(outcome=outcome, label=outcome.replace("_", " "), action="Do something.",
-                      reasons=("Gross result not significant.",), numbers={})
+                      reasons=("Gross result not significant.", *(w.finding for w in warnings)),
+                      numbers={}, checks=tuple(warnings))
     return RunSummary(name="Two averages", markets=("CORN", "SOYBEAN"), currency="USD",
                       data_folder="", sets=set_summaries,
                       chosen=ChosenSet(params=dict(sets[chosen]) if sets else {},
@@ -80,10 +84,12 @@ def run_summary(sets: list[dict[str, float]], sharpes: list[float | None], *,
 
 
 def run_args(sets: list[dict[str, float]], sharpes: list[float | None], *,
-             chosen: int = 0, outcome: str = "no_edge", seed: int = 1) -> dict[str, Any]:
+             chosen: int = 0, outcome: str = "no_edge", seed: int = 1,
+             warnings: Sequence[Check] = ()) -> dict[str, Any]:
     """Keyword arguments of ``Catalogue.record_run`` (apart from the idea, revision, by)."""
     return {
-        "summary": run_summary(sets, sharpes, chosen=chosen, outcome=outcome, seed=seed),
+        "summary": run_summary(sets, sharpes, chosen=chosen, outcome=outcome, seed=seed,
+                               warnings=warnings),
         "data_fingerprint": "f" * 64,
         "engine_version": "0.1.0",
         "daily_pnl": daily_pnl(seed=seed),
@@ -107,3 +113,16 @@ def desk(path: Path) -> Path:
                        **run_args([{"fast": 5.0, "slow": 50.0}], [0.4]))
         cat.add_entry(idea_id=idea, kind="note", text="Roll dates checked.", by="Theo")
     return path
+
+
+def amended_run(cat: Catalogue, idea: int, rule_text: str, sets: list[dict[str, float]],
+                sharpes: list[float | None], *, reason: str, by: str = "Nia",
+                **kwargs: Any) -> int:
+    """Amend the idea's pre-registration to the space of ``rule_text`` with ``reason``, then
+    record a run of these sets with the warning the catalogue asks for."""
+    cat.amend_preregistration(idea, by=by, reason=reason, rule_text=rule_text)
+    revision = cat.latest_revision(idea)
+    assert revision is not None and revision.text == rule_text
+    warnings = cat.check_preregistration(idea, rule_text, sets)
+    return cat.record_run(idea, revision_id=revision.id, by=by,
+                          **run_args(sets, sharpes, warnings=warnings, **kwargs))
