@@ -19,6 +19,7 @@ from typing import TYPE_CHECKING, Any
 from hunchbook import __version__
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
+from hunchbook.cli_committee import register as register_committee_commands
 from hunchbook.cli_holdout import register as register_holdout_commands
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.plain import json_safe
@@ -120,7 +121,7 @@ def _build_parser() -> argparse.ArgumentParser:
     stats.add_argument("--json", metavar="PATH", type=Path, help="write the statistics as JSON")
     stats.set_defaults(handler=_cmd_stats)
 
-    register_catalogue_commands(commands)
+    register_committee_commands(register_catalogue_commands(commands))
     register_holdout_commands(commands)
 
     data = commands.add_parser(
