@@ -22,7 +22,7 @@ from hunchbook.store.errors import CatalogueError
 if TYPE_CHECKING:
     from hunchbook.core.compare import FigurePair, RunComparison
 
-#: Width of the label column of the comparison's tables.
+#: Narrowest label column of the comparison's tables.
 LABEL_WIDTH = 34
 #: Width of each value column.
 VALUE_WIDTH = 13
@@ -83,7 +83,7 @@ def _amend(args: argparse.Namespace) -> int:
 
 
 def _compare(args: argparse.Namespace) -> int:
-    from hunchbook.core.compare import compare_runs
+    from hunchbook.core.compare import compare_runs, run_label
 
     with open_catalogue(args, read_only=True) as cat:
         runs = [cat.run(args.first), cat.run(args.second)]
@@ -94,7 +94,8 @@ def _compare(args: argparse.Namespace) -> int:
             raise CatalogueError(f"run {run.id} was recorded by an earlier version in another "
                                  "shape: it has no figures to compare; run the idea again",
                                  field="runs")
-    names = (run_name(runs[0]), run_name(runs[1]))
+    names = (run_label(runs[0].id, runs[0].idea_id, runs[0].revision_number),
+             run_label(runs[1].id, runs[1].idea_id, runs[1].revision_number))
     comparison = compare_runs(runs[0].result, runs[1].result, texts[0], texts[1],
                               names=names, context=max(args.context, 0))
     if args.json:
@@ -132,11 +133,6 @@ def _pack(args: argparse.Namespace) -> int:
 
 
 # -- text ----------------------------------------------------------------------------------
-def run_name(run: Any) -> str:
-    """A run's name in a comparison: ``run 3 (idea 2, rev 2)``."""
-    return f"run {run.id} (idea {run.idea_id}, rev {run.revision_number})"
-
-
 def comparison_text(comparison: RunComparison, titles: list[str]) -> str:
     """The comparison as the command line prints it."""
     a, b = comparison.names
@@ -166,11 +162,10 @@ def _figure_lines(pairs: tuple[FigurePair, ...]) -> list[str]:
         gross = "" if row.gross is None else format_value(row.gross, row.kind)
         return gross, format_value(row.net, row.kind)
 
+    width = max([LABEL_WIDTH, *(len(p.label) + 2 for p in pairs)])
     head = "".join(f"{h:>{VALUE_WIDTH}}" for h in ("A gross", "A net", "B gross", "B net"))
-    lines = [f"{'':<{LABEL_WIDTH}}{head}"]
+    lines = [f"{'':<{width}}{head}"]
     for pair in pairs:
         values = (*cells(pair.a), *cells(pair.b))
-        label = pair.label if len(pair.label) < LABEL_WIDTH else pair.label[:LABEL_WIDTH - 2]
-        lines.append(f"{label:<{LABEL_WIDTH}}"
-                     + "".join(f"{v:>{VALUE_WIDTH}}" for v in values))
+        lines.append(f"{pair.label:<{width}}" + "".join(f"{v:>{VALUE_WIDTH}}" for v in values))
     return lines

@@ -103,6 +103,11 @@ class RunComparison:
                 "diff": [d.unified() for d in self.diff]}
 
 
+def run_label(run_id: int, idea_id: int, revision: int) -> str:
+    """How a run is named in a comparison: ``run 3 (idea 2, rev 2)``."""
+    return f"run {run_id} (idea {idea_id}, rev {revision})"
+
+
 def compare_runs(a: RunSummary, b: RunSummary, rules_a: str, rules_b: str, *,
                  names: tuple[str, str] = ("run A", "run B"),
                  context: int = CONTEXT_LINES) -> RunComparison:

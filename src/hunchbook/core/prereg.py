@@ -27,7 +27,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
-from hunchbook.core.rules.model import ParamRange
+from hunchbook.core.rules.model import ParamRange, RuleSpec
 from hunchbook.core.verdict import Check, warning
 
 #: Key of the verdict check a run outside the pre-registration carries.
@@ -117,6 +117,24 @@ def declared_values(space: Mapping[str, Any]) -> dict[str, tuple[float, ...]]:
         else:
             values[name] = tuple(float(v) for v in declared)
     return values
+
+
+def declared_sets(rules: RuleSpec) -> list[dict[str, float]]:
+    """Every parameter set a rule file declares that its constraint allows (what a quick run
+    of it runs), without reading any data.
+
+    Raises
+    ------
+    RuleError
+        The constraint does not parse.
+    """
+    if not rules.constraint:
+        return list(rules.iter_grid())
+    from hunchbook.core.expr import parse_expression
+
+    constraint = parse_expression(rules.constraint, series_names=(),
+                                  param_names=rules.parameter_names)
+    return [params for params in rules.iter_grid() if constraint.evaluate({}, params) == 1.0]
 
 
 def describe_space(space: Mapping[str, Any]) -> str:

@@ -46,6 +46,7 @@ from hunchbook.gui.html_report import (
     _holdout_section,
     _idea_section,
     _table,
+    prereg_text,
     render_chart_images,
 )
 from hunchbook.store.records import (
@@ -54,7 +55,6 @@ from hunchbook.store.records import (
     Idea,
     Preregistration,
     Review,
-    RunPreregistration,
     RunRecord,
 )
 from hunchbook.store.vocab import CHECKLIST
@@ -68,7 +68,6 @@ FOOTER_INCHES = 0.25
 
 #: The print style sheet (and the pack's own styles).
 PACK_STYLE = """
-.flag { border-left: 6px solid #c48e00; background: #faf3e0; padding: 0.4em 0.8em; }
 .ok { color: #26804a; } .outside { color: #9a6f00; font-weight: bold; }
 p.figcaption { color: #666; font-size: 0.9em; }
 table.runs td, table.runs th, table.journal td, table.journal th { vertical-align: top; }
@@ -172,15 +171,6 @@ def readable_time(stamp: str | None, *, time: bool = True) -> str:
     if moment.tzinfo is not None:
         moment = moment.astimezone(dt.UTC)
     return f"{moment.day} {moment:%b %Y}" + (f", {moment:%H:%M} UTC" if time else "")
-
-
-def prereg_words(prereg: RunPreregistration | None) -> str:
-    """A run's place against its pre-registration, in a few words."""
-    if prereg is None:
-        return "not checked"
-    if prereg.within:
-        return "within"
-    return "OUTSIDE: " + prereg.scope.summary()
 
 
 def _summary(pack: ReviewPack) -> str:
@@ -357,7 +347,7 @@ def _record(pack: ReviewPack) -> str | None:
              ("Rules revision", run.revision_number),
              ("Parameter sets run", run.set_count),
              ("Trials counted for the idea", run.trial_count),
-             ("Pre-registration", prereg_words(run.preregistration)),
+             ("Pre-registration", prereg_text(run)),
              ("Data fingerprint", run.data_fingerprint),
              ("Holdout boundary", (result.holdout_boundary if result else None)
               or "none (the whole history)"),
