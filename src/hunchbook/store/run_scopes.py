@@ -77,8 +77,7 @@ def refusal(idea_id: int, scope: Scope) -> str:
     return (f"outside the pre-registration in force (version {scope.version}): "
             f"{scope.summary()}. Amend the pre-registration first, with a reason in your own "
             f"words - command line: hunchbook ideas amend {idea_id} --markets ... --rules "
-            "RULEFILE --reason \"...\"; window: Idea section, Amend with reason\u2026 (the "
-            "quick run offers it)")
+            "RULEFILE --reason \"...\"; window: Idea section, Amend with reason\u2026")
 
 
 def finding(db: Database, idea_id: int, in_force: Scope, first: Scope) -> str:

@@ -47,7 +47,7 @@ def _item(text: str, *, tip: str = "", align_right: bool = False) -> QTableWidge
     if tip:
         item.setToolTip(tip)
     if align_right:
-        item.setTextAlignment(int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter))
+        item.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
     return item
 
 
