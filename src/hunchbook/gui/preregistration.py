@@ -1,7 +1,10 @@
 """Quick runs against the pre-registration: a run outside the version in force is refused at
 once, before any data is read, with a box saying what lies outside and offering "Amend with
 reason…", which opens the Idea section's dialog with the editor's rules (their parameter space)
-and the markets the run needs proposed. The catalogue checks again when the run is recorded."""
+and the markets the run needs proposed. The catalogue checks again before the sweep and when
+the run is recorded; a grid larger than :data:`PRECHECK_LIMIT` sets is left to those checks (on
+the worker), so that the window never waits seconds for a check (``benchmarks/committee.py``:
+about 11 ms a thousand sets with a constraint)."""
 
 from __future__ import annotations
 
@@ -21,12 +24,19 @@ from hunchbook.store.run_scopes import rule_markets
 if TYPE_CHECKING:
     from hunchbook.gui.main_window import MainWindow
 
+#: Largest grid (sets before the constraint) checked on the UI thread before a quick run.
+PRECHECK_LIMIT = 20_000
+
 
 def run_refusal(catalogue: Catalogue, idea_id: int, rule_text: str) -> str | None:
     """Why a quick run of these rules would be refused by the pre-registration (one line), or
-    None (rules that do not parse are left to the rule check)."""
+    None (rules that do not parse are left to the rule check, grids over
+    :data:`PRECHECK_LIMIT` sets to the worker's check)."""
     try:
-        sets = declared_sets(parse_rules(rule_text))
+        rules = parse_rules(rule_text)
+        if rules.grid_size() > PRECHECK_LIMIT:
+            return None
+        sets = declared_sets(rules)
     except RuleError:
         return None
     try:
