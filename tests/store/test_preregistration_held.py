@@ -186,3 +186,24 @@ def test_runs_stored_before_the_check_existed_are_flagged_when_migrated(
         assert cat.schema_version() == SCHEMA_VERSION
         assert [r.preregistration for r in cat.runs(idea)] == recorded
         assert cat.check() == []
+
+
+def test_check_finds_a_flag_rewritten_behind_the_catalogues_back(cat_path) -> None:
+    """The rows are derived: ``catalogue check`` recomputes each and names a run whose flag
+    was changed or removed by a plain SQLite tool."""
+    with Catalogue(cat_path) as cat:
+        idea = accepted_idea(cat)
+        cat.record_run(idea, revision_id=cat.latest_revision(idea).id, by="Nia",
+                       **run_args(SETS, [0.2, 0.3]))
+        run_id = amended_run(cat, idea, WIDER, [{"fast": 20.0, "slow": 50.0}], [0.5],
+                             reason="A slower fast average is worth one trial")
+        assert cat.check() == []
+    conn = sqlite3.connect(cat_path)
+    conn.execute("DROP TRIGGER run_preregistration_no_update")
+    conn.execute("UPDATE run_preregistration SET within = 1, finding = '' WHERE run_id = ?",
+                 [run_id])
+    conn.commit()
+    conn.close()
+    with Catalogue(cat_path, read_only=True) as cat:
+        assert cat.check() == [f"pre-registration check of run(s) {run_id} does not match the "
+                               "runs and the pre-registration versions"]

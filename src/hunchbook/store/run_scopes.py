@@ -13,8 +13,9 @@ Before a run is recorded (:meth:`hunchbook.catalogue.Catalogue.record_run`) its 
 So nothing outside the pre-registration is recorded silently. The row (append-only) holds the
 version in force, whether the run lies within version 1, what lies outside and the warning's
 finding. It is derived from chained records (the run, its revision, the pre-registration
-versions), like the trials: :func:`derive` recomputes it for runs recorded before this table
-existed and for imported runs.
+versions), like the trials: :func:`derive` computes it for runs recorded before this table
+existed and for imported runs, and ``catalogue check`` recomputes every row
+(:func:`mismatches`).
 """
 
 from __future__ import annotations
@@ -98,11 +99,10 @@ def insert(db: Database, run_id: int, in_force: Scope, first: Scope, text: str) 
                 json.dumps(first.to_dict(), sort_keys=True), text])
 
 
-def derive(db: Database, run_id: int) -> None:
-    """Compute and keep the row of a run already stored (recorded before the table existed,
-    or imported), against the versions frozen by the time it was recorded; a run whose idea
-    had no pre-registration then, or whose pre-registered constraint does not parse, keeps
-    no row (shown as not checked)."""
+def expected(db: Database, run_id: int) -> tuple[Scope, Scope, str] | None:
+    """A stored run's place against its pre-registration, recomputed against the versions
+    frozen by the time it was recorded: (version in force, version 1, finding); None when its
+    idea had no pre-registration then or the pre-registered constraint does not parse."""
     row = db.execute("SELECT r.idea_id, r.parameter_sets, r.recorded_at, v.text FROM runs r "
                      "JOIN rule_revisions v ON v.id = r.revision_id WHERE r.id = ?",
                      [run_id]).fetchone()
@@ -111,9 +111,33 @@ def derive(db: Database, run_id: int) -> None:
         found = scopes(db, idea_id, markets=rule_markets(text),
                        parameter_sets=json.loads(sets), at=at)
     except CatalogueError:
-        return
+        return None
+    return None if found is None else (*found, finding(db, idea_id, *found))
+
+
+def derive(db: Database, run_id: int) -> None:
+    """Compute and keep the row of a run already stored (recorded before the table existed,
+    or imported; see :func:`expected`); a run with nothing to check against keeps no row
+    (shown as not checked)."""
+    found = expected(db, run_id)
     if found is not None:
-        insert(db, run_id, *found, finding(db, idea_id, *found))
+        insert(db, run_id, *found)
+
+
+def mismatches(db: Database) -> list[int]:
+    """Runs whose stored row differs from its recomputation, or that lack the row they
+    should have (for ``catalogue check``)."""
+    stored = {r[0]: r[1:] for r in db.execute(
+        f"SELECT run_id, version, within, scope, finding FROM {TABLE}")}
+    wrong = []
+    for (run_id,) in db.execute("SELECT id FROM runs ORDER BY id").fetchall():
+        found = expected(db, run_id)
+        want = None if found is None else (
+            found[0].version, int(found[1].within),
+            json.dumps(found[1].to_dict(), sort_keys=True), found[2])
+        if stored.get(run_id) != want:
+            wrong.append(run_id)
+    return wrong
 
 
 def read(row: Mapping[str, Any]) -> RunPreregistration | None:
