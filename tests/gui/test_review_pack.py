@@ -159,3 +159,15 @@ def test_a_pack_for_a_missing_folder_is_one_clear_error(pack, tmp_path) -> None:
         write_pack_pdf(tmp_path / "missing" / "pack.pdf", pack)
     with pytest.raises(HunchbookError, match="could not write it"):
         write_pack_html(tmp_path / "missing" / "pack.html", pack)
+
+
+def test_the_run_report_flags_a_run_outside_the_pre_registration(desk) -> None:
+    from hunchbook.gui.html_report import report_html
+
+    recorded, _ = desk
+    outside = report_html(idea=recorded.idea, run=recorded.one, rule_text="", images={})
+    within = report_html(idea=recorded.idea, run=recorded.two, rule_text="", images={})
+    finding = recorded.one.preregistration.finding
+    assert '<p class="flag"><strong>Flagged.</strong> ' + html.escape(finding) in outside
+    assert 'class="flag"' not in within
+    assert "within the pre-registration frozen at the first run (version 1 in force)" in within

@@ -55,6 +55,7 @@ def _table(headers: tuple[str, ...]) -> QTableWidget:
     table = QTableWidget(0, len(headers))
     table.setHorizontalHeaderLabels(list(headers))
     table.verticalHeader().hide()
+    table.verticalHeader().setDefaultSectionSize(table.fontMetrics().height() + 8)
     table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
     table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
     table.setAlternatingRowColors(True)

@@ -33,6 +33,9 @@ from hunchbook.gui.widgets.results_view import ResultsView
 from hunchbook.gui.workers import CallWorker, set_curves
 from hunchbook.store.records import RunRecord
 
+#: Gap between the compare buttons and the runs table (pixels).
+BUTTON_GAP = 4
+
 
 class RunsPanel(IdeaSection):
     """The Runs section: run history table (newest first) over a :class:`ResultsView` of the
@@ -103,6 +106,7 @@ class RunsPanel(IdeaSection):
         self.top = top = QWidget(self)
         top_layout = QVBoxLayout(top)
         top_layout.setContentsMargins(0, 0, 0, 0)
+        top_layout.setSpacing(BUTTON_GAP)
         buttons = QHBoxLayout()
         buttons.addStretch(1)
         buttons.addWidget(self.compare_button)
@@ -135,7 +139,8 @@ class RunsPanel(IdeaSection):
         self.empty.setVisible(not runs)
         rows = self.table.verticalHeader().defaultSectionSize() * min(max(len(runs), 1), 6)
         height = (self.table.horizontalHeader().sizeHint().height() + rows
-                  + 2 * self.table.frameWidth() + 2 + self.compare_button.sizeHint().height())
+                  + 2 * self.table.frameWidth() + 2 + self.compare_button.sizeHint().height()
+                  + BUTTON_GAP)
         total = sum(self.splitter.sizes()) or 800
         self.splitter.setSizes([height, max(total - height, 100)])
         if not runs:
