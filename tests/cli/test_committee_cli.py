@@ -128,7 +128,7 @@ def test_ideas_pack_writes_html_and_pdf_without_a_display(capsys, demo_catalogue
     data = pdf.read_bytes()
     pages = int(re.search(r"\((\d+) pages\)", out).group(1))
     assert data.startswith(b"%PDF") and pages > 3
-    # the PDF's page tree holds that many pages (PDF 1.7, section 7.7.3.2: /Type /Page)
+    # one page object (/Type /Page) per page (ISO 32000-1 = PDF 1.7, section 7.7.3.3) [memory]
     assert len(re.findall(rb"/Type\s*/Page\b", data)) == pages
     code, _, err = _cli(capsys, "ideas", "pack", "2", "--catalogue", str(demo_catalogue))
     assert code == 1 and "--html PATH" in err

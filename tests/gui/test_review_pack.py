@@ -116,8 +116,8 @@ def test_a_returned_review_reads_as_no_with_its_comments(desk) -> None:
 
 
 def test_the_print_style_sheet_breaks_pages_and_keeps_tables_whole(pack) -> None:
-    """CSS 2.1 paged media (section 13.3): page-break-before/-inside; the print block leaves
-    nothing interactive (links print as text)."""
+    """CSS 2.1 paged media (section 13.3 [memory]): page-break-before/-inside; the print
+    block leaves nothing interactive (links print as text)."""
     page = pack_html(pack)
     media = re.search(r"@media print \{(.*?)\n\}", page, flags=re.DOTALL).group(1)
     assert "h2.major { page-break-before: always" in media
@@ -142,8 +142,8 @@ def test_the_pdf_is_written_offscreen_with_pages_and_charts(pack, tmp_path) -> N
     path = tmp_path / "pack.pdf"
     pages = write_pack_pdf(path, pack)
     data = path.read_bytes()
-    assert data.startswith(b"%PDF-")  # PDF 1.7, section 7.5.2: the header line
-    # each page object is /Type /Page (PDF 1.7, section 7.7.3.3); the charts are images
+    assert data.startswith(b"%PDF-")  # ISO 32000-1 (PDF 1.7), 7.5.2 file header [memory]
+    # each page object is /Type /Page (same, 7.7.3.3) [memory]; the charts are images
     assert len(re.findall(rb"/Type\s*/Page\b", data)) == pages > 5
     assert len(re.findall(rb"/Subtype\s*/Image", data)) >= len(pack.images) > 0
     assert not list(tmp_path.glob(".*partial"))
