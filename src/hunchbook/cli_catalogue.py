@@ -280,8 +280,11 @@ def _ideas_show(args: argparse.Namespace) -> int:
         return 0
     print(_idea_text(idea))
     if prereg:
+        from hunchbook.core.prereg import describe_space
+
         print(f"Pre-registered {prereg[0].frozen_at[:10]} (version {prereg[-1].version}): "
-              f"parameter space {json.dumps(prereg[-1].parameter_space) or 'none'}")
+              f"markets {', '.join(prereg[-1].markets) or '(none)'}; parameter space "
+              f"{describe_space(prereg[-1].parameter_space)}")
     print(f"\nRule revisions ({len(revisions)}):")
     for r in revisions:
         print(f"  {r.number}  {r.saved_at[:16]}  {r.saved_by}  sha256 {r.sha256[:12]}")
@@ -290,8 +293,11 @@ def _ideas_show(args: argparse.Namespace) -> int:
         sharpe = "n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}"
         print(f"  run {run.id}  {run.recorded_at[:10]}  revision {run.revision_number}  "
               f"{run.set_count} set(s)  net SR {sharpe}  verdict {run.verdict_label}")
-        print(f"      pre-registration: {prereg_flag(run.preregistration)}")
-        for reason in (run.result.verdict.reasons if run.result else ()):
+        reasons = run.result.verdict.reasons if run.result else ()
+        flag = prereg_flag(run.preregistration)
+        print("      pre-registration: " + ("OUTSIDE (the verdict's warning below)"
+                                            if flag in reasons else flag))
+        for reason in reasons:
             print(f"      - {reason}")
     if seen is not None:
         print(f"\nHoldout seen by {seen.seen_by} on {seen.seen_at[:10]} (run {seen.run_id}): "
