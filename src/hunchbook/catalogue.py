@@ -27,9 +27,9 @@ Example
 API
 ---
 Ideas: ``add_idea``, ``idea``, ``update_idea``, ``list_ideas``, ``set_stage``,
-``preregistrations``. Rules: ``save_rules``, ``revisions``, ``latest_revision``,
-``revision``. Runs: ``record_run``, ``trial_count``, ``trial_sharpes``, ``runs``, ``run``,
-``promoted_pnl``.
+``preregistrations``, ``amend_preregistration``, ``check_preregistration``. Rules:
+``save_rules``, ``revisions``, ``latest_revision``, ``revision``. Runs: ``record_run``,
+``trial_count``, ``trial_sharpes``, ``runs``, ``run``, ``promoted_pnl``.
 Journal: ``add_entry``, ``correct_entry``, ``journal``. Reviews (idea and promotion reviews):
 ``review``, ``reviews``, ``next_step``. Families: ``set_variant_of``, ``variant_link``,
 ``family``. Desk rules: ``desk_setting``, ``desk_settings``, ``set_desk_setting``.
@@ -76,7 +76,6 @@ from __future__ import annotations
 import contextlib
 import datetime as dt
 import functools
-import json
 import math
 import os
 import sqlite3
@@ -90,6 +89,7 @@ if TYPE_CHECKING:
     from hunchbook.core.book import PromotedPnl
     from hunchbook.core.holdout import HoldoutFigures
     from hunchbook.core.results import RunSummary
+    from hunchbook.core.verdict import Check
 
 from hunchbook.store import (
     bundles,
@@ -104,6 +104,7 @@ from hunchbook.store import (
     opening,
     preregistration,
     promoted,
+    run_scopes,
     search,
     settings,
     validate,
@@ -293,7 +294,7 @@ class Catalogue:
                         f"{' and '.join(frozen_changes)} frozen by pre-registration at the "
                         f"first run ({frozen.frozen_at[:10]}); give a reason to change "
                         "it (a new pre-registration version is written)", field=f"idea {idea_id}")
-                reason = validate.text(reason, "reason")
+                reason = preregistration.person_reason(reason)
             at = self._now()
             lines = [ideas.describe_change(k, getattr(idea, k), v) for k, v in changed.items()]
             ideas.update(self.db, idea.id, changed, at=at)
@@ -364,13 +365,114 @@ class Catalogue:
         """The idea's pre-registration versions, oldest first (empty before its first run)."""
         return preregistration.versions(self.db, ideas.get(self.db, idea_id).id)
 
+    def amend_preregistration(self, idea_id: int, *, by: str, reason: str,
+                              rationale: str | None = None,
+                              markets: Sequence[str] | None = None,
+                              rule_text: str | None = None) -> Preregistration:
+        """Amend the idea's pre-registration after testing began and return the new version.
+
+        ``rationale`` and ``markets`` are the new values (None: unchanged); ``rule_text`` a
+        rule file whose ``[parameters]`` table becomes the pre-registered parameter space (kept
+        as the idea's next rule revision, or its latest when identical). ``reason`` says why,
+        in the words of the person amending (:func:`hunchbook.store.preregistration.
+        person_reason`: at least three words, never a text the program writes). The change and
+        the reason are journalled; trials keep counting. Runs outside version 1 are then
+        recorded, each with a verdict warning naming what lies outside and this amendment.
+
+        Raises
+        ------
+        CatalogueError
+            Before the first run (nothing is frozen: edit the idea), a reason that is not a
+            person's, a rule file that does not parse, or nothing that changes.
+        """
+        by = validate.name(by, "by")
+        reason = preregistration.person_reason(reason)
+        given = {k: v for k, v in (("rationale", rationale), ("markets", markets))
+                 if v is not None}
+        clean = ideas.clean_fields(given)
+        if rule_text is not None:
+            _check_rules_parse(idea_id, rule_text)
+        at = self._now()
+        with dbmod.write(self.db):
+            idea = ideas.get(self.db, idea_id)
+            last = preregistration.current(self.db, idea.id)
+            if last is None:
+                raise CatalogueError(
+                    f"idea {idea.id} has no pre-registration yet: its first run freezes the "
+                    "rationale, markets and parameter space; until then edit the idea and its "
+                    "rules freely", field=f"idea {idea.id}")
+            revision = revmod.get(self.db, last.revision_id)
+            lines = []
+            if rule_text is not None:
+                saved, created = revmod.save(self.db, idea.id, rule_text, by=by, at=at)
+                if created:
+                    journal.append(self.db, idea_id=idea.id, kind="edit", by=by, at=at,
+                                   text=f"Rule file saved as revision {saved.number} "
+                                        f"(SHA-256 {saved.sha256[:12]}).")
+                if saved.parameter_space != last.parameter_space:
+                    revision = saved
+                    lines.append(f"Parameter space {_space(last.parameter_space)} -> "
+                                 f"{_space(saved.parameter_space)} (rule revision "
+                                 f"{saved.number}).")
+            changed = {k: v for k, v in clean.items() if getattr(idea, k) != v}
+            if changed:
+                ideas.update(self.db, idea.id, changed, at=at)
+                journal.append(self.db, idea_id=idea.id, kind="edit", by=by, at=at,
+                               text="Edited. " + "; ".join(
+                                   ideas.describe_change(k, getattr(idea, k), v)
+                                   for k, v in changed.items()) + f". Reason: {reason}")
+                lines += [f"Changed {ideas.describe_change(k, getattr(idea, k), v)}."
+                          for k, v in changed.items()]
+            if not lines:
+                raise CatalogueError(
+                    f"nothing to amend: the rationale, markets and parameter space given are "
+                    f"those of pre-registration version {last.version}", field=f"idea {idea.id}")
+            preregistration.amend(self.db, ideas.get(self.db, idea.id), revision,
+                                  changed=lines, by=by, reason=reason, at=at,
+                                  trials=runmod.trial_count(self.db, idea.id))
+            new = preregistration.current(self.db, idea.id)
+        assert new is not None
+        return new
+
+    def check_preregistration(self, idea_id: int, rule_text: str,
+                              parameter_sets: Sequence[Mapping[str, float]]) -> tuple[Check, ...]:
+        """Check a run of this rule text with these parameter sets against the idea's
+        pre-registration before it runs, and return the verdict warnings it needs (one when
+        it lies outside the pre-registration frozen at the first run; definitions in
+        :mod:`hunchbook.core.prereg`). Writes nothing; :meth:`record_run` checks again.
+
+        Raises
+        ------
+        CatalogueError
+            The run lies outside the version in force (it needs an amendment with a reason
+            first: the message says what to amend and how), or, before the first run, the
+            rule file trades markets the idea does not name.
+        """
+        idea = ideas.get(self.db, idea_id)
+        markets = run_scopes.rule_markets(rule_text)
+        if preregistration.current(self.db, idea.id) is None:
+            _first_run_markets(idea, markets)
+            return ()
+        found = run_scopes.scopes(self.db, idea.id, markets=markets,
+                                  parameter_sets=parameter_sets)
+        assert found is not None
+        in_force, first = found
+        if not in_force.within:
+            raise CatalogueError(run_scopes.refusal(idea.id, in_force), field=f"idea {idea.id}")
+        if first.within:
+            return ()
+        from hunchbook.core.prereg import outside_warning
+
+        return (outside_warning(first, preregistration.amendments(self.db, idea.id,
+                                                                  upto=in_force.version)),)
+
     # -- rule revisions -------------------------------------------------------------------
     def save_rules(self, idea_id: int, rule_text: str, *, by: str) -> Revision:
         """Keep a rule file (TOML text) as the idea's next revision and return it.
 
-        Text identical to the latest revision returns that revision unchanged. After the first
-        run, a revision whose parameter space differs from the pre-registered one writes a new
-        pre-registration version and journal entry.
+        Text identical to the latest revision returns that revision unchanged. Saving never
+        amends the pre-registration: a run of a revision whose parameter space lies outside it
+        waits for :meth:`amend_preregistration` with a person's reason.
         """
         at = self._now()
         with dbmod.write(self.db):
@@ -380,20 +482,7 @@ class Catalogue:
                 journal.append(self.db, idea_id=idea.id, kind="edit", by=by, at=at,
                                text=f"Rule file saved as revision {revision.number} "
                                     f"(SHA-256 {revision.sha256[:12]}).")
-                self._follow_parameter_space(idea, revision, by=by, at=at,
-                                             why=f"rule revision {revision.number} saved")
         return revision
-
-    def _follow_parameter_space(self, idea: Idea, revision: Revision, *, by: str, at: str,
-                                why: str) -> None:
-        last = preregistration.current(self.db, idea.id)
-        if last is None or last.parameter_space == revision.parameter_space:
-            return
-        preregistration.amend(
-            self.db, ideas.get(self.db, idea.id), revision, by=by, at=at, reason=why,
-            changed=[f"Parameter space {_space(last.parameter_space)} -> "
-                     f"{_space(revision.parameter_space)}."],
-            trials=runmod.trial_count(self.db, idea.id))
 
     def revisions(self, idea_id: int) -> list[Revision]:
         """The idea's rule revisions, oldest first."""
@@ -417,10 +506,14 @@ class Catalogue:
         (date index; columns ``gross_pnl``, ``cost``, ``net_pnl``); see
         :func:`hunchbook.store.runs.clean`.
 
-        The first run freezes the pre-registration (rationale, markets, parameter space); a
-        run on a revision with another parameter space writes a new pre-registration version.
-        A run moves an ``accepted`` idea to ``tested``. A ``run`` journal entry carries the
-        verdict, its reasons and the trial count.
+        The first run freezes the pre-registration (rationale, markets, parameter space; an
+        idea that names no markets takes those its rule file trades). Every run is checked
+        against it (:mod:`hunchbook.store.run_scopes`): one outside the version in force is
+        refused (an amendment with a person's reason must come first); one outside version 1
+        is recorded and flagged, and its verdict must carry the warning saying so
+        (:meth:`check_preregistration` gives it). A run moves an ``accepted`` idea to
+        ``tested``. A ``run`` journal entry carries the verdict, its reasons and the trial
+        count.
         """
         clean = runmod.clean(summary=summary, data_fingerprint=data_fingerprint,
                              engine_version=engine_version, daily_pnl=daily_pnl)
@@ -436,13 +529,28 @@ class Catalogue:
             if revision.idea_id != idea.id:
                 raise CatalogueError(f"rule revision {revision.id} belongs to idea "
                                      f"{revision.idea_id}, not {idea.id}", field="revision_id")
+            markets = run_scopes.rule_markets(revision.text)
             if preregistration.current(self.db, idea.id) is None:
+                if not idea.markets:
+                    ideas.update(self.db, idea.id, {"markets": markets}, at=at)
+                    idea = ideas.get(self.db, idea.id)
+                _first_run_markets(idea, markets)
                 preregistration.freeze(self.db, idea, revision, by=by, at=at)
-            else:
-                self._follow_parameter_space(
-                    idea, revision, by=by, at=at,
-                    why=f"run on rule revision {revision.number}")
+            found = run_scopes.scopes(self.db, idea.id, markets=markets,
+                                      parameter_sets=clean.parameter_sets)
+            assert found is not None
+            in_force, first = found
+            if not in_force.within:
+                raise CatalogueError(run_scopes.refusal(idea.id, in_force),
+                                     field=f"idea {idea.id}")
+            if not first.within and not _warned(summary):
+                raise CatalogueError(
+                    f"the run lies outside the pre-registration frozen at the first run "
+                    f"({first.summary()}) but its verdict does not say so: give the verdict "
+                    "the warning of Catalogue.check_preregistration", field="summary.verdict")
             run_id = runmod.insert(self.db, idea.id, revision, clean, by=by, at=at)
+            run_scopes.insert(self.db, run_id, in_force, first,
+                              run_scopes.finding(self.db, idea.id, in_force, first))
             journal.append(self.db, idea_id=idea.id, kind="run", by=by, at=at,
                            text=_run_text(run_id, revision, clean,
                                           runmod.trial_count(self.db, idea.id),
@@ -842,8 +950,45 @@ def _check_rules_for_acceptance(idea_id: int, revision: Revision | None) -> None
                              "save the rules, or return it with comments", field=field) from None
 
 
+def _check_rules_parse(idea_id: int, rule_text: str) -> None:
+    """Refuse a rule file that does not parse as the one whose space is pre-registered."""
+    from hunchbook.core.errors import RuleError
+    from hunchbook.core.rules import parse_rules
+
+    try:
+        parse_rules(rule_text)
+    except RuleError as exc:
+        raise CatalogueError(f"the rule file does not parse ({exc}); fix it before "
+                             "pre-registering its parameter space", field=f"idea {idea_id}"
+                             ) from None
+
+
+def _first_run_markets(idea: Idea, markets: Sequence[str]) -> None:
+    """Refuse a first run trading markets the idea does not name (the first run freezes the
+    idea's markets; until then they are edited freely)."""
+    if not idea.markets:
+        return
+    extra = [m for m in markets if m not in idea.markets]
+    if extra:
+        raise CatalogueError(
+            f"the rule file trades {', '.join(extra)}, not among the idea's markets "
+            f"({', '.join(idea.markets)}); the first run freezes the idea's markets: add "
+            f"{', '.join(extra)} to them first (command line: hunchbook ideas edit {idea.id} "
+            f"--markets {','.join([*idea.markets, *extra])}; window: Idea section, Markets) "
+            "or trade only the idea's markets", field=f"idea {idea.id}")
+
+
+def _warned(summary: RunSummary) -> bool:
+    """Whether the verdict carries the warning of a run outside the pre-registration."""
+    from hunchbook.core.prereg import CHECK_KEY
+
+    return any(check.key == CHECK_KEY for check in summary.verdict.checks)
+
+
 def _space(space: dict[str, Any]) -> str:
-    return json.dumps(space, sort_keys=True) if space else "none"
+    from hunchbook.core.prereg import describe_space
+
+    return describe_space(space)
 
 
 def _holdout_text(run: RunRecord, figures: HoldoutFigures, by: str) -> str:

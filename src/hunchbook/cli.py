@@ -19,6 +19,7 @@ from typing import TYPE_CHECKING, Any
 from hunchbook import __version__
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
+from hunchbook.cli_committee import register as register_committee_commands
 from hunchbook.cli_desk import register as register_desk_command
 from hunchbook.cli_holdout import register as register_holdout_commands
 from hunchbook.cli_settings import register as register_settings_commands
@@ -122,7 +123,9 @@ def _build_parser() -> argparse.ArgumentParser:
     stats.add_argument("--json", metavar="PATH", type=Path, help="write the statistics as JSON")
     stats.set_defaults(handler=_cmd_stats)
 
-    register_settings_commands(register_catalogue_commands(commands))
+    groups = register_catalogue_commands(commands)
+    register_settings_commands(groups)
+    register_committee_commands(groups)
     register_holdout_commands(commands)
     register_desk_command(commands)
 

@@ -43,20 +43,22 @@ Handler = Callable[[argparse.Namespace], int]
 
 def register(subparsers: Any) -> dict[str, Any]:
     """Add ``ideas``, ``journal``, ``runs`` and ``catalogue`` to an argparse subparsers object;
-    return the ``ideas`` and ``catalogue`` groups (other modules add commands to them)."""
+    return the command groups by name (other modules add commands to them)."""
     ideas = _group(subparsers, "ideas", "the idea catalogue: list, show, add, edit, move, "
-                                        "review, promote, link, export and import ideas")
+                                        "review, promote, link, amend, pack, export and import "
+                                        "ideas")
     _ideas(ideas)
     _journal(_group(subparsers, "journal", "the research journal: add, list and correct "
                                            "entries"))
     runs = _group(subparsers, "runs", "runs recorded against ideas")
-    _command(runs, "list", "list recorded runs, newest last", _runs_list,
+    _command(runs, "list", "list recorded runs, newest last (pre-reg: whether each lies "
+             "within the pre-registration frozen at the first run)", _runs_list,
              "hunchbook runs list --idea 7",
              lambda p: p.add_argument("--idea", type=int, metavar="ID", help="only this idea"))
     catalogue = _group(subparsers, "catalogue", "catalogue upkeep: backup, check, demo, desk "
                                                 "settings")
     _catalogue(catalogue)
-    return {"ideas": ideas, "catalogue": catalogue}
+    return {"ideas": ideas, "runs": runs, "catalogue": catalogue}
 
 
 def _group(subparsers: Any, name: str, help_text: str) -> Any:
@@ -291,7 +293,8 @@ def _ideas_show(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps({"idea": _plain(idea), "revisions": [_plain(r) for r in revisions],
                           "preregistrations": [_plain(p) for p in prereg],
-                          "runs": [{**_plain(r), "result": r.result and r.result.to_dict()}
+                          "runs": [{**_plain(r), "result": r.result and r.result.to_dict(),
+                                    "preregistration": _prereg_plain(r.preregistration)}
                                    for r in runs],
                           "reviews": [_plain(r) for r in reviews],
                           "journal": [_plain(e) for e in entries],
@@ -308,8 +311,11 @@ def _ideas_show(args: argparse.Namespace) -> int:
     if len(family) > 1:
         print("\n" + "\n".join(family_lines(family)))
     if prereg:
+        from hunchbook.core.prereg import describe_space
+
         print(f"Pre-registered {prereg[0].frozen_at[:10]} (version {prereg[-1].version}): "
-              f"parameter space {json.dumps(prereg[-1].parameter_space) or 'none'}")
+              f"markets {', '.join(prereg[-1].markets) or '(none)'}; parameter space "
+              f"{describe_space(prereg[-1].parameter_space)}")
     print(f"\nRule revisions ({len(revisions)}):")
     for r in revisions:
         print(f"  {r.number}  {r.saved_at[:16]}  {r.saved_by}  sha256 {r.sha256[:12]}")
@@ -318,7 +324,11 @@ def _ideas_show(args: argparse.Namespace) -> int:
         sharpe = "n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}"
         print(f"  run {run.id}  {run.recorded_at[:10]}  revision {run.revision_number}  "
               f"{run.set_count} set(s)  net SR {sharpe}  verdict {run.verdict_label}")
-        for reason in (run.result.verdict.reasons if run.result else ()):
+        reasons = run.result.verdict.reasons if run.result else ()
+        flag = prereg_flag(run.preregistration)
+        print("      pre-registration: " + ("OUTSIDE (the verdict's warning below)"
+                                            if flag in reasons else flag))
+        for reason in reasons:
             print(f"      - {reason}")
         if run.result is not None and run.result.book is not None:
             from hunchbook.core.book_presenter import book_line
@@ -505,11 +515,34 @@ def _runs_list(args: argparse.Namespace) -> int:
     rows = [[str(r.id), str(r.idea_id), r.recorded_at[:10], str(r.revision_number),
              str(r.set_count), str(r.trial_count),
              "" if r.chosen_net_sharpe is None else f"{r.chosen_net_sharpe:.2f}",
-             r.verdict_label, r.recorded_by] for r in runs]
-    print(_table(["run", "idea", "date", "rev", "sets", "trials", "net SR", "verdict", "by"],
-                 rows))
+             r.verdict_label, _prereg_cell(r.preregistration), r.recorded_by] for r in runs]
+    print(_table(["run", "idea", "date", "rev", "sets", "trials", "net SR", "verdict",
+                  "pre-reg", "by"], rows))
     print(f"{len(runs)} run(s)")
+    for r in runs:
+        if r.preregistration is not None and not r.preregistration.within:
+            print(f"run {r.id}: {r.preregistration.finding}")
     return 0
+
+
+def prereg_flag(prereg: Any) -> str:
+    """A run's place against its pre-registration in words."""
+    if prereg is None:
+        return "not checked (recorded without a pre-registration to check against)"
+    if prereg.within:
+        return f"within (version {prereg.version} in force)"
+    return prereg.finding
+
+
+def _prereg_cell(prereg: Any) -> str:
+    return "?" if prereg is None else "within" if prereg.within else "OUTSIDE"
+
+
+def _prereg_plain(prereg: Any) -> dict[str, Any] | None:
+    if prereg is None:
+        return None
+    return {"version": prereg.version, "within": prereg.within,
+            "scope": prereg.scope.to_dict(), "finding": prereg.finding}
 
 
 def _cat_backup(args: argparse.Namespace) -> int:
@@ -572,3 +605,7 @@ def _table(headers: list[str], rows: list[list[str]]) -> str:
     lines += ["  ".join(c.ljust(w) for c, w in zip(r, widths, strict=True)).rstrip()
               for r in rows]
     return "\n".join(lines)
+
+
+#: How other command modules read comma-separated names and text files.
+names, read_text = _names, _read_text

@@ -122,15 +122,18 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     its common history held out; :mod:`hunchbook.core.history`), set by ``by`` and journalled
     with the run. The chosen set is compared with the promoted ideas (the idea itself left out;
     :mod:`hunchbook.core.book`): the record keeps the comparison, and the verdict warns when the
-    run is mostly the same bet as one of them or as their book. Once the idea's holdout was
-    unlocked, the verdict says so in its last reason.
+    run is mostly the same bet as one of them or as their book. A run outside the
+    pre-registration frozen at the first run says so too
+    (:meth:`Catalogue.check_preregistration`). Once the idea's holdout was unlocked, the verdict
+    says so in its last reason.
 
     Raises
     ------
     HunchbookError
         Bad rules or data (nothing is recorded), rules that are still the unedited starter
         template (a placeholder is never recorded as the idea), or a catalogue refusal (for
-        example an idea that has not been accepted for testing).
+        example an idea that has not been accepted for testing, or a run outside the
+        pre-registration in force: checked before the sweep).
     """
     if is_starter(rule_text):
         raise RuleError(STARTER_HINT, file=rule_file)
@@ -140,6 +143,8 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     else:
         boundary, default_reason = setting.boundary, None
     study = Study.from_text(rule_text, data_folder, file=rule_file, before=boundary)
+    # refused here, before the sweep, when the run lies outside the pre-registration in force
+    prereg = catalogue.check_preregistration(idea_id, rule_text, study.parameter_sets())
     history = catalogue.prospective_trials(idea_id, rule_text, study.parameter_sets())
     earlier = recompute_earlier_trials(history, data_folder, loaded=study.data, before=boundary,
                                        runner=runner, cancel=cancel)
@@ -149,9 +154,9 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     book = compare_with_book(chosen.portfolio["net_pnl"],
                              catalogue.promoted_pnl(exclude_idea=idea_id))
     seen = catalogue.holdout_view(idea_id)
-    report = report.rejudged(  # the facts found after the sweep, given together
-        [*book.warnings(), *([] if seen is None else
-                             [holdout_seen_warning(seen.seen_at, seen.seen_by)])])
+    report = report.rejudged(  # the facts beyond the statistics, given together
+        [*prereg, *book.warnings(), *([] if seen is None else
+                                      [holdout_seen_warning(seen.seen_at, seen.seen_by)])])
     summary = replace(report.summarise(chosen, currency=study.panel.currency,
                                        data_folder=str(Path(data_folder)),
                                        holdout_boundary=boundary), book=book)

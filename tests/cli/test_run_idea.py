@@ -13,6 +13,7 @@ from hunchbook.catalogue import Catalogue
 from hunchbook.cli import main
 from hunchbook.core.stats import deflated_sharpe
 from hunchbook.demo import write_demo_data
+from hunchbook.demo.rules import BOOK
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 
@@ -31,7 +32,7 @@ def catalogue_path(tmp_path):
         idea = cat.add_idea(title="Breakout on the demo book", hypothesis="Channels break.",
                             rationale="Slow diffusion of information.",
                             rationale_kind="behavioural", submitted_by="Theo Brackwater",
-                            markets=("CRUDE", "GOLD"), stage="submitted")
+                            markets=BOOK, stage="submitted")  # the example trades all 8
         cat.save_rules(idea, (EXAMPLES / "breakout.toml").read_text(), by="Theo Brackwater")
         cat.review(idea, reviewer="Ines Marwood", decision="accept", comments="Go.",
                    checklist={"rationale_not_data_mined": True, "markets_named": True,

@@ -59,7 +59,8 @@ capital = 1_000_000
 
 @dataclass(frozen=True)
 class RecordedRuns:
-    """The catalogue, the idea and its two recorded runs (read back from the store)."""
+    """The catalogue, the idea and its two recorded runs (read back from the store); ``one``
+    lies outside the pre-registration frozen at the first run (allowed by an amendment)."""
 
     path: Path
     data: Path
@@ -76,7 +77,7 @@ def record_runs(folder: Path) -> RecordedRuns:
         idea_id = cat.add_idea(title=HOSTILE_TITLE, hypothesis="Trends persist.",
                                rationale="Slow diffusion of information.",
                                rationale_kind="behavioural", submitted_by="Theo Brackwater",
-                               markets=("CRUDE", "GOLD"), stage="submitted")
+                               markets=("CRUDE", "GOLD", "CORN"), stage="submitted")
         cat.save_rules(idea_id, TWO_PARAMETER_RULES, by="Theo Brackwater")
         cat.review(idea_id, reviewer="Ines Marwood", decision="accept", comments="Go.",
                    checklist={"rationale_not_data_mined": True, "markets_named": True,
@@ -84,6 +85,10 @@ def record_runs(folder: Path) -> RecordedRuns:
                               "series_and_costs_stated": True})
         two = services.run_idea(cat, idea_id, TWO_PARAMETER_RULES, data, by="Ines Marwood",
                                 runner=InProcess(), spa_reps=100)
+        # another parameter space: amended first with a reason, so the run is recorded with
+        # the pre-registration warning
+        cat.amend_preregistration(idea_id, by="Ines Marwood", rule_text=ONE_PARAMETER_RULES,
+                                  reason="A one-parameter channel rule is simpler to judge")
         one = services.run_idea(cat, idea_id, ONE_PARAMETER_RULES, data, by="Ines Marwood",
                                 runner=InProcess(), spa_reps=100)
         return RecordedRuns(path=path, data=Path(data), idea=cat.idea(idea_id),

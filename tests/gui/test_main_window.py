@@ -39,6 +39,14 @@ n = { start = 5, stop = 400, step = 1 }
 position = "sign(close - mean(close, n))"
 """
 
+def _with_sweep_markets(window, idea_id: int) -> int:
+    """Name the markets of :data:`MANY_SETS` on the idea before its first run (which freezes
+    them: a first run on markets the idea does not name is refused)."""
+    window.catalogue.update_idea(idea_id, by="Test Reviewer",
+                                 markets=["TNOTE10", "EQIDX", "GOLD", "CRUDE"])
+    return idea_id
+
+
 HEAVY_RULES = """name = "Trend grid across the book"
 markets = ["CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN", "TNOTE10", "EQIDX"]
 
@@ -233,7 +241,7 @@ def test_cancelled_sweep_records_nothing_and_the_window_stays_usable(qtbot, wind
                                                                       short_data):
     """Cancel right after the start of a 396-set sweep: no run or revision is stored, the
     progress bar goes away, and a following run works."""
-    idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
+    idea_id = _with_sweep_markets(window, idea_id_by_title(window, ACCEPTED_TITLE))
     window.select_idea(idea_id)
     revisions = window.catalogue.revisions(idea_id)
     window.rules.editor.set_text(MANY_SETS)
@@ -289,7 +297,7 @@ def test_quick_run_works_off_the_ui_thread_while_the_ui_keeps_turning(qtbot, win
                 ui_turned.set()
 
     monkeypatch.setattr(services, "run_idea", run_idea)
-    idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
+    idea_id = _with_sweep_markets(window, idea_id_by_title(window, ACCEPTED_TITLE))
     window.select_idea(idea_id)
     window.rules.editor.set_text(MANY_SETS.replace("stop = 400", "stop = 40"))
     timer = QTimer(window, interval=10)

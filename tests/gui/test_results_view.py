@@ -249,6 +249,7 @@ def test_show_set_curves_overlays_the_set_dashed(view, runs):
 def test_one_parameter_space_shows_net_sharpe_against_the_parameter(view, runs, qtbot):
     """A one-parameter run gets a line of net Sharpe by value; clicking a point asks for it."""
     run = runs.one
+    view.resize(1200, 1000)  # room below the banner, which lists the pre-registration warning
     view.show_run(run, title="t")
     profile = view.charts.profile
     assert view.sweep_slot.currentWidget() is profile

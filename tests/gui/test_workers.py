@@ -14,7 +14,7 @@ from hunchbook.gui.workers import CallWorker, RunIdeaWorker, Worker, set_curves
 from tests.gui.desk_fixtures import ACCEPTED_TITLE, demo_catalogue_copy, short_demo_data
 
 RULES = """name = "Rates trend"
-markets = ["TNOTE10"]
+markets = ["CRUDE"]  # the accepted idea's market (a first run freezes it)
 
 [parameters]
 n = [20, 60]

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import zipfile
+from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
@@ -13,7 +14,7 @@ from hunchbook.catalogue import CHECKLIST, Catalogue
 from hunchbook.core.metrics import summarise
 from hunchbook.core.results import ChosenSet, Performance, PnlFigures, RunSummary, SetSummary
 from hunchbook.core.stats import first_pass_statistics
-from hunchbook.core.verdict import Verdict
+from hunchbook.core.verdict import Check, Verdict
 
 RULES = """name = "Two averages"
 markets = ["CORN", "SOYBEAN"]
@@ -50,10 +51,12 @@ def daily_pnl(days: int = 300, seed: int = 1) -> pd.DataFrame:
 
 
 def run_summary(sets: list[dict[str, float]], sharpes: list[float | None], *,
-                chosen: int = 0, outcome: str = "no_edge", seed: int = 1) -> RunSummary:
+                chosen: int = 0, outcome: str = "no_edge", seed: int = 1,
+                warnings: Sequence[Check] = ()) -> RunSummary:
     """A results record for the store tests: statistics computed by the engine's code on
     generated P&L (one column per set, the chosen one being ``daily_pnl(seed=seed)``), the
-    given per-set net Sharpe ratios and a verdict with the given outcome."""
+    given per-set net Sharpe ratios and a verdict with the given outcome (and ``warnings``
+    among its checks and reasons)."""
     daily = daily_pnl(seed=seed)
     rng = np.random.default_rng(seed + 100)
     gross = np.column_stack([daily["gross_pnl"].to_numpy() if k == chosen
@@ -72,7 +75,8 @@ def run_summary(sets: list[dict[str, float]], sharpes: list[float | None], *,
     performance = Performance(**{**performance, "gross": PnlFigures(**performance["gross"]),
                                  "net": PnlFigures(**performance["net"])})
     verdict = Verdict(outcome=outcome, label=outcome.replace("_", " "), action="Do something.",
-                      reasons=("Gross result not significant.",), numbers={})
+                      reasons=("Gross result not significant.", *(w.finding for w in warnings)),
+                      numbers={}, checks=tuple(warnings))
     return RunSummary(name="Two averages", markets=("CORN", "SOYBEAN"), currency="USD",
                       data_folder="", sets=set_summaries,
                       chosen=ChosenSet(params=dict(sets[chosen]) if sets else {},
@@ -81,10 +85,12 @@ def run_summary(sets: list[dict[str, float]], sharpes: list[float | None], *,
 
 
 def run_args(sets: list[dict[str, float]], sharpes: list[float | None], *,
-             chosen: int = 0, outcome: str = "no_edge", seed: int = 1) -> dict[str, Any]:
+             chosen: int = 0, outcome: str = "no_edge", seed: int = 1,
+             warnings: Sequence[Check] = ()) -> dict[str, Any]:
     """Keyword arguments of ``Catalogue.record_run`` (apart from the idea, revision, by)."""
     return {
-        "summary": run_summary(sets, sharpes, chosen=chosen, outcome=outcome, seed=seed),
+        "summary": run_summary(sets, sharpes, chosen=chosen, outcome=outcome, seed=seed,
+                               warnings=warnings),
         "data_fingerprint": "f" * 64,
         "engine_version": "0.1.0",
         "daily_pnl": daily_pnl(seed=seed),
@@ -133,3 +139,16 @@ def promote(cat: Catalogue, idea_id: int, *, reviewer: str = "Ines") -> int:
                  "holdout_seen": cat.holdout_view(idea_id) is not None}
     return cat.review(idea_id, reviewer=reviewer, checklist=checklist, decision="promote",
                       comments="Passes.")
+
+
+def amended_run(cat: Catalogue, idea: int, rule_text: str, sets: list[dict[str, float]],
+                sharpes: list[float | None], *, reason: str, by: str = "Nia",
+                **kwargs: Any) -> int:
+    """Amend the idea's pre-registration to the space of ``rule_text`` with ``reason``, then
+    record a run of these sets with the warning the catalogue asks for."""
+    cat.amend_preregistration(idea, by=by, reason=reason, rule_text=rule_text)
+    revision = cat.latest_revision(idea)
+    assert revision is not None and revision.text == rule_text
+    warnings = cat.check_preregistration(idea, rule_text, sets)
+    return cat.record_run(idea, revision_id=revision.id, by=by,
+                          **run_args(sets, sharpes, warnings=warnings, **kwargs))

@@ -17,6 +17,7 @@ from hunchbook.store.errors import CatalogueError
 from tests.store.helpers import (
     RULES,
     accepted_idea,
+    amended_run,
     bundle_members,
     run_args,
     table_counts,
@@ -34,9 +35,9 @@ def exported(cat: Catalogue, tmp_path: Path) -> tuple[int, Path]:
                               [0.3, None], chosen=0))
     entry = cat.add_entry(idea_id=idea, kind="note", text="Corn only?", by="Theo")
     cat.correct_entry(entry, "Corn and soybean, as declared.", by="Theo")
-    rev2 = cat.save_rules(idea, RULES.replace("fast = [5, 10]", "fast = [20]"), by="Nia")
-    cat.record_run(idea, revision_id=rev2.id, by="Ines",
-                   **run_args([{"fast": 20.0, "slow": 50.0}], [0.7], outcome="passes", seed=2))
+    amended_run(cat, idea, RULES.replace("fast = [5, 10]", "fast = [20]"),
+                [{"fast": 20.0, "slow": 50.0}], [0.7], outcome="passes", seed=2, by="Ines",
+                reason="The fast average of 20 days is the one the paper used")
     path = tmp_path / "idea.zip"
     cat.export_bundle(idea, path)
     return idea, path
@@ -116,7 +117,8 @@ def test_same_idea_appends_new_records_and_reports_conflicts_without_overwriting
         other.add_entry(idea_id=theirs, kind="note", text="Reviewer's own note", by="Ines")
     # Meanwhile the author adds a note and a revision, and exports again.
     cat.add_entry(idea_id=idea, kind="note", text="Author's later note", by="Nia")
-    cat.save_rules(idea, RULES.replace("slow = [50]", "slow = [80]"), by="Nia")
+    cat.amend_preregistration(idea, by="Nia", reason="A slower average suits the grain cycle",
+                              rule_text=RULES.replace("slow = [50]", "slow = [80]"))
     second = tmp_path / "idea-2.zip"
     cat.export_bundle(idea, second)
     with Catalogue(tmp_path / "reviewer.sqlite") as other:
@@ -140,8 +142,8 @@ def test_diverging_pre_registration_histories_are_reported_not_merged(
     idea, path = exported
     with Catalogue(tmp_path / "reviewer.sqlite") as other:
         theirs = other.import_bundle(path, by="Ines").idea_id
-        other.update_idea(theirs, by="Ines", markets=["CORN"], reason="reviewer's change")
-    cat.update_idea(idea, by="Nia", markets=["SOYBEAN"], reason="author's change")
+        other.update_idea(theirs, by="Ines", markets=["CORN"], reason="the reviewer drops soybeans")
+    cat.update_idea(idea, by="Nia", markets=["SOYBEAN"], reason="the author drops corn")
     second = tmp_path / "idea-2.zip"
     cat.export_bundle(idea, second)
     with Catalogue(tmp_path / "reviewer.sqlite") as other:

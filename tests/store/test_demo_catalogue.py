@@ -85,6 +85,13 @@ def test_every_stored_run_equals_its_re_run(demo: Catalogue, desk: Path,
                 fresh.set_variant_of(twins[stored.idea_id], twins[link.parent_id], by="t",
                                      reason="as in the demo")
         text = demo.revision(stored.revision_id).text
+        twin = twins[stored.idea_id]
+        # the demo's amendments made before this run, replayed with their reasons
+        made = len(fresh.preregistrations(twin))
+        for version in demo.preregistrations(stored.idea_id)[max(made, 1):]:
+            if version.frozen_at < stored.recorded_at:
+                fresh.amend_preregistration(twin, by="t", reason=version.reason,
+                                            rule_text=demo.revision(version.revision_id).text)
         again = run_idea(fresh, twins[stored.idea_id], text, desk / DATA_DIR, by="t",
                          runner=InProcess())
         record = demo.run(stored.id).result

@@ -173,6 +173,6 @@ def test_a_version_5_catalogue_migrates_with_no_boundary(tmp_path: Path) -> None
     path = tmp_path / "v5.sqlite"
     open_catalogue_db(path, stop_before=migration_names()[5]).close()
     with Catalogue(path) as cat:
-        assert cat.schema_version() == SCHEMA_VERSION
+        assert cat.schema_version() == SCHEMA_VERSION > 6
         assert cat.holdout_boundary() is None and cat.holdout_views() == []
         assert cat.check() == []

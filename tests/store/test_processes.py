@@ -36,7 +36,8 @@ for batch in range(100000):
             pnl = pd.DataFrame(np.full((2000, 3), float(batch)), index=days,
                                columns=["gross_pnl", "cost", "net_pnl"])
             cat.record_run(idea, revision_id=revision, by="writer", data_fingerprint="x",
-                           engine_version="t", summary=run_summary([{{"b": float(batch)}}], [0.1]),
+                           engine_version="t", summary=run_summary([{{"fast": 5.0, "slow": 50.0,
+                                                      "b": float(batch)}}], [0.1]),
                            daily_pnl=pnl)
     print(batch, flush=True)
 """
@@ -65,7 +66,10 @@ def test_sigkill_mid_batch_loses_nothing_committed(tmp_path: Path, kill_after: i
     path = tmp_path / "c.sqlite"
     with Catalogue(path) as cat:
         idea = accepted_idea(cat)
-        revision = cat.save_rules(idea, RULES, by="Nia").id
+        # every batch number the writer may reach lies in the pre-registered space
+        revision = cat.save_rules(idea, RULES.replace(
+            "slow = [50]", "slow = [50]\nb = { start = 0, stop = 3000, step = 3 }"),
+            by="Nia").id
     writer = subprocess.Popen([sys.executable, "-c", WRITER, str(path), str(idea),
                                str(revision)], stdout=subprocess.PIPE, text=True)
     assert writer.stdout is not None

@@ -12,7 +12,14 @@ from scipy.stats import norm
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.store.errors import CatalogueError
-from tests.store.helpers import RULES, accepted_idea, daily_pnl, run_args, run_summary
+from tests.store.helpers import (
+    RULES,
+    accepted_idea,
+    amended_run,
+    daily_pnl,
+    run_args,
+    run_summary,
+)
 
 
 def _grid(fast: list[float], slow: float = 50.0) -> list[dict[str, float]]:
@@ -72,7 +79,9 @@ def test_trials_are_distinct_strategy_and_parameter_pairs_across_revisions(
     revision 2 only reformats the file and widens the grid, so its fast 10 is the same trial
     and 40 is new; revision 3 changes the signal, so both of its sets are new trials."""
     idea = accepted_idea(cat)
-    rev1 = cat.save_rules(idea, RULES, by="Nia")
+    # the first run pre-registers every value tried below
+    rev1 = cat.save_rules(idea, RULES.replace("fast = [5, 10]", "fast = [5, 10, 20, 40]"),
+                          by="Nia")
     record = lambda rev, fast, sharpes: cat.record_run(  # noqa: E731
         idea, revision_id=rev.id, by="Nia", **run_args(_grid(fast), sharpes))
     record(rev1, [5.0, 10.0], [0.1, 0.2])
@@ -106,10 +115,9 @@ def test_trial_history_feeds_the_deflated_sharpe(cat: Catalogue) -> None:
     cat.record_run(idea, revision_id=rev1.id, by="Nia",
                    **run_args(_grid([5.0, 10.0]), [0.4, 0.9], chosen=1))
     dsr_first = _dsr(0.9, cat.trial_count(idea), cat.trial_sharpes(idea))
-    rev2 = cat.save_rules(idea, RULES.replace("mean(close, fast)", "ewm(close, fast)")
-                          .replace("fast = [5, 10]", "fast = [2, 3, 4, 6]"), by="Nia")
-    cat.record_run(idea, revision_id=rev2.id, by="Nia",
-                   **run_args(_grid([2.0, 3.0, 4.0, 6.0]), [-0.3, 0.1, 0.6, 0.2]))
+    amended_run(cat, idea, RULES.replace("mean(close, fast)", "ewm(close, fast)")
+                .replace("fast = [5, 10]", "fast = [2, 3, 4, 6]"), _grid([2.0, 3.0, 4.0, 6.0]),
+                [-0.3, 0.1, 0.6, 0.2], reason="Shorter exponential averages react faster")
     assert cat.trial_count(idea) == 6
     assert sorted(cat.trial_sharpes(idea)) == [-0.3, 0.1, 0.2, 0.4, 0.6, 0.9]
     dsr_all = _dsr(0.9, cat.trial_count(idea), cat.trial_sharpes(idea))

@@ -24,7 +24,7 @@ def filled(cat: Catalogue) -> dict[str, int]:
     }
     rev = cat.save_rules(ids["reversion"], RULES, by="Nia")
     cat.record_run(ids["reversion"], revision_id=rev.id, by="Theo",
-                   **run_args([{"fast": 5.0}], [0.1], outcome="lost_to_costs"))
+                   **run_args([{"fast": 5.0, "slow": 50.0}], [0.1], outcome="lost_to_costs"))
     cat.add_entry(idea_id=ids["flow"], kind="note", by="Theo",
                   text="Rebalancing calendars of large pension schemes attached.")
     return ids

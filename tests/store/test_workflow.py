@@ -8,7 +8,7 @@ import pytest
 
 from hunchbook.catalogue import CHECKLIST, TRANSITIONS, Catalogue
 from hunchbook.store.errors import CatalogueError
-from tests.store.helpers import RULES, accepted_idea, run_args
+from tests.store.helpers import RULES, accepted_idea, amended_run, run_args
 
 SET = [{"fast": 5.0, "slow": 50.0}]
 
@@ -184,11 +184,15 @@ def test_changing_a_frozen_field_writes_a_new_version_and_keeps_counting(cat: Ca
     assert versions[1].reason == "SOYBEAN data has a gap"
     entry = [e for e in cat.journal(idea) if e.kind == "preregistration"][-1]
     assert "version 2" in entry.text and "2 so far" in entry.text
-    # A revision with a new parameter space writes version 3 when saved.
-    rev2 = cat.save_rules(idea, RULES.replace("fast = [5, 10]", "fast = [5, 10, 20]"), by="Nia")
+    # A revision with a wider parameter space amends nothing when saved: its run waits for
+    # an amendment with a person's reason, which writes version 3.
+    wider = RULES.replace("fast = [5, 10]", "fast = [5, 10, 20]").replace(
+        '"CORN", "SOYBEAN"', '"CORN"')  # the pre-registered markets are now CORN alone
+    cat.save_rules(idea, wider, by="Nia")
+    assert len(cat.preregistrations(idea)) == 2
+    amended_run(cat, idea, wider, [{"fast": 20.0, "slow": 50.0}], [0.1],
+                reason="A slower fast average is worth one more trial")
     assert cat.preregistrations(idea)[-1].parameter_space["fast"] == [5.0, 10.0, 20.0]
-    cat.record_run(idea, revision_id=rev2.id, by="Nia",
-                   **run_args([{"fast": 20.0, "slow": 50.0}], [0.1]))
     assert cat.trial_count(idea) == 3
     assert len(cat.preregistrations(idea)) == 3
 

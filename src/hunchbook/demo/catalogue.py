@@ -201,6 +201,11 @@ class _Builder:
         self.note(i, NIA, f"{run.summary.verdict.label}: gross Sharpe {_gross(run)}, net "
                   f"{_net(run)}, best length {_chosen(run)}. Its neighbours are weaker; trying "
                   "every length from 10 to 200 to see whether a clearer edge shows up.")
+        yield "2025-01-24T16"
+        self.cat.amend_preregistration(
+            i, by=NIA, rule_text=demo_rules.BREAKOUT_WIDE,
+            reason="The best length sat near the short edge of the grid; every length from "
+                   "10 to 200 shows whether the edge is real or one lucky length")
         yield "2025-01-24T17"
         wide = self.run(i, NIA, demo_rules.BREAKOUT_WIDE)
         yield "2025-01-27T14"
@@ -302,6 +307,11 @@ class _Builder:
         yield "2025-03-14T14"
         self.note(i, NIA, f"As the verdict says: gross Sharpe {_gross(run)}, net {_net(run)}. "
                   "Slower windows and a wider buffer next; the trial count keeps counting.")
+        yield "2025-03-18T16"
+        self.cat.amend_preregistration(
+            i, by=NIA, rule_text=demo_rules.RATES_SLOW,
+            reason="Costs ate the fast version; slower windows and a no-trade buffer trade "
+                   "far less, as agreed with Ines")
         yield "2025-03-18T17"
         slow = self.run(i, NIA, demo_rules.RATES_SLOW)
         yield "2025-03-19T14"

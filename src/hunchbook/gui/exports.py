@@ -1,8 +1,10 @@
 """Exports and imports of the window: the shown run as an HTML report or its daily P&L as CSV,
-the current idea as a bundle file, and bundles imported into the catalogue."""
+the current idea's review pack (HTML or PDF) or bundle file, and bundles imported into the
+catalogue."""
 
 from __future__ import annotations
 
+import datetime as dt
 import os
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -14,6 +16,7 @@ from PySide6.QtWidgets import QFileDialog, QStyle
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.feedback import one_line
+from hunchbook.gui.review_pack import pack_from_catalogue, write_pack_html, write_pack_pdf
 from hunchbook.store.records import RunRecord
 
 if TYPE_CHECKING:
@@ -25,9 +28,9 @@ class Exports(QObject):
 
     Attributes
     ----------
-    report_action, pnl_action, bundle_action, import_action
-        "Export report", "Export P&L CSV", "Export idea bundle" and "Import bundle" (each asks
-        for a file, then calls the matching method).
+    report_action, pnl_action, pack_action, bundle_action, import_action
+        "Export report", "Export P&L CSV", "Export review pack", "Export idea bundle" and
+        "Import bundle" (each asks for a file, then calls the matching method).
     """
 
     def __init__(self, window: MainWindow) -> None:
@@ -39,6 +42,10 @@ class Exports(QObject):
             "Write the shown run as an HTML report", pix.SP_FileDialogDetailedView)
         self.pnl_action = make_action(window, "Export P&&L CSV\u2026", self.choose_pnl_path,
                                       None, "Write the shown run's daily P&L as CSV")
+        self.pack_action = make_action(
+            window, "Export review pack\u2026", self.choose_pack_path, None,
+            "Write the idea as a document for a committee (HTML or PDF): rationale, "
+            "pre-registration, reviews, runs, the shown run in full and the journal")
         self.bundle_action = make_action(
             window, "Export idea bundle\u2026", self.choose_bundle_export_path, None,
             "Write the idea with its history to a bundle file")
@@ -59,6 +66,29 @@ class Exports(QObject):
             self._window.show_error("Report not written", one_line(exc))
             return False
         self._window.status_message(f"Report written to {path}.")
+        return True
+
+    def export_pack(self, path: str | os.PathLike[str]) -> bool:
+        """Write the current idea's review pack, the shown run in full: PDF when the name
+        ends in ``.pdf``, else HTML."""
+        idea_id, catalogue = self._window.current_idea_id(), self._window.catalogue
+        if idea_id is None or catalogue is None:
+            return False
+        shown = self._window.runs.current_run()
+        try:
+            pack = pack_from_catalogue(
+                catalogue, idea_id, prepared=dt.datetime.now(dt.UTC),
+                run_id=shown.id if shown is not None and shown.idea_id == idea_id else None)
+            if Path(path).suffix.lower() == ".pdf":
+                pages = write_pack_pdf(path, pack)
+                done = f"Review pack written to {path} ({pages} pages)."
+            else:
+                write_pack_html(path, pack)
+                done = f"Review pack written to {path}."
+        except (HunchbookError, OSError) as exc:
+            self._window.show_error("Review pack not written", one_line(exc))
+            return False
+        self._window.status_message(done)
         return True
 
     def export_pnl_csv(self, path: str | os.PathLike[str]) -> bool:
@@ -121,6 +151,18 @@ class Exports(QObject):
             path = self._save_path("Export report", f"run-{run.id}.html", "HTML (*.html)")
             if path and self.export_report(path):
                 QDesktopServices.openUrl(QUrl.fromLocalFile(path))
+
+    def choose_pack_path(self) -> None:
+        """Ask where to write the current idea's review pack (HTML or PDF), write it and open
+        it."""
+        idea_id = self._window.current_idea_id()
+        if idea_id is None:
+            self._window.show_error("No idea selected", "Select an idea first.")
+            return
+        path = self._save_path("Export review pack", f"idea-{idea_id}-review-pack.pdf",
+                               "PDF (*.pdf);;HTML (*.html)")
+        if path and self.export_pack(path):
+            QDesktopServices.openUrl(QUrl.fromLocalFile(path))
 
     def choose_pnl_path(self) -> None:
         """Ask where to write the shown run's daily P&L."""

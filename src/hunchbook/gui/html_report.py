@@ -81,6 +81,7 @@ dt { font-weight: bold; } dd { margin: 0; white-space: pre-wrap; }
 pre { background: #f6f6f6; padding: 0.8em; overflow-x: auto; font-size: 0.9em; }
 figure { margin: 1em 0; } img { max-width: 100%; border: 1px solid #eee; }
 .caution { border-top: 1px solid #ddd; margin-top: 2em; padding-top: 0.6em; }
+.flag { border-left: 6px solid #c48e00; background: #faf3e0; padding: 0.4em 0.8em; }
 """
 
 
@@ -203,6 +204,25 @@ def _checks_table(checks: tuple[Check, ...]) -> str:
             f"<th>Finding</th></tr></thead><tbody>{rows}</tbody></table>")
 
 
+def prereg_text(run: RunRecord) -> str:
+    """A run against its idea's pre-registration, in words."""
+    prereg = run.preregistration
+    if prereg is None:
+        return "not checked (recorded without a pre-registration to check it against)"
+    if prereg.within:
+        return (f"within the pre-registration frozen at the first run (version "
+                f"{prereg.version} in force)")
+    return prereg.finding
+
+
+def _prereg_flag(run: RunRecord) -> str:
+    """A flag above the verdict of a run outside its pre-registration ('' otherwise)."""
+    prereg = run.preregistration
+    if prereg is None or prereg.within:
+        return ""
+    return f'<p class="flag"><strong>Flagged.</strong> {_e(prereg.finding)}</p>'
+
+
 def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str, bytes],
                 held_out: HoldoutView | None = None) -> str:
     """The report page as one HTML string (``images``: PNG bytes by chart name;
@@ -226,6 +246,7 @@ def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str,
                   ("Chosen set", format_params(dict(run.chosen_params))),
                   ("Parameter sets run", run.set_count),
                   ("Trials counted for the idea", run.trial_count),
+                  ("Pre-registration", prereg_text(run)),
                   ("Data fingerprint", run.data_fingerprint),
                   ("Holdout boundary", (result.holdout_boundary if result else None)
                    or "none (the whole history)"),
@@ -244,6 +265,7 @@ def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str,
 <p class="meta">Run {_e(run.id)} of {_e(run.recorded_at)} by {_e(run.recorded_by)}; rules
 revision {_e(run.revision_number)}; {_e(run.set_count)} parameter sets; {_e(run.trial_count)}
 trials counted for the idea.</p>
+{_prereg_flag(run)}
 <section class="verdict {_e(verdict.outcome)}">
 <div class="label">{_e(verdict.label)}</div>
 <p><strong>{_e(verdict.action)}</strong></p>

@@ -178,7 +178,8 @@ class MainWindow(QMainWindow):
 
         menus = (("&File", (self.new_idea_action, open_catalogue_action,
                             self.desk_settings.action, None, ex.import_action,
-                            ex.bundle_action, ex.report_action, ex.pnl_action, None,
+                            ex.bundle_action, ex.report_action, ex.pack_action, ex.pnl_action,
+                            None,
                             quit_action)),
                  ("&Idea", (run.run_action, run.cancel_action, self.save_rules_action,
                             self.find_action, None, self.holdout.unlock_action)),

@@ -23,7 +23,7 @@ from PySide6.QtCore import (
     QSortFilterProxyModel,
     Qt,
 )
-from PySide6.QtGui import QFont
+from PySide6.QtGui import QColor, QFont
 
 from hunchbook.core.verdict import LABELS
 from hunchbook.gui.charts.run_figures import verdict_text
@@ -318,11 +318,14 @@ def _idea_tests(filters: dict[str, str | None]) -> list[Callable[[IdeaSummary], 
 
 class RunTableModel(_RecordTableModel):
     """An idea's runs: number, when, rule revision, sets, chosen set, net Sharpe, verdict,
-    trials counted."""
+    trials counted, and whether it lies within the pre-registration frozen at the first run
+    (a run outside is marked in the warning colour, its finding in the tooltip)."""
 
     COLUMNS = ("Run", "Recorded", "Revision", "Sets", "Chosen set", "Net Sharpe", "Verdict",
-               "Trials")
-    RUN, RECORDED, REVISION, SETS, CHOSEN, SHARPE, VERDICT, TRIALS = range(8)
+               "Trials", "Pre-registration")
+    RUN, RECORDED, REVISION, SETS, CHOSEN, SHARPE, VERDICT, TRIALS, PREREG = range(9)
+    #: Colour of a run outside the pre-registration.
+    OUTSIDE_COLOUR = QColor(176, 120, 0)
 
     def set_runs(self, runs: Sequence[RunRecord]) -> None:
         """Show these runs."""
@@ -347,6 +350,8 @@ class RunTableModel(_RecordTableModel):
             return format_sharpe(run.chosen_net_sharpe)
         if column == self.VERDICT:
             return verdict_text(run).label
+        if column == self.PREREG:
+            return prereg_label(run)
         return str(run.trial_count)
 
     def _raw(self, run: RunRecord, column: int) -> Any:
@@ -356,10 +361,35 @@ class RunTableModel(_RecordTableModel):
         return raw[column] if column in raw else self._display(run, column)
 
     def _tooltip(self, run: RunRecord, column: int) -> Any:
+        if column == self.PREREG:
+            prereg = run.preregistration
+            if prereg is None:
+                return "Recorded without a pre-registration to check it against."
+            return prereg.finding or (f"Within the pre-registration frozen at the first run "
+                                      f"(version {prereg.version} in force).")
         return "\n".join(verdict_text(run).reasons) or None
 
     def _is_number(self, column: int) -> bool:
         return column in (self.RUN, self.REVISION, self.SETS, self.SHARPE, self.TRIALS)
+
+    def _extra(self, run: RunRecord, column: int, role: int) -> Any:
+        outside = run.preregistration is not None and not run.preregistration.within
+        if outside and role == Qt.ItemDataRole.ForegroundRole and column in (self.RUN,
+                                                                           self.PREREG):
+            return self.OUTSIDE_COLOUR
+        if outside and role == Qt.ItemDataRole.FontRole and column == self.PREREG:
+            font = QFont()
+            font.setBold(True)
+            return font
+        return None
+
+
+def prereg_label(run: RunRecord) -> str:
+    """The runs table's word for a run against its pre-registration."""
+    prereg = run.preregistration
+    if prereg is None:
+        return "not checked"
+    return "within" if prereg.within else "\u26a0 outside"
 
 
 class JournalModel(_RecordTableModel):

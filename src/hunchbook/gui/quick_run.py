@@ -6,10 +6,18 @@ from __future__ import annotations
 from typing import TYPE_CHECKING, Any
 
 from PySide6.QtCore import QObject, Signal
-from PySide6.QtWidgets import QLabel, QProgressBar, QPushButton, QStatusBar, QStyle
+from PySide6.QtWidgets import (
+    QLabel,
+    QMessageBox,
+    QProgressBar,
+    QPushButton,
+    QStatusBar,
+    QStyle,
+)
 
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.charts.run_figures import verdict_text
+from hunchbook.gui.preregistration import offer_amendment, run_refusal
 from hunchbook.gui.workers import RunIdeaWorker
 from hunchbook.starter import STARTER_HINT, is_starter
 from hunchbook.store.vocab import RUNNABLE_STAGES
@@ -49,6 +57,7 @@ class QuickRunner(QObject):
         super().__init__(window)
         self._window = window
         self._worker: RunIdeaWorker | None = None
+        self.refusal_box: QMessageBox | None = None
         pix = QStyle.StandardPixmap
         self.run_action = make_action(
             window, "Quick run", self.start, "Ctrl+R",
@@ -80,7 +89,9 @@ class QuickRunner(QObject):
         """Run the Rules section's text over the data folder on a worker and record the run.
 
         Refuses (with a dialog) when the rules have an error or are still the unedited
-        starter template, the idea is not accepted for testing, or no data folder is chosen.
+        starter template, the idea is not accepted for testing, no data folder is chosen, or
+        the run would lie outside the pre-registration in force (the dialog offers to amend
+        it with a reason).
         """
         window = self._window
         idea_id, catalogue = window.current_idea_id(), window.catalogue
@@ -107,6 +118,12 @@ class QuickRunner(QObject):
         if window.data_folder is None:
             window.show_error("No data folder", "Choose a data folder first (Data \u25b8 Data "
                               "folder\u2026), or drop one onto the window.")
+            return None
+        refusal = run_refusal(catalogue, idea.id, window.rules.text())
+        if refusal is not None:
+            window.status_message(refusal)
+            self.refusal_box = offer_amendment(window, idea.id, window.rules.text(), refusal)
+            self.failed.emit(refusal)
             return None
         worker = RunIdeaWorker(catalogue.path, idea.id, window.rules.text(),
                                window.data_folder, by=window.user, runner=window.sweep_runner)

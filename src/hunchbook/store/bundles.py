@@ -39,6 +39,7 @@ from hunchbook.store import (
     preregistration,
     reviews,
     revisions,
+    run_scopes,
     runs,
 )
 from hunchbook.store.bundle_read import FORMAT, FORMAT_VERSION, MANIFEST, read_bundle
@@ -221,8 +222,10 @@ def import_bundle(db: Database, path: str | os.PathLike[str], *, by: str,
             present["runs"] += 1
             continue
         _check_uuid_free(db, "runs", item["uuid"])
-        runs.insert(db, idea_id, revisions.get(db, rev_ids[item["revision"]]), item["run"],
-                    by=item["recorded_by"], at=item["recorded_at"], run_uuid=item["uuid"])
+        run_id = runs.insert(db, idea_id, revisions.get(db, rev_ids[item["revision"]]),
+                             item["run"], by=item["recorded_by"], at=item["recorded_at"],
+                             run_uuid=item["uuid"])
+        run_scopes.derive(db, run_id)  # against the pre-registration as it stood then
         added["runs"] += 1
     if content.holdout is not None:
         _import_holdout(db, idea_id, content.holdout, rev_ids, added, present, conflicts)

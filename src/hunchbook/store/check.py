@@ -1,7 +1,7 @@
 """Checking a catalogue: SQLite's own integrity and foreign-key checks, the schema version, the
-full-text index, the append-only records' hash chains and their trials, the revision hashes,
-the stored P&L, the variant links (no circles) and the denormalised trial counts (each idea's
-family's).
+full-text index, the append-only records' hash chains, their trials and each run's place
+against its pre-registration, the revision hashes, the stored P&L, the variant links (no
+circles) and the denormalised trial counts (each idea's family's).
 
 The check only reads, inside one read transaction (a consistent view while others write), so
 it works on a read-only file. SQLite's check of a full-text index is written as an ``INSERT``,
@@ -17,7 +17,17 @@ import sqlite3
 import uuid as uuidlib
 from collections.abc import Iterator
 
-from hunchbook.store import chain, families, holdout, migrations, pnl, revisions, runs, validate
+from hunchbook.store import (
+    chain,
+    families,
+    holdout,
+    migrations,
+    pnl,
+    revisions,
+    run_scopes,
+    runs,
+    validate,
+)
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.sqlite_lib import Database
 
@@ -92,6 +102,10 @@ def _records(db: Database) -> Iterator[str]:
             yield (f"{table}: row(s) {_ids(broken)} changed, replaced or removed after they "
                    "were written (their hash chain does not match)")
     yield from _trials(db)
+    wrong = run_scopes.mismatches(db)
+    if wrong:
+        yield (f"pre-registration check of run(s) {_ids(wrong)} does not match the runs and "
+               "the pre-registration versions")
     for rev_id, idea_id, text, digest in db.execute(
             "SELECT id, idea_id, text, sha256 FROM rule_revisions"):
         if revisions.sha256(text) != digest:

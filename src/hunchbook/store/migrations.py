@@ -29,6 +29,10 @@ Versions
    once per idea: who, when, why), ``desk_settings`` (desk rules such as ``one_person_desk``,
    one row per setting, the latest holds), both append-only and hash-chained; ``reviews``
    rebuilt to allow the promotion review's decisions (rows, ids and hashes kept).
+8. ``run_preregistration``: each run against its idea's pre-registration
+   (:mod:`hunchbook.store.run_scopes`): the version in force when it was recorded, whether it
+   lies within version 1 and what lies outside; append-only, derived like the trials, and
+   computed for the runs already stored..
 
 Files are opened, recognised and migrated by :mod:`hunchbook.store.opening`.
 """
@@ -412,6 +416,30 @@ def _families_and_four_eyes(db: Database) -> None:
     ])
     _append_only(db, _FAMILY_KEYS)
     db.execute("PRAGMA user_version = 7")
+
+
+@MIGRATIONS(name="0008_run_preregistration")
+def _run_preregistration(db: Database) -> None:
+    from hunchbook.store import run_scopes
+
+    table = run_scopes.TABLE
+    _run(db, [
+        f"""CREATE TABLE {table} (
+            run_id INTEGER PRIMARY KEY REFERENCES runs(id),
+            version INTEGER NOT NULL,
+            within INTEGER NOT NULL CHECK (within IN (0, 1)),
+            scope TEXT NOT NULL,
+            finding TEXT NOT NULL
+        ) STRICT""",
+        f"CREATE TRIGGER {table}_no_replace BEFORE INSERT ON {table} WHEN EXISTS (SELECT 1 "
+        f"FROM {table} WHERE run_id = new.run_id) " + _refusal(table),
+    ])
+    for action in ("UPDATE", "DELETE"):
+        db.execute(f"CREATE TRIGGER {table}_no_{action.lower()} BEFORE {action} ON {table} "
+                   + _refusal(table))
+    for (run_id,) in db.execute("SELECT id FROM runs ORDER BY id").fetchall():
+        run_scopes.derive(db, run_id)
+    db.execute(f"PRAGMA user_version = {migration_names().index('0008_run_preregistration') + 1}")
 
 
 #: The schema version this code writes (the number of migrations).

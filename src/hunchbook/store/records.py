@@ -10,6 +10,7 @@ if TYPE_CHECKING:
     import pandas as pd
 
     from hunchbook.core.holdout import HoldoutFigures
+    from hunchbook.core.prereg import Scope
     from hunchbook.core.results import RunSummary
 
 
@@ -103,12 +104,31 @@ class Preregistration:
 
 
 @dataclass(frozen=True)
+class RunPreregistration:
+    """A run against its idea's pre-registration: ``scope`` against version 1 (frozen at the
+    first run; ``scope.within`` says whether the run lies within it), ``version`` the version
+    in force when it was recorded (the run lay within that one), and ``finding`` the verdict
+    warning's sentence when it lies outside version 1 (empty when within)."""
+
+    version: int
+    scope: Scope
+    finding: str
+
+    @property
+    def within(self) -> bool:
+        """Whether the run lies within the pre-registration frozen at the first run."""
+        return self.scope.within
+
+
+@dataclass(frozen=True)
 class RunRecord:
     """One recorded run of an idea: its provenance and its results record (``result``; None
     for a run recorded by an earlier version in another shape). ``daily_pnl`` is decoded only
     by ``Catalogue.run``.
 
-    ``trial_count`` is the idea's trial count just after this run was recorded.
+    ``trial_count`` is the idea's trial count just after this run was recorded;
+    ``preregistration`` where it lies against the idea's pre-registration (None: not checked,
+    an imported run whose idea had none).
     """
 
     id: int
@@ -127,6 +147,7 @@ class RunRecord:
     recorded_at: str
     recorded_by: str
     daily_pnl: pd.DataFrame | None = field(default=None, compare=False)
+    preregistration: RunPreregistration | None = None
 
     @property
     def set_count(self) -> int:

@@ -31,7 +31,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from hunchbook.core.errors import RecordError
-from hunchbook.store import chain, families, pnl, validate
+from hunchbook.store import chain, families, pnl, run_scopes, validate
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import EarlierStrategy, Revision, RunRecord, TrialHistory
 from hunchbook.store.sqlite_lib import Database
@@ -233,8 +233,10 @@ def prospective_trials(db: Database, idea_id: int, strategy_key: str,
     return TrialHistory(total=len({(r[0], r[1]) for r in rows} | new), earlier=earlier)
 
 
-_SELECT = ("SELECT r.*, v.number AS revision_number FROM runs r "
-           "JOIN rule_revisions v ON v.id = r.revision_id")
+_SELECT = ("SELECT r.*, v.number AS revision_number, p.version AS pre_version, "
+           "p.scope AS pre_scope, p.finding AS pre_finding FROM runs r "
+           "JOIN rule_revisions v ON v.id = r.revision_id "
+           f"LEFT JOIN {run_scopes.TABLE} p ON p.run_id = r.id")
 
 
 def of_idea(db: Database, idea_id: int | None = None) -> list[RunRecord]:
@@ -269,4 +271,5 @@ def _record(row: dict[str, Any], *, with_pnl: bool) -> RunRecord:
         result=result, verdict_label=row["verdict_label"],
         chosen_params=json.loads(row["chosen_params"]),
         chosen_net_sharpe=row["chosen_net_sharpe"], trial_count=row["trial_count"],
-        recorded_at=row["recorded_at"], recorded_by=row["recorded_by"], daily_pnl=frame)
+        recorded_at=row["recorded_at"], recorded_by=row["recorded_by"], daily_pnl=frame,
+        preregistration=run_scopes.read(row))

@@ -1,18 +1,21 @@
 """The Idea section: an idea's own fields, autosaved through ``Catalogue.update_idea``.
 
 Edits are saved after a short quiet time (and before another idea is shown). After the first
-run, pre-registration freezes the rationale and the markets: they show read-only with a note,
-and the "Amend with reason" dialog changes them with a written reason (which the catalogue
-keeps as a new pre-registration version).
+run, pre-registration freezes the rationale, the markets and the parameter space: they show
+read-only with a note, and the "Amend with reason" dialog changes them with a reason the person
+types (``Catalogue.amend_preregistration`` keeps it as a new pre-registration version). The
+dialog offers the parameter space of the rules given (a refused quick run gives the editor's)
+or of the latest saved revision, when it differs from the pre-registered one.
 """
 
 from __future__ import annotations
 
-from collections.abc import Iterable
+from collections.abc import Iterable, Sequence
 from typing import Any
 
 from PySide6.QtCore import Qt, QTime, QTimer, Signal
 from PySide6.QtWidgets import (
+    QCheckBox,
     QComboBox,
     QDialog,
     QDialogButtonBox,
@@ -31,10 +34,12 @@ from PySide6.QtWidgets import (
 )
 
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.prereg import describe_space
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.sections.base import IdeaSection, SectionContext
 from hunchbook.gui.widgets.family_panel import FamilyPanel
 from hunchbook.store.records import Idea
+from hunchbook.store.revisions import analyse
 from hunchbook.store.vocab import RATIONALE_KINDS, SOURCE_KINDS
 
 #: Quiet time after the last edit before the idea is saved (ms).
@@ -87,19 +92,33 @@ class MarketPicker(QListWidget):
 
 
 class AmendDialog(QDialog):
-    """Change the frozen rationale and markets, with the reason for the change."""
+    """Change the frozen rationale, markets and (when ``rule_text`` is given) parameter space,
+    with the reason for the change.
 
-    def __init__(self, idea: Idea, library: Iterable[str], parent: QWidget | None = None) -> None:
+    ``space_note`` describes the rules' parameter space beside the pre-registered one;
+    ``propose_markets`` are ticked besides the idea's (those a refused run needs).
+    """
+
+    def __init__(self, idea: Idea, library: Iterable[str], parent: QWidget | None = None, *,
+                 rule_text: str | None = None, space_note: str = "",
+                 propose_markets: Sequence[str] = ()) -> None:
         super().__init__(parent)
         self.setWindowTitle("Amend the pre-registration")
         self.setObjectName("amendDialog")
+        self.rule_text = rule_text
         self.rationale = QPlainTextEdit(idea.rationale, self)
         self.markets = MarketPicker(self)
-        self.markets.set_markets(library, idea.markets)
+        self.markets.set_markets(library, dict.fromkeys([*idea.markets, *propose_markets]))
+        self.space = QCheckBox(f"Pre-register the rules' parameter space: {space_note}", self)
+        self.space.setObjectName("amendSpace")
+        self.space.setChecked(rule_text is not None)
+        self.space.setVisible(rule_text is not None)
         self.reason = QLineEdit(self)
-        self.reason.setPlaceholderText("Why the pre-registered idea changes (required)")
+        self.reason.setPlaceholderText("Why the pre-registered idea changes, in your own words "
+                                       "(required)")
         note = QLabel("The trial count keeps counting: amending after testing is recorded as "
-                      "a new pre-registration version.", self)
+                      "a new pre-registration version, with your reason. Runs outside the "
+                      "first version carry a warning in their verdict.", self)
         note.setWordWrap(True)
         buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Ok
                                    | QDialogButtonBox.StandardButton.Cancel, self)
@@ -112,12 +131,18 @@ class AmendDialog(QDialog):
         form.addRow(note)
         form.addRow("Rationale", self.rationale)
         form.addRow("Markets", self.markets)
+        form.addRow(self.space)
         form.addRow("Reason", self.reason)
         form.addRow(buttons)
 
     def changes(self) -> dict[str, Any]:
-        """The new rationale and markets."""
-        return {"rationale": self.rationale.toPlainText(), "markets": self.markets.chosen()}
+        """The new rationale and markets, and the rule text whose space is pre-registered
+        (when ticked)."""
+        changes: dict[str, Any] = {"rationale": self.rationale.toPlainText(),
+                                   "markets": self.markets.chosen()}
+        if self.rule_text is not None and self.space.isChecked():
+            changes["rule_text"] = self.rule_text
+        return changes
 
 
 class IdeaForm(IdeaSection):
@@ -263,26 +288,51 @@ class IdeaForm(IdeaSection):
         self.idea_changed.emit(idea.id)
         return True
 
-    def open_amend_dialog(self) -> AmendDialog | None:
-        """Open the dialog that changes frozen fields with a reason (window-modal)."""
-        if self._idea is None:
+    def open_amend_dialog(self, rule_text: str | None = None,
+                          markets: Sequence[str] = ()) -> AmendDialog | None:
+        """Open the dialog that changes frozen fields with a reason (window-modal).
+
+        ``rule_text`` (default: the latest saved revision) is offered for its parameter space
+        when that differs from the pre-registered one; ``markets`` are proposed ticked.
+        """
+        if self._idea is None or self.catalogue is None:
             return None
-        dialog = AmendDialog(self._idea, self._library, self)
+        if rule_text is None:
+            latest = self.catalogue.latest_revision(self._idea.id)
+            rule_text = latest.text if latest is not None else None
+        offered, note = None, ""
+        versions = self.catalogue.preregistrations(self._idea.id)
+        if rule_text is not None and versions:
+            try:
+                space = analyse(rule_text)[2]
+            except HunchbookError:
+                space = None
+            if space is not None and space != versions[-1].parameter_space:
+                offered = rule_text
+                note = (f"{describe_space(space)} (pre-registered now: "
+                        f"{describe_space(versions[-1].parameter_space)})")
+        dialog = AmendDialog(self._idea, self._library, self, rule_text=offered,
+                             space_note=note, propose_markets=markets)
         dialog.accepted.connect(lambda: self.amend_frozen(dialog.reason.text(),
                                                           **dialog.changes()))
         dialog.open()
         return dialog
 
     def amend_frozen(self, reason: str, **changes: Any) -> bool:
-        """Change frozen fields with a reason (a new pre-registration version)."""
+        """Amend the pre-registration with a reason: any of ``rationale``, ``markets`` and
+        ``rule_text`` (whose parameter space is pre-registered); a new version."""
         if self._idea is None or self.catalogue is None:
             return False
         try:
-            idea = self.catalogue.update_idea(self._idea.id, by=self.context.user, reason=reason,
-                                               **changes)
+            self.catalogue.amend_preregistration(
+                self._idea.id, by=self.context.user, reason=reason,
+                rationale=changes.get("rationale"), markets=changes.get("markets"),
+                rule_text=changes.get("rule_text"))
         except HunchbookError as exc:
             self.message.emit(f"Not amended: {one_line(exc)}")
+            self.error.emit("Pre-registration not amended", one_line(exc))
             return False
+        idea = self.catalogue.idea(self._idea.id)
         self._fill(idea)
         self.message.emit("Pre-registration amended; the reason is in the journal.")
         self.idea_changed.emit(idea.id)
@@ -321,8 +371,8 @@ class IdeaForm(IdeaSection):
         self.amend.setVisible(frozen)
         if frozen:
             self.frozen_note.setText(
-                f"Rationale and markets were frozen by pre-registration at the first run "
-                f"({idea.frozen_at[:10]}). Changing them needs a reason.")
+                f"Rationale, markets and parameter space were frozen by pre-registration at "
+                f"the first run ({idea.frozen_at[:10]}). Changing them needs a reason.")
 
     def _changes(self) -> dict[str, Any]:
         idea = self._idea

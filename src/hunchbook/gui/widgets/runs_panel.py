@@ -1,6 +1,8 @@
-"""The Runs section: an idea's run history with verdicts; the chosen run's results below (with
-the idea's held-out years), where a heatmap click overlays that parameter set's curves
-(computed on a worker, on the dates before the run's holdout boundary)."""
+"""The Runs section: an idea's run history with verdicts and pre-registration flags; the chosen
+run's results below (with the idea's held-out years), where a heatmap click overlays that
+parameter set's curves (computed on a worker, on the dates before the run's holdout
+boundary). Two selected runs, or the shown one and a run of any idea, open side by side
+(:mod:`hunchbook.gui.compare`)."""
 
 from __future__ import annotations
 
@@ -10,8 +12,10 @@ from PySide6.QtCore import QItemSelectionModel, QModelIndex, Qt, Signal
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QFrame,
+    QHBoxLayout,
     QHeaderView,
     QLabel,
+    QPushButton,
     QScrollArea,
     QSplitter,
     QTableView,
@@ -19,11 +23,18 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from hunchbook.core.errors import HunchbookError
+from hunchbook.gui.compare import comparison_dialog, run_picker
+from hunchbook.gui.feedback import one_line
 from hunchbook.gui.models import ID_ROLE, RunTableModel
 from hunchbook.gui.sections.base import IdeaSection
+from hunchbook.gui.widgets.compare_dialog import CompareDialog, RunPickerDialog
 from hunchbook.gui.widgets.results_view import ResultsView
 from hunchbook.gui.workers import CallWorker, set_curves
 from hunchbook.store.records import RunRecord
+
+#: Gap between the compare buttons and the runs table (pixels).
+BUTTON_GAP = 4
 
 
 class RunsPanel(IdeaSection):
@@ -56,7 +67,7 @@ class RunsPanel(IdeaSection):
         self.table.setModel(self.model)
         self.table.setSortingEnabled(True)
         self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
-        self.table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        self.table.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
         self.table.setAlternatingRowColors(True)
         self.table.setShowGrid(False)
         self.table.setWordWrap(False)
@@ -67,6 +78,17 @@ class RunsPanel(IdeaSection):
         header.setHighlightSections(False)
         self.table.sortByColumn(RunTableModel.RUN, Qt.SortOrder.DescendingOrder)
         self.table.selectionModel().currentRowChanged.connect(self._current_changed)
+        self.table.selectionModel().selectionChanged.connect(
+            lambda *_: self._update_compare())
+        self.compare_button = QPushButton("Compare the two selected runs", self)
+        self.compare_button.setObjectName("compareButton")
+        self.compare_button.setToolTip("Select two runs (Ctrl+click) and see them side by "
+                                       "side: figures, checks, curves and rule files")
+        self.compare_button.clicked.connect(self.compare_selected)
+        self.compare_any_button = QPushButton("Compare with a run of any idea\u2026", self)
+        self.compare_any_button.setObjectName("compareAnyButton")
+        self.compare_any_button.clicked.connect(self.compare_with_any)
+        self.compare_dialog: CompareDialog | None = None
         self.empty = QLabel("No runs yet. Write the rules, then press Ctrl+R for a quick run.",
                             self)
         self.empty.setObjectName("noRunsLabel")
@@ -84,6 +106,12 @@ class RunsPanel(IdeaSection):
         self.top = top = QWidget(self)
         top_layout = QVBoxLayout(top)
         top_layout.setContentsMargins(0, 0, 0, 0)
+        top_layout.setSpacing(BUTTON_GAP)
+        buttons = QHBoxLayout()
+        buttons.addStretch(1)
+        buttons.addWidget(self.compare_button)
+        buttons.addWidget(self.compare_any_button)
+        top_layout.addLayout(buttons)
         top_layout.addWidget(self.table)
         top_layout.addWidget(self.empty)
         self.splitter = QSplitter(Qt.Orientation.Vertical, self)
@@ -106,11 +134,13 @@ class RunsPanel(IdeaSection):
                        if idea_id is not None and self.catalogue is not None else "")
         self._run_ids = {r.id for r in runs}
         self.model.set_runs(runs)
+        self._update_compare()
         self.table.setVisible(bool(runs))
         self.empty.setVisible(not runs)
         rows = self.table.verticalHeader().defaultSectionSize() * min(max(len(runs), 1), 6)
         height = (self.table.horizontalHeader().sizeHint().height() + rows
-                  + 2 * self.table.frameWidth() + 2)
+                  + 2 * self.table.frameWidth() + 2 + self.compare_button.sizeHint().height()
+                  + BUTTON_GAP)
         total = sum(self.splitter.sizes()) or 800
         self.splitter.setSizes([height, max(total - height, 100)])
         if not runs:
@@ -143,6 +173,48 @@ class RunsPanel(IdeaSection):
     def current_run(self) -> RunRecord | None:
         """The run whose results are shown (daily P&L decoded), if any."""
         return self._run
+
+    def selected_run_ids(self) -> list[int]:
+        """The runs selected in the table, oldest first."""
+        rows = {i.row() for i in self.table.selectionModel().selectedRows()}
+        return sorted(int(self.model.index(r, 0).data(ID_ROLE)) for r in rows)
+
+    def compare_selected(self) -> CompareDialog | None:
+        """Open the two selected runs side by side (the older as A)."""
+        ids = self.selected_run_ids()
+        if len(ids) != 2:
+            self.message.emit("Select two runs to compare (Ctrl+click the second).")
+            return None
+        return self.compare(*ids)
+
+    def compare_with_any(self) -> RunPickerDialog | None:
+        """Ask for a run of any idea and open it beside the shown run (window-modal)."""
+        if self.catalogue is None or self._run is None:
+            return None
+        picker = run_picker(self.catalogue, self)
+        shown = self._run.id
+        picker.accepted.connect(lambda: picker.chosen() is not None
+                                and self.compare(shown, int(picker.chosen())))
+        picker.open()
+        return picker
+
+    def compare(self, first: int, second: int) -> CompareDialog | None:
+        """Open two runs side by side (A: ``first``; not modal)."""
+        if self.catalogue is None:
+            return None
+        try:
+            dialog = comparison_dialog(self.catalogue, first, second, self)
+        except HunchbookError as exc:
+            self.error.emit("Runs not compared", one_line(exc))
+            return None
+        self.compare_dialog = dialog
+        dialog.show()
+        return dialog
+
+    def _update_compare(self) -> None:
+        count = len(self.table.selectionModel().selectedRows())
+        self.compare_button.setEnabled(count == 2)
+        self.compare_any_button.setEnabled(self.model.rowCount() > 0)
 
     def _current_changed(self, current: QModelIndex, previous: QModelIndex) -> None:
         if current.isValid():

@@ -1,0 +1,45 @@
+"""Two runs' cumulative net P&L overlaid on one date axis (each from its stored daily P&L)."""
+
+from __future__ import annotations
+
+import pandas as pd
+import pyqtgraph as pg
+from PySide6.QtCore import Qt
+
+from hunchbook.gui.charts.axes import DATE_CHART_AXIS_WIDTH, AmountAxis
+from hunchbook.gui.charts.equity import smooth_long_series
+from hunchbook.gui.charts.run_figures import equity_curves
+from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
+
+
+class CompareEquityChart(pg.PlotWidget):
+    """Cumulative net P&L of run A (solid, the net colour) and run B (dashed, the accent
+    colour), named in the legend."""
+
+    def __init__(self, parent=None, *, theme: ChartTheme | None = None) -> None:
+        super().__init__(parent, axisItems={"bottom": pg.DateAxisItem(),
+                                            "left": AmountAxis("left")})
+        self.theme = theme or palette_theme()
+        style_plot(self, self.theme)
+        item = self.getPlotItem()
+        item.getAxis("left").setWidth(DATE_CHART_AXIS_WIDTH)
+        smooth_long_series(item)
+        self.legend = item.addLegend(offset=(10, 10), labelTextColor=self.theme.foreground,
+                                     brush=with_alpha(self.theme.background, 200))
+        self.curve_a = item.plot(name="A", pen=pg.mkPen(self.theme.net, width=2))
+        self.curve_b = item.plot(name="B", pen=pg.mkPen(self.theme.accent, width=2,
+                                                        style=Qt.PenStyle.DashLine))
+        item.addLine(y=0, pen=pg.mkPen(with_alpha(self.theme.foreground, 90)))
+        set_title(self, "Cumulative net P&L", self.theme)
+
+    def set_runs(self, daily_a: pd.DataFrame | None, daily_b: pd.DataFrame | None, *,
+                 names: tuple[str, str] = ("A", "B"), currency: str = "") -> None:
+        """Show two daily P&L tables (date index; ``net_pnl`` column) and name them."""
+        for curve, daily, name in ((self.curve_a, daily_a, names[0]),
+                                   (self.curve_b, daily_b, names[1])):
+            x, _gross, net = equity_curves(daily)
+            curve.setData(x, net)
+            self.legend.getLabel(curve).setText(name)
+        title = "Cumulative net P&L"
+        set_title(self, f"{title} ({currency})" if currency else title, self.theme)
+        self.getPlotItem().enableAutoRange()
