@@ -61,8 +61,7 @@ def desk(tmp_path):
     with Catalogue(path) as cat:
         for title in ("Breakout", "Breakout, a day late", "Breakout, a day late, alone"):
             idea = cat.add_idea(title=title, hypothesis="Channels break.",
-                                submitted_by="Theo Brackwater", markets=("CRUDE", "GOLD"),
-                                stage="submitted")
+                                submitted_by="Theo Brackwater", stage="submitted")
             cat.save_rules(idea, text, by="Theo Brackwater")
             cat.review(idea, reviewer="Ines Marwood", decision="accept", comments="Go.",
                        checklist=dict.fromkeys(CHECKLIST, True))

@@ -154,7 +154,7 @@ def test_a_run_of_another_idea_is_picked_to_compare(qtbot, window):
     picker = window.runs.compare_with_any()
     assert picker.isVisible() and picker.table.rowCount() == len(window.catalogue.runs())
     other = next(r for r in window.catalogue.runs() if r.idea_id != idea_id)
-    qtbot.keyClicks(picker.filter, "Two-average")
+    qtbot.keyClicks(picker.filter, "across the book")
     visible = [r for r in range(picker.table.rowCount()) if not picker.table.isRowHidden(r)]
     assert {picker.table.item(r, 0).text() for r in visible} == {"Two-average trend across "
                                                                   "the book"}

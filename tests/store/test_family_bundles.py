@@ -13,8 +13,8 @@ from hunchbook.catalogue import PROMOTION_CHECKLIST, Catalogue, CatalogueError
 from tests.store.helpers import RULES, accepted_idea, run_args, table_counts
 
 
-def _run(cat: Catalogue, idea: int, fasts: list[float]) -> None:
-    revision = cat.save_rules(idea, RULES, by="Nia")
+def _run(cat: Catalogue, idea: int, fasts: list[float], rules: str = RULES) -> None:
+    revision = cat.save_rules(idea, rules, by="Nia")
     cat.record_run(idea, revision_id=revision.id, by="Nia",
                    **run_args([{"fast": f, "slow": 50.0} for f in fasts], [0.2] * len(fasts),
                               outcome="passes"))
@@ -28,7 +28,7 @@ def family(tmp_path: Path) -> dict[str, Path]:
         _run(cat, parent, [5.0, 10.0])
         variant = accepted_idea(cat, "Grain trend, one more length")
         cat.set_variant_of(variant, parent, by="Nia", reason="Adds a third length.")
-        _run(cat, variant, [20.0])
+        _run(cat, variant, [20.0], RULES.replace("fast = [5, 10]", "fast = [5, 10, 20]"))
         assert cat.trial_count(variant) == 3
         paths = {"parent": tmp_path / "parent.zip", "variant": tmp_path / "variant.zip"}
         cat.export_bundle(parent, paths["parent"])
