@@ -169,7 +169,7 @@ def test_the_analysts_variant_is_told_it_is_the_promoted_trend_again(demo: Catal
     """The demo's faster variant of the promoted trend idea, run after the promotion, is told
     it is mostly the same bet as idea 1, at the correlation pandas computes from the two stored
     daily net P&L series (reference: pandas ``corr`` over the common dates); no other demo run
-    is the same bet as the promoted idea, and the variant was shelved for it."""
+    is the same bet as the promoted idea, and the variant was declined for promotion for it."""
     (variant,) = [i for i in demo.list_ideas() if i.title.startswith("Two-average trend with")]
     (trend,) = demo.list_ideas(stage="promoted")
     run = demo.run(demo.runs(variant.id)[-1].id)
@@ -181,7 +181,8 @@ def test_the_analysts_variant_is_told_it_is_the_promoted_trend_again(demo: Catal
     assert rho >= 0.8
     assert (f"Mostly the same bet as idea 1 ({trend.title}): correlation {rho:.2f} over "
             f"{len(joined):,} common days.") in run.result.verdict.reasons
-    assert variant.stage == "shelved"
+    assert variant.stage == "tested"  # declined for promotion, so it can be run again
+    assert demo.reviews(variant.id)[-1].decision == "decline"
     others = [demo.run(r.id).result for r in demo.runs() if r.idea_id != variant.id]
     assert not any(c.key.startswith("same_bet") for r in others for c in r.verdict.checks)
 

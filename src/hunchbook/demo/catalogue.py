@@ -443,9 +443,12 @@ class _Builder:
                   f"{book.sharpe_before:.2f} to {book.sharpe_after:.2f}. Not promoting a "
                   "second copy of the trend.", kind="decision")
         yield "2025-05-16T11"
-        self.stage(i, "shelved", INES, f"Mostly the same bet as idea {same.idea_id} "
-                   f"(correlation {same.correlation:.2f}); the faster lengths go into that "
-                   "idea's research instead.")
+        self.cat.review(i, reviewer=INES, decision="decline",
+                        checklist={**dict.fromkeys(PROMOTION_CHECKLIST, True),
+                                   "holdout_seen": False},
+                        comments=f"Mostly the same bet as idea {same.idea_id} (correlation "
+                                 f"{same.correlation:.2f}); the faster lengths go into that "
+                                 "idea's research instead.")
 
 
 def _gross(run: IdeaRun) -> str:
