@@ -16,7 +16,9 @@ from collections.abc import Callable
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from tests.store.helpers import RULES, run_args  # noqa: E402  (the store tests' run records)
 
 from hunchbook.catalogue import CHECKLIST, Catalogue
 
@@ -51,7 +53,8 @@ def build(path: Path, ideas: int, entries: int, runs: int) -> dict[str, float]:
                     cat.add_idea(title=f"Idea {k}: {_text(rng, 4)}", hypothesis=_text(rng, 10),
                                  rationale=_text(rng, 40), submitted_by=PEOPLE[k % 5],
                                  source_kind=("own", "paper", "book", "web", "colleague")[k % 5],
-                                 markets=list(rng.choice(MARKETS, 1 + k % 3, replace=False)),
+                                 markets=(["CORN", "SOYBEAN"] if k % 4 == 3 else
+                                          list(rng.choice(MARKETS, 1 + k % 3, replace=False))),
                                  tags=[TAGS[k % 8]], stage="submitted" if k % 4 else "draft")
         timings["build ideas"] = time.perf_counter() - start
         start = time.perf_counter()
@@ -63,23 +66,16 @@ def build(path: Path, ideas: int, entries: int, runs: int) -> dict[str, float]:
                                   by=PEOPLE[k % 5])
         timings["build journal"] = time.perf_counter() - start
         start = time.perf_counter()
-        days = pd.bdate_range("2015-01-01", periods=2_500, name="date")
         with cat.transaction():
-            for idea in range(4, 4 + runs * 4, 4):  # submitted ideas (k % 4 != 0)
-                cat.review(idea, reviewer="Ines Marwood", checklist=dict.fromkeys(CHECKLIST, True),
+            for idea in range(4, 4 + runs * 4, 4):  # submitted ideas (k % 4 != 0), on CORN
+                author = cat.idea(idea).submitted_by
+                cat.save_rules(idea, RULES, by=author)
+                reviewer = next(p for p in PEOPLE if p != author)  # four eyes
+                cat.review(idea, reviewer=reviewer, checklist=dict.fromkeys(CHECKLIST, True),
                            decision="accept", comments="ok")
-                rev = cat.save_rules(idea, f'markets = ["CORN"]\n[parameters]\nn = [{idea}]\n',
-                                     by="Nia Oduya-Fell")
-                gross = rng.normal(50, 1_000, len(days))
-                cat.record_run(idea, revision_id=rev.id, parameter_sets=[{"n": float(idea)}],
-                               data_fingerprint="bench", engine_version="bench",
-                               summary={"sets": [{"params": {"n": float(idea)},
-                                                  "net_sharpe": float(rng.normal())}]},
-                               statistics={}, verdict={"outcome": ("passes", "no_edge")[idea % 2],
-                                                       "label": "x", "reasons": []},
-                               chosen_params={"n": float(idea)}, by="Nia Oduya-Fell",
-                               daily_pnl=pd.DataFrame({"gross_pnl": gross, "cost": 10.0,
-                                                       "net_pnl": gross - 10.0}, index=days))
+                cat.record_run(idea, revision_id=cat.latest_revision(idea).id, by=author,
+                               **run_args([{"fast": 5.0, "slow": 50.0}], [float(rng.normal())],
+                                          seed=idea, outcome=("passes", "no_edge")[idea % 2]))
         timings["build runs"] = time.perf_counter() - start
     return timings
 
