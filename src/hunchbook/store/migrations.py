@@ -334,21 +334,13 @@ def _holdout(db: Database) -> None:
             row_hash TEXT
         ) STRICT""",
     ])
-    for table, keys in _HOLDOUT_KEYS.items():
-        for action in ("UPDATE", "DELETE"):
-            db.execute(f"CREATE TRIGGER {table}_no_{action.lower()} BEFORE {action} ON "
-                       f"{table} " + _refusal(table))
-        taken = " OR ".join(
-            f"EXISTS (SELECT 1 FROM {table} WHERE "
-            + " AND ".join(f"{column} = new.{column}" for column in key) + ")" for key in keys)
-        db.execute(f"CREATE TRIGGER {table}_no_replace BEFORE INSERT ON {table} WHEN {taken} "
-                   + _refusal(table))
+    _append_only(db, _HOLDOUT_KEYS)
     db.execute("PRAGMA user_version = 6")
 
 
 def _append_only(db: Database, tables: dict[str, tuple[tuple[str, ...], ...]]) -> None:
-    """Triggers refusing every update, delete and key-taking insert on these tables (as
-    version 6 wrote them for its own)."""
+    """Triggers refusing every update, delete and key-taking insert on these tables (versions
+    6 and 7)."""
     for table, keys in tables.items():
         for action in ("UPDATE", "DELETE"):
             db.execute(f"CREATE TRIGGER {table}_no_{action.lower()} BEFORE {action} ON "

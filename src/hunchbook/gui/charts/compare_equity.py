@@ -6,26 +6,19 @@ import pandas as pd
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
 
-from hunchbook.gui.charts.axes import DATE_CHART_AXIS_WIDTH, AmountAxis
-from hunchbook.gui.charts.equity import smooth_long_series
+from hunchbook.gui.charts.date_chart import DateChart
 from hunchbook.gui.charts.run_figures import equity_curves
-from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
+from hunchbook.gui.charts.theme import ChartTheme, set_title, with_alpha
 
 
-class CompareEquityChart(pg.PlotWidget):
+class CompareEquityChart(DateChart):
     """Cumulative net P&L of run A (solid, the net colour) and run B (dashed, the accent
     colour), named in the legend."""
 
     def __init__(self, parent=None, *, theme: ChartTheme | None = None) -> None:
-        super().__init__(parent, axisItems={"bottom": pg.DateAxisItem(),
-                                            "left": AmountAxis("left")})
-        self.theme = theme or palette_theme()
-        style_plot(self, self.theme)
+        super().__init__(parent, theme=theme)
         item = self.getPlotItem()
-        item.getAxis("left").setWidth(DATE_CHART_AXIS_WIDTH)
-        smooth_long_series(item)
-        self.legend = item.addLegend(offset=(10, 10), labelTextColor=self.theme.foreground,
-                                     brush=with_alpha(self.theme.background, 200))
+        self.legend = self.add_legend()
         self.curve_a = item.plot(name="A", pen=pg.mkPen(self.theme.net, width=2))
         self.curve_b = item.plot(name="B", pen=pg.mkPen(self.theme.accent, width=2,
                                                         style=Qt.PenStyle.DashLine))

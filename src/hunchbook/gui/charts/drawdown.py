@@ -9,25 +9,19 @@ import numpy as np
 import pandas as pd
 import pyqtgraph as pg
 
-from hunchbook.gui.charts.axes import DATE_CHART_AXIS_WIDTH, AmountAxis
-from hunchbook.gui.charts.equity import smooth_long_series
+from hunchbook.gui.charts.date_chart import DateChart
 from hunchbook.gui.charts.holdout_marks import BoundaryLine, continued, held_out_pen
 from hunchbook.gui.charts.run_figures import drawdown, epoch_seconds, equity_curves
-from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
+from hunchbook.gui.charts.theme import ChartTheme, set_title, with_alpha
 
 
-class DrawdownChart(pg.PlotWidget):
+class DrawdownChart(DateChart):
     """Net drawdown of the chosen set as a filled area below zero; the holdout line and the
     held-out drawdown (dashed, lighter) after it."""
 
     def __init__(self, parent=None, *, theme: ChartTheme | None = None) -> None:
-        super().__init__(parent, axisItems={"bottom": pg.DateAxisItem(),
-                                                 "left": AmountAxis("left")})
-        self.theme = theme or palette_theme()
-        style_plot(self, self.theme)
+        super().__init__(parent, theme=theme)
         item = self.getPlotItem()
-        item.getAxis("left").setWidth(DATE_CHART_AXIS_WIDTH)
-        smooth_long_series(item)
         self.curve = item.plot(pen=pg.mkPen(self.theme.drawdown, width=1.2), fillLevel=0.0,
                                brush=with_alpha(self.theme.drawdown, 70))
         self.held = item.plot(pen=held_out_pen(self.theme, width=1.2), fillLevel=0.0,

@@ -10,36 +10,23 @@ import pandas as pd
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
 
-from hunchbook.gui.charts.axes import DATE_CHART_AXIS_WIDTH, AmountAxis
+from hunchbook.gui.charts.date_chart import DateChart
 from hunchbook.gui.charts.holdout_marks import BoundaryLine, continued, held_out_pen
 from hunchbook.gui.charts.run_figures import epoch_seconds, equity_curves, format_params
-from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
+from hunchbook.gui.charts.theme import ChartTheme, set_title, with_alpha
 from hunchbook.store.pnl import WALK_FORWARD
 
 
-def smooth_long_series(item: pg.PlotItem) -> None:
-    """Keep long daily series fast: draw only what is in view, at most a peak envelope per
-    pixel."""
-    item.setClipToView(True)
-    item.setDownsampling(auto=True, mode="peak")
-
-
-class EquityChart(pg.PlotWidget):
+class EquityChart(DateChart):
     """Cumulative gross and net P&L of the chosen set; ``add_overlay`` draws another set's
     curves dashed, named in the legend; ``set_boundary`` the holdout line and
     ``set_held_out`` the held-out curves continuing the chosen set's after it. A daily table
     with the walk-forward column also draws the walk-forward test's out-of-sample net curve."""
 
     def __init__(self, parent=None, *, theme: ChartTheme | None = None) -> None:
-        super().__init__(parent, axisItems={"bottom": pg.DateAxisItem(),
-                                                 "left": AmountAxis("left")})
-        self.theme = theme or palette_theme()
-        style_plot(self, self.theme)
+        super().__init__(parent, theme=theme)
         item = self.getPlotItem()
-        item.getAxis("left").setWidth(DATE_CHART_AXIS_WIDTH)
-        smooth_long_series(item)
-        self.legend = item.addLegend(offset=(10, 10), labelTextColor=self.theme.foreground,
-                                     brush=with_alpha(self.theme.background, 200))
+        self.legend = self.add_legend()
         self.gross_curve = item.plot(name="Gross", pen=pg.mkPen(self.theme.gross, width=1.5))
         self.net_curve = item.plot(name="Net", pen=pg.mkPen(self.theme.net, width=2))
         item.addLine(y=0, pen=pg.mkPen(with_alpha(self.theme.foreground, 90)))
