@@ -4,8 +4,6 @@ means (the chart is among the report's charts). Every text is escaped."""
 
 from __future__ import annotations
 
-import html
-
 from hunchbook.core.book_presenter import (
     BOOK_COLUMNS,
     book_notes,
@@ -14,16 +12,14 @@ from hunchbook.core.book_presenter import (
     threshold_sentence,
 )
 from hunchbook.core.presenter import format_value
+from hunchbook.gui.html_parts import escaped as _e
+from hunchbook.gui.html_parts import table_html
 from hunchbook.gui.widgets.book_panel import NOT_COMPARED
 from hunchbook.store.records import RunRecord
 
 #: Caption of the chart in the report's charts.
 BOOK_CAPTION = ("Correlation of the chosen set's daily net P&L with each promoted idea and with "
                 "their book (the dashed line: the warning threshold).")
-
-
-def _e(value: object) -> str:
-    return html.escape("" if value is None else str(value), quote=True)
 
 
 def book_section(run: RunRecord) -> str:
@@ -34,21 +30,12 @@ def book_section(run: RunRecord) -> str:
     notes = "".join(f"<p>{_e(n)}</p>" for n in book_notes(book))
     if not book.ideas:
         return notes
-    table = book_table(book)
-    head = "".join(f'<th class="num" title="{_e(c.note)}">{_e(c.label)}</th>'
-                   for c in table.columns)
-    body = "".join(
-        f"<tr><td>{_e(name)}</td>" + "".join(
-            f'<td class="num">{_e(format_value(v, c.kind))}</td>'
-            for v, c in zip(values, table.columns, strict=True)) + "</tr>"
-        for name, values in table.rows)
     figures = "".join(
         f'<tr title="{_e(r.note)}"><td>{_e(r.label)}</td>'
         f'<td class="num">{_e(format_value(r.net, r.kind))}</td></tr>'
         for r in book_rows(book)) if book.book_ideas else ""
     meaning = "".join(f"<li><strong>{_e(x.label)}</strong>: {_e(x.note)}</li>"
                       for x in [*BOOK_COLUMNS, *(book_rows(book) if book.book_ideas else [])])
-    return (f"<table><thead><tr><th>{_e(table.head)}</th>{head}</tr></thead><tbody>{body}"
-            "</tbody></table>"
+    return (table_html(book_table(book), "")
             + (f"<table><tbody>{figures}</tbody></table>" if figures else "")
             + notes + f"<ul>{meaning}</ul><p>{_e(threshold_sentence(book))}</p>")

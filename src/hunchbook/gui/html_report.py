@@ -8,7 +8,6 @@ escaped.
 from __future__ import annotations
 
 import base64
-import html
 import os
 from pathlib import Path
 
@@ -19,7 +18,6 @@ from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.presenter import (
     HOLDOUT_HEADERS,
-    Table,
     holdout_rows,
     market_table,
     set_table,
@@ -36,6 +34,8 @@ from hunchbook.gui.charts.run_figures import (
 )
 from hunchbook.gui.charts.theme import light_theme
 from hunchbook.gui.html_book import BOOK_CAPTION, book_section
+from hunchbook.gui.html_parts import escaped as _e
+from hunchbook.gui.html_parts import table_html as _table
 from hunchbook.store.records import HoldoutView, Idea, RunRecord
 
 #: Pixel size of each chart image in the report (the sweep and book charts differ).
@@ -83,10 +83,6 @@ figure { margin: 1em 0; } img { max-width: 100%; border: 1px solid #eee; }
 .caution { border-top: 1px solid #ddd; margin-top: 2em; padding-top: 0.6em; }
 .flag { border-left: 6px solid #c48e00; background: #faf3e0; padding: 0.4em 0.8em; }
 """
-
-
-def _e(value: object) -> str:
-    return html.escape("" if value is None else str(value), quote=True)
 
 
 def png_bytes(widget: QWidget, size: tuple[int, int] = CHART_SIZE) -> bytes:
@@ -137,20 +133,6 @@ def _figures_table(rows: list[FigureRow], headers: tuple[str, str] = ("Gross", "
     return (f'<table><thead><tr><th>Figure</th><th class="num">{_e(headers[0])}</th>'
             f'<th class="num">{_e(headers[1])}</th>{head}</tr></thead><tbody>' + "".join(body)
             + "</tbody></table>")
-
-
-def _table(table: Table, empty: str) -> str:
-    if not table.rows:
-        return f"<p>{_e(empty)}</p>"
-    head = "".join(f'<th class="num" title="{_e(c.note)}">{_e(c.label)}</th>'
-                   for c in table.columns)
-    rows = "".join(
-        f"<tr><td>{_e(name)}</td>" + "".join(
-            f'<td class="num">{_e(format_value(v, c.kind))}</td>'
-            for v, c in zip(values, table.columns, strict=True)) + "</tr>"
-        for name, values in table.rows)
-    return (f"<table><thead><tr><th>{_e(table.head)}</th>{head}</tr></thead><tbody>{rows}"
-            "</tbody></table>")
 
 
 def _idea_section(idea: Idea) -> str:

@@ -38,15 +38,15 @@ from hunchbook.gui.charts.run_figures import (
     verdict_text,
 )
 from hunchbook.gui.html_book import book_section
+from hunchbook.gui.html_parts import escaped as _e
+from hunchbook.gui.html_parts import table_html as _table
 from hunchbook.gui.html_report import (
     _STYLE,
     CAPTIONS,
     _checks_table,
-    _e,
     _figures_table,
     _holdout_section,
     _idea_section,
-    _table,
     prereg_text,
     render_chart_images,
 )
