@@ -17,11 +17,11 @@ import statistics
 import sys
 import tempfile
 import time
-from collections.abc import Callable
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
+from benchmarks.timing import repeat_times  # noqa: E402
 from tests.store.helpers import RULES, run_args  # noqa: E402
 
 from hunchbook.catalogue import CHECKLIST, Catalogue  # noqa: E402
@@ -29,15 +29,6 @@ from hunchbook.catalogue import CHECKLIST, Catalogue  # noqa: E402
 MEMBERS = 50
 SETS = 40
 PEOPLE = ["Ines", "Theo", "Nia", "Ada", "Rui"]
-
-
-def _times(work: Callable[[], object], repeats: int) -> list[float]:
-    out = []
-    for _ in range(repeats):
-        start = time.perf_counter()
-        work()
-        out.append(time.perf_counter() - start)
-    return out
 
 
 def _show(label: str, seconds: list[float]) -> None:
@@ -106,17 +97,18 @@ def main(argv: list[str] | None = None) -> int:
         sets = [{"fast": float(5 + n), "slow": 50.0} for n in range(SETS)]
         deepest = family[9]
         for label, idea in (("lone idea", lone), (f"family of {MEMBERS}", deepest)):
-            _show(f"trial count ({label})", _times(lambda i=idea: cat.trial_count(i),
+            _show(f"trial count ({label})", repeat_times(lambda i=idea: cat.trial_count(i),
                                                    args.repeats))
-            _show(f"prospective trials ({label})", _times(
+            _show(f"prospective trials ({label})", repeat_times(
                 lambda i=idea: cat.prospective_trials(i, _rules(999), sets), args.repeats))
-            _show(f"family tree ({label})", _times(lambda i=idea: cat.family(i), args.repeats))
+            _show(f"family tree ({label})",
+                  repeat_times(lambda i=idea: cat.family(i), args.repeats))
         strategies = iter(range(1_000, 2_000))
         for label, idea in (("lone idea", lone), (f"family of {MEMBERS}", deepest)):
             _show(f"record a run of {SETS} new sets ({label})",
-                  _times(lambda i=idea: _rerun(cat, i, next(strategies)), args.repeats))
-        _show("list all 10,050 ideas", _times(cat.list_ideas, args.repeats))
-        _show("list ideas waiting for one person", _times(
+                  repeat_times(lambda i=idea: _rerun(cat, i, next(strategies)), args.repeats))
+        _show("list all 10,050 ideas", repeat_times(cat.list_ideas, args.repeats))
+        _show("list ideas waiting for one person", repeat_times(
             lambda: cat.list_ideas(waiting_for="Theo"), args.repeats))
     return 0
 

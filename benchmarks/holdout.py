@@ -15,10 +15,13 @@ from __future__ import annotations
 
 import argparse
 import statistics
+import sys
 import tempfile
 import time
-from collections.abc import Callable
 from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).parent))
+from timing import repeat_times  # noqa: E402
 
 from hunchbook.catalogue import CHECKLIST, Catalogue
 from hunchbook.core.history import common_history, default_boundary
@@ -38,15 +41,6 @@ slow = [120, 250]
 position = "sign(mean(close, fast) - mean(close, slow))"
 """
 MARKETS = ["CRUDE", "NATGAS", "GOLD", "COPPER", "CORN", "SOYBEAN", "TNOTE10", "EQIDX"]
-
-
-def _times(work: Callable[[], object], repeats: int) -> list[float]:
-    out = []
-    for _ in range(repeats):
-        start = time.perf_counter()
-        work()
-        out.append(time.perf_counter() - start)
-    return out
 
 
 def _show(label: str, seconds: list[float]) -> None:
@@ -77,11 +71,11 @@ def main() -> None:
         boundary = default_boundary(common_history(data))
         print(f"demo data 2008-2025, 8 markets; default boundary {boundary}")
         _show("default boundary (common history of every file)",
-              _times(lambda: default_boundary(common_history(data)), args.repeats))
+              repeat_times(lambda: default_boundary(common_history(data)), args.repeats))
         _show("read 8 markets, whole history, + fingerprint",
-              _times(lambda: data_fingerprint(load_data(data, MARKETS)), args.repeats))
+              repeat_times(lambda: data_fingerprint(load_data(data, MARKETS)), args.repeats))
         _show("read 8 markets, cut at the boundary, + fingerprint",
-              _times(lambda: data_fingerprint(load_data(data, MARKETS, before=boundary)),
+              repeat_times(lambda: data_fingerprint(load_data(data, MARKETS, before=boundary)),
                      args.repeats))
         _show("unlock an idea (6-set run's chosen set, 8 markets)",
               [_unlock_time(folder, data, k) for k in range(args.repeats)])
