@@ -205,6 +205,23 @@ def _prereg_flag(run: RunRecord) -> str:
     return f'<p class="flag"><strong>Flagged.</strong> {_e(prereg.finding)}</p>'
 
 
+def record_html(run: RunRecord, *, recorded_at: str) -> str:
+    """The run's provenance as a definition list (``recorded_at``: the time as shown)."""
+    result = run.result
+    items = [("Run", f"{run.id} ({run.uuid})"),
+             ("Recorded", f"{recorded_at} by {run.recorded_by}"),
+             ("Rules revision", run.revision_number),
+             ("Chosen set", format_params(dict(run.chosen_params))),
+             ("Parameter sets run", run.set_count),
+             ("Trials counted for the idea", run.trial_count),
+             ("Pre-registration", prereg_text(run)),
+             ("Data fingerprint", run.data_fingerprint),
+             ("Holdout boundary", (result.holdout_boundary if result else None)
+              or "none (the whole history)"),
+             ("Engine version", run.engine_version)]
+    return "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in items)
+
+
 def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str, bytes],
                 held_out: HoldoutView | None = None) -> str:
     """The report page as one HTML string (``images``: PNG bytes by chart name;
@@ -222,18 +239,7 @@ def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str,
                           "run.") if result else ""
     sets_html = _table(set_table(result), "No parameter sets were recorded for this "
                        "run.") if result else ""
-    provenance = [("Run", f"{run.id} ({run.uuid})"),
-                  ("Recorded", f"{run.recorded_at} by {run.recorded_by}"),
-                  ("Rules revision", run.revision_number),
-                  ("Chosen set", format_params(dict(run.chosen_params))),
-                  ("Parameter sets run", run.set_count),
-                  ("Trials counted for the idea", run.trial_count),
-                  ("Pre-registration", prereg_text(run)),
-                  ("Data fingerprint", run.data_fingerprint),
-                  ("Holdout boundary", (result.holdout_boundary if result else None)
-                   or "none (the whole history)"),
-                  ("Engine version", run.engine_version)]
-    provenance_html = "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in provenance)
+    provenance_html = record_html(run, recorded_at=run.recorded_at)
     return f"""<!DOCTYPE html>
 <html lang="en">
 <head>

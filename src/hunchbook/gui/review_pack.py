@@ -47,7 +47,7 @@ from hunchbook.gui.html_report import (
     _figures_table,
     _holdout_section,
     _idea_section,
-    prereg_text,
+    record_html,
     render_chart_images,
 )
 from hunchbook.store.records import (
@@ -342,18 +342,7 @@ def _record(pack: ReviewPack) -> str | None:
     run = pack.run
     if run is None:
         return None
-    result = run.result
-    items = [("Run", f"{run.id} ({run.uuid})"),
-             ("Recorded", f"{readable_time(run.recorded_at)} by {run.recorded_by}"),
-             ("Rules revision", run.revision_number),
-             ("Parameter sets run", run.set_count),
-             ("Trials counted for the idea", run.trial_count),
-             ("Pre-registration", prereg_text(run)),
-             ("Data fingerprint", run.data_fingerprint),
-             ("Holdout boundary", (result.holdout_boundary if result else None)
-              or "none (the whole history)"),
-             ("Engine version", run.engine_version)]
-    return "<dl>" + "".join(f"<dt>{_e(k)}</dt><dd>{_e(v)}</dd>" for k, v in items) + "</dl>"
+    return f"<dl>{record_html(run, recorded_at=readable_time(run.recorded_at))}</dl>"
 
 
 def _book(pack: ReviewPack) -> str | None:
