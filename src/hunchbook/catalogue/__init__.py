@@ -76,7 +76,6 @@ from __future__ import annotations
 import contextlib
 import datetime as dt
 import functools
-import math
 import os
 import sqlite3
 from collections.abc import Callable, Iterator, Mapping, Sequence
@@ -85,9 +84,11 @@ from typing import TYPE_CHECKING, Any
 
 import platformdirs
 
+from hunchbook.catalogue.holdout_api import HoldoutAPI
+from hunchbook.catalogue.review_api import NOTHING_HELD_OUT, ReviewsAPI
+
 if TYPE_CHECKING:
     from hunchbook.core.book import PromotedPnl
-    from hunchbook.core.holdout import HoldoutFigures
     from hunchbook.core.results import RunSummary
     from hunchbook.core.verdict import Check
 
@@ -97,7 +98,6 @@ from hunchbook.store import (
     desk,
     families,
     files,
-    holdout,
     ideas,
     journal,
     migrations,
@@ -110,29 +110,21 @@ from hunchbook.store import (
     validate,
 )
 from hunchbook.store import db as dbmod
-from hunchbook.store import reviews as reviewmod
 from hunchbook.store import revisions as revmod
 from hunchbook.store import runs as runmod
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import (
-    DeskSetting,
     Entry,
-    Family,
-    HoldoutBoundary,
-    HoldoutView,
     Idea,
     IdeaSummary,
     ImportReport,
     Preregistration,
-    Review,
     Revision,
     RunRecord,
     TrialHistory,
-    VariantLink,
 )
 from hunchbook.store.vocab import (
     CHECKLIST,
-    DESK_SETTINGS,
     FROZEN_FIELDS,
     PROMOTION_CHECKLIST,
     REVIEW_KINDS,
@@ -145,8 +137,8 @@ from hunchbook.store.vocab import (
 if TYPE_CHECKING:
     import pandas as pd
 
-__all__ = ["CHECKLIST", "PROMOTION_CHECKLIST", "REVIEW_KINDS", "STAGES", "TRANSITIONS",
-           "Catalogue", "CatalogueError", "default_catalogue_path"]
+__all__ = ["CHECKLIST", "NOTHING_HELD_OUT", "PROMOTION_CHECKLIST", "REVIEW_KINDS", "STAGES",
+           "TRANSITIONS", "Catalogue", "CatalogueError", "default_catalogue_path"]
 
 #: Environment variable that overrides the default catalogue location.
 CATALOGUE_ENV = "HUNCHBOOK_CATALOGUE"
@@ -175,15 +167,17 @@ def _explaining(method: Callable[..., Any]) -> Callable[..., Any]:
 
 
 def _explained(cls: type[Catalogue]) -> type[Catalogue]:
-    """Wrap every public method of the class with :func:`_explaining`."""
-    for name, member in list(vars(cls).items()):
-        if callable(member) and not name.startswith("_"):
-            setattr(cls, name, _explaining(member))
+    """Wrap every public method of the class and of the parts it is made of with
+    :func:`_explaining`."""
+    for klass in reversed(cls.__mro__[:-1]):
+        for name, member in list(vars(klass).items()):
+            if callable(member) and not name.startswith("_"):
+                setattr(cls, name, _explaining(member))
     return cls
 
 
 @_explained
-class Catalogue:
+class Catalogue(ReviewsAPI, HoldoutAPI):
     """An open catalogue file.
 
     Parameters
@@ -628,280 +622,6 @@ class Catalogue:
         """One journal entry by id."""
         return journal.get(self.db, validate.integer(entry_id, "entry id"))
 
-    # -- reviews --------------------------------------------------------------------------
-    def review(self, idea_id: int, *, reviewer: str, checklist: Mapping[str, bool],
-               decision: str, comments: str) -> int:
-        """Review an idea and return the review id.
-
-        Two kinds of review (``REVIEW_KINDS``), told apart by the decision:
-
-        - a submitted idea: ``checklist`` answers every item of ``CHECKLIST``; ``accept``
-          (every item ticked, and the idea's latest rule revision a valid rule file that is
-          not the unedited starter template; stage -> accepted) or ``return`` (comments
-          required; stage -> returned);
-        - a tested idea, the promotion review: ``checklist`` answers every item of
-          ``PROMOTION_CHECKLIST``; ``promote`` (every item ticked; ``holdout_seen`` only when
-          the idea's held-out years were unlocked, and left unticked only when there are none
-          to see: no boundary, or runs that already saw past it, which the review then says;
-          stage -> promoted) or ``decline`` (comments required; the idea stays tested).
-
-        The reviewer must not be the idea's author unless the desk setting
-        ``one_person_desk`` is on; such a review is recorded as made by the author and its
-        journal entry says so. The review, and the stage change with the comments as its
-        reason, are journalled.
-        """
-        reviewer = validate.name(reviewer, "reviewer")
-        kind_name = reviewmod.kind_of(decision)
-        kind = REVIEW_KINDS[kind_name]
-        answers = reviewmod.clean_checklist(checklist, kind=kind_name)
-        comments = validate.text(comments, "comments", required=False)
-        at = self._now()
-        with dbmod.write(self.db):
-            idea = ideas.get(self.db, idea_id)
-            waived = ("holdout_seen",) if kind_name == "promotion" and not answers.get(
-                "holdout_seen") and self._nothing_held_out(idea.id) else ()
-            decision = reviewmod.check_decision(decision, answers, comments, waived=waived)
-            if waived and decision == "promote":
-                comments = (f"{comments} " if comments else "") + NOTHING_HELD_OUT
-            if idea.stage != kind.stage:
-                what = "promotion reviews are for tested ideas" if kind_name == "promotion" \
-                    else "only submitted ideas are reviewed"
-                raise CatalogueError(f"idea {idea.id} is '{idea.stage}'; {what}",
-                                     field=f"idea {idea.id}")
-            problem = settings.author_review_problem(self.db, idea.submitted_by, reviewer)
-            if problem is not None:
-                raise CatalogueError(problem, field=f"idea {idea.id}")
-            if decision == "accept":
-                _check_rules_for_acceptance(idea.id, revmod.latest(self.db, idea.id))
-            if answers.get("holdout_seen") and holdout.view(self.db, idea.id,
-                                                            with_pnl=False) is None:
-                raise CatalogueError(
-                    f"the held-out years of idea {idea.id} have not been unlocked, so they "
-                    "cannot have been seen: unlock them first, or leave holdout_seen unticked "
-                    "and decline", field="checklist.holdout_seen")
-            review_id = reviewmod.insert(self.db, idea.id, reviewer=reviewer, checklist=answers,
-                                         decision=decision, comments=comments, at=at)
-            by_author = settings.same_person(reviewer, idea.submitted_by)
-            journal.append(self.db, idea_id=idea.id, kind="review", by=reviewer, at=at,
-                           text=reviewmod.journal_text(answers, decision, comments,
-                                                       by_author=by_author))
-            if kind_name == "idea" and idea.reviewer is None:
-                ideas.update(self.db, idea.id, {"reviewer": reviewer}, at=at)
-            stage = kind.decisions[decision]
-            if stage is not None:
-                ideas.set_stage(self.db, idea.id, stage, by=reviewer, at=at,
-                                reason=f"Review {review_id}: {comments or 'checklist complete.'}")
-            else:
-                self.db.execute("UPDATE ideas SET updated_at = ? WHERE id = ?", [at, idea.id])
-        return review_id
-
-    def _nothing_held_out(self, idea_id: int) -> bool:
-        """True when no held-out years are left unseen for the idea to see: the catalogue has
-        no boundary, or one of its runs already saw past it (runs made before holdouts)."""
-        current = holdout.current(self.db)
-        return current is None or any(edge is None or edge > current.boundary
-                                      for _, edge in holdout.run_boundaries(self.db, idea_id))
-
-    def acceptance_problem(self, idea_id: int) -> str | None:
-        """Why the idea cannot be accepted for testing yet as far as its rules go (no rule
-        file, the unedited starter template, or rules that do not parse), or ``None``."""
-        idea = ideas.get(self.db, idea_id)
-        try:
-            _check_rules_for_acceptance(idea.id, revmod.latest(self.db, idea.id))
-        except CatalogueError as exc:
-            return exc.problem
-        return None
-
-    def reviews(self, idea_id: int) -> list[Review]:
-        """The idea's reviews, oldest first."""
-        return reviewmod.of_idea(self.db, ideas.get(self.db, idea_id).id)
-
-    # -- families -------------------------------------------------------------------------
-    def set_variant_of(self, idea_id: int, parent_id: int, *, by: str,
-                       reason: str) -> VariantLink:
-        """Record the idea as a variant of ``parent_id`` and return the link.
-
-        Once per idea, and never undone: from then on the trials of the whole family (the tree
-        of ideas linked as variants) count for each member's deflated Sharpe, so a variant
-        does not start its trial count afresh. Refused for the idea itself, an idea already
-        linked, or a parent that is one of the idea's own variants (a circle). Journalled on
-        both ideas with who and why.
-        """
-        by = validate.name(by, "by")
-        reason = validate.text(reason, "reason")
-        at = self._now()
-        with dbmod.write(self.db):
-            idea = ideas.get(self.db, idea_id)
-            parent = ideas.get(self.db, parent_id)
-            problem = families.link_problem(self.db, idea.id, parent.id)
-            if problem is not None:
-                raise CatalogueError(problem, field=f"idea {idea.id}")
-            families.insert(self.db, idea.id, parent.id, reason=reason, by=by, at=at)
-            families.refresh_trial_counts(self.db, idea.id)
-            count = runmod.trial_count(self.db, idea.id)
-            size = len(families.member_ids(self.db, idea.id))
-            journal.append(self.db, idea_id=idea.id, kind="edit", by=by, at=at,
-                           text=f"Recorded as a variant of idea {parent.id} '{parent.title}': "
-                                f"{reason} Its family now has {size} ideas and {count} "
-                                "trial(s), which all count for its deflated Sharpe.")
-            journal.append(self.db, idea_id=parent.id, kind="edit", by=by, at=at,
-                           text=f"Idea {idea.id} '{idea.title}' recorded as a variant of this "
-                                f"idea: {reason}")
-            for member in (idea.id, parent.id):
-                self.db.execute("UPDATE ideas SET updated_at = ? WHERE id = ?", [at, member])
-            link = families.link_of(self.db, idea.id)
-        assert link is not None
-        return link
-
-    def variant_link(self, idea_id: int) -> VariantLink | None:
-        """The link making the idea a variant of another, or None."""
-        return families.link_of(self.db, ideas.get(self.db, idea_id).id)
-
-    def family(self, idea_id: int) -> Family:
-        """The idea's family as a tree (a lone idea is a family of one): each member's id,
-        title, stage, author, last verdict and own trials, and the family's trial count."""
-        return families.tree(self.db, ideas.get(self.db, idea_id).id)
-
-    # -- desk rules -----------------------------------------------------------------------
-    def desk_setting(self, key: str) -> bool:
-        """The desk setting in force (see ``DESK_SETTINGS``; its default until first set)."""
-        return settings.current(self.db, settings.clean_key(key))
-
-    def desk_settings(self) -> list[DeskSetting]:
-        """Every setting of the desk rules, oldest first."""
-        return settings.history(self.db)
-
-    def set_desk_setting(self, key: str, value: bool, *, by: str, reason: str) -> DeskSetting:
-        """Turn a desk setting on or off and return the setting in force; ``reason``
-        (required) says why. Journalled as a general ``decision`` entry. Setting the value
-        already set writes nothing."""
-        key = settings.clean_key(key)
-        if not isinstance(value, bool):
-            raise CatalogueError("expected on or off (true or false)", field=key)
-        by = validate.name(by, "by")
-        reason = validate.text(reason, "reason")
-        at = self._now()
-        with dbmod.write(self.db):
-            held = [s for s in settings.history(self.db) if s.key == key]
-            if not held or held[-1].value != value:
-                settings.insert(self.db, key, value, reason=reason, by=by, at=at)
-                journal.append(self.db, idea_id=None, kind="decision", by=by, at=at,
-                               text=f"Desk setting {key} turned {'on' if value else 'off'} "
-                                    f"({DESK_SETTINGS[key][1]}): {reason}")
-                held = [s for s in settings.history(self.db) if s.key == key]
-        return held[-1]
-
-    # -- holdout --------------------------------------------------------------------------
-    def holdout_boundary(self) -> HoldoutBoundary | None:
-        """The holdout boundary in force (runs see the dates before it), or None before one
-        is set (the first quick run sets the default: see :func:`hunchbook.services.run_idea`)."""
-        return holdout.current(self.db)
-
-    def holdout_boundaries(self) -> list[HoldoutBoundary]:
-        """Every setting of the holdout boundary, oldest first."""
-        return holdout.boundaries(self.db)
-
-    def set_holdout_boundary(self, boundary: dt.date | str, *, by: str,
-                             reason: str) -> HoldoutBoundary:
-        """Set the catalogue's holdout boundary (a date, or ``YYYY-MM-DD`` text) and return it.
-
-        ``reason`` (required) says why, in the words of the person who sets it; the setting is
-        journalled as a general ``decision`` entry naming the old and new dates. The date in
-        force already returns the current setting unchanged (nothing is written). Ideas whose
-        runs saw dates on or after a new, earlier boundary can no longer unlock their holdout.
-        """
-        boundary = holdout.clean_date(boundary, "boundary")
-        by = validate.name(by, "by")
-        reason = validate.text(reason, "reason")
-        at = self._now()
-        with dbmod.write(self.db):
-            old = holdout.current(self.db)
-            if old is not None and old.boundary == boundary:
-                return old
-            holdout.insert_boundary(self.db, boundary, reason=reason, by=by, at=at)
-            was = f" (was {old.boundary.isoformat()})" if old is not None else ""
-            journal.append(self.db, idea_id=None, kind="decision", by=by, at=at,
-                           text=f"Holdout boundary set to {boundary.isoformat()}{was}: {reason}")
-            new = holdout.current(self.db)
-        assert new is not None
-        return new
-
-    def holdout_view(self, idea_id: int) -> HoldoutView | None:
-        """The idea's unlocking of its held-out years (daily P&L decoded), or None while they
-        are still locked."""
-        return holdout.view(self.db, ideas.get(self.db, idea_id).id)
-
-    def holdout_views(self) -> list[HoldoutView]:
-        """Every idea's unlocking, oldest first (without daily P&L)."""
-        return holdout.views(self.db)
-
-    def unlock_problem(self, idea_id: int) -> str | None:
-        """Why the idea's holdout cannot be unlocked now, in one sentence, or None when it can
-        (its latest run is then the one an unlocking continues)."""
-        return self._unlock_problem(ideas.get(self.db, idea_id).id)
-
-    def _unlock_problem(self, idea_id: int) -> str | None:
-        seen = holdout.view(self.db, idea_id, with_pnl=False)
-        if seen is not None:
-            return (f"the held-out years of idea {idea_id} were already unlocked by "
-                    f"{seen.seen_by} on {seen.seen_at[:10]} (continuing run {seen.run_id}); "
-                    "they are seen once per idea")
-        current = holdout.current(self.db)
-        if current is None:
-            return "the catalogue has no holdout boundary yet (a quick run sets one)"
-        runs = holdout.run_boundaries(self.db, idea_id)
-        if not runs:
-            return f"idea {idea_id} has no run yet: run it before the boundary first"
-        for run_id, edge in runs:
-            if edge is None or edge > current.boundary:
-                saw = "the whole history" if edge is None else f"the dates before {edge}"
-                return (f"run {run_id} of idea {idea_id} saw {saw}, past the holdout "
-                        f"boundary {current.boundary}: its held-out years are not unseen")
-        last, edge = runs[-1]
-        if edge != current.boundary:
-            return (f"the latest run of idea {idea_id} (run {last}) was made before {edge}, "
-                    f"not at the boundary in force ({current.boundary}): run it again first")
-        return None
-
-    def record_holdout_view(self, idea_id: int, *, run_id: int, figures: HoldoutFigures,
-                            daily_pnl: pd.DataFrame, data_fingerprint: str,
-                            engine_version: str, by: str) -> HoldoutView:
-        """Keep the one unlocking of an idea's held-out years and return it.
-
-        ``run_id`` must be the idea's latest run (the in-sample run it continues); ``figures``
-        what the chosen set did on the held-out dates (at the boundary in force);
-        ``daily_pnl`` its daily P&L there (date index; columns ``gross_pnl``, ``cost``,
-        ``net_pnl``). A ``run`` journal entry names who unlocked it, the revision, the set,
-        the dates and the figures. Refused when :meth:`unlock_problem` has a reason.
-        """
-        by = validate.name(by, "by")
-        at = self._now()
-        with dbmod.write(self.db):
-            idea = ideas.get(self.db, idea_id)
-            problem = self._unlock_problem(idea.id)
-            if problem is not None:
-                raise CatalogueError(problem, field=f"idea {idea.id}")
-            current = holdout.current(self.db)
-            run = runmod.of_idea(self.db, idea.id)[-1]
-            assert current is not None
-            if validate.integer(run_id, "run id") != run.id:
-                raise CatalogueError(f"run {run_id} is not the latest run of idea {idea.id} "
-                                     f"(run {run.id} is)", field="run_id")
-            if figures.boundary != current.boundary.isoformat():
-                raise CatalogueError(f"figures measured from {figures.boundary}, but the "
-                                     f"boundary is {current.boundary}", field="figures")
-            holdout.insert_view(
-                self.db, idea_id=idea.id, revision_id=run.revision_id, run_id=run.id,
-                chosen_params=run.chosen_params, boundary=current.boundary,
-                data_fingerprint=data_fingerprint, engine_version=engine_version,
-                figures=figures, daily_pnl=daily_pnl, by=by, at=at)
-            self.db.execute("UPDATE ideas SET updated_at = ? WHERE id = ?", [at, idea.id])
-            journal.append(self.db, idea_id=idea.id, kind="run", by=by, at=at,
-                           text=_holdout_text(run, figures, by))
-            view = holdout.view(self.db, idea.id)
-        assert view is not None
-        return view
-
     # -- desk -------------------------------------------------------------------------------
     def desk_summary(self, period: str = "year") -> desk.DeskSummary:
         """Ideas tested, runs, sets, new trials and promotions per ``period`` (``year``,
@@ -922,32 +642,6 @@ class Catalogue:
         by = validate.name(by, "by")
         with dbmod.write(self.db):
             return bundles.import_bundle(self.db, path, by=by, at=self._now())
-
-
-#: Added to a promotion review made without held-out years to see.
-NOTHING_HELD_OUT = ("(No held-out years to see: the catalogue has no holdout boundary, or the "
-                    "idea's runs already saw past it.)")
-
-
-def _check_rules_for_acceptance(idea_id: int, revision: Revision | None) -> None:
-    """Refuse to accept an idea whose parameter space is not declared in a valid rule file."""
-    from hunchbook.core.errors import RuleError
-    from hunchbook.core.rules import parse_rules
-    from hunchbook.starter import STARTER_HINT, is_starter
-
-    field = f"idea {idea_id}"
-    if revision is None:
-        raise CatalogueError("cannot accept an idea without a rule file: save its rules "
-                             "(markets, [parameters] grid, [signal] position) first, or return "
-                             "it with comments", field=field)
-    if is_starter(revision.text):
-        raise CatalogueError(f"cannot accept it: rule revision {revision.number}: "
-                             f"{STARTER_HINT}", field=field)
-    try:
-        parse_rules(revision.text, file=f"rule revision {revision.number}")
-    except RuleError as exc:
-        raise CatalogueError(f"cannot accept it: its rule file does not parse ({exc}); fix and "
-                             "save the rules, or return it with comments", field=field) from None
 
 
 def _check_rules_parse(idea_id: int, rule_text: str) -> None:
@@ -989,15 +683,6 @@ def _space(space: dict[str, Any]) -> str:
     from hunchbook.core.prereg import describe_space
 
     return describe_space(space)
-
-
-def _holdout_text(run: RunRecord, figures: HoldoutFigures, by: str) -> str:
-    chosen = ", ".join(f"{k}={v:g}" for k, v in run.chosen_params.items()) or "no parameters"
-    psr = "n/a" if math.isnan(figures.psr) else f"{100.0 * figures.psr:.1f} %"
-    return (f"Holdout unlocked by {by}: rule revision {run.revision_number}, chosen set "
-            f"{chosen} (of run {run.id}) run once on the held-out dates {figures.first_date} "
-            f"to {figures.last_date} ({figures.days} days from the boundary "
-            f"{figures.boundary}). Held-out PSR {psr}. {figures.finding()}")
 
 
 def _run_text(run_id: int, revision: Revision, run: runmod.RunInput, trials: int,
