@@ -4,7 +4,7 @@ engine's speed can show it changes no result.
 
 This is the engine against its own earlier record (no outside source): the figures themselves
 are checked against outside sources in the other tests. Numbers must agree to 1e-12 relative
-(or 1e-9 absolute near zero); text, counts and flags exactly. After a change that is meant to
+(or 1e-12 absolute near zero); text, counts and flags exactly. After a change that is meant to
 change results, write the record again with
 ``.venv/bin/python -m tests.core.test_golden_run`` and say why in the commit.
 """
@@ -58,7 +58,7 @@ def _differences(got: Any, want: Any, path: str = "") -> list[str]:
         return [d for i, (g, w) in enumerate(zip(got, want, strict=True))
                 for d in _differences(g, w, f"{path}[{i}]")]
     if isinstance(want, float) and isinstance(got, (int, float)) and not isinstance(got, bool):
-        if math.isclose(got, want, rel_tol=1e-12, abs_tol=1e-9):
+        if math.isclose(got, want, rel_tol=1e-12, abs_tol=1e-12):
             return []
     elif got == want:
         return []
