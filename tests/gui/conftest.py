@@ -40,3 +40,16 @@ def _no_blocking_message_boxes(monkeypatch):
     for kind in ("warning", "critical", "information"):
         monkeypatch.setattr(QMessageBox, kind, answer(kind, button.Ok))
     return asked
+
+
+@pytest.fixture
+def view(qtbot):
+    """A results view shown at 1200 x 800 (a test module may define its own)."""
+    from hunchbook.gui.widgets.results_view import ResultsView
+
+    widget = ResultsView()
+    qtbot.addWidget(widget)
+    widget.resize(1200, 800)
+    widget.show()
+    qtbot.waitExposed(widget)
+    return widget

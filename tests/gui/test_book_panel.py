@@ -20,7 +20,6 @@ from hunchbook.gui.charts.run_figures import format_value
 from hunchbook.gui.html_book import BOOK_CAPTION
 from hunchbook.gui.html_report import render_chart_images, report_html
 from hunchbook.gui.widgets.book_panel import NOT_COMPARED
-from hunchbook.gui.widgets.results_view import ResultsView
 from tests.gui.run_records import HOSTILE_TITLE
 from tests.store.helpers import accepted_idea, promote, run_summary
 
@@ -61,16 +60,6 @@ def desk(tmp_path_factory):
                                 engine_version="0.1.0", daily_pnl=daily)
         promoted = [cat.run(cat.runs(i)[-1].id) for i in (1, 2)]
         return cat.run(run_id), promoted, cat.idea(idea)
-
-
-@pytest.fixture
-def view(qtbot):
-    widget = ResultsView()
-    qtbot.addWidget(widget)
-    widget.resize(1200, 800)
-    widget.show()
-    qtbot.waitExposed(widget)
-    return widget
 
 
 def _cells(view) -> list[list[str]]:

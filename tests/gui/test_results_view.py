@@ -15,7 +15,6 @@ from hunchbook.api import Study
 from hunchbook.core.verdict import ACTIONS, LABELS
 from hunchbook.gui.charts.run_figures import format_value
 from hunchbook.gui.widgets.figures_model import COL_GROSS, COL_LABEL, COL_NET, ValueRole
-from hunchbook.gui.widgets.results_view import ResultsView
 from hunchbook.gui.widgets.verdict_banner import OUTCOME_HUES, banner_colours
 from tests.gui.run_records import HOSTILE_TITLE, TWO_PARAMETER_RULES, record_runs
 
@@ -24,16 +23,6 @@ from tests.gui.run_records import HOSTILE_TITLE, TWO_PARAMETER_RULES, record_run
 def runs(tmp_path_factory):
     """A catalogue with one idea and two recorded runs (2015-2019 invented demo data)."""
     return record_runs(tmp_path_factory.mktemp("results"))
-
-
-@pytest.fixture
-def view(qtbot):
-    widget = ResultsView()
-    qtbot.addWidget(widget)
-    widget.resize(1200, 800)
-    widget.show()
-    qtbot.waitExposed(widget)
-    return widget
 
 
 def _cells(model, column):
