@@ -23,13 +23,16 @@ from __future__ import annotations
 
 import argparse
 import math
+import sys
 import tempfile
 import time
 from collections import Counter
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
+from tests.reference_impl import write_random_walk_market  # noqa: E402
 
 from hunchbook.api import Study
 from hunchbook.core.runners import InProcess
@@ -63,14 +66,7 @@ contracts = 1
 
 def sweep_pnl(folder: Path, seed: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Daily gross P&L, cost and per-set sizes of the grid over a fresh random walk."""
-    rng = np.random.default_rng(seed)
-    days = YEARS * 252 + 260
-    close = 100.0 + np.cumsum(rng.normal(0.0, 1.0, days))
-    dates = pd.bdate_range("2000-01-03", periods=days)
-    folder.mkdir()
-    (folder / "markets.toml").write_text(LIBRARY)
-    pd.DataFrame({"date": dates.strftime("%Y-%m-%d"), "close": close}).to_csv(
-        folder / "RW.csv", index=False)
+    write_random_walk_market(folder, LIBRARY, seed, YEARS * 252 + 260, "2000-01-03")
     outcome = Study.from_text(RULES, folder).sweep(runner=InProcess(), spa_reps=0).outcome
     start = int(outcome.used.argmax(axis=0).max())
     return outcome.gross[start:], outcome.cost[start:], outcome.net[start:].std(axis=0, ddof=1)

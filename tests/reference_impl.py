@@ -135,3 +135,17 @@ def write_random_contracts(path: Path, seed: int, start: str, periods: int,
     rows = random_contract_rows(seed, start, periods, holidays)
     rows.assign(date=rows["date"].dt.strftime("%Y-%m-%d"),
                 expiry=rows["expiry"].dt.strftime("%Y-%m-%d")).to_csv(path, index=False)
+
+
+def write_random_walk_market(folder: Path, library: str, seed: int, days: int,
+                             start: str) -> None:
+    """A data folder holding one already-continuous market ``RW`` (described by ``library``)
+    whose closes are a driftless Gaussian random walk: no edge by construction (test and
+    benchmark input only)."""
+    rng = np.random.default_rng(seed)
+    close = 100.0 + np.cumsum(rng.normal(0.0, 1.0, days))
+    dates = pd.bdate_range(start, periods=days)
+    folder.mkdir()
+    (folder / "markets.toml").write_text(library)
+    pd.DataFrame({"date": dates.strftime("%Y-%m-%d"), "close": close}).to_csv(
+        folder / "RW.csv", index=False)

@@ -14,14 +14,12 @@ from __future__ import annotations
 import json
 import math
 
-import numpy as np
-import pandas as pd
-
 from hunchbook.api import Study
 from hunchbook.cli import main
 from hunchbook.core.runners import InProcess
 from hunchbook.core.stats import first_pass_statistics, judge_pick
 from hunchbook.core.verdict import decide
+from tests.reference_impl import write_random_walk_market
 
 SEEDS = 40
 DAYS = 1500
@@ -51,23 +49,13 @@ contracts = 1
 """
 
 
-def _market(folder, seed: int) -> None:
-    rng = np.random.default_rng(seed)
-    close = 100.0 + np.cumsum(rng.normal(0.0, 1.0, DAYS))
-    dates = pd.bdate_range("2010-01-04", periods=DAYS)
-    folder.mkdir()
-    (folder / "markets.toml").write_text(LIBRARY)
-    pd.DataFrame({"date": dates.strftime("%Y-%m-%d"), "close": close}).to_csv(
-        folder / "RW.csv", index=False)
-
-
 def test_no_edge_is_not_promoted_by_picking_the_best_set(tmp_path, capsys):
     promoted = {"params": 0, "heatmap": 0, "one trial": 0}
     rules = tmp_path / "rules.toml"
     rules.write_text(RULES)
     for seed in range(SEEDS):
         folder = tmp_path / f"m{seed}"
-        _market(folder, seed)
+        write_random_walk_market(folder, LIBRARY, seed, DAYS, "2010-01-04")
         study = Study.from_text(RULES, folder)
         sweep = study.sweep(runner=InProcess(), spa_reps=200, seed=seed)
         best = sweep.sets[sweep.chosen]
