@@ -127,7 +127,7 @@ class ReversedRemoteChunks:
 
     def run(self, job: SweepJob) -> None:
         self.jobs += 1
-        worker = ChunkWorker(job.backtest)
+        worker = ChunkWorker(job.payload)
         for start, stop in reversed(job.chunk_bounds(len(job.sets) // 2)):
             job.add(worker.run(job.sets[start:stop], start))
             job.check_cancel()
@@ -152,7 +152,7 @@ def test_a_runner_that_loses_a_chunk_is_caught(study):
 
     class LosesTheLastChunk:
         def run(self, job: SweepJob) -> None:
-            worker = ChunkWorker(job.backtest)
+            worker = ChunkWorker(job.payload)
             for start, stop in job.chunk_bounds(5)[:-1]:
                 job.add(worker.run(job.sets[start:stop], start))
 

@@ -14,8 +14,7 @@ import threading
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from dataclasses import dataclass
 
-from hunchbook.core.engine import Backtest
-from hunchbook.core.sweep_job import Chunk, ChunkWorker, DailyRows, Params, SweepJob
+from hunchbook.core.sweep_job import Chunk, ChunkWorker, DailyRows, Params, SweepJob, SweepPayload
 
 #: Progress steps of a sweep run in process (chunks of about 1/50 of the sets).
 IN_PROCESS_CHUNKS = 50
@@ -27,7 +26,7 @@ class InProcess:
 
     def run(self, job: SweepJob) -> None:
         """Run every set of the job here."""
-        worker = ChunkWorker(job.backtest)
+        worker = ChunkWorker(job.payload)
         for start, stop in job.chunk_bounds(IN_PROCESS_CHUNKS):
             job.add(worker.run(job.sets[start:stop], start, rows=job.rows, cancel=job.cancel))
 
@@ -81,7 +80,7 @@ class LocalProcesses:
         try:
             with ProcessPoolExecutor(max_workers=workers,
                                      mp_context=multiprocessing.get_context(method),
-                                     initializer=_init_worker, initargs=(job.backtest,)) as pool:
+                                     initializer=_init_worker, initargs=(job.payload,)) as pool:
                 pending = {pool.submit(_worker_chunk, list(job.sets[start:stop]), start)
                            for start, stop in job.chunk_bounds(workers * self.chunks_per_worker)}
                 try:
@@ -112,9 +111,9 @@ _SHARED: DailyRows | None = None
 _WORKER: ChunkWorker | None = None
 
 
-def _init_worker(backtest: Backtest) -> None:
+def _init_worker(payload: SweepPayload) -> None:
     global _WORKER
-    _WORKER = ChunkWorker(backtest)
+    _WORKER = ChunkWorker(payload)
 
 
 def _worker_chunk(sets: list[Params], start: int) -> Chunk:

@@ -98,6 +98,14 @@ class Chunk:
         return len(self.contracts)
 
 
+@dataclass(frozen=True)
+class SweepPayload:
+    """Everything a :class:`ChunkWorker` needs, sent once to each worker process or machine
+    (pickled, or inherited by a forked process)."""
+
+    backtest: Backtest
+
+
 class SweepJob:
     """One sweep to run: the backtest, its parameter sets, and where finished chunks go.
 
@@ -126,6 +134,12 @@ class SweepJob:
         self.rows = DailyRows.allocate(len(sets), len(backtest.panel.union_dates))
         self._chunks: list[Chunk] = []
         self._done = 0
+
+    @property
+    def payload(self) -> SweepPayload:
+        """What each worker needs to run chunks of this job: build a
+        :class:`ChunkWorker` from it once per process."""
+        return SweepPayload(self.backtest)
 
     def chunk_bounds(self, chunks: int) -> list[tuple[int, int]]:
         """(start, stop) of about ``chunks`` consecutive, equally sized slices of the sets."""
@@ -190,9 +204,9 @@ class ChunkWorker:
     """Runs chunks of one backtest's parameter sets; build one per process and reuse it
     (it holds the mapping of each market's bars onto the union of dates)."""
 
-    def __init__(self, backtest: Backtest) -> None:
-        self.backtest = backtest
-        self._agg = _Aggregator(backtest)
+    def __init__(self, payload: SweepPayload) -> None:
+        self.backtest = payload.backtest
+        self._agg = _Aggregator(self.backtest)
 
     def run(self, sets: Sequence[Params], start: int, *, rows: DailyRows | None = None,
             cancel: CancelCheck | None = None) -> Chunk:
