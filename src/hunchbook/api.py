@@ -13,7 +13,7 @@ import pandas as pd
 
 from hunchbook.core.continuous import build_continuous
 from hunchbook.core.engine import Backtest, EngineOutput
-from hunchbook.core.errors import DataError, RuleError
+from hunchbook.core.errors import DataError, HunchbookError, RuleError
 from hunchbook.core.events import read_events
 from hunchbook.core.expr import Expression, parse_expression
 from hunchbook.core.expr.nodes import EventRef, SeriesRef
@@ -25,11 +25,15 @@ from hunchbook.core.results import RunSummary, build_run_summary
 from hunchbook.core.rule_data import rule_data
 from hunchbook.core.rules import locate_error, parse_rules, read_rule_text, read_rules
 from hunchbook.core.rules.model import SERIES_NAMES, RuleSpec
+from hunchbook.core.stats.first_pass import TrialFigures, judge_choice
+from hunchbook.core.stats.walk_forward import walk_forward_choices, walk_forward_result
 from hunchbook.core.sweep import CancelCheck, Progress, SweepOutcome, SweepRunner, run_sweep
-from hunchbook.core.sweep_summary import summarise_sweep
+from hunchbook.core.sweep_estimate import SweepEstimate, estimate_sweep
+from hunchbook.core.sweep_job import daily_rows
+from hunchbook.core.sweep_period import combine_parts, period_parts
 from hunchbook.core.verdict import Check, Verdict, decide
 
-if TYPE_CHECKING:  # the statistics (and scipy) are imported when a sweep is judged
+if TYPE_CHECKING:
     from hunchbook.core.stats import FirstPassStats
 
 #: Row label of the portfolio in metric tables.
@@ -81,15 +85,14 @@ class SetResult:
 class SweepReport:
     """A whole declared parameter space run: per-set summaries, statistics and the verdict.
 
-    ``summaries[k]`` holds set k's portfolio metrics (as in :class:`SetResult`) and per-market
-    totals; ``chosen`` is the set the statistics judge (the best net Sharpe ratio, or the best
+    ``outcome.figures`` holds every set's portfolio figures over its own history; ``chosen``
+    is the set the statistics judge (the best net Sharpe ratio, or the best
     of the picked sets); ``walk_forward_pnl`` the walk-forward test's spliced out-of-sample
     daily net P&L by date (None when the test did not apply).
     """
 
     rules: RuleSpec
     outcome: SweepOutcome
-    summaries: list[dict[str, Any]]
     chosen: int
     statistics: FirstPassStats
     verdict: Verdict
@@ -112,7 +115,7 @@ class SweepReport:
         ``holdout_boundary`` the date the study's data were cut at, if any."""
         return build_run_summary(
             name=self.rules.name, markets=self.rules.markets, currency=currency,
-            data_folder=data_folder, parameter_sets=self.sets, set_metrics=self.summaries,
+            data_folder=data_folder, parameter_sets=self.sets, set_figures=self.outcome.figures,
             chosen_metrics=chosen.metrics, statistics=self.statistics, verdict=self.verdict,
             holdout_boundary=None if holdout_boundary is None else holdout_boundary.isoformat())
 
@@ -136,6 +139,11 @@ class EarlierTrials:
         if self.net is None or self.net.shape[1] == 0:
             return None
         return self.net.reindex(pd.DatetimeIndex(dates)).fillna(0.0).to_numpy(dtype=float)
+
+    @property
+    def columns(self) -> int:
+        """Earlier trials recomputed on the current data (whose daily P&L joins the tests)."""
+        return 0 if self.net is None else self.net.shape[1]
 
     def n_trials(self, n_sets: int) -> int:
         """Every trial counted once ``n_sets`` new sets have run."""
@@ -254,7 +262,8 @@ class Study:
               runner: SweepRunner | None = None, progress: Progress | None = None,
               cancel: CancelCheck | None = None, earlier: EarlierTrials | None = None,
               spa_reps: int = 1000, seed: int = 0,
-              warnings: Sequence[Check] = ()) -> SweepReport:
+              warnings: Sequence[Check] = (),
+              estimate: SweepEstimate | None = None) -> SweepReport:
         """Run the whole declared parameter space and judge one set of it.
 
         Every declared set runs and counts as a trial, whichever set is judged: a set picked
@@ -275,42 +284,64 @@ class Study:
         warnings
             Checks that only warn, added to the verdict (see
             :func:`hunchbook.core.verdict.warning`).
+        estimate
+            The sweep's estimate (:meth:`estimate`), when one was made and confirmed.
         """
         sets = self.parameter_sets()
         candidates = {_key(s) for s in self.parameter_sets(pick)} if pick else None
+        earlier = earlier or EarlierTrials()
         outcome = run_sweep(self.backtest, sets, runner=runner, progress=progress,
-                            cancel=cancel)
-        summaries = summarise_sweep(outcome)
-        net_sharpe = np.array([s[PORTFOLIO]["net"]["sharpe"] for s in summaries])
+                            cancel=cancel, others=earlier.columns, spa_reps=spa_reps, seed=seed,
+                            estimate=estimate)
+        net_sharpe = outcome.figures.net_sharpe
         allowed = np.array([candidates is None or _key(s) in candidates for s in sets])
         scored = allowed & np.isfinite(net_sharpe)
         chosen = (int(np.argmax(np.where(scored, net_sharpe, -np.inf))) if scored.any()
                   else int(np.argmax(allowed)))
-        # statistics compare the sets on their common period: from the day all have started to
-        # the last day all still have rows (a rule's ``end`` stops them before the data does)
-        used = outcome.used
-        start = int(used.argmax(axis=0).max())
-        stop = used.shape[0] - int(used[::-1].argmax(axis=0).max())
+        plan = outcome.plan
+        if plan.days < 3:
+            raise HunchbookError(f"the parameter sets have {max(plan.days, 0)} days in common: "
+                                 "first-pass statistics need at least 3")
+        parts = list(outcome.parts)
+        other_net = earlier.on_dates(outcome.dates[plan.start:plan.stop])
+        if other_net is not None:
+            parts.append(period_parts(plan, other_net, len(sets)))
+        totals = combine_parts(plan, parts)
+        walk_choice = (walk_forward_choices(plan.walk, *totals.walk_sums)
+                       if plan.walk is not None and totals.walk_sums is not None else None)
+        traded = sorted(set(walk_choice[0].tolist())) if walk_choice is not None else []
+        rows = daily_rows(self.backtest, [sets[k] for k in [chosen, *traded]])
+        window = slice(plan.start, plan.stop)
+        walk = walk_pnl = None
+        if walk_choice is not None:
+            picked, best = walk_choice
+            net = rows.net[:, window]
+            test = plan.walk.test_days
+            oos = np.concatenate([net[1 + traded.index(k), s:s + test]
+                                  for k, s in zip(picked.tolist(), plan.walk.starts.tolist(),
+                                                  strict=True)])
+            walk = walk_forward_result(plan.walk, picked, oos, best, plan.periods)
+            walk_pnl = pd.Series(walk.oos_pnl, index=pd.DatetimeIndex(
+                outcome.dates[plan.start + walk.start:plan.stop]))
         shape, cells = self._grid_cells(sets)
-        earlier = earlier or EarlierTrials()
-        other_net = earlier.on_dates(outcome.dates[start:stop])
-        from hunchbook.core.stats import first_pass_statistics, selection_tests
-
-        net = outcome.net[start:stop]
-        walk, overfit = selection_tests(net) if len(sets) > 1 else (None, None)
-        statistics = first_pass_statistics(
-            outcome.gross[start:stop], outcome.cost[start:stop], grid_shape=shape,
-            cell_index=cells,
-            chosen=chosen, other_net=other_net,
+        statistics = judge_choice(
+            rows.gross[0, window], rows.cost[0, window],
+            TrialFigures(net_sharpes=totals.net_sharpes, other_sharpes=totals.other_sharpes,
+                         effective=totals.effective, spa=totals.spa),
+            chosen=chosen, grid_shape=shape, cell_index=cells,
             n_trials=earlier.n_trials(len(sets)), other_trial_sharpes=earlier.sharpes,
-            walk_forward=walk, overfitting=overfit,
-            contracts_traded=outcome.contracts, spa_reps=spa_reps, seed=seed)
-        walk_pnl = None if walk is None else pd.Series(
-            walk.oos_pnl, index=pd.DatetimeIndex(outcome.dates[start + walk.start:stop]))
-        return SweepReport(rules=self.rules, outcome=outcome, summaries=summaries,
-                           chosen=chosen, statistics=statistics,
-                           verdict=decide(statistics, warnings=warnings),
+            walk_forward=walk, overfitting=totals.overfitting,
+            contracts_traded=float(outcome.figures.contracts_traded[chosen]),
+            periods=plan.periods)
+        return SweepReport(rules=self.rules, outcome=outcome, chosen=chosen,
+                           statistics=statistics, verdict=decide(statistics, warnings=warnings),
                            walk_forward_pnl=walk_pnl)
+
+    def estimate(self, *, workers: int, earlier: EarlierTrials | None = None) -> SweepEstimate:
+        """How long the whole declared space will take on ``workers`` workers, how much memory
+        it needs and whether it fits (its pilot sets run here)."""
+        return estimate_sweep(self.backtest, self.parameter_sets(), workers=workers,
+                              others=(earlier or EarlierTrials()).columns)
 
     def _grid_cells(self, sets: list[dict[str, float]]) -> tuple[tuple[int, ...] | None,
                                                                  np.ndarray | None]:

@@ -19,7 +19,8 @@ from hunchbook.core.holdout import held_out, holdout_figures, holdout_seen_warni
 from hunchbook.core.prices import MarketData, data_fingerprint, held_out_dates, load_data
 from hunchbook.core.results import RunSummary
 from hunchbook.core.rules import parse_rules
-from hunchbook.core.sweep import CancelCheck, Progress, SweepCancelled, SweepRunner, run_sweep
+from hunchbook.core.sweep import CancelCheck, Progress, SweepCancelled, SweepRunner
+from hunchbook.core.sweep_job import daily_rows
 from hunchbook.starter import STARTER_HINT, is_starter
 from hunchbook.store import pnl
 from hunchbook.store.errors import CatalogueError
@@ -80,7 +81,6 @@ def daily_pnl(chosen: SetResult, walk_forward: pd.Series | None) -> pd.DataFrame
 def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLike[str], *,
                              loaded: MarketData | None = None,
                              before: dt.date | None = None,
-                             runner: SweepRunner | None = None,
                              cancel: CancelCheck | None = None) -> EarlierTrials:
     """The idea's earlier trials recomputed on the current data, so that the SPA test, the
     effective number of trials and the trials' Sharpe variance cover every set ever run.
@@ -88,7 +88,8 @@ def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLi
     ``loaded`` is the data already read for the new run (cut at ``before``, the holdout
     boundary): rule texts on the same markets reuse it instead of reading the folder again. A
     strategy whose rule text no longer runs on this data (a market left the folder, say) keeps
-    its stored net Sharpe ratios: its trials still count, one each.
+    its stored net Sharpe ratios: its trials still count, one each. The earlier sets run in
+    this process (their daily net P&L is kept for the tests).
     """
     frames: list[pd.DataFrame] = []
     sharpes: list[float] = []
@@ -103,9 +104,9 @@ def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLi
         except HunchbookError:
             sharpes += [v for v in strategy.net_sharpes if v is not None]
             continue
-        outcome = run_sweep(study.backtest, list(strategy.parameter_sets), runner=runner,
-                            cancel=cancel)
-        frames.append(pd.DataFrame(outcome.net, index=pd.DatetimeIndex(outcome.dates)))
+        rows = daily_rows(study.backtest, list(strategy.parameter_sets), cancel=cancel)
+        frames.append(pd.DataFrame(rows.net.T,
+                                   index=pd.DatetimeIndex(study.panel.union_dates)))
     net = pd.concat(frames, axis=1).fillna(0.0) if frames else None
     return EarlierTrials(net=net, sharpes=tuple(sharpes), total=history.total)
 
@@ -147,7 +148,7 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     prereg = catalogue.check_preregistration(idea_id, rule_text, study.parameter_sets())
     history = catalogue.prospective_trials(idea_id, rule_text, study.parameter_sets())
     earlier = recompute_earlier_trials(history, data_folder, loaded=study.data, before=boundary,
-                                       runner=runner, cancel=cancel)
+                                       cancel=cancel)
     report = study.sweep(runner=runner, progress=progress, cancel=cancel, earlier=earlier,
                          spa_reps=spa_reps)
     chosen = study.run_set(report.sets[report.chosen])

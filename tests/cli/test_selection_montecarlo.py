@@ -17,6 +17,7 @@ import math
 from hunchbook.api import Study
 from hunchbook.cli import main
 from hunchbook.core.runners import InProcess
+from hunchbook.core.sweep_job import daily_rows
 from hunchbook.core.stats import first_pass_statistics, judge_pick
 from hunchbook.core.verdict import decide
 from tests.reference_impl import write_random_walk_market
@@ -67,9 +68,9 @@ def test_no_edge_is_not_promoted_by_picking_the_best_set(tmp_path, capsys):
         record = json.loads(out.read_text())
         assert record["chosen"]["params"] == best and record["statistics"]["n_trials"] == 12
         promoted["params"] += record["verdict"]["outcome"] == "passes"
-        start = int(sweep.outcome.used.argmax(axis=0).max())
-        gross = sweep.outcome.gross[start:, sweep.chosen]
-        cost = sweep.outcome.cost[start:, sweep.chosen]
+        start, stop = sweep.outcome.common_period
+        rows = daily_rows(study.backtest, [best])
+        gross, cost = rows.gross[0, start:stop], rows.cost[0, start:stop]
         promoted["heatmap"] += decide(judge_pick(gross, cost, sweep.statistics)).outcome \
             == "passes"
         alone = first_pass_statistics(gross, cost, spa_reps=200, seed=seed)

@@ -1,6 +1,7 @@
 """Sweeps: every set's figures equal a single run of that set (to 1e-9), whichever runner
 carries them (in this process, forked or spawned workers, or one plugged in), and the runners
-agree exactly with each other; progress and cancel behave."""
+agree exactly with each other; the statistics computed chunk by chunk equal those of the whole
+P&L matrix; progress and cancel behave."""
 
 from __future__ import annotations
 
@@ -13,7 +14,7 @@ from hunchbook.api import Study
 from hunchbook.core.runners import InProcess, LocalProcesses
 from hunchbook.core.sweep import SweepCancelled, run_sweep
 from hunchbook.core.sweep_job import ChunkWorker, SweepJob
-from hunchbook.core.sweep_summary import summarise_sweep
+from hunchbook.core.sweep_period import combine_parts
 from tests.reference_impl import TWO_MARKET_LIBRARY, write_random_contracts
 
 LIBRARY = TWO_MARKET_LIBRARY
@@ -54,23 +55,20 @@ def study(folder):
     return _study(folder, RULES)
 
 
-def _assert_same(summary, single):
-    port, ref = summary["portfolio"], single.metrics["portfolio"]
+def _assert_same(figures, k, single):
+    """Set k's figures equal those of a single run of the set (pandas-based summarise)."""
+    ref = single.metrics["portfolio"]
+    row = figures.row(k)
     for side in ("gross", "net"):
-        for key, value in ref[side].items():
-            assert port[side][key] == pytest.approx(value, rel=1e-9, abs=1e-9, nan_ok=True), key
-    assert (port["first_date"], port["last_date"]) == (ref["first_date"], ref["last_date"])
-    for key in ("days", "trades", "contracts_traded", "cost_total",
-                "break_even_cost", "cost_share_of_gross", "years", "contracts_per_year"):
-        assert port[key] == pytest.approx(ref[key], rel=1e-9, abs=1e-9), key
-    assert port["cost_per_year"] == pytest.approx(ref["cost_per_year"], rel=1e-9)
-    for market, m in summary["markets"].items():
-        r = single.metrics["markets"][market]
-        for side in ("gross", "net"):
-            for key in ("total", "sharpe"):
-                assert m[side][key] == pytest.approx(r[side][key], rel=1e-9, abs=1e-9)
-        for key in ("cost_total", "contracts_traded", "contracts_per_year", "break_even_cost"):
-            assert m[key] == pytest.approx(r[key], rel=1e-9, abs=1e-9), key
+        for key in ("total", "sharpe"):
+            assert row[f"{side}_{key}"] == pytest.approx(ref[side][key], rel=1e-9, abs=1e-9,
+                                                         nan_ok=True), (side, key)
+    assert row["net_max_drawdown"] == pytest.approx(ref["net"]["max_drawdown"], rel=1e-9,
+                                                    abs=1e-9)
+    for key in ("trades_per_year", "contracts_per_year", "cost_total", "break_even_cost"):
+        assert row[key] == pytest.approx(ref[key], rel=1e-9, abs=1e-9, nan_ok=True), key
+    assert figures.days[k] == ref["days"]
+    assert figures.years[k] == pytest.approx(ref["years"], rel=1e-12)
 
 
 RUNNERS = {
@@ -90,23 +88,37 @@ def test_sweep_equals_single_runs(study, runner):
                         progress=lambda done, total: seen.append((done, total)))
     assert seen[-1] == (10, 10) and all(t == 10 for _, t in seen)
     assert [d for d, _ in seen] == sorted(d for d, _ in seen)
-    summaries = summarise_sweep(outcome)
-    for params, summary in zip(sets, summaries, strict=True):
+    start, stop = outcome.common_period
+    common = outcome.dates[start:stop]
+    sharpes = np.concatenate([p.net_sharpes for p in outcome.parts])
+    for k, params in enumerate(sets):
         single = study.run_set(params)
-        _assert_same(summary, single)
-        daily = single.portfolio
-        k = sets.index(params)
-        mask = outcome.used[:, k]
-        np.testing.assert_allclose(outcome.net[mask, k], daily["net_pnl"], rtol=1e-9, atol=1e-9)
+        _assert_same(outcome.figures, k, single)
+        # the chunk's net Sharpe ratio on the common days: pandas on the single run's rows
+        daily = single.output.portfolio()["net_pnl"].reindex(common)
+        assert not daily.isna().any()
+        assert sharpes[k] == pytest.approx(daily.mean() / daily.std() * 252 ** 0.5, rel=1e-9)
 
 
 def _assert_identical(one, other):
-    """Every array of two sweep outcomes equal bit for bit."""
+    """Every figure of two sweep outcomes equal bit for bit."""
     assert one.sets == other.sets and one.markets == other.markets
-    for field in dataclasses.fields(one):
-        if field.name not in ("sets", "markets"):
-            np.testing.assert_array_equal(getattr(one, field.name), getattr(other, field.name),
-                                          err_msg=field.name, strict=True)
+    assert one.common_period == other.common_period == (one.plan.start, one.plan.stop)
+    np.testing.assert_array_equal(one.dates, other.dates, strict=True)
+    for field in dataclasses.fields(one.figures):
+        np.testing.assert_array_equal(getattr(one.figures, field.name),
+                                      getattr(other.figures, field.name), err_msg=field.name,
+                                      strict=True)
+    assert _parts(one) == _parts(other)
+
+
+def _parts(outcome):
+    """Every chunk's part of the statistics, joined, as comparable plain values."""
+    totals = combine_parts(outcome.plan, outcome.parts)
+    kept = np.hstack([p.kept for p in sorted(outcome.parts, key=lambda p: p.first)])
+    return (totals.net_sharpes.tobytes(), totals.effective, totals.spa, kept.tobytes(),
+            totals.walk_sums[0].tobytes(), totals.walk_sums[1].tobytes(),
+            totals.overfitting)
 
 
 @pytest.mark.parametrize("runner", list(RUNNERS.values())[1:], ids=list(RUNNERS)[1:])
@@ -138,10 +150,10 @@ def test_a_runner_plugged_in_is_used(study):
     sets = study.parameter_sets()
     runner = ReversedRemoteChunks()
     seen = []
-    outcome = run_sweep(study.backtest, sets, runner=runner,
+    outcome = run_sweep(study.backtest, sets, runner=runner, spa_reps=10,
                         progress=lambda done, total: seen.append(done))
     assert runner.jobs == 1 and seen == [2, 4, 6, 8, 10]
-    _assert_identical(outcome, run_sweep(study.backtest, sets, runner=InProcess()))
+    _assert_identical(outcome, run_sweep(study.backtest, sets, runner=InProcess(), spa_reps=10))
     report = study.sweep(runner=runner, spa_reps=10)
     assert runner.jobs == 2
     _assert_identical(report.outcome, outcome)
@@ -191,5 +203,5 @@ def test_one_calendar_takes_the_aligned_path(folder):
     assert _Aggregator(single.backtest).aligned
     sets = single.parameter_sets()
     outcome = run_sweep(single.backtest, sets, runner=InProcess())
-    for params, summary in zip(sets, summarise_sweep(outcome), strict=True):
-        _assert_same(summary, single.run_set(params))
+    for k, params in enumerate(sets):
+        _assert_same(outcome.figures, k, single.run_set(params))

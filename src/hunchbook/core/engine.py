@@ -25,6 +25,7 @@ import numpy as np
 import pandas as pd
 
 from hunchbook.core.expr import Expression, parse_expression
+from hunchbook.core.expr.cache import WindowCache
 from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.panel import Panel
 from hunchbook.core.periods import DAYS_PER_YEAR
@@ -138,7 +139,7 @@ class Backtest:
         self.panel = panel
         self.position = position
         self.delay = delay
-        self.cache: dict[Any, Any] = {}
+        self.cache: dict[Any, Any] = WindowCache()
         self.dates = DateGrid(panel.date_index.shape, panel.date_index)  # for cs_rank, ...
         window = panel.valid.copy()
         if start is not None:

@@ -24,6 +24,7 @@ from typing import Any
 from hunchbook.core.book import BookComparison
 from hunchbook.core.errors import RecordError
 from hunchbook.core.plain import json_safe
+from hunchbook.core.set_figures import SetFigures
 from hunchbook.core.stats.first_pass import FirstPassStats
 from hunchbook.core.verdict import Verdict
 
@@ -169,18 +170,20 @@ class RunSummary:
 
 def build_run_summary(*, name: str, markets: Sequence[str], currency: str, data_folder: str,
                       parameter_sets: Sequence[Mapping[str, float]],
-                      set_metrics: Sequence[Mapping[str, Any]], chosen_metrics: Mapping[str, Any],
+                      set_figures: SetFigures, chosen_metrics: Mapping[str, Any],
                       statistics: FirstPassStats, verdict: Verdict,
                       holdout_boundary: str | None = None) -> RunSummary:
     """The run record of a sweep: the one place where the engine's figures become a record.
 
-    ``set_metrics[k]`` holds set k's metrics as :func:`hunchbook.core.sweep_summary.
-    summarise_sweep` gives them; ``chosen_metrics`` the chosen set's full metrics (``portfolio``
+    ``set_figures`` holds every set's figures over its own history (in set order);
+    ``chosen_metrics`` the chosen set's full metrics (``portfolio``
     as :func:`hunchbook.core.metrics.summarise` gives them, ``markets`` per market);
     ``holdout_boundary`` the date the data were cut at, if any.
     """
-    sets = tuple(_set_summary(p, m["portfolio"])
-                 for p, m in zip(parameter_sets, set_metrics, strict=True))
+    if len(set_figures) != len(parameter_sets):
+        raise ValueError(f"{len(set_figures)} sets' figures for {len(parameter_sets)} sets")
+    sets = tuple(SetSummary(params={k: float(v) for k, v in p.items()}, **set_figures.row(k))
+                 for k, p in enumerate(parameter_sets))
     chosen = ChosenSet(
         params=dict(parameter_sets[statistics.chosen]),
         performance=_read(Performance, json_safe(chosen_metrics["portfolio"]), "portfolio"),
@@ -189,16 +192,6 @@ def build_run_summary(*, name: str, markets: Sequence[str], currency: str, data_
     return RunSummary(name=name, markets=tuple(markets), currency=currency,
                       data_folder=data_folder, sets=sets, chosen=chosen, statistics=statistics,
                       verdict=verdict, holdout_boundary=holdout_boundary)
-
-
-def _set_summary(params: Mapping[str, float], p: Mapping[str, Any]) -> SetSummary:
-    return SetSummary(
-        params={k: float(v) for k, v in params.items()},
-        gross_sharpe=p["gross"]["sharpe"], net_sharpe=p["net"]["sharpe"],
-        gross_total=p["gross"]["total"], net_total=p["net"]["total"],
-        net_max_drawdown=p["net"]["max_drawdown"], trades_per_year=p["trades_per_year"],
-        contracts_per_year=p["contracts_per_year"], cost_total=p["cost_total"],
-        break_even_cost=p["break_even_cost"])
 
 
 def _market_figures(market: str, m: Mapping[str, Any]) -> MarketFigures:

@@ -14,7 +14,7 @@ import threading
 from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from dataclasses import dataclass
 
-from hunchbook.core.sweep_job import Chunk, ChunkWorker, DailyRows, Params, SweepJob, SweepPayload
+from hunchbook.core.sweep_job import Chunk, ChunkWorker, Params, SweepJob, SweepPayload
 
 #: Progress steps of a sweep run in process (chunks of about 1/50 of the sets).
 IN_PROCESS_CHUNKS = 50
@@ -28,16 +28,16 @@ class InProcess:
         """Run every set of the job here."""
         worker = ChunkWorker(job.payload)
         for start, stop in job.chunk_bounds(IN_PROCESS_CHUNKS):
-            job.add(worker.run(job.sets[start:stop], start, rows=job.rows, cancel=job.cancel))
+            job.add(worker.run(job.sets[start:stop], start, cancel=job.cancel))
 
 
 @dataclass(frozen=True)
 class LocalProcesses:
     """Spread the sets over worker processes on this machine.
 
-    Forked workers (when this process runs no other thread) inherit the prepared backtest and
-    write their daily rows straight into the job's shared memory; otherwise workers are
-    spawned, receive the backtest pickled and send their rows back with each chunk.
+    Forked workers (when this process runs no other thread) inherit the prepared backtest;
+    otherwise workers are spawned and receive it pickled. Each chunk sends back only its sets'
+    figures and its part of the statistics.
 
     Parameters
     ----------
@@ -74,28 +74,23 @@ class LocalProcesses:
         if workers == 1 or len(job.sets) < self.min_sets:
             InProcess().run(job)
             return
-        global _SHARED
         method = self.start_method or _default_start_method()
-        _SHARED = job.rows if method == "fork" else None  # inherited by forked workers
-        try:
-            with ProcessPoolExecutor(max_workers=workers,
-                                     mp_context=multiprocessing.get_context(method),
-                                     initializer=_init_worker, initargs=(job.payload,)) as pool:
-                pending = {pool.submit(_worker_chunk, list(job.sets[start:stop]), start)
-                           for start, stop in job.chunk_bounds(workers * self.chunks_per_worker)}
-                try:
-                    while pending:
-                        finished, pending = wait(pending, timeout=0.1,
-                                                 return_when=FIRST_COMPLETED)
-                        for future in finished:
-                            job.add(future.result())
-                        job.check_cancel()
-                except BaseException:
-                    for future in pending:
-                        future.cancel()
-                    raise
-        finally:
-            _SHARED = None
+        with ProcessPoolExecutor(max_workers=workers,
+                                 mp_context=multiprocessing.get_context(method),
+                                 initializer=_init_worker, initargs=(job.payload,)) as pool:
+            pending = {pool.submit(_worker_chunk, list(job.sets[start:stop]), start)
+                       for start, stop in job.chunk_bounds(workers * self.chunks_per_worker)}
+            try:
+                while pending:
+                    finished, pending = wait(pending, timeout=0.1,
+                                             return_when=FIRST_COMPLETED)
+                    for future in finished:
+                        job.add(future.result())
+                    job.check_cancel()
+            except BaseException:
+                for future in pending:
+                    future.cancel()
+                raise
 
 
 def _default_start_method() -> str:
@@ -105,8 +100,6 @@ def _default_start_method() -> str:
     return "spawn"
 
 
-#: The job's daily rows in shared memory, set in the parent just before forking workers.
-_SHARED: DailyRows | None = None
 #: A worker process's chunk worker, set by its initializer.
 _WORKER: ChunkWorker | None = None
 
@@ -118,4 +111,4 @@ def _init_worker(payload: SweepPayload) -> None:
 
 def _worker_chunk(sets: list[Params], start: int) -> Chunk:
     assert _WORKER is not None, "worker used before its initializer ran"
-    return _WORKER.run(sets, start, rows=_SHARED)
+    return _WORKER.run(sets, start)

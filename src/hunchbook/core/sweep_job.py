@@ -3,27 +3,37 @@
 A sweep is split into chunks of neighbouring grid cells (which share most window functions,
 computed once per chunk through the backtest's cache). A runner (see
 :mod:`hunchbook.core.runners`) runs the chunks wherever it likes, each through a
-:class:`ChunkWorker` built once per process, and hands every finished :class:`Chunk` to
-:meth:`SweepJob.add` in any order. Each set leaves its daily portfolio gross P&L and cost on
-the union of dates plus per-market totals; per-(date, market) detail is not kept (re-run the
-sets you want to look at).
+:class:`ChunkWorker` built once per process from the job's :class:`SweepPayload`, and hands
+every finished :class:`Chunk` to :meth:`SweepJob.add` in any order.
+
+A chunk's daily rows never leave the worker: it returns each set's figures over its own
+history (:class:`~hunchbook.core.set_figures.SetFigures`) and its part of the statistics over
+the sweep's common period (:class:`~hunchbook.core.sweep_period.PeriodParts`). Memory grows
+with the days times a chunk's sets, not with the number of sets.
 """
 
 from __future__ import annotations
 
-import mmap
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from typing import Protocol
 
 import numpy as np
 
 from hunchbook.core.engine import Backtest
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.set_figures import SetFigures, set_figures
+from hunchbook.core.sweep_period import PeriodParts, PeriodPlan, period_parts
 
 Params = dict[str, float]
 Progress = Callable[[int, int], None]
 CancelCheck = Callable[[], bool]
+
+#: Largest working memory of one chunk's daily rows and their statistics (bytes): bounds the
+#: sets per chunk on long histories.
+CHUNK_BYTES = 128 * 2**20
+#: Bytes of working memory per set and day of a chunk (rows, net P&L, drawdown, statistics).
+BYTES_PER_SET_DAY = 64
 
 
 class SweepCancelled(HunchbookError):
@@ -31,79 +41,61 @@ class SweepCancelled(HunchbookError):
 
 
 @dataclass(frozen=True)
-class SweepOutcome:
-    """Daily portfolio P&L of every set, shaped ``(dates, sets)``, and per-market totals.
+class DailyRows:
+    """Daily portfolio gross P&L, cost and used-day flags on the union of dates, one row per
+    set, with each set's market-days with a trade and contracts traded."""
 
-    ``used`` marks the dates on which a set has any result row (a set starts once its
-    position is defined). Market arrays are shaped ``(sets, markets)``.
-    """
-
-    sets: tuple[dict[str, float], ...]
-    markets: tuple[str, ...]
-    dates: np.ndarray
     gross: np.ndarray
     cost: np.ndarray
     used: np.ndarray
-    contracts: np.ndarray
     trades: np.ndarray
-    market_gross: np.ndarray
-    market_cost: np.ndarray
-    market_gross_sq: np.ndarray
-    market_net_sq: np.ndarray
-    market_days: np.ndarray
-    market_contracts: np.ndarray
-    market_span_days: np.ndarray
+    contracts: np.ndarray
 
     @property
     def net(self) -> np.ndarray:
-        """Daily portfolio net P&L, ``(dates, sets)``."""
+        """Daily portfolio net P&L, (sets, days)."""
         return self.gross - self.cost
-
-
-@dataclass(frozen=True)
-class DailyRows:
-    """Daily portfolio gross P&L, cost and used-day flags, one row per set.
-
-    The rows live in one anonymous memory map, which child processes forked after the
-    allocation share with the parent: a forked worker writes its sets' rows in place.
-    """
-
-    gross: np.ndarray
-    cost: np.ndarray
-    used: np.ndarray
-
-    @classmethod
-    def allocate(cls, sets: int, days: int) -> DailyRows:
-        """Zeroed rows for ``sets`` sets over ``days`` days."""
-        sizes = (sets * days * 8, sets * days * 8, sets * days)
-        buffer = mmap.mmap(-1, max(1, sum(sizes)))
-        gross = np.frombuffer(buffer, np.float64, sets * days, 0).reshape(sets, days)
-        cost = np.frombuffer(buffer, np.float64, sets * days, sizes[0]).reshape(sets, days)
-        used = np.frombuffer(buffer, np.bool_, sets * days, sizes[0] + sizes[1])
-        return cls(gross=gross, cost=cost, used=used.reshape(sets, days))
-
-
-@dataclass(frozen=True)
-class Chunk:
-    """Per-market figures of the consecutive sets from ``start``, and their daily rows when
-    they were not written into the job's rows directly."""
-
-    start: int
-    contracts: np.ndarray
-    trades: np.ndarray
-    market: dict[str, np.ndarray]
-    daily: DailyRows | None = None
-
-    def __len__(self) -> int:
-        return len(self.contracts)
 
 
 @dataclass(frozen=True)
 class SweepPayload:
     """Everything a :class:`ChunkWorker` needs, sent once to each worker process or machine
-    (pickled, or inherited by a forked process)."""
+    (pickled, or inherited by a forked process): the backtest and the statistics' plan."""
 
     backtest: Backtest
+    plan: PeriodPlan
+
+
+@dataclass(frozen=True)
+class Chunk:
+    """The consecutive sets from ``start``: their own figures and their part of the
+    statistics over the common period."""
+
+    start: int
+    figures: SetFigures
+    period: PeriodParts
+
+    def __len__(self) -> int:
+        return len(self.figures)
+
+
+@dataclass(frozen=True)
+class SweepOutcome:
+    """Every set's figures (in grid order) and every chunk's part of the statistics, for the
+    plan they were computed by."""
+
+    sets: tuple[dict[str, float], ...]
+    markets: tuple[str, ...]
+    dates: np.ndarray
+    figures: SetFigures
+    plan: PeriodPlan
+    parts: tuple[PeriodParts, ...]
+
+    @property
+    def common_period(self) -> tuple[int, int]:
+        """Days ``[start, stop)`` on which every set has rows: from the day the last set starts
+        to the last day all still have rows (a rule's ``end`` stops them before the data)."""
+        return int(self.figures.first_day.max()), int(self.figures.end_day.min())
 
 
 class SweepJob:
@@ -115,6 +107,9 @@ class SweepJob:
         The prepared rule and panel.
     sets
         Parameter sets in grid order (neighbours adjacent, so chunks share window functions).
+    plan
+        What each chunk computes over the common period (see
+        :func:`~hunchbook.core.sweep_period.period_plan`).
     progress
         Called with (sets done, total) as chunks arrive.
     cancel
@@ -122,16 +117,15 @@ class SweepJob:
         given); True stops the sweep.
     """
 
-    def __init__(self, backtest: Backtest, sets: Sequence[Params], *,
+    def __init__(self, backtest: Backtest, sets: Sequence[Params], plan: PeriodPlan, *,
                  progress: Progress | None = None, cancel: CancelCheck | None = None) -> None:
         if not sets:
             raise ValueError("a sweep needs at least one parameter set")
         self.backtest = backtest
         self.sets = sets
+        self.plan = plan
         self.cancel = cancel
         self._progress = progress
-        #: Every set's daily rows (in memory that forked processes share).
-        self.rows = DailyRows.allocate(len(sets), len(backtest.panel.union_dates))
         self._chunks: list[Chunk] = []
         self._done = 0
 
@@ -139,11 +133,19 @@ class SweepJob:
     def payload(self) -> SweepPayload:
         """What each worker needs to run chunks of this job: build a
         :class:`ChunkWorker` from it once per process."""
-        return SweepPayload(self.backtest)
+        return SweepPayload(self.backtest, self.plan)
+
+    @property
+    def max_chunk_sets(self) -> int:
+        """Most sets in one chunk, so that a chunk's working memory stays within
+        :data:`CHUNK_BYTES`."""
+        days = len(self.backtest.panel.union_dates)
+        return max(8, CHUNK_BYTES // (BYTES_PER_SET_DAY * max(days, 1)))
 
     def chunk_bounds(self, chunks: int) -> list[tuple[int, int]]:
-        """(start, stop) of about ``chunks`` consecutive, equally sized slices of the sets."""
-        size = max(1, -(-len(self.sets) // max(1, chunks)))
+        """(start, stop) of about ``chunks`` consecutive, equally sized slices of the sets
+        (more when a slice would exceed :attr:`max_chunk_sets`)."""
+        size = min(max(1, -(-len(self.sets) // max(1, chunks))), self.max_chunk_sets)
         return [(b, min(b + size, len(self.sets))) for b in range(0, len(self.sets), size)]
 
     def check_cancel(self) -> None:
@@ -152,14 +154,7 @@ class SweepJob:
             raise SweepCancelled("sweep cancelled")
 
     def add(self, chunk: Chunk) -> None:
-        """Take a finished chunk (its daily rows are copied in when it carries them) and
-        report progress."""
-        stop = chunk.start + len(chunk)
-        if chunk.daily is not None:
-            self.rows.gross[chunk.start:stop] = chunk.daily.gross
-            self.rows.cost[chunk.start:stop] = chunk.daily.cost
-            self.rows.used[chunk.start:stop] = chunk.daily.used
-            chunk = replace(chunk, daily=None)
+        """Take a finished chunk and report progress."""
         self._chunks.append(chunk)
         self._done += len(chunk)
         if self._progress is not None:
@@ -176,16 +171,11 @@ class SweepJob:
             raise RuntimeError(f"the sweep runner returned {arrived.size} set results for "
                                f"{expected.size} sets, {missing} of them missing: each set "
                                "must arrive exactly once")
-        m = {k: np.vstack([c.market[k] for c in chunks]) for k in chunks[0].market}
         panel = self.backtest.panel
         return SweepOutcome(
             sets=tuple(dict(s) for s in self.sets), markets=panel.markets,
-            dates=panel.union_dates, gross=self.rows.gross.T, cost=self.rows.cost.T,
-            used=self.rows.used.T, contracts=np.concatenate([c.contracts for c in chunks]),
-            trades=np.concatenate([c.trades for c in chunks]),
-            market_gross=m["gross"], market_cost=m["cost"], market_gross_sq=m["gross_sq"],
-            market_net_sq=m["net_sq"], market_days=m["days"], market_contracts=m["contracts"],
-            market_span_days=m["span_days"])
+            dates=panel.union_dates, figures=SetFigures.join([c.figures for c in chunks]),
+            plan=self.plan, parts=tuple(c.period for c in chunks))
 
 
 class SweepRunner(Protocol):
@@ -206,19 +196,30 @@ class ChunkWorker:
 
     def __init__(self, payload: SweepPayload) -> None:
         self.backtest = payload.backtest
+        self.plan = payload.plan
         self._agg = _Aggregator(self.backtest)
 
-    def run(self, sets: Sequence[Params], start: int, *, rows: DailyRows | None = None,
+    def run(self, sets: Sequence[Params], start: int, *,
             cancel: CancelCheck | None = None) -> Chunk:
-        """Run consecutive parameter sets, the first being set ``start`` of the sweep.
+        """Run consecutive parameter sets, the first being set ``start`` of the sweep."""
+        rows = self.rows(sets, cancel=cancel)
+        plan = self.plan
+        net = rows.net
+        figures = set_figures(rows.gross, rows.cost, rows.used, rows.trades, rows.contracts,
+                              self._agg.union_dates)
+        return Chunk(start=start, figures=figures,
+                     period=period_parts(plan, net[:, plan.start:plan.stop].T, start))
 
-        With ``rows`` (the job's, in this process or shared with it) their daily rows are
-        written there; without, the chunk carries its own.
-        """
-        daily = rows if rows is not None else DailyRows.allocate(len(sets), self._agg.days)
-        offset = start if rows is not None else 0
-        chunk = _run_sets(self.backtest, sets, daily, offset, self._agg, cancel)
-        return replace(chunk, start=start, daily=None if rows is not None else daily)
+    def rows(self, sets: Sequence[Params], *, cancel: CancelCheck | None = None) -> DailyRows:
+        """The daily rows of these parameter sets."""
+        return _run_sets(self.backtest, sets, self._agg, cancel)
+
+
+def daily_rows(backtest: Backtest, sets: Sequence[Params], *,
+               cancel: CancelCheck | None = None) -> DailyRows:
+    """The daily rows of parameter sets, run here (a sweep's pilot sets, its chosen set, the
+    sets the walk-forward test traded, an idea's earlier trials)."""
+    return _run_sets(backtest, sets, _Aggregator(backtest), cancel)
 
 
 class _Aggregator:
@@ -246,11 +247,7 @@ class _Aggregator:
         self.day_of_bar = np.where(window, panel.date_index, self.days)
         self.day_of_bar = np.vstack([self.day_of_bar, np.full((1, markets), self.days)])
         self.cols = np.arange(markets)
-        self.last_bar = bars - 1 - window[::-1].argmax(axis=0)
-        self.dates = panel.dates.astype(np.int64)
-        # rows_from[t, m]: window bars of market m at or after bar t (row ``bars`` holds 0)
-        self.rows_from = np.vstack([np.cumsum(window[::-1], axis=0)[::-1],
-                                    np.zeros((1, markets), dtype=np.int64)])
+        self.union_dates = panel.union_dates
 
     def by_day(self, values: np.ndarray) -> np.ndarray:
         """(days, markets) view of ``values`` on the union dates (zero where no bar)."""
@@ -269,42 +266,24 @@ class _Aggregator:
         return used
 
 
-def _run_sets(backtest: Backtest, sets: Sequence[Params], daily: DailyRows, offset: int,
-              agg: _Aggregator, cancel: CancelCheck | None) -> Chunk:
-    """Run consecutive parameter sets, writing their daily rows into ``daily`` from ``offset``
-    and returning their per-market figures."""
-    k, m = len(sets), len(backtest.panel.markets)
+def _run_sets(backtest: Backtest, sets: Sequence[Params], agg: _Aggregator,
+              cancel: CancelCheck | None) -> DailyRows:
+    """Run parameter sets into their daily rows."""
+    k, days = len(sets), agg.days
+    gross, cost = np.empty((k, days)), np.empty((k, days))
+    used = np.empty((k, days), dtype=bool)
     contracts, trades = np.zeros(k), np.zeros(k)
-    market = {name: np.zeros((k, m)) for name in
-              ("gross", "cost", "gross_sq", "net_sq", "days", "contracts", "span_days")}
     cost_per_contract = backtest.panel.cost_per_contract
-    ones_d, ones_m = np.ones(agg.days), np.ones(m)
+    ones_m = np.ones(len(backtest.panel.markets))
     for i, params in enumerate(sets):
         if cancel is not None and cancel():
             raise SweepCancelled("sweep cancelled")
         out = backtest.run(params)
         g, t = agg.by_day(out.gross), agg.by_day(out.traded)
-        row = offset + i
         # sums as matrix-vector products: much faster than reductions along an axis
-        daily.gross[row] = g @ ones_m
-        daily.cost[row] = t @ cost_per_contract
-        daily.used[row] = agg.used(out.first)
-        market_traded = ones_d @ t
-        contracts[i] = market_traded.sum()
+        gross[i] = g @ ones_m
+        cost[i] = t @ cost_per_contract
+        used[i] = agg.used(out.first)
+        contracts[i] = t.sum()
         trades[i] = np.count_nonzero(t > 0)
-        gross_sq = ones_d @ (g * g)
-        gross_traded = ones_d @ (g * t)
-        traded_sq = ones_d @ (t * t)
-        market["gross"][i] = ones_d @ g
-        market["cost"][i] = market_traded * cost_per_contract
-        market["gross_sq"][i] = gross_sq
-        # sum of (gross - traded x cost)^2, expanded
-        market["net_sq"][i] = (gross_sq - 2 * cost_per_contract * gross_traded
-                               + cost_per_contract ** 2 * traded_sq)
-        market["contracts"][i] = market_traded
-        days = agg.rows_from[out.first, agg.cols]
-        market["days"][i] = days
-        first_bar = np.minimum(out.first, len(out.gross) - 1)
-        market["span_days"][i] = np.where(
-            days > 0, agg.dates[agg.last_bar, agg.cols] - agg.dates[first_bar, agg.cols] + 1, 0)
-    return Chunk(start=offset, contracts=contracts, trades=trades, market=market)
+    return DailyRows(gross=gross, cost=cost, used=used, trades=trades, contracts=contracts)

@@ -80,28 +80,50 @@ def effective_trials(net: np.ndarray, *, max_sets: int = MAX_SETS) -> EffectiveT
     - A set whose P&L never changes (for example one that never trades) cannot be correlated
       with anything; each counts as one independent trial, which is conservative (a larger
       count makes a correction for the number of trials stricter).
-    - With more than ``max_sets`` varying sets, the count ``m`` is taken on ``max_sets`` of them
-      spaced evenly along the columns (deterministic) and scaled linearly:
-      ``m * varying / max_sets``. On a smooth parameter grid the effective count grows more
-      slowly than the number of sets, so linear scaling over-counts: the deflated Sharpe ratio
-      gets stricter, never laxer.
+    - With more than ``max_sets`` sets, the count is taken on ``max_sets`` of them spaced
+      evenly along the columns (:func:`sample_columns`, deterministic, so a sweep run chunk by
+      chunk keeps just those columns) and scaled linearly to every varying set:
+      ``m * varying / varying in the sample``. On a smooth parameter grid the effective count
+      grows more slowly than the number of sets, so linear scaling over-counts: the deflated
+      Sharpe ratio gets stricter, never laxer.
     - The result is clipped to [1, K]; one set gives 1.
 
     Li & Ji (2005), Heredity 95(3), 221-227.
     """
     x = as_matrix(net, "net P&L matrix")
-    max_sets = as_count(max_sets, "max_sets", minimum=2)
     n_sets = x.shape[1]
-    varying = np.flatnonzero(~np.all(x == x[0], axis=0))
-    n_varying = varying.size
-    sampled = None
-    if n_varying > max_sets:
-        varying = varying[np.round(np.linspace(0, n_varying - 1, max_sets)).astype(np.intp)]
-        sampled = max_sets
-    columns = x if varying.size == n_sets else x[:, varying]
-    count = li_ji_count(_correlation(columns)) if n_varying else 0.0
-    if sampled:
-        count *= n_varying / sampled
+    picked = sample_columns(n_sets, max_sets)
+    varying = int(np.count_nonzero(varies(x)))
+    return effective_from_sample(x if picked is None else x[:, picked], n_sets=n_sets,
+                                 n_varying=varying)
+
+
+def sample_columns(n_sets: int, max_sets: int = MAX_SETS) -> np.ndarray | None:
+    """The ``max_sets`` columns, spaced evenly, whose correlation stands for all ``n_sets``;
+    None when every column is used."""
+    max_sets = as_count(max_sets, "max_sets", minimum=2)
+    if n_sets <= max_sets:
+        return None
+    return np.unique(np.round(np.linspace(0, n_sets - 1, max_sets)).astype(np.intp))
+
+
+def varies(x: np.ndarray) -> np.ndarray:
+    """True for each column (of days x sets) whose P&L is not the same every day."""
+    return ~np.all(x == x[:1], axis=0)
+
+
+def effective_from_sample(sample: np.ndarray, *, n_sets: int,
+                          n_varying: int) -> EffectiveTrials:
+    """The effective number of ``n_sets`` trials (``n_varying`` of them varying) from the daily
+    net P&L of the columns :func:`sample_columns` picked (all columns when it picked none)."""
+    moving = sample[:, varies(sample)]
+    sampled = None if sample.shape[1] == n_sets else moving.shape[1]
+    if moving.shape[1] == 0:
+        count = float(n_varying)  # nothing to correlate: every varying set counts
+    else:
+        count = li_ji_count(_correlation(moving))
+        if sampled:
+            count *= n_varying / sampled
     effective = min(max(count + (n_sets - n_varying), 1.0), float(n_sets))
     return EffectiveTrials(raw=n_sets, effective=effective, method=METHOD, sampled=sampled)
 

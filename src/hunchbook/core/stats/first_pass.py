@@ -276,10 +276,8 @@ def first_pass_statistics(
         raise HunchbookError(f"gross P&L: first-pass statistics need at least 3 days, got {n_days}")
     periods = as_count(periods, "periods")
     net_m = gross_m - cost_m
-    net_sharpes = _column_sharpes(net_m, periods)
+    net_sharpes = column_sharpes(net_m, periods)
     chosen = _chosen(chosen, net_sharpes)
-    notes: list[str] = []
-
     trials_m = net_m
     if other_net is not None:
         others = as_matrix(other_net, "earlier trials' net P&L")
@@ -287,44 +285,15 @@ def first_pass_statistics(
             raise HunchbookError(f"earlier trials' net P&L: expected {n_days} days like the "
                                  f"gross P&L, got {others.shape[0]}")
         trials_m = np.hstack([net_m, others])
-    extra_sharpes = np.asarray(other_trial_sharpes, dtype=float).ravel()
-    counted = trials_m.shape[1] + extra_sharpes.size
-    n_trials = counted if n_trials is None else as_count(n_trials, "number of trials")
-    if trial_sharpe_var is None:
-        all_sharpes = np.concatenate([_column_sharpes(trials_m, periods), extra_sharpes])
-        finite = all_sharpes[np.isfinite(all_sharpes)]
-        trial_sharpe_var = float(np.var(finite, ddof=1)) if finite.size > 1 else 0.0
-    else:
-        trial_sharpe_var = as_number(trial_sharpe_var, "trial Sharpe variance")
-    effective = None if effective_trials is None else min(
-        float(n_trials), as_number(effective_trials, "effective number of trials"))
-    if effective is None and trials_m.shape[1] > 1:
-        estimate = estimate_effective_trials(trials_m)
-        effective = min(float(n_trials),
-                        estimate.effective + max(n_trials - trials_m.shape[1], 0))
-    if n_trials == 1:
-        notes.append("One trial: no selection to correct for, so the DSR equals PSR(0).")
-    dsr_trials = (n_trials if effective is None
-                  else max(1, min(n_trials, math.ceil(effective - 1e-9))))
-
-    gross_stats = _series_stats(gross_m[:, chosen], periods)
-    net_stats = _series_stats(net_m[:, chosen], periods)
-    sr0 = expected_max_sharpe(dsr_trials, trial_sharpe_var)
-    dsr = deflated_sharpe(net_stats.sharpe_per_period, n_days, net_stats.skew,
-                          net_stats.kurtosis, dsr_trials, trial_sharpe_var, periods)
-    gross_dsr = deflated_sharpe(gross_stats.sharpe_per_period, n_days, gross_stats.skew,
-                                gross_stats.kurtosis, dsr_trials, trial_sharpe_var, periods)
-
+    estimate = None
+    if effective_trials is None and trials_m.shape[1] > 1:
+        estimate = estimate_effective_trials(trials_m).effective
     spa_reps = as_count(spa_reps, "SPA replications", minimum=0)
-    spa = (spa_test(trials_m, reps=spa_reps, block_size=block_size, seed=seed)
-           if spa_reps > 0 else None)
-
-    cells = None
-    stability = None
-    if grid_shape is not None:
-        cells = _cells(cell_index, grid_shape, n_sets)
-        stability = _stability(net_sharpes, cells, grid_shape, chosen, spike_spread_multiple,
-                               spike_min_ratio)
+    trials = TrialFigures(
+        net_sharpes=net_sharpes, other_sharpes=column_sharpes(trials_m[:, n_sets:], periods),
+        effective=estimate,
+        spa=(spa_test(trials_m, reps=spa_reps, block_size=block_size, seed=seed)
+             if spa_reps > 0 else None))
     contracts = None
     if contracts_traded is not None:
         traded = np.asarray(contracts_traded, dtype=float).ravel()
@@ -332,15 +301,107 @@ def first_pass_statistics(
             raise HunchbookError(f"contracts traded: expected one total per set ({n_sets}), "
                                  f"got {traded.size}")
         contracts = float(traded[chosen])
-    costs = _cost_stats(gross_m[:, chosen], cost_m[:, chosen], cost_multiples, periods, contracts)
+    return judge_choice(
+        gross_m[:, chosen], cost_m[:, chosen], trials, chosen=chosen, grid_shape=grid_shape,
+        cell_index=cell_index, n_trials=n_trials, trial_sharpe_var=trial_sharpe_var,
+        effective_trials=effective_trials, other_trial_sharpes=other_trial_sharpes,
+        selection_known=selection_known, walk_forward=walk_forward, overfitting=overfitting,
+        contracts_traded=contracts, periods=periods, cost_multiples=cost_multiples,
+        spike_spread_multiple=spike_spread_multiple, spike_min_ratio=spike_min_ratio)
+
+
+@dataclass(frozen=True)
+class TrialFigures:
+    """What the statistics need of every trial on the common days, however it was computed
+    (from the whole P&L matrix, or chunk by chunk of a sweep).
+
+    ``net_sharpes`` are the annualised net Sharpe ratios of this sweep's sets and
+    ``other_sharpes`` those of the earlier trials recomputed on the same days; ``effective``
+    the Li-Ji effective number of all those columns (None: not estimated); ``spa`` the SPA
+    test over them (None: not run).
+    """
+
+    net_sharpes: np.ndarray
+    other_sharpes: np.ndarray
+    effective: float | None
+    spa: SpaResult | None
+
+    @property
+    def columns(self) -> int:
+        """Trials whose daily P&L was recomputed on the common days."""
+        return self.net_sharpes.size + self.other_sharpes.size
+
+
+def judge_choice(
+    gross: np.ndarray,
+    cost: np.ndarray,
+    trials: TrialFigures,
+    *,
+    chosen: int,
+    grid_shape: tuple[int, ...] | None = None,
+    cell_index: np.ndarray | None = None,
+    n_trials: int | None = None,
+    trial_sharpe_var: float | None = None,
+    effective_trials: float | None = None,
+    other_trial_sharpes: Sequence[float] = (),
+    selection_known: bool = True,
+    walk_forward: WalkForwardResult | None = None,
+    overfitting: OverfitResult | None = None,
+    contracts_traded: float | None = None,
+    periods: int = DAYS_PER_YEAR,
+    cost_multiples: tuple[float, ...] = COST_MULTIPLES,
+    spike_spread_multiple: float = SPIKE_SPREAD_MULTIPLE,
+    spike_min_ratio: float = SPIKE_MIN_RATIO,
+) -> FirstPassStats:
+    """The statistics of the chosen set (its daily ``gross`` and ``cost`` on the common days)
+    given what every trial showed (``trials``); the other arguments as in
+    :func:`first_pass_statistics` (``contracts_traded`` the chosen set's own total)."""
+    gross = np.asarray(gross, dtype=float).ravel()
+    cost = np.asarray(cost, dtype=float).ravel()
+    n_days, n_sets = gross.size, trials.net_sharpes.size
+    notes: list[str] = []
+    extra_sharpes = np.asarray(other_trial_sharpes, dtype=float).ravel()
+    counted = trials.columns + extra_sharpes.size
+    n_trials = counted if n_trials is None else as_count(n_trials, "number of trials")
+    if trial_sharpe_var is None:
+        all_sharpes = np.concatenate([trials.net_sharpes, trials.other_sharpes, extra_sharpes])
+        finite = all_sharpes[np.isfinite(all_sharpes)]
+        trial_sharpe_var = float(np.var(finite, ddof=1)) if finite.size > 1 else 0.0
+    else:
+        trial_sharpe_var = as_number(trial_sharpe_var, "trial Sharpe variance")
+    effective = None if effective_trials is None else min(
+        float(n_trials), as_number(effective_trials, "effective number of trials"))
+    if effective is None and trials.effective is not None:
+        effective = min(float(n_trials),
+                        trials.effective + max(n_trials - trials.columns, 0))
+    if n_trials == 1:
+        notes.append("One trial: no selection to correct for, so the DSR equals PSR(0).")
+    dsr_trials = (n_trials if effective is None
+                  else max(1, min(n_trials, math.ceil(effective - 1e-9))))
+
+    gross_stats = _series_stats(gross, periods)
+    net_stats = _series_stats(gross - cost, periods)
+    sr0 = expected_max_sharpe(dsr_trials, trial_sharpe_var)
+    dsr = deflated_sharpe(net_stats.sharpe_per_period, n_days, net_stats.skew,
+                          net_stats.kurtosis, dsr_trials, trial_sharpe_var, periods)
+    gross_dsr = deflated_sharpe(gross_stats.sharpe_per_period, n_days, gross_stats.skew,
+                                gross_stats.kurtosis, dsr_trials, trial_sharpe_var, periods)
+    cells = None
+    stability = None
+    if grid_shape is not None:
+        cells = _cells(cell_index, grid_shape, n_sets)
+        stability = _stability(trials.net_sharpes, cells, grid_shape, chosen,
+                               spike_spread_multiple, spike_min_ratio)
+    costs = _cost_stats(gross, cost, cost_multiples, periods, contracts_traded)
 
     return FirstPassStats(
         n_days=n_days, n_sets=n_sets, periods=periods, chosen=chosen,
         chosen_cell=None if cells is None else int(cells[chosen]),
         gross=gross_stats, net=net_stats, dsr=dsr, expected_max_sharpe=sr0,
-        n_trials=n_trials, trial_sharpe_var=trial_sharpe_var, spa=spa, stability=stability,
-        costs=costs, notes=tuple(notes), gross_dsr=gross_dsr, effective_trials=effective,
-        selection_known=bool(selection_known), spa_set_count=trials_m.shape[1],
+        n_trials=n_trials, trial_sharpe_var=trial_sharpe_var, spa=trials.spa,
+        stability=stability, costs=costs, notes=tuple(notes), gross_dsr=gross_dsr,
+        effective_trials=effective, selection_known=bool(selection_known),
+        spa_set_count=trials.columns,
         overfitting=None if overfitting is None else OverfitStats(
             pbo=overfitting.pbo, splits=overfitting.splits,
             combinations=overfitting.combinations,
@@ -376,9 +437,15 @@ def selection_tests(net: np.ndarray, *, periods: int = DAYS_PER_YEAR
     (16 splits, fewer on a short history) of choosing the best of a sweep's sets (T x K daily
     net P&L); None for a test that does not apply (one set, too few days)."""
     net_m = as_matrix(net, "net P&L")
-    splits = min(PBO_SPLITS, 2 * (net_m.shape[0] // (2 * MIN_BLOCK_DAYS)))
+    splits = pbo_splits(net_m.shape[0])
     overfit = backtest_overfitting(net_m, splits=splits) if splits >= 2 else None
     return walk_forward_test(net_m, periods=periods), overfit
+
+
+def pbo_splits(n_days: int) -> int:
+    """Blocks of the PBO on a history of ``n_days``: 16, fewer on a short history (blocks of at
+    least 21 days); below 2 the PBO does not apply."""
+    return min(PBO_SPLITS, 2 * (n_days // (2 * MIN_BLOCK_DAYS)))
 
 
 def _series_stats(x: np.ndarray, periods: int) -> SeriesStats:
@@ -396,7 +463,9 @@ def _series_stats(x: np.ndarray, periods: int) -> SeriesStats:
         min_trl_days=min_trl, min_trl_years=min_trl / periods)
 
 
-def _column_sharpes(x: np.ndarray, periods: int) -> np.ndarray:
+def column_sharpes(x: np.ndarray, periods: int) -> np.ndarray:
+    """Annualised Sharpe ratio (mean / sd, ddof 1) of each column of days x sets; NaN where
+    a column does not vary."""
     sd = x.std(axis=0, ddof=1)
     out = np.full(x.shape[1], np.nan)
     np.divide(x.mean(axis=0), sd, out=out, where=sd > 0)

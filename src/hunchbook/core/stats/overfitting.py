@@ -94,16 +94,31 @@ def backtest_overfitting(net: np.ndarray, *, splits: int = 16,
     (``T < 2 S``). ``splits`` must be even, from 2 to 20.
     """
     splits = _check_splits(splits)
-    score = _check_statistic(statistic)
+    _check_statistic(statistic)
     x = as_matrix(net, "net P&L matrix")
     n_days, n_sets = x.shape
     if n_sets < 2 or n_days < 2 * splits:
         return None
+    return overfitting_from_blocks(*block_sums(x, splits), n_days=n_days, statistic=statistic)
+
+
+def block_sums(net: np.ndarray, splits: int) -> tuple[np.ndarray, np.ndarray]:
+    """Each set's sum and sum of squares of daily net P&L (days x sets) over each of the
+    ``splits`` equal blocks of CSCV (the oldest ``T mod S`` days dropped): two (S, K) arrays."""
+    n_days, n_sets = net.shape
+    length = n_days // splits
+    blocks = net[n_days - length * splits:].reshape(splits, length, n_sets)
+    return blocks.sum(axis=1), np.einsum("slk,slk->sk", blocks, blocks)
+
+
+def overfitting_from_blocks(sums: np.ndarray, squares: np.ndarray, *, n_days: int,
+                            statistic: str = "sharpe") -> OverfitResult:
+    """The PBO from every set's :func:`block_sums` over a history of ``n_days`` days (see
+    :func:`backtest_overfitting`)."""
+    score = _check_statistic(statistic)
+    splits, n_sets = sums.shape
     length = n_days // splits
     dropped = n_days - length * splits
-    blocks = x[dropped:].reshape(splits, length, n_sets)
-    sums = blocks.sum(axis=1)
-    squares = np.einsum("slk,slk->sk", blocks, blocks)
     member = _membership(splits)
     n_splits = member.shape[0]
     half_days = splits // 2 * length

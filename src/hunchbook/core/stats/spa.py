@@ -149,6 +149,72 @@ def spa_test(pnl: np.ndarray, *, reps: int = 1000, block_size: float | None = No
                      studentize=studentize)
 
 
+@dataclass(frozen=True)
+class SpaPlan:
+    """The bootstrap of an SPA test over ``n_obs`` days, the same for every chunk of sets."""
+
+    n_obs: int
+    reps: int
+    block_size: float
+    seed: int
+
+
+@dataclass(frozen=True)
+class SpaPartial:
+    """One chunk of sets' part of the SPA test: its observed maximum and best column, and per
+    replication the maximum over its sets of each recentred statistic (3 x reps)."""
+
+    statistic: float
+    best_set: int
+    maxima: np.ndarray
+
+
+def spa_plan(n_obs: int, *, reps: int = 1000, block_size: float | None = None,
+             seed: int = 0) -> SpaPlan:
+    """The bootstrap of the SPA test over ``n_obs`` days (block size default ``int(sqrt(T))``)."""
+    block = float(int(math.sqrt(n_obs))) if block_size is None else float(block_size)
+    return SpaPlan(n_obs=n_obs, reps=as_count(reps, "bootstrap replications"),
+                   block_size=block, seed=seed)
+
+
+def spa_partial(plan: SpaPlan, pnl: np.ndarray, *, first_column: int = 0,
+                studentize: str = "sample") -> SpaPartial:
+    """The part of the columns of ``pnl`` (T x k), the first being column ``first_column``."""
+    x = as_matrix(pnl, "P&L matrix")
+    p = _restart_probability(plan.block_size)
+    means = x.mean(axis=0)
+    variances = _stationary_bootstrap_variance(x, means, p)
+    std_err = np.sqrt(np.where(variances > 0, variances, 0.0) / plan.n_obs)
+    threshold = -std_err * math.sqrt(max(2.0 * math.log(math.log(plan.n_obs)), 0.0))
+    scale = _scale(studentize, x, std_err)
+    recentre = np.stack([np.maximum(means, 0.0), np.where(means >= threshold, means, 0.0),
+                         means])
+    observed = means / scale
+    chunk = max(1, CHUNK_BYTES // (8 * plan.n_obs))
+    maxima = np.empty((3, plan.reps))
+    done = 0
+    for idx in _index_chunks(np.random.default_rng(plan.seed), plan.n_obs, plan.reps, p,
+                             chunk):
+        boot_means = _resample_counts(idx, plan.n_obs) @ x / plan.n_obs
+        for j in range(3):
+            maxima[j, done:done + len(idx)] = ((boot_means - recentre[j]) / scale).max(axis=1)
+        done += len(idx)
+    best = int(np.argmax(observed))
+    return SpaPartial(statistic=float(observed[best]), best_set=first_column + best,
+                      maxima=maxima)
+
+
+def spa_combine(plan: SpaPlan, partials: list[SpaPartial],
+                studentize: str = "sample") -> SpaResult:
+    """The SPA test over every chunk's columns."""
+    best = max(partials, key=lambda q: (q.statistic, -q.best_set))
+    maxima = np.max([q.maxima for q in partials], axis=0)
+    pvalues = np.count_nonzero(maxima >= best.statistic, axis=1) / plan.reps
+    return SpaResult(lower=float(pvalues[0]), consistent=float(pvalues[1]),
+                     upper=float(pvalues[2]), statistic=best.statistic, best_set=best.best_set,
+                     block_size=plan.block_size, reps=plan.reps, studentize=studentize)
+
+
 def _scale(studentize: str, x: np.ndarray, long_run_err: np.ndarray) -> np.ndarray:
     """Divisor of each set's mean; sets without variation get an infinite one (t = 0)."""
     if studentize == "none":

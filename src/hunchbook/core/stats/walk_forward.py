@@ -72,6 +72,81 @@ def default_windows(n_days: int, periods: int = DAYS_PER_YEAR,
     return train, test
 
 
+@dataclass(frozen=True)
+class WalkForwardPlan:
+    """Where a walk-forward test's windows lie on a history of ``n_days`` days.
+
+    Test period i runs from ``starts[i]`` for ``test_days`` days, and its set is chosen on the
+    days from ``first[i]`` to ``starts[i]``; ``edges`` are the distinct window edges (0 and
+    ``n_days`` included) at which :func:`segment_sums` sums each set.
+    """
+
+    n_days: int
+    train_days: int
+    test_days: int
+    anchored: bool
+    starts: np.ndarray
+    first: np.ndarray
+    edges: np.ndarray
+
+    @property
+    def start(self) -> int:
+        """The first out-of-sample day."""
+        return int(self.starts[0])
+
+
+def walk_forward_plan(n_days: int, n_sets: int, *, train_days: int | None = None,
+                      test_days: int | None = None, anchored: bool = False,
+                      periods: int = DAYS_PER_YEAR) -> WalkForwardPlan | None:
+    """The windows of a walk-forward test (see :func:`walk_forward`), or None when it does not
+    apply (fewer than 2 sets, or fewer than 2 test periods fit)."""
+    periods = as_count(periods, "periods")
+    if not isinstance(anchored, bool | np.bool_):
+        raise HunchbookError(f"anchored: expected true or false, got {anchored!r}")
+    if test_days is not None:
+        test_days = as_count(test_days, "test_days")
+    train, test = default_windows(n_days, periods, test_days)
+    if train_days is not None:
+        train = as_count(train_days, "train_days", minimum=2)
+    if n_sets < 2 or test < 1 or train < 2 or (n_days - train) // test < 2:
+        return None
+    n_periods = (n_days - train) // test
+    start = n_days - n_periods * test
+    starts = start + test * np.arange(n_periods)
+    first = np.zeros(n_periods, dtype=np.intp) if anchored else starts - train
+    edges = np.unique(np.concatenate([[0, n_days], first, starts]))
+    return WalkForwardPlan(n_days=n_days, train_days=train, test_days=test,
+                           anchored=bool(anchored), starts=starts, first=first, edges=edges)
+
+
+def walk_forward_choices(plan: WalkForwardPlan, sums: np.ndarray,
+                         squares: np.ndarray) -> tuple[np.ndarray, float]:
+    """The set chosen for each test period, and the best per-period Sharpe ratio over all
+    days, from every set's :func:`segment_sums` at ``plan.edges``."""
+    lo, hi = np.searchsorted(plan.edges, plan.first), np.searchsorted(plan.edges, plan.starts)
+    lengths = (plan.starts - plan.first)[:, None]
+    scores = sharpe_from_sums(sums[hi] - sums[lo], squares[hi] - squares[lo], lengths)
+    full = sharpe_from_sums(sums[-1], squares[-1], plan.n_days)
+    return np.argmax(scores, axis=1), float(full.max())
+
+
+def walk_forward_result(plan: WalkForwardPlan, chosen: np.ndarray, oos: np.ndarray,
+                        best_sharpe: float, periods: int = DAYS_PER_YEAR) -> WalkForwardResult:
+    """The test's record from the chosen sets (:func:`walk_forward_choices`) and their spliced
+    out-of-sample daily net P&L (days ``plan.start`` to the end)."""
+    oos = np.array(oos, dtype=float)
+    oos.flags.writeable = False
+    skew, kurt = moments(oos)
+    return WalkForwardResult(
+        train_days=plan.train_days, test_days=plan.test_days, anchored=plan.anchored,
+        start=plan.start, chosen=tuple(chosen.tolist()),
+        period_starts=tuple(plan.starts.tolist()), oos_pnl=oos,
+        changed_share=float(np.mean(chosen[1:] != chosen[:-1])),
+        oos_sharpe=sharpe_ratio(oos, periods),
+        oos_psr=probabilistic_sharpe(sharpe_ratio(oos, 1), oos.size, skew, kurt),
+        in_sample_sharpe=best_sharpe * math.sqrt(periods))
+
+
 def walk_forward(net: np.ndarray, *, train_days: int | None = None,
                  test_days: int | None = None, anchored: bool = False,
                  periods: int = DAYS_PER_YEAR) -> WalkForwardResult | None:
@@ -95,44 +170,18 @@ def walk_forward(net: np.ndarray, *, train_days: int | None = None,
     Returns None with fewer than 2 sets or when fewer than 2 test periods fit.
     """
     x = as_matrix(net, "net P&L matrix")
-    periods = as_count(periods, "periods")
-    if not isinstance(anchored, bool | np.bool_):
-        raise HunchbookError(f"anchored: expected true or false, got {anchored!r}")
-    n_days, n_sets = x.shape
-    if test_days is not None:
-        test_days = as_count(test_days, "test_days")
-    train, test = default_windows(n_days, periods, test_days)
-    if train_days is not None:
-        train = as_count(train_days, "train_days", minimum=2)
-    if n_sets < 2 or test < 1 or train < 2 or (n_days - train) // test < 2:
+    plan = walk_forward_plan(x.shape[0], x.shape[1], train_days=train_days,
+                             test_days=test_days, anchored=anchored, periods=periods)
+    if plan is None:
         return None
-    n_periods = (n_days - train) // test
-    start = n_days - n_periods * test
-    starts = start + test * np.arange(n_periods)
-    first = np.zeros(n_periods, dtype=np.intp) if anchored else starts - train
-
-    edges = np.unique(np.concatenate([[0, n_days], first, starts]))
-    sums, squares = _prefix_sums(x, edges)
-    lo, hi = np.searchsorted(edges, first), np.searchsorted(edges, starts)
-    lengths = (starts - first)[:, None]
-    scores = sharpe_from_sums(sums[hi] - sums[lo], squares[hi] - squares[lo], lengths)
-    chosen = np.argmax(scores, axis=1)
-
-    oos = x[np.arange(start, n_days), np.repeat(chosen, test)]
-    oos.flags.writeable = False
-    skew, kurt = moments(oos)
-    full = sharpe_from_sums(sums[-1], squares[-1], n_days)
-    return WalkForwardResult(
-        train_days=train, test_days=test, anchored=bool(anchored), start=int(start),
-        chosen=tuple(chosen.tolist()), period_starts=tuple(starts.tolist()), oos_pnl=oos,
-        changed_share=float(np.mean(chosen[1:] != chosen[:-1])),
-        oos_sharpe=sharpe_ratio(oos, periods),
-        oos_psr=probabilistic_sharpe(sharpe_ratio(oos, 1), oos.size, skew, kurt),
-        in_sample_sharpe=float(full.max()) * math.sqrt(periods))
+    chosen, best = walk_forward_choices(plan, *segment_sums(x, plan.edges))
+    oos = x[np.arange(plan.start, plan.n_days), np.repeat(chosen, plan.test_days)]
+    return walk_forward_result(plan, chosen, oos, best, periods)
 
 
-def _prefix_sums(x: np.ndarray, edges: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Sums and sums of squares of each column over rows ``[0, e)`` for each edge ``e``."""
+def segment_sums(x: np.ndarray, edges: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Sums and sums of squares of each column of ``x`` (days x sets) over rows ``[0, e)`` for
+    each edge ``e``."""
     sums = np.zeros((edges.size, x.shape[1]))
     squares = np.zeros((edges.size, x.shape[1]))
     for i in range(1, edges.size):
