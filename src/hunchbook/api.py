@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import datetime as dt
 import os
-from collections.abc import Iterator, Mapping, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING, Any
 
@@ -27,9 +27,17 @@ from hunchbook.core.rules import locate_error, parse_rules, read_rule_text, read
 from hunchbook.core.rules.model import SERIES_NAMES, RuleSpec
 from hunchbook.core.stats.first_pass import TrialFigures, judge_choice
 from hunchbook.core.stats.walk_forward import walk_forward_choices, walk_forward_result
-from hunchbook.core.sweep import CancelCheck, Progress, SweepOutcome, SweepRunner, run_sweep
+from hunchbook.core.sweep import (
+    CancelCheck,
+    LocalProcesses,
+    Progress,
+    SweepCancelled,
+    SweepOutcome,
+    SweepRunner,
+    run_sweep,
+)
 from hunchbook.core.sweep_estimate import SweepEstimate, estimate_sweep
-from hunchbook.core.sweep_job import daily_rows
+from hunchbook.core.sweep_job import SweepRefused, daily_rows
 from hunchbook.core.sweep_period import combine_parts, period_parts
 from hunchbook.core.verdict import Check, Verdict, decide
 
@@ -263,7 +271,7 @@ class Study:
               cancel: CancelCheck | None = None, earlier: EarlierTrials | None = None,
               spa_reps: int = 1000, seed: int = 0,
               warnings: Sequence[Check] = (),
-              estimate: SweepEstimate | None = None) -> SweepReport:
+              confirm: Callable[[SweepEstimate], bool] | None = None) -> SweepReport:
         """Run the whole declared parameter space and judge one set of it.
 
         Every declared set runs and counts as a trial, whichever set is judged: a set picked
@@ -284,12 +292,26 @@ class Study:
         warnings
             Checks that only warn, added to the verdict (see
             :func:`hunchbook.core.verdict.warning`).
-        estimate
-            The sweep's estimate (:meth:`estimate`), when one was made and confirmed.
+        confirm
+            Asked, with the sweep's estimate (:meth:`estimate`), before a sweep that takes long
+            or needs much memory (:attr:`SweepEstimate.needs_confirmation`); False stops it
+            before it starts. A sweep that would not fit in memory is refused whatever it says.
+
+        Raises
+        ------
+        SweepRefused
+            The sweep would not fit in the memory free.
+        SweepCancelled
+            ``cancel`` returned True, or ``confirm`` False.
         """
         sets = self.parameter_sets()
         candidates = {_key(s) for s in self.parameter_sets(pick)} if pick else None
         earlier = earlier or EarlierTrials()
+        estimate = self._estimate(sets, runner, earlier)
+        if not estimate.fits:
+            raise SweepRefused(estimate.refusal())
+        if confirm is not None and estimate.needs_confirmation and not confirm(estimate):
+            raise SweepCancelled("sweep not started: " + estimate.describe())
         outcome = run_sweep(self.backtest, sets, runner=runner, progress=progress,
                             cancel=cancel, others=earlier.columns, spa_reps=spa_reps, seed=seed,
                             estimate=estimate)
@@ -337,10 +359,17 @@ class Study:
                            statistics=statistics, verdict=decide(statistics, warnings=warnings),
                            walk_forward_pnl=walk_pnl)
 
-    def estimate(self, *, workers: int, earlier: EarlierTrials | None = None) -> SweepEstimate:
-        """How long the whole declared space will take on ``workers`` workers, how much memory
-        it needs and whether it fits (its pilot sets run here)."""
-        return estimate_sweep(self.backtest, self.parameter_sets(), workers=workers,
+    def estimate(self, *, runner: SweepRunner | None = None,
+                 earlier: EarlierTrials | None = None) -> SweepEstimate:
+        """How long the whole declared space will take on ``runner`` (default local processes),
+        how much memory it needs and whether it fits (its pilot sets run here)."""
+        return self._estimate(self.parameter_sets(), runner, earlier)
+
+    def _estimate(self, sets: Sequence[Mapping[str, float]], runner: SweepRunner | None,
+                  earlier: EarlierTrials | None) -> SweepEstimate:
+        runner = runner if runner is not None else LocalProcesses()
+        return estimate_sweep(self.backtest, sets, workers=getattr(runner, "slots", 1),
+                              local_workers=getattr(runner, "local_slots", None),
                               others=(earlier or EarlierTrials()).columns)
 
     def _grid_cells(self, sets: list[dict[str, float]]) -> tuple[tuple[int, ...] | None,

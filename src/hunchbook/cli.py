@@ -31,6 +31,7 @@ if TYPE_CHECKING:
     from hunchbook.api import SetResult
     from hunchbook.core.results import RunSummary
     from hunchbook.core.sweep import SweepRunner
+    from hunchbook.core.sweep_estimate import SweepEstimate
 
 #: Options that open the desktop window instead of running a command.
 WINDOW_OPTIONS = ("--demo", "--catalogue", "--data", "--screenshot", "--idea", "--section",
@@ -92,6 +93,9 @@ def _build_parser() -> argparse.ArgumentParser:
                      help="write the judged set's daily P&L, one row per (date, market)")
     run.add_argument("--workers", type=_positive_int, default=None, metavar="N",
                      help="worker processes for a sweep (default: CPU count)")
+    run.add_argument("--yes", action="store_true",
+                     help="run a long or large sweep without asking (the estimate of its time "
+                          "and memory is still printed; one that cannot fit is still refused)")
     run.add_argument("--idea", type=_positive_int, metavar="ID",
                      help="save the rule file as this idea's revision and record the run, its "
                           "trial count and verdict on the idea (on the dates before the "
@@ -184,6 +188,23 @@ def _runner(args: argparse.Namespace) -> SweepRunner:
     return LocalProcesses(workers=args.workers)
 
 
+def _confirmer(args: argparse.Namespace) -> Callable[[SweepEstimate], bool]:
+    """Asks before a long or large sweep: yes with ``--yes``, else at the terminal; without
+    a terminal the sweep is not started and the message says to add ``--yes``."""
+
+    def confirm(estimate: SweepEstimate) -> bool:
+        print(f"This sweep: {estimate.describe()}.", file=sys.stderr)
+        if args.yes:
+            return True
+        if not sys.stdin.isatty():
+            print("Not started: add --yes to run it without asking.", file=sys.stderr)
+            return False
+        answer = input("Run it? [y/N] ")
+        return answer.strip().lower() in ("y", "yes")
+
+    return confirm
+
+
 def _cmd_run(args: argparse.Namespace) -> int:
     if args.idea is not None:
         return _run_for_idea(args)
@@ -194,7 +215,7 @@ def _cmd_run(args: argparse.Namespace) -> int:
     if args.params:
         study.parameter_sets(args.params)  # a value that is not declared is refused here
     report = study.sweep(pick=args.params or None, runner=_runner(args),
-                         progress=_progress_printer(n_sets))
+                         progress=_progress_printer(n_sets), confirm=_confirmer(args))
     chosen = study.run_set(report.sets[report.chosen])
     run = report.summarise(chosen, currency=study.panel.currency, data_folder=str(args.data))
     _print_and_write(args, run, chosen)
@@ -219,7 +240,7 @@ def _run_for_idea(args: argparse.Namespace) -> int:
     with open_catalogue(args) as catalogue:
         outcome = run_idea(catalogue, args.idea, text, args.data, by=author(args),
                            rule_file=str(path), runner=_runner(args),
-                           progress=_progress_printer(2))
+                           progress=_progress_printer(2), confirm=_confirmer(args))
     _print_and_write(args, outcome.summary, outcome.chosen)
     print(f"Recorded as run {outcome.run_id} of idea {args.idea} (rule revision "
           f"{outcome.revision_number}); the idea now counts {outcome.summary.statistics.n_trials} "

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import datetime as dt
 import os
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 from pathlib import Path
 
@@ -20,6 +21,7 @@ from hunchbook.core.prices import MarketData, data_fingerprint, held_out_dates, 
 from hunchbook.core.results import RunSummary
 from hunchbook.core.rules import parse_rules
 from hunchbook.core.sweep import CancelCheck, Progress, SweepCancelled, SweepRunner
+from hunchbook.core.sweep_estimate import SweepEstimate
 from hunchbook.core.sweep_job import daily_rows
 from hunchbook.starter import STARTER_HINT, is_starter
 from hunchbook.store import pnl
@@ -114,7 +116,8 @@ def recompute_earlier_trials(history: TrialHistory, data_folder: str | os.PathLi
 def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
              data_folder: str | os.PathLike[str], *, by: str, rule_file: str | None = None,
              runner: SweepRunner | None = None, progress: Progress | None = None,
-             cancel: CancelCheck | None = None, spa_reps: int = 1000) -> IdeaRun:
+             cancel: CancelCheck | None = None, spa_reps: int = 1000,
+             confirm: Callable[[SweepEstimate], bool] | None = None) -> IdeaRun:
     """Save the rule text as the idea's revision, run its whole declared space on the dates
     before the catalogue's holdout boundary, judge it with every trial the idea has ever had
     counted, and record the run on the idea.
@@ -126,7 +129,8 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     run is mostly the same bet as one of them or as their book. A run outside the
     pre-registration frozen at the first run says so too
     (:meth:`Catalogue.check_preregistration`). Once the idea's holdout was unlocked, the verdict
-    says so in its last reason.
+    says so in its last reason. ``confirm`` is asked before a long or large sweep (see
+    :meth:`Study.sweep`).
 
     Raises
     ------
@@ -150,7 +154,7 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     earlier = recompute_earlier_trials(history, data_folder, loaded=study.data, before=boundary,
                                        cancel=cancel)
     report = study.sweep(runner=runner, progress=progress, cancel=cancel, earlier=earlier,
-                         spa_reps=spa_reps)
+                         spa_reps=spa_reps, confirm=confirm)
     chosen = study.run_set(report.sets[report.chosen])
     book = compare_with_book(chosen.portfolio["net_pnl"],
                              catalogue.promoted_pnl(exclude_idea=idea_id))

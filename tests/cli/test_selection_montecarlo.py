@@ -17,8 +17,8 @@ import math
 from hunchbook.api import Study
 from hunchbook.cli import main
 from hunchbook.core.runners import InProcess
-from hunchbook.core.sweep_job import daily_rows
 from hunchbook.core.stats import first_pass_statistics, judge_pick
+from hunchbook.core.sweep_job import daily_rows
 from hunchbook.core.verdict import decide
 from tests.reference_impl import write_random_walk_market
 

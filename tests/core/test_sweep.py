@@ -11,6 +11,7 @@ import numpy as np
 import pytest
 
 from hunchbook.api import Study
+from hunchbook.core import sweep_job
 from hunchbook.core.runners import InProcess, LocalProcesses
 from hunchbook.core.sweep import SweepCancelled, run_sweep
 from hunchbook.core.sweep_job import ChunkWorker, SweepJob
@@ -33,6 +34,12 @@ days_before_expiry = 2
 [sizing]
 contracts = 1.3
 """
+
+
+@pytest.fixture(autouse=True)
+def small_chunks(monkeypatch):
+    """Chunks of any size, so that these 10-set sweeps come in several chunks."""
+    monkeypatch.setattr(sweep_job, "MIN_CHUNK_SETS", 1)
 
 
 @pytest.fixture(scope="module")

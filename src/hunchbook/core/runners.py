@@ -24,6 +24,10 @@ IN_PROCESS_CHUNKS = 50
 class InProcess:
     """Run every set in the calling process, in chunks, polling cancel between sets."""
 
+    #: Sets run at once, and worker processes on this machine (for the sweep's estimate).
+    slots = 1
+    local_slots = 1
+
     def run(self, job: SweepJob) -> None:
         """Run every set of the job here."""
         worker = ChunkWorker(job.payload)
@@ -68,9 +72,19 @@ class LocalProcesses:
             raise ValueError(f"start_method must be one of {', '.join(methods)}, got "
                              f"{self.start_method!r}")
 
+    @property
+    def slots(self) -> int:
+        """Sets run at once: the worker processes."""
+        return self.workers or os.cpu_count() or 1
+
+    @property
+    def local_slots(self) -> int:
+        """Worker processes on this machine (each holds a copy of the backtest)."""
+        return self.slots
+
     def run(self, job: SweepJob) -> None:
         """Run every set of the job over the worker processes."""
-        workers = self.workers or os.cpu_count() or 1
+        workers = self.slots
         if workers == 1 or len(job.sets) < self.min_sets:
             InProcess().run(job)
             return

@@ -105,9 +105,11 @@ def pilot_period(backtest: Backtest, sets: Sequence[Params]) -> tuple[int, int]:
 
 
 def estimate_sweep(backtest: Backtest, sets: Sequence[Params], *, workers: int,
-                   others: int = 0, available_bytes: int | None = None) -> SweepEstimate:
-    """Estimate a sweep of ``sets`` on ``workers`` workers (and ``others`` earlier trials
-    joining its statistics), running the pilot sets here."""
+                   local_workers: int | None = None, others: int = 0,
+                   available_bytes: int | None = None) -> SweepEstimate:
+    """Estimate a sweep of ``sets`` on ``workers`` workers, ``local_workers`` of them processes
+    on this machine (default all), with ``others`` earlier trials joining its statistics;
+    the pilot sets run here."""
     began = time.perf_counter()
     period, pilots = _pilot(backtest, sets)
     per_set = (time.perf_counter() - began) / pilots
@@ -119,8 +121,8 @@ def estimate_sweep(backtest: Backtest, sets: Sequence[Params], *, workers: int,
                   + chunk_sets * days * BYTES_PER_SET_DAY)
     period_days = max(period[1] - period[0], 0)
     kept = min(n_sets + others, MAX_SETS) * period_days * 8
-    peak = BASE_BYTES + n_sets * BYTES_PER_SET + kept + (workers if workers > 1 else 1) \
-        * per_worker
+    local = workers if local_workers is None else max(0, min(local_workers, workers))
+    peak = BASE_BYTES + n_sets * BYTES_PER_SET + kept + max(local, 1) * per_worker
     free = available_memory() if available_bytes is None else available_bytes
     return SweepEstimate(sets=n_sets, workers=workers, days=days,
                          seconds=per_set * n_sets / workers, peak_bytes=int(peak),

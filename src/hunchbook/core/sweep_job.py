@@ -32,12 +32,19 @@ CancelCheck = Callable[[], bool]
 #: Largest working memory of one chunk's daily rows and their statistics (bytes): bounds the
 #: sets per chunk on long histories.
 CHUNK_BYTES = 128 * 2**20
+#: Fewest sets in a chunk (unless the sweep has fewer): each chunk's statistics have a fixed
+#: cost, so a chunk per set would spend more on them than on the sets.
+MIN_CHUNK_SETS = 16
 #: Bytes of working memory per set and day of a chunk (rows, net P&L, drawdown, statistics).
 BYTES_PER_SET_DAY = 64
 
 
 class SweepCancelled(HunchbookError):
-    """The sweep was cancelled before every set had run."""
+    """The sweep was cancelled before every set had run (or not confirmed before it began)."""
+
+
+class SweepRefused(HunchbookError):
+    """The sweep would not fit in the memory free, so it was not started."""
 
 
 @dataclass(frozen=True)
@@ -144,8 +151,10 @@ class SweepJob:
 
     def chunk_bounds(self, chunks: int) -> list[tuple[int, int]]:
         """(start, stop) of about ``chunks`` consecutive, equally sized slices of the sets
-        (more when a slice would exceed :attr:`max_chunk_sets`)."""
-        size = min(max(1, -(-len(self.sets) // max(1, chunks))), self.max_chunk_sets)
+        (fewer when a slice would hold under :data:`MIN_CHUNK_SETS`, more when it would exceed
+        :attr:`max_chunk_sets`)."""
+        size = max(-(-len(self.sets) // max(1, chunks)), MIN_CHUNK_SETS)
+        size = min(size, self.max_chunk_sets)
         return [(b, min(b + size, len(self.sets))) for b in range(0, len(self.sets), size)]
 
     def check_cancel(self) -> None:
@@ -184,6 +193,10 @@ class SweepRunner(Protocol):
     ``run`` runs every set of ``job.sets`` (through a :class:`ChunkWorker` wherever it
     computes), passes each finished chunk to ``job.add`` and calls ``job.check_cancel``
     between chunks; it returns once every set has been added.
+
+    A runner may say, for the sweep's estimate, how many sets it runs at once (``slots``) and
+    how many of its workers are processes on this machine (``local_slots``, 0 for a cluster
+    elsewhere); without them the estimate assumes one, here.
     """
 
     def run(self, job: SweepJob) -> None:
