@@ -261,6 +261,29 @@ def test_cancelled_sweep_records_nothing_and_the_window_stays_usable(qtbot, wind
     assert [r.id for r in window.catalogue.runs(idea_id)] == [blocker.args[0]]
 
 
+@pytest.mark.parametrize("yes", [False, True], ids=["declined", "confirmed"])
+def test_a_long_sweep_asks_first_in_the_window(qtbot, window, short_data, monkeypatch, yes):
+    """A sweep above the confirmation threshold shows its estimate and waits for the answer:
+    no cancels it with nothing recorded, yes runs it."""
+    monkeypatch.setattr("hunchbook.core.sweep_estimate.CONFIRM_SECONDS", 0.0)
+    asked = []
+
+    def answer(parent, title, text, *args):
+        asked.append(text)
+        return QMessageBox.StandardButton.Yes if yes else QMessageBox.StandardButton.No
+
+    monkeypatch.setattr(QMessageBox, "question", answer)
+    idea_id = _with_sweep_markets(window, idea_id_by_title(window, ACCEPTED_TITLE))
+    window.select_idea(idea_id)
+    window.rules.editor.set_text(MANY_SETS.replace("stop = 400", "stop = 9"))
+    signal = window.quick_run.finished if yes else window.quick_run.cancelled
+    with qtbot.waitSignal(signal, timeout=60000):
+        assert window.quick_run.start() is not None
+    assert len(asked) == 1 and "This sweep: 5 parameter sets x" in asked[0]
+    assert len(window.catalogue.runs(idea_id)) == (1 if yes else 0)
+    assert not window.quick_run.is_running()
+
+
 def test_quick_run_works_off_the_ui_thread_while_the_ui_keeps_turning(qtbot, window,
                                                                         monkeypatch):
     """The run (``run_idea`` and its sweep's progress reports) happens on a worker thread,

@@ -128,6 +128,7 @@ class QuickRunner(QObject):
         worker = RunIdeaWorker(catalogue.path, idea.id, window.rules.text(),
                                window.data_folder, by=window.user, runner=window.sweep_runner)
         worker.signals.progress.connect(self._progress)
+        worker.signals.confirm.connect(self._confirm)
         worker.signals.finished.connect(self._done)
         worker.signals.failed.connect(self._failed)
         worker.signals.cancelled.connect(self._cancelled)
@@ -161,6 +162,18 @@ class QuickRunner(QObject):
     def _progress(self, done: int, total: int) -> None:
         self.progress.setRange(0, max(total, 1))
         self.progress.setValue(done)
+
+    def _confirm(self, estimate: Any) -> None:
+        """Ask before a long or large sweep (the worker waits for the answer)."""
+        worker = self._worker
+        if worker is None:
+            return
+        answer = QMessageBox.question(
+            self._window, "Run a large sweep?",
+            f"This sweep: {estimate.describe()}.\n\nEvery set runs and counts as a trial. "
+            "Run it now?", QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No,
+            QMessageBox.StandardButton.No)
+        worker.answer(answer == QMessageBox.StandardButton.Yes)
 
     def _end(self) -> RunIdeaWorker | None:
         worker, self._worker = self._worker, None

@@ -37,11 +37,13 @@ _RUNNING: set[Worker] = set()
 
 
 class WorkerSignals(QObject):
-    """What a worker reports: ``started``, ``progress(done, total)``, then one of
-    ``finished(result)``, ``failed(message)``, ``cancelled``."""
+    """What a worker reports: ``started``, ``progress(done, total)``, perhaps
+    ``confirm(estimate)`` (a question for a person, answered with :meth:`Worker.answer`), then
+    one of ``finished(result)``, ``failed(message)``, ``cancelled``."""
 
     started = Signal()
     progress = Signal(int, int)
+    confirm = Signal(object)
     finished = Signal(object)
     failed = Signal(str)
     cancelled = Signal()
@@ -59,6 +61,8 @@ class Worker(QRunnable):
         self.setAutoDelete(False)
         self.signals = WorkerSignals()
         self._cancel = threading.Event()
+        self._answered = threading.Event()
+        self._yes = False
         self.done = threading.Event()
 
     def start(self, pool: QThreadPool | None = None) -> None:
@@ -74,6 +78,23 @@ class Worker(QRunnable):
     def is_cancelled(self) -> bool:
         """Whether :meth:`cancel` was called."""
         return self._cancel.is_set()
+
+    def ask(self, question: object) -> bool:
+        """Emit ``confirm(question)`` and wait for :meth:`answer` (callable from the work); a
+        no, or a cancel while waiting, cancels the work."""
+        self._answered.clear()
+        self.signals.confirm.emit(question)
+        while not self._answered.wait(0.05):
+            if self.is_cancelled():
+                return False
+        if not self._yes:
+            self.cancel()
+        return self._yes
+
+    def answer(self, yes: bool) -> None:
+        """Answer the question of :meth:`ask` (safe from any thread)."""
+        self._yes = bool(yes)
+        self._answered.set()
 
     def report_progress(self, done: int, total: int) -> None:
         """Emit ``progress(done, total)`` (callable from the work)."""
@@ -164,8 +185,8 @@ class RunIdeaWorker(Worker):
 
         with Catalogue(self.catalogue_path, create=False) as catalogue:
             return run_idea(catalogue, self.idea_id, self.rule_text, self.data_folder,
-                            by=self.by, runner=self.runner,
-                            progress=self.report_progress, cancel=self.is_cancelled)
+                            by=self.by, runner=self.runner, progress=self.report_progress,
+                            cancel=self.is_cancelled, confirm=self.ask)
 
 
 def set_curves(rule_text: str, data_folder: str | os.PathLike[str],
