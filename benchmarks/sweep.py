@@ -1,18 +1,19 @@
 """Sweep speed and memory: 20 markets x 10,000 days x 1,000 sets of a two-average cross.
 
-Prints (not a test; shared machines are noisy):
-- the whole ``hunchbook run`` command, statistics and verdict included, as a child process,
-  and its peak memory (target: under 10 s and under 2 GB on a 2-core machine);
-- the sweep engine alone against a straightforward pandas loop over the sets, in this process
-  (target: at least 20x). The pandas loop is timed on a sample of sets and scaled up.
-Inputs are generated (benchmark data only). Run: .venv/bin/python benchmarks/sweep.py
+Prints (not a test; shared machines are noisy), with the machine's load average at the start:
+- the whole ``hunchbook run`` command (load, sweep, statistics with SPA, verdict, JSON), as a
+  child process, several times: min / median / max seconds and each run's peak memory
+  (target: at most 2.5 s);
+- a straightforward pandas loop over the sets computing the same P&L, timed on a sample of
+  sets and scaled up, in this process; and the ratio of the two (target: at least 15x).
+Inputs are generated (benchmark data only). Run: .venv/bin/python benchmarks/sweep.py [REPEATS]
 """
 
 from __future__ import annotations
 
 import os
 import platform
-import resource
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -25,21 +26,18 @@ import pandas as pd
 sys.path.insert(0, str(Path(__file__).parent))
 from engine import make_inputs  # noqa: E402
 
-from hunchbook.core.engine import Backtest  # noqa: E402
-from hunchbook.core.expr import parse_expression  # noqa: E402
-from hunchbook.core.panel import build_panel  # noqa: E402
-from hunchbook.core.rules.model import SizingSpec  # noqa: E402
-from hunchbook.core.sweep import run_sweep  # noqa: E402
-
 FAST = list(range(2, 42, 2))        # 20 values
 SLOW = list(range(50, 550, 10))     # 50 values -> 1,000 sets
 RULE = "sign(mean(close, fast) - mean(close, slow))"
 PANDAS_SAMPLE = 20
+REPEATS = 5
 
 
-def write_folder(folder: Path) -> Path:
-    """Data folder of 20 continuous markets and a rule file declaring the 1,000 sets."""
-    series, specs = make_inputs()
+def write_folder(folder: Path, *, markets: int = 20, days: int = 10_000,
+                 fast: list[int] = FAST, slow: list[int] = SLOW) -> Path:
+    """Data folder of generated continuous markets and a rule file declaring fast x slow
+    sets (1,000 by default)."""
+    series, specs = make_inputs(markets=markets, days=days)
     lines = []
     for s, spec in zip(series, specs, strict=True):
         pd.DataFrame({"date": pd.DatetimeIndex(s.dates).strftime("%Y-%m-%d"),
@@ -51,10 +49,10 @@ def write_folder(folder: Path) -> Path:
                   f"regulatory_fee = {spec.regulatory_fee}",
                   f"slippage_ticks = {spec.slippage_ticks}", ""]
     (folder / "markets.toml").write_text("\n".join(lines))
-    markets = ", ".join(f'"{s.market}"' for s in series)
+    names = ", ".join(f'"{s.market}"' for s in series)
     rules = folder / "cross.toml"
-    rules.write_text(f'name = "Benchmark cross"\nmarkets = [{markets}]\n[parameters]\n'
-                     f"fast = {FAST}\nslow = {SLOW}\n[signal]\nposition = \"{RULE}\"\n")
+    rules.write_text(f'name = "Benchmark cross"\nmarkets = [{names}]\n[parameters]\n'
+                     f"fast = {fast}\nslow = {slow}\n[signal]\nposition = \"{RULE}\"\n")
     return rules
 
 
@@ -83,49 +81,68 @@ def pandas_set(closes: list[pd.Series], changes: list[pd.Series], fast: int, slo
     return {"gross": gross_total, "cost": cost_total, "markets": markets}
 
 
-def main() -> None:
-    print(f"machine: {platform.machine()}, {os.cpu_count()} CPUs, "
-          f"{platform.python_implementation()} {platform.python_version()}, "
-          f"numpy {np.__version__}, pandas {pd.__version__}")
-    sets = [{"fast": float(f), "slow": float(s)} for f in FAST for s in SLOW]
-    with tempfile.TemporaryDirectory() as tmp:
-        rules = write_folder(Path(tmp))
-        exe = Path(sys.executable).with_name("hunchbook")
-        t0 = time.perf_counter()
-        proc = subprocess.run([str(exe), "run", str(rules), "--data", tmp, "--json",
-                               str(Path(tmp) / "out.json")], capture_output=True, text=True)
-        whole = time.perf_counter() - t0
-        peak_mb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
-        if proc.returncode:
-            print(proc.stderr)
-            raise SystemExit(1)
-    print(f"sets: {len(sets)} over 20 markets x 10,000 days; rule {RULE}")
-    print(f"whole `hunchbook run` (load, sweep, statistics, verdict): {whole:6.2f} s "
-          f"(target < 10 s)")
-    print(f"peak memory of the largest process of that run:          {peak_mb:6.0f} MB "
-          "(target < 2,048 MB)")
-
-    series, specs = make_inputs()
-    backtest = Backtest(build_panel(series, specs),
-                        parse_expression(RULE, series_names={"close"},
-                                         param_names={"fast", "slow"}),
-                        SizingSpec(contracts=1.0))
+def run_cli(rules: Path, folder: Path, *extra: str) -> tuple[float, float]:
+    """Seconds and peak memory (MB, the largest process of the run) of one whole
+    ``hunchbook run`` as a child process."""
+    exe = Path(sys.executable).with_name("hunchbook")
     t0 = time.perf_counter()
-    run_sweep(backtest, sets)
-    engine = time.perf_counter() - t0
+    child = subprocess.Popen([str(exe), "run", str(rules), "--data", str(folder), "--json",
+                              str(folder / "out.json"), "--yes", *extra],
+                             stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    _, status, usage = os.wait4(child.pid, 0)
+    seconds = time.perf_counter() - t0
+    if status:
+        print(child.stderr.read().decode() if child.stderr else "", file=sys.stderr)
+        raise SystemExit(1)
+    return seconds, usage.ru_maxrss / 1024
+
+
+def describe(values: list[float], unit: str = "s") -> str:
+    """min / median / max of repeated figures."""
+    return (f"min {min(values):.2f} {unit}, median {statistics.median(values):.2f} {unit}, "
+            f"max {max(values):.2f} {unit}")
+
+
+def machine() -> str:
+    """The machine, its software and its load average now."""
+    load = ", ".join(f"{x:.2f}" for x in os.getloadavg())
+    return (f"machine: {platform.machine()}, {os.cpu_count()} CPUs, load average {load}; "
+            f"{platform.python_implementation()} {platform.python_version()}, "
+            f"numpy {np.__version__}, pandas {pd.__version__}")
+
+
+def pandas_seconds(sets: list[dict[str, float]], markets: int = 20,
+                   days: int = 10_000) -> tuple[float, int]:
+    """Seconds of the plain pandas loop over all the sets (scaled from a sample) and the sample
+    size."""
+    series, specs = make_inputs(markets=markets, days=days)
     closes = [pd.Series(s.adjusted["close"], index=pd.DatetimeIndex(s.dates)) for s in series]
     changes = [pd.Series(s.change, index=c.index) for s, c in zip(series, closes, strict=True)]
-    sample = sets[:: len(sets) // PANDAS_SAMPLE][:PANDAS_SAMPLE]
+    sample = sets[:: max(1, len(sets) // PANDAS_SAMPLE)][:PANDAS_SAMPLE]
     t0 = time.perf_counter()
     for p in sample:
         pandas_set(closes, changes, int(p["fast"]), int(p["slow"]),
                    specs[0].cost_per_contract, specs[0].multiplier)
-    per_set = (time.perf_counter() - t0) / len(sample)
-    print(f"sweep engine, all sets, {os.cpu_count()} workers:          {engine:6.2f} s")
-    print(f"pandas loop, {per_set * 1000:.1f} ms/set x {len(sets)} sets (scaled from "
-          f"{len(sample)}): {per_set * len(sets):6.2f} s")
-    print(f"ratio pandas / sweep engine:                             "
-          f"{per_set * len(sets) / engine:6.1f} x (target >= 20 x)")
+    return (time.perf_counter() - t0) / len(sample) * len(sets), len(sample)
+
+
+def main() -> None:
+    repeats = int(sys.argv[1]) if len(sys.argv) > 1 else REPEATS
+    print(machine())
+    sets = [{"fast": float(f), "slow": float(s)} for f in FAST for s in SLOW]
+    with tempfile.TemporaryDirectory() as tmp:
+        rules = write_folder(Path(tmp))
+        runs = [run_cli(rules, Path(tmp)) for _ in range(repeats)]
+    seconds, peaks = [r[0] for r in runs], [r[1] for r in runs]
+    print(f"sets: {len(sets):,} over 20 markets x 10,000 days; rule {RULE}")
+    print(f"whole `hunchbook run` (load, sweep, statistics with SPA, verdict, JSON), "
+          f"{repeats} runs: {describe(seconds)} (target <= 2.5 s)")
+    print(f"peak memory of the largest process of each run: {describe(peaks, 'MB')}")
+    loop, sample = pandas_seconds(sets)
+    print(f"pandas loop over the sets, scaled from {sample} sets: {loop:.1f} s")
+    print(f"ratio pandas loop / whole run (median): {loop / statistics.median(seconds):.1f} x "
+          "(target >= 15 x)")
+    print(f"load average at the end: {', '.join(f'{x:.2f}' for x in os.getloadavg())}")
 
 
 if __name__ == "__main__":
