@@ -229,7 +229,7 @@ class MainWindow(QMainWindow):
         self.setWindowTitle(f"Hunchbook \u2014 {catalogue.path.name}")
         if self.remember:
             window_settings.remember_path(window_settings.LAST_CATALOGUE, catalogue.path)
-        count = self.catalogue_panel.model.rowCount()
+        count = self.catalogue_panel.idea_count()
         self.status_message(f"Opened {catalogue.path} ({count} ideas).")
         return True
 
