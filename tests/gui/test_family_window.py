@@ -41,7 +41,7 @@ def window(qtbot, tmp_path_factory, tmp_path, short_data):
 
 
 def _trials_cell(window, idea_id: int) -> str:
-    proxy = window.catalogue_panel.proxy
+    proxy = window.catalogue_panel.model
     for row in range(proxy.rowCount()):
         if proxy.index(row, 0).data(ID_ROLE) == idea_id:
             return proxy.index(row, IdeaTableModel.TRIALS).data()

@@ -75,7 +75,7 @@ def window(qtbot, demo_catalogue, short_data):
 
 
 def _row_cells(win: MainWindow, idea_id: int) -> dict[int, str]:
-    proxy = win.catalogue_panel.proxy
+    proxy = win.catalogue_panel.model
     for row in range(proxy.rowCount()):
         if proxy.index(row, 0).data(ID_ROLE) == idea_id:
             return {c: proxy.index(row, c).data() for c in range(proxy.columnCount())}
@@ -343,7 +343,7 @@ def test_quick_run_works_off_the_ui_thread_while_the_ui_keeps_turning(qtbot, win
 def test_search_and_filters_narrow_the_table(qtbot, window):
     """The search box runs the catalogue's full-text search; filters combine with it."""
     panel = window.catalogue_panel
-    assert panel.proxy.rowCount() == 16
+    assert panel.model.rowCount() == 16
     window.find_action.trigger()
     qtbot.keyClicks(panel.search, "grid")
     expected = {i.id for i in window.catalogue.list_ideas(text="grid")}
@@ -366,7 +366,7 @@ def test_sorting_the_table_by_a_header_click(qtbot, window):
     x = header.sectionViewportPosition(IdeaTableModel.TRIALS) + 5
     qtbot.mouseClick(header.viewport(), Qt.MouseButton.LeftButton,
                      pos=header.viewport().rect().center().__class__(x, 5))
-    counts = [int(t or 0) for t in (window.catalogue_panel.proxy.index(
+    counts = [int(t or 0) for t in (window.catalogue_panel.model.index(
         r, IdeaTableModel.TRIALS).data() for r in range(16))]
     assert counts in (sorted(counts), sorted(counts, reverse=True))
     assert counts != [counts[0]] * 16

@@ -11,11 +11,9 @@ from hunchbook.catalogue import Catalogue
 from hunchbook.gui.models import (
     ID_ROLE,
     SORT_ROLE,
-    IdeaSortProxy,
     IdeaTableModel,
     JournalModel,
     RunTableModel,
-    summary_of,
     verdict_label,
 )
 from tests.gui.desk_fixtures import demo_catalogue_copy
@@ -32,14 +30,14 @@ def _column(model, column: int, role=Qt.ItemDataRole.DisplayRole) -> list:
 
 
 def test_idea_model_passes_qt_model_checks(qtmodeltester, catalogue):
-    """Qt's QAbstractItemModelTester finds nothing wrong with the idea model or its proxy."""
+    """Qt's QAbstractItemModelTester finds nothing wrong with the idea model, whole or
+    filtered."""
     model = IdeaTableModel()
-    model.set_ideas(catalogue.list_ideas())
+    model.set_query(catalogue)
     qtmodeltester.check(model)
-    proxy = IdeaSortProxy()
-    proxy.setSourceModel(model)
-    proxy.set_filters(stage="tested")
-    qtmodeltester.check(proxy)
+    filtered = IdeaTableModel()
+    filtered.set_query(catalogue, stage="tested")
+    qtmodeltester.check(filtered)
 
 
 def test_run_and_journal_models_pass_qt_model_checks(qtmodeltester, catalogue):
@@ -56,7 +54,7 @@ def test_idea_model_shows_every_idea_with_verdict_labels(catalogue):
     """One row per idea; the verdict column shows the outcome's label, not its key."""
     ideas = catalogue.list_ideas()
     model = IdeaTableModel()
-    model.set_ideas(ideas)
+    model.set_query(catalogue)
     assert model.rowCount() == len(ideas) == 16
     labels = {i.id: verdict_label(i.last_verdict) for i in ideas}
     shown = dict(zip(_column(model, 0, ID_ROLE), _column(model, IdeaTableModel.VERDICT),
@@ -69,7 +67,7 @@ def test_sorting_by_net_sharpe_uses_raw_values_and_puts_missing_last(catalogue):
     """Descending net Sharpe: the order Python's sorted gives on the raw numbers (reference:
     the standard library), with ideas that have no run after every number."""
     model = IdeaTableModel()
-    model.set_ideas(catalogue.list_ideas())
+    model.set_query(catalogue)
     model.sort(IdeaTableModel.SHARPE, Qt.SortOrder.DescendingOrder)
     raw = _column(model, IdeaTableModel.SHARPE, SORT_ROLE)
     numbers = [v for v in raw if v is not None]
@@ -81,63 +79,46 @@ def test_sorting_by_net_sharpe_uses_raw_values_and_puts_missing_last(catalogue):
     assert raw[-1] is None
 
 
-def test_proxy_sort_is_done_by_the_source_and_keeps_filters(catalogue):
-    """Sorting through the proxy sorts the source; the filtered rows stay filtered."""
+def test_sorting_keeps_the_filters(catalogue):
+    """A new sort reads the same filtered ideas in the new order."""
     model = IdeaTableModel()
-    model.set_ideas(catalogue.list_ideas())
-    proxy = IdeaSortProxy()
-    proxy.setSourceModel(model)
-    proxy.set_filters(stage="tested")
-    proxy.sort(IdeaTableModel.TRIALS, Qt.SortOrder.AscendingOrder)
-    trials = _column(proxy, IdeaTableModel.TRIALS, SORT_ROLE)
+    model.set_query(catalogue, stage="tested")
+    model.sort(IdeaTableModel.TRIALS, Qt.SortOrder.AscendingOrder)
+    trials = _column(model, IdeaTableModel.TRIALS, SORT_ROLE)
     assert trials == sorted(trials)
     assert len(trials) == len(catalogue.list_ideas(stage="tested"))
 
 
 @pytest.mark.parametrize("filters", [
     {"stage": "submitted"}, {"verdict": "passes"}, {"market": "TNOTE10"}, {"tag": "trend"},
-    {"author": "Nia Oduya-Fell"}, {"market": "GOLD", "tag": "trend"},
+    {"author": "Nia Oduya-Fell"}, {"market": "GOLD", "tag": "trend"}, {"text": "grid"},
 ])
-def test_proxy_filters_match_the_catalogue_query(catalogue, filters):
-    """In-memory filters keep the same ideas as the catalogue's own SQL filters (the store's
-    list_ideas is the reference)."""
+def test_filters_match_the_catalogue_list(catalogue, filters):
+    """The model keeps the ideas the catalogue's list_ideas gives for the same filters."""
     model = IdeaTableModel()
-    model.set_ideas(catalogue.list_ideas())
-    proxy = IdeaSortProxy()
-    proxy.setSourceModel(model)
-    proxy.set_filters(**filters)
+    model.set_query(catalogue, **filters)
     expected = {i.id for i in catalogue.list_ideas(**filters)}
     assert expected  # each filter keeps some demo ideas
-    assert set(_column(proxy, 0, ID_ROLE)) == expected
+    assert set(_column(model, 0, ID_ROLE)) == expected
+    assert model.matching_count() == len(expected)
 
 
-def test_proxy_limits_to_search_ids(catalogue):
-    """An id set (a search result) is combined with the other filters."""
+def test_refreshing_an_idea_replaces_its_row_in_place(qtbot, catalogue):
+    """Refreshing one idea after an edit changes only its row (dataChanged) and keeps the
+    order the table was read in."""
     model = IdeaTableModel()
-    model.set_ideas(catalogue.list_ideas())
-    proxy = IdeaSortProxy()
-    proxy.setSourceModel(model)
-    found = [i.id for i in catalogue.list_ideas(text="grid")]
-    proxy.set_filters(ids=found)
-    assert sorted(_column(proxy, 0, ID_ROLE)) == sorted(found)
-    proxy.set_filters(ids=[])
-    assert proxy.rowCount() == 0
-    proxy.set_filters()
-    assert proxy.rowCount() == 16
-
-
-def test_update_idea_replaces_one_row_and_keeps_order(qtbot, catalogue):
-    """Refreshing one idea changes only its row (dataChanged) and keeps the sort."""
-    model = IdeaTableModel()
-    model.set_ideas(catalogue.list_ideas())
+    model.set_query(catalogue)
     model.sort(IdeaTableModel.TITLE, Qt.SortOrder.AscendingOrder)
-    idea = catalogue.list_ideas()[0]
-    changed = summary_of(catalogue.idea(idea.id))._replace(title="AAA first now")
-    with qtbot.waitSignal(model.layoutChanged):
-        model.update_idea(changed)
-    assert model.rowCount() == 16
-    assert model.index(0, IdeaTableModel.TITLE).data() == "AAA first now"
-    assert model.index(0, 0).data(ID_ROLE) == idea.id
+    order = _column(model, 0, ID_ROLE)
+    idea_id = order[5]
+    catalogue.update_idea(idea_id, by="Ines Marwood", title="AAA first now")
+    with qtbot.assertNotEmitted(model.modelReset), \
+            qtbot.assertNotEmitted(model.layoutChanged), \
+            qtbot.waitSignal(model.dataChanged) as changed:
+        model.refresh_ideas([idea_id])
+    assert (changed.args[0].row(), changed.args[1].row()) == (5, 5)
+    assert _column(model, 0, ID_ROLE) == order
+    assert model.index(5, IdeaTableModel.TITLE).data() == "AAA first now"
 
 
 def test_run_model_shows_verdict_label_and_sharpe(catalogue):

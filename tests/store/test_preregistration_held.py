@@ -14,6 +14,7 @@ from hunchbook.catalogue import Catalogue
 from hunchbook.core.prereg import CHECK_KEY
 from hunchbook.store import SCHEMA_VERSION
 from hunchbook.store.errors import CatalogueError
+from hunchbook.store.migrations import migration_names
 from tests.store.helpers import RULES, accepted_idea, amended_run, run_args, table_counts
 
 SETS = [{"fast": 5.0, "slow": 50.0}, {"fast": 10.0, "slow": 50.0}]
@@ -178,8 +179,12 @@ def test_runs_stored_before_the_check_existed_are_flagged_when_migrated(
     for trigger in ("no_update", "no_delete", "no_replace"):
         conn.execute(f"DROP TRIGGER run_preregistration_{trigger}")
     conn.execute("DROP TABLE run_preregistration")
-    conn.execute("DELETE FROM _sqlite_migrations WHERE name = '0008_run_preregistration'")
-    conn.execute(f"PRAGMA user_version = {SCHEMA_VERSION - 1}")
+    later = migration_names()[migration_names().index("0008_run_preregistration"):]
+    for name in ("ideas_by_title", "ideas_by_stage_id", "ideas_by_sharpe",
+                 "ideas_by_sharpe_known", "ideas_by_trials"):  # 0009_idea_orders undone too
+        conn.execute(f"DROP INDEX {name}")
+    conn.executemany("DELETE FROM _sqlite_migrations WHERE name = ?", [(n,) for n in later])
+    conn.execute(f"PRAGMA user_version = {SCHEMA_VERSION - len(later)}")
     conn.commit()
     conn.close()
     with Catalogue(cat_path) as cat:

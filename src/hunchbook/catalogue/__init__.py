@@ -27,9 +27,10 @@ Example
 API
 ---
 Ideas: ``add_idea``, ``idea``, ``update_idea``, ``list_ideas``, ``set_stage``,
+``idea_ids`` and ``idea_summaries`` (sorted in SQL, read a page at a time), ``idea_choices``,
 ``preregistrations``, ``amend_preregistration``, ``check_preregistration``. Rules:
 ``save_rules``, ``revisions``, ``latest_revision``, ``revision``. Runs: ``record_run``,
-``trial_count``, ``trial_sharpes``, ``runs``, ``run``, ``promoted_pnl``.
+``trial_count``, ``trial_sharpes``, ``runs``, ``run_lines``, ``run``, ``promoted_pnl``.
 Journal: ``add_entry``, ``correct_entry``, ``journal``. Reviews (idea and promotion reviews):
 ``review``, ``reviews``, ``next_step``. Families: ``set_variant_of``, ``variant_link``,
 ``family``. Desk rules: ``desk_setting``, ``desk_settings``, ``set_desk_setting``.
@@ -85,6 +86,7 @@ from typing import TYPE_CHECKING, Any
 import platformdirs
 
 from hunchbook.catalogue.holdout_api import HoldoutAPI
+from hunchbook.catalogue.listing_api import ListingAPI
 from hunchbook.catalogue.review_api import NOTHING_HELD_OUT, ReviewsAPI
 
 if TYPE_CHECKING:
@@ -105,7 +107,6 @@ from hunchbook.store import (
     preregistration,
     promoted,
     run_scopes,
-    search,
     settings,
     validate,
 )
@@ -116,7 +117,6 @@ from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import (
     Entry,
     Idea,
-    IdeaSummary,
     ImportReport,
     Preregistration,
     Revision,
@@ -177,7 +177,7 @@ def _explained(cls: type[Catalogue]) -> type[Catalogue]:
 
 
 @_explained
-class Catalogue(ReviewsAPI, HoldoutAPI):
+class Catalogue(ReviewsAPI, HoldoutAPI, ListingAPI):
     """An open catalogue file.
 
     Parameters
@@ -301,30 +301,6 @@ class Catalogue(ReviewsAPI, HoldoutAPI):
                     changed=[f"Changed {', '.join(frozen_changes)}."], by=by, reason=str(reason),
                     at=at, trials=runmod.trial_count(self.db, idea.id))
             return ideas.get(self.db, idea.id)
-
-    def list_ideas(self, *, stage: str | None = None, verdict: str | None = None,
-                   market: str | None = None, tag: str | None = None,
-                   author: str | None = None, source_kind: str | None = None,
-                   text: str | None = None, waiting_for: str | None = None,
-                   limit: int | None = None) -> list[IdeaSummary]:
-        """Ideas matching every filter given, most recently updated first.
-
-        ``text`` is a full-text search: every word must appear (as a word or the start of one)
-        in the title, hypothesis or rationale, or in one of the idea's journal entries.
-        ``waiting_for`` keeps the ideas whose next step is this person's (see
-        :meth:`next_step`).
-        """
-        rows = search.list_ideas(self.db, stage=stage, verdict=verdict, market=market, tag=tag,
-                                 author=author, source_kind=source_kind, text=text,
-                                 limit=None if waiting_for is not None else limit)
-        if waiting_for is None:
-            return rows
-        user = validate.name(waiting_for, "waiting_for")
-        alone = settings.current(self.db, "one_person_desk")
-        mine = [r for r in rows if settings.next_step(r.stage, r.submitted_by, r.reviewer, user,
-                                                  one_person_desk=alone,
-                                                  last_verdict=r.last_verdict) is not None]
-        return mine if limit is None else mine[:validate.integer(limit, "limit")]
 
     def next_step(self, idea_id: int, user: str) -> str | None:
         """The idea's next step when it is ``user``'s to take, else None: ``review`` (a

@@ -17,6 +17,8 @@ from tomlkit.toml_document import TOMLDocument
 from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import MarketSpecError
 
+#: Name of the market library file inside a data folder.
+LIBRARY_FILE = "markets.toml"
 #: Keys every market table must have, with the kind of value expected.
 REQUIRED_KEYS = {
     "multiplier": "a positive number",

@@ -23,13 +23,11 @@ import numpy as np
 import pandas as pd
 
 from hunchbook.core.errors import DataError
-from hunchbook.core.markets import MarketSpec, read_market_library
+from hunchbook.core.markets import LIBRARY_FILE, MarketSpec, read_market_library
 
 if TYPE_CHECKING:
     from hunchbook.core.events import EventTable
 
-#: Name of the market library file inside a data folder.
-LIBRARY_FILE = "markets.toml"
 #: Columns a contract-level file must have.
 CONTRACT_COLUMNS = ("date", "contract", "expiry", "close")
 #: Columns an already-continuous file must have.

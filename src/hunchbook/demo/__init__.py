@@ -16,16 +16,24 @@ or before the 15th; CORN and SOYBEAN on or before the 14th; TNOTE10 on or before
 on the third Friday (the business day before, if that Friday is a holiday).
 """
 
+from typing import Any
+
 from hunchbook.demo.desk import DESK, Desk, Person
-from hunchbook.demo.generate import (
-    CSV_COLUMNS,
-    DEFAULT_SEED,
-    demo_frames,
-    demo_market_library,
-    market_library_text,
-    write_demo_data,
-)
 from hunchbook.demo.profiles import DEMO_MARKETS
+
+#: Names read from :mod:`hunchbook.demo.generate` when first asked for (it loads pandas, which
+#: the window's start, naming the demo desk's people, does without).
+_GENERATED = ("CSV_COLUMNS", "DEFAULT_SEED", "demo_frames", "demo_market_library",
+              "market_library_text", "write_demo_data")
+
+
+def __getattr__(name: str) -> Any:
+    if name in _GENERATED:
+        from hunchbook.demo import generate
+
+        return getattr(generate, name)
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
 
 __all__ = [
     "CSV_COLUMNS",

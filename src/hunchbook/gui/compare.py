@@ -36,6 +36,4 @@ def comparison_dialog(catalogue: Catalogue, first: int, second: int,
 
 def run_picker(catalogue: Catalogue, parent: QWidget | None = None) -> RunPickerDialog:
     """The dialog choosing a run of any idea, newest first."""
-    runs = catalogue.runs()
-    titles = {i: catalogue.idea(i).title for i in {r.idea_id for r in runs}}
-    return RunPickerDialog(runs, titles, parent)
+    return RunPickerDialog(catalogue.run_lines(), parent)

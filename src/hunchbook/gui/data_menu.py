@@ -9,10 +9,8 @@ from typing import TYPE_CHECKING
 from PySide6.QtCore import QObject
 from PySide6.QtWidgets import QDialog, QFileDialog, QLabel, QStyle
 
-from hunchbook.core.prices import LIBRARY_FILE
+from hunchbook.core.markets import LIBRARY_FILE
 from hunchbook.gui.actions import make_action
-from hunchbook.gui.widgets.data_check import DataCheckDialog
-from hunchbook.gui.widgets.market_editor import MarketLibraryDialog
 
 if TYPE_CHECKING:
     from hunchbook.gui.main_window import MainWindow
@@ -72,6 +70,8 @@ class DataMenu(QObject):
             window.show_error("No data folder", "Choose a data folder first; its market "
                               "library is markets.toml inside it.")
             return None
+        from hunchbook.gui.widgets.market_editor import MarketLibraryDialog
+
         dialog = MarketLibraryDialog(window.data_folder / LIBRARY_FILE, window)
         dialog.finished.connect(lambda _result: window.set_data_folder(window.data_folder))
         dialog.open()
@@ -83,6 +83,8 @@ class DataMenu(QObject):
         if window.data_folder is None:
             window.show_error("No data folder", "Choose a data folder to check first.")
             return None
+        from hunchbook.gui.widgets.data_check import DataCheckDialog  # pandas: when first used
+
         dialog = DataCheckDialog(window.data_folder, window)
         dialog.open()
         return dialog

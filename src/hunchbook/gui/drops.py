@@ -13,7 +13,7 @@ from typing import TYPE_CHECKING
 from PySide6.QtCore import QEvent, QObject
 from PySide6.QtGui import QDragEnterEvent, QDropEvent
 
-from hunchbook.core.prices import LIBRARY_FILE
+from hunchbook.core.markets import LIBRARY_FILE
 
 if TYPE_CHECKING:
     from hunchbook.gui.main_window import MainWindow

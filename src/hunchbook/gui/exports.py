@@ -16,7 +16,6 @@ from PySide6.QtWidgets import QFileDialog, QStyle
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.feedback import one_line
-from hunchbook.gui.review_pack import pack_from_catalogue, write_pack_html, write_pack_pdf
 from hunchbook.store.records import RunRecord
 
 if TYPE_CHECKING:
@@ -75,6 +74,9 @@ class Exports(QObject):
         if idea_id is None or catalogue is None:
             return False
         shown = self._window.runs.current_run()
+        # the pack draws charts (pyqtgraph): loaded when first written, not at window start
+        from hunchbook.gui.review_pack import pack_from_catalogue, write_pack_html, write_pack_pdf
+
         try:
             pack = pack_from_catalogue(
                 catalogue, idea_id, prepared=dt.datetime.now(dt.UTC),

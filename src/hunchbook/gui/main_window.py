@@ -31,8 +31,7 @@ from PySide6.QtWidgets import (
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError
-from hunchbook.core.markets import read_market_library
-from hunchbook.core.prices import LIBRARY_FILE
+from hunchbook.core.markets import LIBRARY_FILE, read_market_library
 from hunchbook.gui import feedback, window_settings
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.data_menu import DataMenu
@@ -105,7 +104,7 @@ class MainWindow(QMainWindow):
         self._build_sections()
         self.quick_run = QuickRunner(self)
         self.holdout = HoldoutActions(self)
-        self.runs.results.holdout.unlock_requested.connect(self.holdout.unlock)
+        self.runs.unlock_requested.connect(self.holdout.unlock)
         self.exports = Exports(self)
         self.desk_settings = DeskSettings(self)
         self.data_menu = DataMenu(self)
@@ -230,7 +229,7 @@ class MainWindow(QMainWindow):
         self.setWindowTitle(f"Hunchbook \u2014 {catalogue.path.name}")
         if self.remember:
             window_settings.remember_path(window_settings.LAST_CATALOGUE, catalogue.path)
-        count = self.catalogue_panel.model.rowCount()
+        count = self.catalogue_panel.idea_count()
         self.status_message(f"Opened {catalogue.path} ({count} ideas).")
         return True
 

@@ -1,38 +1,44 @@
 """Qt item models over the catalogue's records: ideas, runs and journal entries.
 
-The models are thin adapters over lists of the catalogue's frozen records; they never query
-the catalogue themselves. Each model keeps display text and raw sort values apart
-(``SORT_ROLE`` gives the raw value: numbers stay numbers, missing values sort last).
+The run and journal models are thin adapters over lists of the catalogue's frozen records.
+Each model keeps display text and raw sort values apart (``SORT_ROLE`` gives the raw value:
+numbers stay numbers, missing values sort last).
 
-Sorting 10,000 ideas through a proxy's Python ``lessThan`` costs about a third of a second
-(one Python call per comparison), so :class:`IdeaSortProxy` hands ``sort`` to the source
-model, which sorts its list once with the raw sort values as keys and reports a layout
-change; the proxy only filters, from a set of accepted idea ids computed in one pass.
+The idea model reads the catalogue itself, a page at a time: filtering, full-text search and
+sorting are done in SQL (``Catalogue.idea_ids``, with an index per order), which gives the
+ordered ids of the matching ideas (a few milliseconds for ten thousand); their lines are read
+:data:`PAGE` at a time as the view scrolls (``canFetchMore``/``fetchMore``). A list of ids is
+kept rather than paging by offset so that a row refreshed in place after an edit (even one
+whose sort key changed) never shifts the pages still to be read.
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Iterable, Sequence
-from typing import Any
+from collections.abc import Iterable, Sequence
+from typing import TYPE_CHECKING, Any
 
 from PySide6.QtCore import (
     QAbstractTableModel,
     QModelIndex,
     QPersistentModelIndex,
-    QSortFilterProxyModel,
     Qt,
 )
 from PySide6.QtGui import QColor, QFont
 
 from hunchbook.core.verdict import LABELS
 from hunchbook.gui.charts.run_figures import verdict_text
-from hunchbook.store.records import Entry, Idea, IdeaSummary, RunRecord
+from hunchbook.store.records import Entry, IdeaSummary, RunRecord
+
+if TYPE_CHECKING:
+    from hunchbook.catalogue import Catalogue
 
 #: Role giving a cell's raw value for sorting.
 SORT_ROLE = Qt.ItemDataRole.UserRole
 #: Role giving the id of the row's record (idea, run or journal entry).
 ID_ROLE = Qt.ItemDataRole.UserRole + 1
+#: Idea lines read from the catalogue at a time.
+PAGE = 200
 
 Index = QModelIndex | QPersistentModelIndex
 
@@ -54,16 +60,6 @@ def format_sharpe(value: float | None) -> str:
     if value is None or not math.isfinite(value):
         return "\u2013"
     return f"{value:.2f}"
-
-
-def summary_of(idea: Idea) -> IdeaSummary:
-    """The list line of a full idea record (to refresh one row without listing them all)."""
-    return IdeaSummary(
-        id=idea.id, uuid=idea.uuid, title=idea.title, hypothesis=idea.hypothesis,
-        stage=idea.stage, submitted_by=idea.submitted_by, reviewer=idea.reviewer,
-        source_kind=idea.source_kind, markets=idea.markets, tags=idea.tags,
-        last_verdict=idea.last_verdict, last_net_sharpe=idea.last_net_sharpe,
-        trial_count=idea.trial_count, updated_at=idea.updated_at)
 
 
 def _sort_key(value: Any, descending: bool) -> tuple[int, Any]:
@@ -179,14 +175,26 @@ class _RecordTableModel(QAbstractTableModel):
 
 
 class IdeaTableModel(_RecordTableModel):
-    """Ideas (``IdeaSummary`` lines): title, stage, last verdict, net Sharpe, trials, updated."""
+    """Ideas (``IdeaSummary`` lines) of a catalogue matching filters, read a page at a time:
+    title, stage, last verdict, net Sharpe, trials, updated. Sorting asks the catalogue anew
+    (a model reset); :meth:`refresh_ideas` changes rows in place."""
 
     COLUMNS = ("Title", "Stage", "Last verdict", "Sharpe", "Trials", "Updated")
     TITLE, STAGE, VERDICT, SHARPE, TRIALS, UPDATED = range(6)
+    #: The catalogue's order of each column (see ``Catalogue.idea_ids``).
+    ORDERS = ("title", "stage", "verdict", "sharpe", "trials", "updated")
     #: Header tooltips, one per column.
     TIPS = ("The idea's title", "Where the idea is in the pipeline",
             "Verdict of the latest run", "Net Sharpe ratio of the latest run's chosen set",
             "Distinct parameter sets ever run (the trial count)", "Last change")
+
+    def __init__(self, parent: Any = None) -> None:
+        super().__init__(parent)
+        self._catalogue: Catalogue | None = None
+        self._filters: dict[str, Any] = {}
+        self._ids: list[int] = []  # every matching idea, in order; the first rows are loaded
+        self._sort_column = self.UPDATED
+        self._sort_order = Qt.SortOrder.DescendingOrder
 
     def headerData(self, section: int, orientation: Qt.Orientation,  # noqa: N802
                    role: int = Qt.ItemDataRole.DisplayRole) -> Any:
@@ -195,26 +203,127 @@ class IdeaTableModel(_RecordTableModel):
             return self.TIPS[section]
         return super().headerData(section, orientation, role)
 
-    def set_ideas(self, ideas: Sequence[IdeaSummary]) -> None:
-        """Show these ideas."""
-        self.set_records(ideas)
+    # -- paging ---------------------------------------------------------------------------
+    def canFetchMore(self, parent: Index = QModelIndex()) -> bool:  # noqa: B008, N802
+        return not parent.isValid() and len(self._rows) < len(self._ids)
+
+    def fetchMore(self, parent: Index = QModelIndex()) -> None:  # noqa: B008, N802
+        if parent.isValid() or not self.canFetchMore(parent):
+            return
+        start = len(self._rows)
+        lines = self._read(start, PAGE)
+        if lines:
+            self.beginInsertRows(QModelIndex(), start, start + len(lines) - 1)
+            self._rows.extend(lines)
+            self.endInsertRows()
+
+    # -- our API --------------------------------------------------------------------------
+    def set_query(self, catalogue: Catalogue | None, **filters: Any) -> None:
+        """Show the ideas of ``catalogue`` matching ``filters`` (the keywords of
+        ``Catalogue.idea_ids``) in the current sort order, the first page read.
+
+        Raises
+        ------
+        HunchbookError
+            A filter or the search text is refused (the rows shown stay as they were).
+        """
+        ids = self._query(catalogue, filters)
+        self._catalogue, self._filters = catalogue, dict(filters)
+        self._reset(ids)
+
+    def sort(self, column: int, order: Qt.SortOrder = Qt.SortOrder.AscendingOrder) -> None:
+        """Sort by ``column`` in SQL (missing values last): the rows are read anew."""
+        if not 0 <= column < len(self.COLUMNS):
+            return
+        self._sort_column, self._sort_order = column, order
+        if self._catalogue is not None:
+            self._reset(self._query(self._catalogue, self._filters))
+
+    def matching_count(self) -> int:
+        """How many ideas match (loaded or not)."""
+        return len(self._ids)
 
     def idea_at(self, row: int) -> IdeaSummary:
         """The idea on ``row``."""
         return self._rows[row]
 
-    def update_idea(self, idea: IdeaSummary) -> None:
-        """Replace one idea's line in place (or add it) and keep the sort order."""
-        row = self.row_of(idea.id)
-        if row < 0:
-            self.beginInsertRows(QModelIndex(), len(self._rows), len(self._rows))
-            self._rows.append(idea)
+    def load_row(self, idea_id: int) -> int:
+        """Read pages until this idea's row is loaded; its row, or -1 when it does not match."""
+        if idea_id not in self._ids:
+            return -1
+        position = self._ids.index(idea_id)
+        while len(self._rows) <= position and self.canFetchMore():
+            self.fetchMore()
+        return self.row_of(idea_id)
+
+    def refresh_ideas(self, idea_ids: Sequence[int]) -> None:
+        """Read these ideas' lines anew after they changed: a loaded row is replaced in place
+        (``dataChanged``, the order kept), an idea that no longer matches the filters is
+        removed and one that now matches is inserted where the sort order puts it."""
+        if self._catalogue is None or not idea_ids:
+            return
+        matching = set(self._catalogue.idea_ids(among=idea_ids, **self._filters))
+        lines = {i.id: i for i in self._catalogue.idea_summaries(idea_ids)}
+        for idea_id in idea_ids:
+            row = self.row_of(idea_id)
+            if idea_id in matching and row >= 0:
+                self._rows[row] = lines[idea_id]
+                self.dataChanged.emit(self.index(row, 0), self.index(row, len(self.COLUMNS) - 1))
+            elif idea_id in matching and idea_id not in self._ids:
+                self._insert(lines[idea_id])
+            elif idea_id not in matching and row >= 0:
+                self.beginRemoveRows(QModelIndex(), row, row)
+                del self._rows[row]
+                self._ids.remove(idea_id)
+                self.endRemoveRows()
+            elif idea_id not in matching and idea_id in self._ids:
+                self._ids.remove(idea_id)  # not read yet: nothing shown changes
+
+    # -- internals ------------------------------------------------------------------------
+    def _order(self) -> tuple[str, bool]:
+        return (self.ORDERS[self._sort_column],
+                self._sort_order == Qt.SortOrder.DescendingOrder)
+
+    def _query(self, catalogue: Catalogue | None, filters: dict[str, Any]) -> list[int]:
+        if catalogue is None:
+            return []
+        order, descending = self._order()
+        return catalogue.idea_ids(order=order, descending=descending, **filters)
+
+    def _reset(self, ids: list[int]) -> None:
+        self.beginResetModel()
+        self._ids, self._rows = ids, []
+        self._rows = self._read(0, PAGE)
+        self.endResetModel()
+
+    def _read(self, start: int, count: int) -> list[IdeaSummary]:
+        """The lines of the ids from ``start`` on (ids of ideas gone are dropped)."""
+        assert self._catalogue is not None or not self._ids
+        if self._catalogue is None:
+            return []
+        wanted = self._ids[start:start + count]
+        lines = self._catalogue.idea_summaries(wanted)
+        if len(lines) < len(wanted):
+            found = {i.id for i in lines}
+            self._ids[start:start + count] = [i for i in wanted if i in found]
+        return lines
+
+    def _insert(self, idea: IdeaSummary) -> None:
+        """Put a newly matching idea before the first idea the catalogue's order puts after
+        it (at the end when none)."""
+        assert self._catalogue is not None
+        order, descending = self._order()
+        ordered = self._catalogue.idea_ids(order=order, descending=descending, **self._filters)
+        shown = set(self._ids)
+        after = ordered[ordered.index(idea.id) + 1:] if idea.id in ordered else []
+        position = next((self._ids.index(i) for i in after if i in shown), len(self._ids))
+        if position < len(self._rows) or len(self._rows) == len(self._ids):
+            self.beginInsertRows(QModelIndex(), position, position)
+            self._ids.insert(position, idea.id)
+            self._rows.insert(position, idea)
             self.endInsertRows()
         else:
-            self._rows[row] = idea
-            self.dataChanged.emit(self.index(row, 0), self.index(row, len(self.COLUMNS) - 1))
-        if self._sort_column >= 0:
-            self.sort(self._sort_column, self._sort_order)
+            self._ids.insert(position, idea.id)  # among the rows not read yet
 
     def _display(self, idea: IdeaSummary, column: int) -> Any:
         if column == self.TITLE:
@@ -245,75 +354,6 @@ class IdeaTableModel(_RecordTableModel):
 
     def _is_number(self, column: int) -> bool:
         return column in (self.SHARPE, self.TRIALS)
-
-
-class IdeaSortProxy(QSortFilterProxyModel):
-    """Filters ideas by stage, verdict, market, tag, author and an optional id set (the
-    full-text search result); sorting is done by the source model (see the module notes)."""
-
-    def __init__(self, parent: Any = None) -> None:
-        super().__init__(parent)
-        self._accepted: frozenset[int] | None = None
-        self._filters: dict[str, str | None] = {}
-        self._ids: frozenset[int] | None = None
-
-    def sort(self, column: int, order: Qt.SortOrder = Qt.SortOrder.AscendingOrder) -> None:
-        """Ask the source model to sort itself (the proxy keeps its order)."""
-        source = self.sourceModel()
-        if source is not None:
-            source.sort(column, order)
-
-    def set_filters(self, *, stage: str | None = None, verdict: str | None = None,
-                    market: str | None = None, tag: str | None = None,
-                    author: str | None = None, ids: Iterable[int] | None = None) -> None:
-        """Show only ideas matching every filter given (``None`` means any); ``ids`` limits
-        the ideas to those ids (a search result)."""
-        self.beginFilterChange()
-        self._filters = {"stage": stage, "verdict": verdict, "market": market, "tag": tag,
-                         "author": author}
-        self._ids = None if ids is None else frozenset(ids)
-        self._recompute()
-        self.endFilterChange(QSortFilterProxyModel.Direction.Rows)
-
-    def refresh(self) -> None:
-        """Re-apply the filters after the source's ideas changed."""
-        self.beginFilterChange()
-        self._recompute()
-        self.endFilterChange(QSortFilterProxyModel.Direction.Rows)
-
-    def filterAcceptsRow(self, source_row: int, source_parent: Index) -> bool:  # noqa: N802
-        if self._accepted is None:
-            return True
-        source = self.sourceModel()
-        return source.record_at(source_row).id in self._accepted
-
-    def _recompute(self) -> None:
-        tests = _idea_tests(self._filters)
-        source = self.sourceModel()
-        if not tests and self._ids is None or source is None:
-            self._accepted = None
-            return
-        ids = self._ids
-        self._accepted = frozenset(
-            i.id for i in source.records()
-            if (ids is None or i.id in ids) and all(test(i) for test in tests))
-
-
-def _idea_tests(filters: dict[str, str | None]) -> list[Callable[[IdeaSummary], bool]]:
-    stage, verdict, market, tag, author = (filters.get(k) for k in
-                                           ("stage", "verdict", "market", "tag", "author"))
-    tests: list[Callable[[IdeaSummary], bool]] = []
-    if stage:
-        tests.append(lambda i: i.stage == stage)
-    if verdict:
-        tests.append(lambda i: i.last_verdict == verdict)
-    if market:
-        tests.append(lambda i: market in i.markets)
-    if tag:
-        tests.append(lambda i: tag in i.tags)
-    if author:
-        tests.append(lambda i: i.submitted_by == author)
-    return tests
 
 
 class RunTableModel(_RecordTableModel):

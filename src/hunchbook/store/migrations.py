@@ -434,6 +434,21 @@ def _run_preregistration(db: Database) -> None:
     db.execute(f"PRAGMA user_version = {migration_names().index('0008_run_preregistration') + 1}")
 
 
+@MIGRATIONS(name="0009_idea_orders")
+def _idea_orders(db: Database) -> None:
+    # The idea table's orders (see hunchbook.store.search.ORDERS), each key with the id that
+    # breaks its ties, so a sorted page is read from an index rather than sorted.
+    _run(db, [
+        "CREATE INDEX ideas_by_title ON ideas (title COLLATE NOCASE, id)",
+        "CREATE INDEX ideas_by_stage_id ON ideas (stage, id)",
+        "CREATE INDEX ideas_by_sharpe ON ideas (last_net_sharpe, id)",
+        "CREATE INDEX ideas_by_sharpe_known ON ideas "
+        "(last_net_sharpe IS NULL, last_net_sharpe, id)",
+        "CREATE INDEX ideas_by_trials ON ideas (trial_count, id)",
+    ])
+    db.execute(f"PRAGMA user_version = {migration_names().index('0009_idea_orders') + 1}")
+
+
 #: The schema version this code writes (the number of migrations).
 SCHEMA_VERSION = len(MIGRATIONS._migrations)
 

@@ -66,6 +66,15 @@ class IdeaSummary(NamedTuple):
 
 
 @dataclass(frozen=True)
+class IdeaChoices:
+    """What the ideas name, for the idea list's filters: markets, tags and authors, sorted."""
+
+    markets: tuple[str, ...]
+    tags: tuple[str, ...]
+    authors: tuple[str, ...]
+
+
+@dataclass(frozen=True)
 class Revision:
     """One saved rule file, kept whole.
 
@@ -153,6 +162,18 @@ class RunRecord:
     def set_count(self) -> int:
         """How many parameter sets the run tried."""
         return len(self.parameter_sets)
+
+
+class RunLine(NamedTuple):
+    """One line of a list of runs: the run, its idea (id and title), rule revision, when it
+    was recorded and its verdict's label (read from the stored record without parsing it)."""
+
+    id: int
+    idea_id: int
+    idea_title: str
+    revision_number: int
+    recorded_at: str
+    verdict_label: str
 
 
 @dataclass(frozen=True)

@@ -33,7 +33,7 @@ from typing import TYPE_CHECKING, Any
 from hunchbook.core.errors import RecordError
 from hunchbook.store import chain, families, pnl, run_scopes, validate
 from hunchbook.store.errors import CatalogueError
-from hunchbook.store.records import EarlierStrategy, Revision, RunRecord, TrialHistory
+from hunchbook.store.records import EarlierStrategy, Revision, RunLine, RunRecord, TrialHistory
 from hunchbook.store.sqlite_lib import Database
 
 if TYPE_CHECKING:
@@ -246,6 +246,20 @@ def of_idea(db: Database, idea_id: int | None = None) -> list[RunRecord]:
     else:
         rows = db.query(_SELECT + " WHERE r.idea_id = ? ORDER BY r.id", [idea_id])
     return [_record(r, with_pnl=False) for r in rows]
+
+
+def lines(db: Database, idea_id: int | None = None) -> list[RunLine]:
+    """Runs oldest first (all ideas when ``idea_id`` is ``None``) as short lines: the verdict's
+    label is read from the stored verdict in SQL (the outcome key for a record without one),
+    so no record is parsed."""
+    sql = ("SELECT r.id, r.idea_id, i.title, v.number, r.recorded_at, "
+           "coalesce(json_extract(r.verdict, '$.label'), r.verdict_label) FROM runs r "
+           "JOIN ideas i ON i.id = r.idea_id JOIN rule_revisions v ON v.id = r.revision_id")
+    if idea_id is None:
+        rows = db.execute(sql + " ORDER BY r.id")
+    else:
+        rows = db.execute(sql + " WHERE r.idea_id = ? ORDER BY r.id", [idea_id])
+    return [RunLine(*row) for row in rows]
 
 
 def get(db: Database, run_id: int) -> RunRecord:

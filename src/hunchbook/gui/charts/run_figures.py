@@ -4,15 +4,18 @@ record); the figures tables come from :mod:`hunchbook.core.presenter`."""
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from hunchbook.core.presenter import FigureRow, format_params, format_value, number
 from hunchbook.core.presenter import performance_rows as _performance_rows
 from hunchbook.core.presenter import statistic_rows as _statistic_rows
 from hunchbook.core.verdict import ACTIONS, LABELS, Check
 from hunchbook.store.records import RunRecord
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 
 @dataclass(frozen=True)
@@ -55,6 +58,8 @@ def verdict_text(run: RunRecord) -> VerdictText:
 
 def epoch_seconds(index: pd.Index) -> np.ndarray:
     """Dates as seconds since 1970-01-01 UTC (the x values of date axes)."""
+    import pandas as pd  # the window's start does not load pandas (only charts need it)
+
     dates = pd.DatetimeIndex(index)
     if dates.tz is not None:
         dates = dates.tz_convert("UTC").tz_localize(None)

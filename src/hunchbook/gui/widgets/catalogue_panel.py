@@ -1,4 +1,5 @@
-"""The catalogue side of the window: full-text search, filters and the sortable idea table."""
+"""The catalogue side of the window: full-text search, filters and the sortable idea table
+(filtered, searched and sorted in SQL, read a page at a time: see :mod:`hunchbook.gui.models`)."""
 
 from __future__ import annotations
 
@@ -22,8 +23,8 @@ from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.verdict import LABELS
 from hunchbook.gui.feedback import one_line
-from hunchbook.gui.models import ID_ROLE, IdeaSortProxy, IdeaTableModel, summary_of
-from hunchbook.store.records import IdeaSummary
+from hunchbook.gui.models import ID_ROLE, IdeaTableModel
+from hunchbook.store.records import IdeaChoices
 from hunchbook.store.vocab import STAGES
 
 #: Quiet time after the last key press before the search runs (ms).
@@ -46,9 +47,8 @@ class CataloguePanel(QWidget):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self._catalogue: Catalogue | None = None
+        self._total = 0
         self.model = IdeaTableModel(self)
-        self.proxy = IdeaSortProxy(self)
-        self.proxy.setSourceModel(self.model)
 
         self.search = QLineEdit(self)
         self.search.setObjectName("searchBox")
@@ -77,7 +77,7 @@ class CataloguePanel(QWidget):
 
         self.table = QTableView(self)
         self.table.setObjectName("ideaTable")
-        self.table.setModel(self.proxy)
+        self.table.setModel(self.model)
         self.table.setSortingEnabled(True)
         self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
         self.table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
@@ -97,6 +97,9 @@ class CataloguePanel(QWidget):
         header.setMinimumSectionSize(40)
         self.table.sortByColumn(IdeaTableModel.UPDATED, Qt.SortOrder.DescendingOrder)
         self.table.selectionModel().currentRowChanged.connect(self._current_changed)
+        self._kept = -1  # the idea selected while the rows are read anew
+        self.model.modelAboutToBeReset.connect(self._keep_selection)
+        self.model.modelReset.connect(self._restore_selection)
 
         self.count = QLabel(self)
         self.count.setObjectName("ideaCount")
@@ -128,45 +131,41 @@ class CataloguePanel(QWidget):
         self.reload()
 
     def reload(self) -> None:
-        """Re-read every idea from the catalogue; keeps filters and the selected idea."""
-        current = self.current_idea_id()
-        ideas = self._catalogue.list_ideas() if self._catalogue is not None else []
-        self._fill_choices(ideas)
-        self.model.set_ideas(ideas)
+        """Read the ideas anew from the catalogue; keeps filters and the selected idea."""
+        catalogue = self._catalogue
+        self._fill_choices(catalogue.idea_choices() if catalogue is not None else
+                           IdeaChoices((), (), ()))
+        self._total = len(catalogue.idea_ids()) if catalogue is not None else 0
         self.apply_filters()
-        if current >= 0:
-            self.select_idea(current)
 
     def refresh_idea(self, idea_id: int) -> None:
-        """Re-read one idea's line (after an edit, a run, a review), and those of its family
-        (their trial counts move together)."""
+        """Read one idea's line anew (after an edit, a run, a review), and those of its family
+        (their trial counts move together): rows change in place, and an idea the filters now
+        leave out (a review or run moves it to someone else's list) goes."""
         if self._catalogue is None:
             return
-        for _, member in self._catalogue.family(idea_id).members():
-            self.model.update_idea(summary_of(self._catalogue.idea(member.id)))
-        if self.waiting.isChecked():
-            self.apply_filters()  # a review or run moves the idea to someone else's list
-        else:
-            self.proxy.refresh()
-            self._show_count()
+        self.model.refresh_ideas([m.id for _, m in self._catalogue.family(idea_id).members()])
+        self._show_count()
+
+    def idea_count(self) -> int:
+        """How many ideas the catalogue holds (whatever the filters)."""
+        return self._total
 
     def apply_filters(self) -> None:
         """Filter the table by the search text and the chosen filters."""
         self._search_timer.stop()
-        ids = None
         text = self.search.text().strip()
         waiting = self.waiting.isChecked() and bool(self._user)
-        if (text or waiting) and self._catalogue is not None:
-            try:
-                ids = [i.id for i in self._catalogue.list_ideas(
-                    text=text or None, waiting_for=self._user if waiting else None)]
-                self.search.setToolTip("")
-            except HunchbookError as exc:
-                ids = []
-                self.search.setToolTip(one_line(exc))
-        self.proxy.set_filters(stage=self.stage.currentData(), verdict=self.verdict.currentData(),
-                               market=self.market.currentData(), tag=self.tag.currentData(),
-                               author=self.author.currentData(), ids=ids)
+        filters = dict(stage=self.stage.currentData(), verdict=self.verdict.currentData(),
+                       market=self.market.currentData(), tag=self.tag.currentData(),
+                       author=self.author.currentData(), text=text or None,
+                       waiting_for=self._user if waiting else None)
+        try:
+            self.model.set_query(self._catalogue, **filters)
+            self.search.setToolTip("")
+        except HunchbookError as exc:
+            self.model.set_query(self._catalogue, among=())
+            self.search.setToolTip(one_line(exc))
         self._show_count()
 
     def focus_search(self) -> None:
@@ -181,13 +180,13 @@ class CataloguePanel(QWidget):
 
     def select_idea(self, idea_id: int) -> bool:
         """Select an idea in the table (clearing the filters if they hide it)."""
-        row = self._proxy_row(idea_id)
-        if row < 0 and self.model.row_of(idea_id) >= 0:
+        row = self.model.load_row(idea_id)
+        if row < 0 and self._catalogue is not None and self._catalogue.idea_summaries([idea_id]):
             self.clear_filters()
-            row = self._proxy_row(idea_id)
+            row = self.model.load_row(idea_id)
         if row < 0:
             return False
-        index = self.proxy.index(row, 0)
+        index = self.model.index(row, 0)
         self.table.selectionModel().setCurrentIndex(
             index, QItemSelectionModel.SelectionFlag.ClearAndSelect
             | QItemSelectionModel.SelectionFlag.Rows)
@@ -203,8 +202,8 @@ class CataloguePanel(QWidget):
         self.apply_filters()
 
     def visible_ids(self) -> list[int]:
-        """Ids of the ideas the table shows, top to bottom."""
-        return [int(self.proxy.index(r, 0).data(ID_ROLE)) for r in range(self.proxy.rowCount())]
+        """Ids of the ideas the table has read so far, top to bottom."""
+        return [int(self.model.index(r, 0).data(ID_ROLE)) for r in range(self.model.rowCount())]
 
     # -- internals ------------------------------------------------------------------------
     def _combo(self, name: str, items: Sequence[tuple[str, str]]) -> QComboBox:
@@ -218,12 +217,9 @@ class CataloguePanel(QWidget):
         combo.currentIndexChanged.connect(self.apply_filters)
         return combo
 
-    def _fill_choices(self, ideas: Sequence[IdeaSummary]) -> None:
-        for combo, values in (
-            (self.market, sorted({m for i in ideas for m in i.markets})),
-            (self.tag, sorted({t for i in ideas for t in i.tags})),
-            (self.author, sorted({i.submitted_by for i in ideas})),
-        ):
+    def _fill_choices(self, choices: IdeaChoices) -> None:
+        for combo, values in ((self.market, choices.markets), (self.tag, choices.tags),
+                              (self.author, choices.authors)):
             chosen = combo.currentData()
             combo.blockSignals(True)
             combo.clear()
@@ -233,15 +229,23 @@ class CataloguePanel(QWidget):
             combo.setCurrentIndex(max(0, combo.findData(chosen)) if chosen else 0)
             combo.blockSignals(False)
 
-    def _proxy_row(self, idea_id: int) -> int:
-        source_row = self.model.row_of(idea_id)
-        if source_row < 0:
-            return -1
-        return self.proxy.mapFromSource(self.model.index(source_row, 0)).row()
-
     def _show_count(self) -> None:
-        shown, total = self.proxy.rowCount(), self.model.rowCount()
+        shown, total = self.model.matching_count(), self._total
         self.count.setText(f"{total} ideas" if shown == total else f"{shown} of {total} ideas")
+
+    def _keep_selection(self) -> None:
+        self._kept = self.current_idea_id()
+
+    def _restore_selection(self) -> None:
+        """After a new sort or filter, select the idea selected before (when it matches)."""
+        kept, self._kept = self._kept, -1
+        row = self.model.load_row(kept) if kept >= 0 else -1
+        if row >= 0:
+            index = self.model.index(row, 0)
+            self.table.selectionModel().setCurrentIndex(
+                index, QItemSelectionModel.SelectionFlag.ClearAndSelect
+                | QItemSelectionModel.SelectionFlag.Rows)
+            self.table.scrollTo(index)
 
     def _current_changed(self, current: QModelIndex, previous: QModelIndex) -> None:
         self.idea_selected.emit(int(current.data(ID_ROLE)) if current.isValid() else -1)

@@ -6,6 +6,7 @@ compare with."""
 from __future__ import annotations
 
 import html
+from collections.abc import Sequence
 
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QFont, QFontDatabase, QPalette
@@ -30,7 +31,7 @@ from hunchbook.core.compare import CheckPair, DiffLine, FigurePair, RunCompariso
 from hunchbook.core.presenter import FigureRow, format_value
 from hunchbook.gui.charts.compare_equity import CompareEquityChart
 from hunchbook.gui.widgets.verdict_banner import STATUS_MARKS, banner_colours, mix_colours
-from hunchbook.store.records import RunRecord
+from hunchbook.store.records import RunLine, RunRecord
 
 #: Hue of each kind of diff line (mixed into the view's background).
 DIFF_HUES = {"removed": QColor(192, 52, 52), "added": QColor(38, 140, 74),
@@ -216,8 +217,7 @@ class RunPickerDialog(QDialog):
     """Choose one run of any idea (the filter matches the idea's title, the run number or its
     verdict)."""
 
-    def __init__(self, runs: list[RunRecord], titles: dict[int, str],
-                 parent: QWidget | None = None) -> None:
+    def __init__(self, runs: Sequence[RunLine], parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.setWindowTitle("Compare with a run")
         self.setObjectName("runPicker")
@@ -230,10 +230,8 @@ class RunPickerDialog(QDialog):
         for run in sorted(runs, key=lambda r: r.id, reverse=True):
             row = self.table.rowCount()
             self.table.insertRow(row)
-            label = run.result.verdict.label if run.result else run.verdict_label
-            for column, text in enumerate((titles.get(run.idea_id, ""), str(run.id),
-                                           run.recorded_at[:10], str(run.revision_number),
-                                           label)):
+            for column, text in enumerate((run.idea_title, str(run.id), run.recorded_at[:10],
+                                           str(run.revision_number), run.verdict_label)):
                 item = _item(text)
                 item.setData(Qt.ItemDataRole.UserRole, run.id)
                 self.table.setItem(row, column, item)

@@ -6,7 +6,7 @@ boundary). Two selected runs, or the shown one and a run of any idea, open side 
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from PySide6.QtCore import QItemSelectionModel, QModelIndex, Qt, Signal
 from PySide6.QtWidgets import (
@@ -24,14 +24,15 @@ from PySide6.QtWidgets import (
 )
 
 from hunchbook.core.errors import HunchbookError
-from hunchbook.gui.compare import comparison_dialog, run_picker
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.models import ID_ROLE, RunTableModel
 from hunchbook.gui.sections.base import IdeaSection
-from hunchbook.gui.widgets.compare_dialog import CompareDialog, RunPickerDialog
-from hunchbook.gui.widgets.results_view import ResultsView
 from hunchbook.gui.workers import CallWorker, set_curves
 from hunchbook.store.records import RunRecord
+
+if TYPE_CHECKING:
+    from hunchbook.gui.widgets.compare_dialog import CompareDialog, RunPickerDialog
+    from hunchbook.gui.widgets.results_view import ResultsView
 
 #: Gap between the compare buttons and the runs table (pixels).
 BUTTON_GAP = 4
@@ -39,7 +40,8 @@ BUTTON_GAP = 4
 
 class RunsPanel(IdeaSection):
     """The Runs section: run history table (newest first) over a :class:`ResultsView` of the
-    chosen run.
+    chosen run (built when an idea is first shown: its charts load pyqtgraph and pandas, which
+    the window's start leaves out).
 
     Signals
     -------
@@ -47,6 +49,8 @@ class RunsPanel(IdeaSection):
         The results of this run are now shown.
     curves_shown(dict)
         A parameter set's curves were added to the results.
+    unlock_requested()
+        The results' holdout strip asked to unlock the idea's held-out years.
     """
 
     key = "runs"
@@ -54,6 +58,7 @@ class RunsPanel(IdeaSection):
 
     run_shown = Signal(int)
     curves_shown = Signal(dict)
+    unlock_requested = Signal()
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -93,15 +98,13 @@ class RunsPanel(IdeaSection):
                             self)
         self.empty.setObjectName("noRunsLabel")
         self.empty.setAlignment(Qt.AlignmentFlag.AlignCenter)
-        self.results = ResultsView(self)
-        self.results.set_requested.connect(self.show_set_curves)
+        self._results: ResultsView | None = None
         # the results' charts need room: on a small screen they scroll instead of forcing a
         # tall window
         self.results_area = QScrollArea(self)
         self.results_area.setObjectName("resultsArea")
         self.results_area.setWidgetResizable(True)
         self.results_area.setFrameShape(QFrame.Shape.NoFrame)
-        self.results_area.setWidget(self.results)
 
         self.top = top = QWidget(self)
         top_layout = QVBoxLayout(top)
@@ -126,6 +129,18 @@ class RunsPanel(IdeaSection):
         layout.addWidget(self.splitter)
         self.show_idea(None)
 
+    @property
+    def results(self) -> ResultsView:
+        """The chosen run's results (built on first use)."""
+        if self._results is None:
+            from hunchbook.gui.widgets.results_view import ResultsView
+
+            self._results = ResultsView(self)
+            self._results.set_requested.connect(self.show_set_curves)
+            self._results.holdout.unlock_requested.connect(self.unlock_requested)
+            self.results_area.setWidget(self._results)
+        return self._results
+
     def show_idea(self, idea_id: int | None) -> None:
         """List an idea's runs and show the newest."""
         self.idea_id = idea_id
@@ -145,7 +160,8 @@ class RunsPanel(IdeaSection):
         self.splitter.setSizes([height, max(total - height, 100)])
         if not runs:
             self._run = None
-            self.results.clear()
+            if idea_id is not None or self._results is not None:
+                self.results.clear()
             return
         self.select_run(max(r.id for r in runs))
 
@@ -191,6 +207,8 @@ class RunsPanel(IdeaSection):
         """Ask for a run of any idea and open it beside the shown run (window-modal)."""
         if self.catalogue is None or self._run is None:
             return None
+        from hunchbook.gui.compare import run_picker
+
         picker = run_picker(self.catalogue, self)
         shown = self._run.id
         picker.accepted.connect(lambda: picker.chosen() is not None
@@ -202,6 +220,8 @@ class RunsPanel(IdeaSection):
         """Open two runs side by side (A: ``first``; not modal)."""
         if self.catalogue is None:
             return None
+        from hunchbook.gui.compare import comparison_dialog  # charts: loaded when first used
+
         try:
             dialog = comparison_dialog(self.catalogue, first, second, self)
         except HunchbookError as exc:
