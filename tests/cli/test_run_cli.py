@@ -101,6 +101,12 @@ def test_sweep_summary_and_pnl_of_the_judged_set(tmp_path, wti_dir, capsys):
     assert main(["run", str(rules), "--data", str(folder), "--json", str(out_json)]) == 0
     assert len(json.loads(out_json.read_text())["sets"]) == 2
     assert "2 parameter sets" in capsys.readouterr().out
+    # the record is written on one line by json's C encoder and reads back as the same record
+    text = out_json.read_text()
+    assert text.count("\n") == 1 and text.endswith("}\n")
+    record = json.loads(text)
+    assert RunSummary.from_dict(record).to_dict() == {k: v for k, v in record.items()
+                                                      if k != "caution"}
     # without --params the P&L file is the best set's, the one the statistics judge
     sweep = json.loads(out_json.read_text())
     best = sweep["sets"][sweep["statistics"]["chosen"]]

@@ -77,3 +77,17 @@ def test_reading_run_records_loads_no_scipy() -> None:
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True).stdout
     assert out.strip() == "False"
+
+
+def test_a_whole_sweep_run_with_statistics_loads_no_scipy(tmp_path: Path) -> None:
+    """``hunchbook run`` of a sweep (statistics, SPA test, verdict, JSON record) in one process:
+    the normal distribution comes from the standard library and the SPA test needs no FFT."""
+    from hunchbook.demo import write_demo_data
+
+    data = write_demo_data(tmp_path / "data", start="2017-01-02", end="2019-12-31")
+    rules = Path(__file__).resolve().parents[2] / "examples" / "breakout.toml"
+    out = tmp_path / "run.json"
+    result = _probe("run", str(rules), "--data", str(data), "--workers", "1", "--json", str(out))
+    assert result["status"] == 0
+    assert json.loads(out.read_text())["statistics"]["spa"]["reps"] == 1000
+    assert "scipy" not in result["loaded"] and "pandas" in result["loaded"]

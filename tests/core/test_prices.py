@@ -53,6 +53,8 @@ def test_continuous_file(tmp_path):
         ("date,contract,expiry,close\n2024-01-02,A,2024-03-15,inf\n",
          "line 2: column 'close': cannot read 'inf' as a finite number"),
         ("date,close\n2024-01-02,1\n2024-01-02,2\n", "line 3: duplicate row for date 2024-01-02"),
+        ("date,Close,close\n2024-01-02,1,2\n",
+         "line 1: column 'close' appears more than once in the header"),
         ("", "file is empty"),
         ("date,contract,expiry,close\n", "header but no price rows"),
     ],

@@ -154,15 +154,14 @@ def holdout_figures(daily: pd.DataFrame, *, boundary: dt.date, in_sample_sharpe:
     sr_out = sharpe_ratio(net, periods=1)
     sr_in = in_sample_sharpe / math.sqrt(periods)
     skew, kurt = moments(net)
-    from scipy.stats import norm  # scipy is loaded when a holdout is unlocked, not at start
-
+    from hunchbook.core.stats.normal import normal_cdf
     from hunchbook.core.stats.psr import probabilistic_sharpe
 
     psr = (probabilistic_sharpe(sr_out, len(net), skew, kurt)
            if math.isfinite(sr_out) and math.isfinite(skew) else math.nan)
     z = (consistency_z(sr_out, sr_in, len(net))
          if math.isfinite(sr_out) and math.isfinite(sr_in) else math.nan)
-    p_value = float(norm.cdf(z)) if math.isfinite(z) else math.nan
+    p_value = normal_cdf(z) if math.isfinite(z) else math.nan
     return HoldoutFigures(
         boundary=boundary.isoformat(), first_date=held.index[0].date().isoformat(),
         last_date=held.index[-1].date().isoformat(), days=len(net),

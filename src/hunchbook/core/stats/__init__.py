@@ -38,7 +38,16 @@ from hunchbook.core.stats.sharpe import (
     sharpe_se_nonnormal,
     t_statistic,
 )
-from hunchbook.core.stats.spa import SpaResult, spa_test, stationary_bootstrap_indices
+from hunchbook.core.stats.spa import (
+    SpaPartial,
+    SpaPlan,
+    SpaResult,
+    spa_combine,
+    spa_partial,
+    spa_plan,
+    spa_test,
+    stationary_bootstrap_indices,
+)
 from hunchbook.core.stats.stability import neighbour_counts, neighbour_means, stability_flag
 from hunchbook.core.stats.walk_forward import WalkForwardResult, default_windows, walk_forward
 
@@ -52,6 +61,8 @@ __all__ = [
     "selection_tests",
     "OverfitResult",
     "SeriesStats",
+    "SpaPartial",
+    "SpaPlan",
     "SpaResult",
     "StabilityStats",
     "WalkForwardResult",
@@ -75,6 +86,9 @@ __all__ = [
     "sharpe_ratio",
     "sharpe_se_iid",
     "sharpe_se_nonnormal",
+    "spa_combine",
+    "spa_partial",
+    "spa_plan",
     "spa_test",
     "stability_flag",
     "stationary_bootstrap_indices",

@@ -7,22 +7,14 @@ All Sharpe ratios given to :func:`probabilistic_sharpe` and :func:`min_track_rec
 from __future__ import annotations
 
 import math
-from typing import Any
 
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.stats.inputs import as_count, as_number
+from hunchbook.core.stats.normal import normal_cdf, normal_ppf
 from hunchbook.core.stats.sharpe import sharpe_variance_factor
 
 #: Euler-Mascheroni constant, used by the expected maximum of N normal draws.
 EULER_GAMMA = 0.5772156649015329
-
-
-def _norm() -> Any:
-    """scipy's standard normal, imported when first needed (scipy.stats takes about a second
-    to import, and reading a stored result needs none of it)."""
-    from scipy.stats import norm
-
-    return norm
 
 
 def probabilistic_sharpe(sr: float, n: int, skew: float, kurt: float,
@@ -39,7 +31,7 @@ def probabilistic_sharpe(sr: float, n: int, skew: float, kurt: float,
     factor = sharpe_variance_factor(sr, skew, kurt)
     if not factor > 0:
         return math.nan
-    return float(_norm().cdf((sr - sr_star) * math.sqrt(n - 1) / math.sqrt(factor)))
+    return normal_cdf((sr - sr_star) * math.sqrt(n - 1) / math.sqrt(factor))
 
 
 def min_track_record_length(sr: float, skew: float, kurt: float, sr_star: float = 0.0,
@@ -59,7 +51,7 @@ def min_track_record_length(sr: float, skew: float, kurt: float, sr_star: float 
     if sr <= sr_star:
         return math.inf
     factor = sharpe_variance_factor(sr, skew, kurt)
-    z = float(_norm().ppf(1.0 - alpha))
+    z = normal_ppf(1.0 - alpha)
     return 1.0 + factor * (z / (sr - sr_star)) ** 2
 
 
@@ -72,8 +64,8 @@ def expected_max_factor(n_trials: int) -> float:
     n_trials = as_count(n_trials, "number of trials")
     if n_trials == 1:
         return 0.0
-    return float((1.0 - EULER_GAMMA) * _norm().ppf(1.0 - 1.0 / n_trials)
-                 + EULER_GAMMA * _norm().ppf(1.0 - 1.0 / (n_trials * math.e)))
+    return float((1.0 - EULER_GAMMA) * normal_ppf(1.0 - 1.0 / n_trials)
+                 + EULER_GAMMA * normal_ppf(1.0 - 1.0 / (n_trials * math.e)))
 
 
 def expected_max_sharpe(n_trials: int, trial_sharpe_var: float) -> float:

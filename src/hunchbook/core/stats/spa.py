@@ -4,9 +4,15 @@ The benchmark is a flat position (zero P&L), so the loss differential of set k o
 net P&L ``d_tk``. The null hypothesis is that no set has a positive expected daily P&L.
 
 Bootstrap: the stationary bootstrap of Politis & Romano (1994) resamples whole days (all sets
-together), in blocks of geometric length with mean ``block_size``. Each replication is turned into
-a count vector (how often each day was drawn), so every bootstrap mean of every set comes out of
-one matrix product ``W @ X / T`` (processed in chunks of replications to bound memory).
+together), in blocks of geometric length with mean ``block_size``. A :class:`SpaPlan` holds the
+blocks of every replication (first day and length, wrapping round at the end). The sum of a
+block of a set's series is a difference of that series' prefix sums, so a bootstrap mean costs
+one subtraction per block instead of one addition per day.
+
+The test splits over chunks of sets: :func:`spa_partial` reduces a chunk of columns to its
+largest observed statistic and, per replication, the largest recentred bootstrap statistic of
+each kind; :func:`spa_combine` takes the maxima over chunks. A set's figures never depend on
+which other sets share its chunk, so any split gives the same result as one chunk.
 
 References: Hansen, P. R. (2005), "A Test for Superior Predictive Ability", Journal of Business &
 Economic Statistics 23(4); White, H. (2000), Econometrica 68(5); Politis, D. N. & Romano, J. P.
@@ -16,7 +22,7 @@ Economic Statistics 23(4); White, H. (2000), Econometrica 68(5); Politis, D. N. 
 from __future__ import annotations
 
 import math
-from collections.abc import Iterator
+from collections.abc import Iterable
 from dataclasses import dataclass
 from typing import Literal
 
@@ -24,11 +30,17 @@ import numpy as np
 
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.stats.inputs import as_count, as_matrix
+from hunchbook.core.stats.long_run import long_run_variance
 
-#: Upper bound on the memory of one chunk of bootstrap count weights (bytes).
-CHUNK_BYTES = 16 * 2**20
+#: Upper bound on the memory of one piece of bootstrap work (bytes): the random draws of a
+#: group of replications, or the block sums of a group of replications for a tile of sets.
+CHUNK_BYTES = 4 * 2**20
+#: Upper bound on the memory of one tile of sets' centred series or prefix sums (bytes).
+TILE_BYTES = 16 * 2**20
 #: Ways to put the sets on a common scale before taking the maximum.
 STUDENTIZE = ("sample", "long_run", "none")
+#: Rows of :attr:`SpaPartial.maxima`, in order.
+RECENTRINGS = ("lower", "consistent", "upper")
 
 
 @dataclass(frozen=True)
@@ -51,21 +63,147 @@ class SpaResult:
     studentize: str
 
 
+@dataclass(frozen=True, eq=False)
+class SpaPlan:
+    """The stationary-bootstrap blocks of every replication, shared by every chunk of sets.
+
+    Replication ``r`` is made of blocks ``offsets[r]`` to ``offsets[r + 1] - 1``; block ``b``
+    takes the days ``starts[b], starts[b] + 1, ...`` (``lengths[b]`` of them, wrapping round
+    from the last day to day 0). The lengths of a replication add up to ``n_obs``. About
+    ``reps * (n_obs / block_size + 1)`` blocks: 8 bytes each.
+    """
+
+    n_obs: int
+    reps: int
+    block_size: float
+    starts: np.ndarray
+    lengths: np.ndarray
+    offsets: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class SpaPartial:
+    """What a chunk of sets (columns ``first_column`` to ``first_column + n_sets - 1``) adds
+    to the SPA test: its largest observed statistic, the column attaining it, and per
+    replication the largest recentred bootstrap statistic (rows in :data:`RECENTRINGS` order,
+    shape (3, reps))."""
+
+    n_obs: int
+    reps: int
+    studentize: str
+    first_column: int
+    n_sets: int
+    statistic: float
+    best_set: int
+    maxima: np.ndarray
+
+
+def spa_plan(n_obs: int, *, reps: int = 1000, block_size: float | None = None,
+             seed: int | np.random.Generator | None = 0) -> SpaPlan:
+    """Draw the stationary-bootstrap blocks of ``reps`` replications of ``n_obs`` days.
+
+    Each replication draws ``n_obs`` uniform start days and ``n_obs`` uniforms (in that order,
+    from ``numpy.random.default_rng(seed)``); day ``i`` starts a new block when its uniform is
+    at most ``1 / block_size`` (day 0 always does), at the start day drawn for it; otherwise it
+    follows the previous day, wrapping round at the end. This is the sampling scheme, and random
+    stream, of ``arch.bootstrap.StationaryBootstrap(block_size, data, seed=seed)``.
+
+    Parameters
+    ----------
+    n_obs : days of the P&L series (at least 3).
+    reps : bootstrap replications.
+    block_size : mean block length; default ``int(sqrt(n_obs))`` (arch's default).
+    seed : seed (or generator) of ``numpy.random.default_rng``.
+    """
+    n_obs = as_count(n_obs, "number of days")
+    if n_obs < 3:
+        raise HunchbookError(f"number of days: the SPA test needs at least 3 days, got {n_obs}")
+    return _draw_plan(n_obs, as_count(reps, "bootstrap replications"),
+                      _block_size(block_size, n_obs), seed)
+
+
 def stationary_bootstrap_indices(n_obs: int, reps: int, block_size: float,
                                  seed: int | np.random.Generator | None = 0) -> np.ndarray:
     """Day indices of ``reps`` stationary-bootstrap resamples, shape (reps, n_obs).
 
-    Each replication draws ``n_obs`` uniform start days and ``n_obs`` uniforms (in that order, from
-    ``numpy.random.default_rng(seed)``); day ``i`` starts a new block when its uniform is at most
-    ``1 / block_size`` (day 0 always does), otherwise it follows the previous day, wrapping round
-    at the end. This is the sampling scheme, and random stream, of
-    ``arch.bootstrap.StationaryBootstrap(block_size, data, seed=seed)``.
+    The days of the blocks of :func:`spa_plan` (same random stream: that of
+    ``arch.bootstrap.StationaryBootstrap(block_size, data, seed=seed)``).
     """
     n_obs = as_count(n_obs, "number of days")
     reps = as_count(reps, "bootstrap replications")
-    rng = np.random.default_rng(seed)
-    return np.concatenate(list(_index_chunks(rng, n_obs, reps, _restart_probability(block_size),
-                                             reps)), axis=0)
+    plan = _draw_plan(n_obs, reps, _block_size(block_size, n_obs), seed)
+    lengths = plan.lengths.astype(np.int64)
+    block_first = np.cumsum(lengths) - lengths  # position of each block in the flat resample
+    flat = np.repeat(plan.starts - block_first, lengths) + np.arange(reps * n_obs)
+    return (flat % n_obs).reshape(reps, n_obs)
+
+
+def spa_partial(plan: SpaPlan, pnl_chunk: np.ndarray, *, first_column: int = 0,
+                studentize: Literal["sample", "long_run", "none"] = "sample") -> SpaPartial:
+    """Reduce a chunk of sets' daily net P&L (T x k) to its part of the SPA test.
+
+    Each set's mean ``d_k``, scale ``s_k`` and recentrings ``m_k`` are those of
+    :func:`spa_test`; the chunk keeps ``max_k d_k / s_k`` (and its column) and, for each
+    replication and recentring, ``max_k (d*_k - m_k) / s_k``. Bootstrap means come from prefix
+    sums of each set's centred series over the plan's blocks, in pieces of replications of at
+    most :data:`CHUNK_BYTES`.
+
+    Parameters
+    ----------
+    plan : the blocks of :func:`spa_plan` (the same plan for every chunk of one test).
+    pnl_chunk : (T, k) daily net P&L, one column per set; ``T`` must be ``plan.n_obs``.
+    first_column : column of the chunk's first set in the whole sweep (names the best set).
+    studentize : scale of each set's mean: ``"sample"``, ``"long_run"`` or ``"none"``.
+    """
+    x = np.ascontiguousarray(as_matrix(pnl_chunk, "P&L matrix"))
+    n_obs, n_sets = x.shape
+    if n_obs != plan.n_obs:
+        raise HunchbookError(f"P&L matrix: the SPA plan is for {plan.n_obs} days, got {n_obs}")
+    if studentize not in STUDENTIZE:
+        raise HunchbookError(f"studentize: expected one of {', '.join(STUDENTIZE)}, "
+                             f"got {studentize!r}")
+    first_column = as_count(first_column, "first column", minimum=0)
+    gather = _Gather(plan)
+    maxima = np.full((3, plan.reps), -np.inf)
+    observed = np.empty(n_sets)
+    step = max(1, TILE_BYTES // (8 * n_obs))
+    for first in range(0, n_sets, step):
+        tile = x[:, first:first + step]
+        observed[first:first + tile.shape[1]] = _tile(plan, gather, tile, studentize, maxima)
+    best = int(np.argmax(observed))
+    return SpaPartial(n_obs=n_obs, reps=plan.reps, studentize=studentize,
+                      first_column=first_column, n_sets=n_sets, statistic=float(observed[best]),
+                      best_set=first_column + best, maxima=maxima)
+
+
+def spa_combine(plan: SpaPlan, partials: Iterable[SpaPartial]) -> SpaResult:
+    """The SPA test of the sets of all ``partials`` (chunks of columns, in any order).
+
+    ``p = share of replications whose largest recentred statistic is >= the largest observed
+    statistic``, for each recentring (ties count against the sets, as ``P(T* >= T)``).
+    """
+    parts = list(partials)
+    if not parts:
+        raise HunchbookError("SPA test: no chunk of sets to combine")
+    kinds = {p.studentize for p in parts}
+    if len(kinds) > 1:
+        raise HunchbookError(f"SPA test: chunks scaled differently ({', '.join(sorted(kinds))})")
+    for part in parts:
+        if part.n_obs != plan.n_obs or part.reps != plan.reps:
+            raise HunchbookError(f"SPA test: a chunk of {part.n_obs} days x {part.reps} "
+                                 f"replications does not fit the plan of {plan.n_obs} days x "
+                                 f"{plan.reps} replications")
+    spans = sorted((p.first_column, p.first_column + p.n_sets) for p in parts)
+    for (_, end), (start, _) in zip(spans, spans[1:], strict=False):
+        if start < end:
+            raise HunchbookError(f"SPA test: column {start} is in two chunks")
+    maxima = np.maximum.reduce([p.maxima for p in parts])
+    statistic = max(p.statistic for p in parts)
+    best_set = min(p.best_set for p in parts if p.statistic == statistic)
+    pvalues = np.count_nonzero(maxima >= statistic, axis=1) / plan.reps
+    return SpaResult(lower=float(pvalues[0]), consistent=float(pvalues[1]),
+                     upper=float(pvalues[2]), statistic=statistic, best_set=best_set,
+                     block_size=plan.block_size, reps=plan.reps, studentize=kinds.pop())
 
 
 def spa_test(pnl: np.ndarray, *, reps: int = 1000, block_size: float | None = None,
@@ -83,7 +221,8 @@ def spa_test(pnl: np.ndarray, *, reps: int = 1000, block_size: float | None = No
     ``max(d_k, 0)`` (lower) or ``d_k`` where ``d_k >= -(w_k / sqrt(T)) sqrt(2 log log T)`` and 0
     otherwise (consistent). ``w_k^2`` is the stationary-bootstrap variance of Politis & Romano
     (1994): ``gamma_0 + 2 sum_{i=1}^{T-1} k_i gamma_i`` with ``k_i = (1 - i/T)(1 - p)^i +
-    (i/T)(1 - p)^(T - i)``, ``p = 1/block_size`` and ``gamma_i = sum_t e_t e_(t+i) / T``.
+    (i/T)(1 - p)^(T - i)``, ``p = 1/block_size`` and ``gamma_i = sum_t e_t e_(t+i) / T``
+    (see :mod:`hunchbook.core.stats.long_run`).
 
     The scale ``s_k`` depends on ``studentize``:
 
@@ -99,6 +238,8 @@ def spa_test(pnl: np.ndarray, *, reps: int = 1000, block_size: float | None = No
     exceedances; ties can only occur with degenerate data (e.g. all-zero P&L, whose p-value is
     then 1 here instead of 0). Sets whose scale is zero (constant P&L) count as 0.
 
+    This is :func:`spa_plan`, one :func:`spa_partial` of all the sets and :func:`spa_combine`.
+
     Parameters
     ----------
     pnl : (T, K) daily net P&L in currency, one column per parameter set.
@@ -113,120 +254,123 @@ def spa_test(pnl: np.ndarray, *, reps: int = 1000, block_size: float | None = No
     n_obs = x.shape[0]
     if n_obs < 3:
         raise HunchbookError(f"P&L matrix: the SPA test needs at least 3 days, got {n_obs}")
-    block = float(int(math.sqrt(n_obs))) if block_size is None else float(block_size)
-    p = _restart_probability(block)
-    means = x.mean(axis=0)
-    variances = _stationary_bootstrap_variance(x, means, p)
+    if indices is None:
+        plan = spa_plan(n_obs, reps=reps, block_size=block_size, seed=seed)
+    else:
+        plan = _plan_of_indices(indices, n_obs, _block_size(block_size, n_obs))
+    return spa_combine(plan, [spa_partial(plan, x, studentize=studentize)])
+
+
+class _Gather:
+    """The plan's blocks as prefix-sum positions: a block's sum is ``C[hi] - C[lo]`` on the
+    cumulative sums ``C`` of a series, plus its total where the block wraps round or starts on
+    day 0 (``C[-1]``, the total, stands in for the missing ``C[-1] = 0``)."""
+
+    def __init__(self, plan: SpaPlan) -> None:
+        n_obs = plan.n_obs
+        starts = plan.starts.astype(np.int64)
+        ends = starts + plan.lengths
+        self.lo = starts - 1  # -1 reads the total
+        self.hi = np.where(ends > n_obs, ends - n_obs, ends) - 1
+        extra = (ends > n_obs) | (starts == 0)
+        self.totals = np.add.reduceat(extra.astype(float), plan.offsets[:-1])
+
+
+def _tile(plan: SpaPlan, gather: _Gather, x: np.ndarray, studentize: str,
+          maxima: np.ndarray) -> np.ndarray:
+    """Fold a tile of sets into ``maxima`` (in place); return their observed statistics."""
+    n_obs, n_sets = x.shape
+    means = _column_sums(x) / n_obs
+    e = x - means
+    squares = _column_sums(e * e)
+    variances = long_run_variance(e, 1.0 / plan.block_size, squares)
     std_err = np.sqrt(np.where(variances > 0, variances, 0.0) / n_obs)
     threshold = -std_err * math.sqrt(max(2.0 * math.log(math.log(n_obs)), 0.0))
-    scale = _scale(studentize, x, std_err)
-    recentre = np.stack([np.maximum(means, 0.0),
-                         np.where(means >= threshold, means, 0.0),
-                         means])
-    observed = means / scale
-    statistic = float(observed.max())
-
-    if indices is None:
-        reps = as_count(reps, "bootstrap replications")
-        chunk = max(1, CHUNK_BYTES // (8 * n_obs))
-        chunks = _index_chunks(np.random.default_rng(seed), n_obs, reps, p, chunk)
-    else:
-        idx = _check_indices(indices, n_obs)
-        reps = idx.shape[0]
-        chunk = max(1, CHUNK_BYTES // (8 * n_obs))
-        chunks = (idx[i:i + chunk] for i in range(0, reps, chunk))
-
-    exceed = np.zeros(3)
-    for block_idx in chunks:
-        boot_means = _resample_counts(block_idx, n_obs) @ x / n_obs
-        for j in range(3):
-            exceed[j] += np.count_nonzero(((boot_means - recentre[j]) / scale).max(axis=1)
-                                          >= statistic)
-    pvalues = exceed / reps
-    return SpaResult(lower=float(pvalues[0]), consistent=float(pvalues[1]),
-                     upper=float(pvalues[2]), statistic=statistic,
-                     best_set=int(np.argmax(observed)), block_size=block, reps=reps,
-                     studentize=studentize)
-
-
-@dataclass(frozen=True)
-class SpaPlan:
-    """The bootstrap of an SPA test over ``n_obs`` days, the same for every chunk of sets."""
-
-    n_obs: int
-    reps: int
-    block_size: float
-    seed: int
-
-
-@dataclass(frozen=True)
-class SpaPartial:
-    """One chunk of sets' part of the SPA test: its observed maximum and best column, and per
-    replication the maximum over its sets of each recentred statistic (3 x reps)."""
-
-    statistic: float
-    best_set: int
-    maxima: np.ndarray
-
-
-def spa_plan(n_obs: int, *, reps: int = 1000, block_size: float | None = None,
-             seed: int = 0) -> SpaPlan:
-    """The bootstrap of the SPA test over ``n_obs`` days (block size default ``int(sqrt(T))``)."""
-    block = float(int(math.sqrt(n_obs))) if block_size is None else float(block_size)
-    return SpaPlan(n_obs=n_obs, reps=as_count(reps, "bootstrap replications"),
-                   block_size=block, seed=seed)
-
-
-def spa_partial(plan: SpaPlan, pnl: np.ndarray, *, first_column: int = 0,
-                studentize: str = "sample") -> SpaPartial:
-    """The part of the columns of ``pnl`` (T x k), the first being column ``first_column``."""
-    x = as_matrix(pnl, "P&L matrix")
-    p = _restart_probability(plan.block_size)
-    means = x.mean(axis=0)
-    variances = _stationary_bootstrap_variance(x, means, p)
-    std_err = np.sqrt(np.where(variances > 0, variances, 0.0) / plan.n_obs)
-    threshold = -std_err * math.sqrt(max(2.0 * math.log(math.log(plan.n_obs)), 0.0))
-    scale = _scale(studentize, x, std_err)
-    recentre = np.stack([np.maximum(means, 0.0), np.where(means >= threshold, means, 0.0),
-                         means])
-    observed = means / scale
-    chunk = max(1, CHUNK_BYTES // (8 * plan.n_obs))
-    maxima = np.empty((3, plan.reps))
-    done = 0
-    for idx in _index_chunks(np.random.default_rng(plan.seed), plan.n_obs, plan.reps, p,
-                             chunk):
-        boot_means = _resample_counts(idx, plan.n_obs) @ x / plan.n_obs
-        for j in range(3):
-            maxima[j, done:done + len(idx)] = ((boot_means - recentre[j]) / scale).max(axis=1)
-        done += len(idx)
-    best = int(np.argmax(observed))
-    return SpaPartial(statistic=float(observed[best]), best_set=first_column + best,
-                      maxima=maxima)
-
-
-def spa_combine(plan: SpaPlan, partials: list[SpaPartial],
-                studentize: str = "sample") -> SpaResult:
-    """The SPA test over every chunk's columns."""
-    best = max(partials, key=lambda q: (q.statistic, -q.best_set))
-    maxima = np.max([q.maxima for q in partials], axis=0)
-    pvalues = np.count_nonzero(maxima >= best.statistic, axis=1) / plan.reps
-    return SpaResult(lower=float(pvalues[0]), consistent=float(pvalues[1]),
-                     upper=float(pvalues[2]), statistic=best.statistic, best_set=best.best_set,
-                     block_size=plan.block_size, reps=plan.reps, studentize=studentize)
-
-
-def _scale(studentize: str, x: np.ndarray, long_run_err: np.ndarray) -> np.ndarray:
-    """Divisor of each set's mean; sets without variation get an infinite one (t = 0)."""
     if studentize == "none":
-        return np.ones(x.shape[1])
-    if studentize == "long_run":
-        err = long_run_err
-    elif studentize == "sample":
-        err = x.std(axis=0) / math.sqrt(x.shape[0])
+        scale = np.ones(n_sets)
     else:
-        raise HunchbookError(f"studentize: expected one of {', '.join(STUDENTIZE)}, "
-                             f"got {studentize!r}")
-    return np.where(err > 0, err, np.inf)
+        err = std_err if studentize == "long_run" else np.sqrt(squares / n_obs) / math.sqrt(n_obs)
+        scale = np.where(err > 0, err, np.inf)
+    # d_k - m_k for the lower, consistent and upper recentrings (RECENTRINGS order)
+    offsets = np.stack([np.minimum(means, 0.0), np.where(means >= threshold, 0.0, means),
+                        np.zeros(n_sets)])
+    prefix = np.cumsum(e, axis=0)
+    total = prefix[-1]
+    per_rep = max(1, round(plan.offsets[-1] / plan.reps))
+    step = max(1, CHUNK_BYTES // (16 * n_sets * per_rep))
+    for first in range(0, plan.reps, step):
+        last = min(first + step, plan.reps)
+        lo, hi = plan.offsets[first], plan.offsets[last]
+        sums = np.take(prefix, gather.hi[lo:hi], axis=0)
+        sums -= np.take(prefix, gather.lo[lo:hi], axis=0)
+        boot = np.add.reduceat(sums, plan.offsets[first:last] - lo, axis=0)
+        boot += gather.totals[first:last, None] * total
+        boot /= n_obs
+        for j in range(3):
+            np.maximum(maxima[j, first:last], ((offsets[j] + boot) / scale).max(axis=1),
+                       out=maxima[j, first:last])
+    return means / scale
+
+
+def _column_sums(a: np.ndarray) -> np.ndarray:
+    """Column sums added day after day (as numpy sums a C-ordered matrix of several columns),
+    so that a set's figures do not depend on which sets share its chunk."""
+    if a.shape[1] > 1 and a.strides[1] == a.itemsize:
+        return a.sum(axis=0)
+    return np.cumsum(a, axis=0)[-1]
+
+
+def _draw_plan(n_obs: int, reps: int, block: float,
+               seed: int | np.random.Generator | None) -> SpaPlan:
+    """The blocks of ``reps`` replications, drawn in groups of replications."""
+    p = _restart_probability(block)
+    rng = np.random.default_rng(seed)
+    starts, lengths, counts = [], [], []
+    group = max(1, CHUNK_BYTES // (16 * n_obs))
+    for first in range(0, reps, group):
+        rows = min(group, reps - first)
+        days = np.empty((rows, n_obs), dtype=np.int64)
+        uniforms = np.empty((rows, n_obs))
+        for r in range(rows):
+            days[r] = rng.integers(n_obs, size=n_obs, dtype=np.int64)
+            uniforms[r] = rng.random(n_obs)
+        new_block = uniforms <= p
+        new_block[:, 0] = True
+        flat = np.flatnonzero(new_block)
+        starts.append(days.ravel()[flat])
+        lengths.append(np.diff(flat, append=rows * n_obs))
+        counts.append(np.count_nonzero(new_block, axis=1))
+    return _plan(n_obs, block, np.concatenate(starts), np.concatenate(lengths),
+                 np.concatenate(counts))
+
+
+def _plan_of_indices(indices: np.ndarray, n_obs: int, block: float) -> SpaPlan:
+    """The plan of given resampled days: a block ends wherever the next day is not the next
+    position (so no block wraps round)."""
+    idx = _check_indices(indices, n_obs)
+    new_block = np.ones(idx.shape, dtype=bool)
+    new_block[:, 1:] = idx[:, 1:] != idx[:, :-1] + 1
+    flat = np.flatnonzero(new_block)
+    return _plan(n_obs, block, idx.ravel()[flat], np.diff(flat, append=idx.size),
+                 np.count_nonzero(new_block, axis=1))
+
+
+def _plan(n_obs: int, block: float, starts: np.ndarray, lengths: np.ndarray,
+          counts: np.ndarray) -> SpaPlan:
+    offsets = np.zeros(counts.size + 1, dtype=np.int64)
+    np.cumsum(counts, out=offsets[1:])
+    arrays = [starts.astype(np.int32), lengths.astype(np.int32), offsets]
+    for a in arrays:
+        a.flags.writeable = False
+    return SpaPlan(n_obs=n_obs, reps=int(counts.size), block_size=block, starts=arrays[0],
+                   lengths=arrays[1], offsets=arrays[2])
+
+
+def _block_size(block_size: float | None, n_obs: int) -> float:
+    if block_size is None:
+        return float(int(math.sqrt(n_obs)))
+    _restart_probability(block_size)
+    return float(block_size)
 
 
 def _restart_probability(block_size: float) -> float:
@@ -238,52 +382,6 @@ def _restart_probability(block_size: float) -> float:
         raise HunchbookError(f"block size: expected a mean block length of at least 1 day, "
                              f"got {block_size!r}")
     return 1.0 / block
-
-
-def _index_chunks(rng: np.random.Generator, n_obs: int, reps: int, p: float,
-                  chunk: int) -> Iterator[np.ndarray]:
-    """Yield stationary-bootstrap day indices in chunks of at most ``chunk`` replications."""
-    days = np.arange(n_obs)
-    for first in range(0, reps, chunk):
-        rows = min(chunk, reps - first)
-        starts = np.empty((rows, n_obs), dtype=np.int64)
-        uniforms = np.empty((rows, n_obs))
-        for r in range(rows):
-            starts[r] = rng.integers(n_obs, size=n_obs, dtype=np.int64)
-            uniforms[r] = rng.random(n_obs)
-        new_block = uniforms <= p
-        new_block[:, 0] = True
-        block_start = np.maximum.accumulate(np.where(new_block, days, 0), axis=1)
-        idx = np.take_along_axis(starts, block_start, axis=1) + (days - block_start)
-        idx[idx >= n_obs] -= n_obs
-        yield idx
-
-
-def _resample_counts(indices: np.ndarray, n_obs: int) -> np.ndarray:
-    """(rows, T) matrix of how often each day appears in each resample."""
-    rows = indices.shape[0]
-    flat = (indices + n_obs * np.arange(rows)[:, None]).ravel()
-    return np.bincount(flat, minlength=rows * n_obs).reshape(rows, n_obs).astype(float)
-
-
-def _stationary_bootstrap_variance(x: np.ndarray, means: np.ndarray, p: float) -> np.ndarray:
-    """Politis-Romano long-run variance of each column (all T - 1 autocovariances, via FFT)."""
-    from scipy import fft  # imported when the test runs, not when results are read
-
-    n_obs, n_sets = x.shape
-    lag = np.arange(1, n_obs)
-    kappa = (1.0 - lag / n_obs) * (1.0 - p) ** lag + (lag / n_obs) * (1.0 - p) ** (n_obs - lag)
-    size = fft.next_fast_len(2 * n_obs, real=True)
-    out = np.empty(n_sets)
-    step = max(1, CHUNK_BYTES // (16 * size))
-    for first in range(0, n_sets, step):
-        last = min(first + step, n_sets)
-        padded = np.zeros((last - first, size))
-        padded[:, :n_obs] = (x[:, first:last] - means[first:last]).T
-        spectrum = fft.rfft(padded, axis=1, workers=-1)
-        autocov = fft.irfft(spectrum * spectrum.conj(), n=size, axis=1, workers=-1)[:, :n_obs]
-        out[first:last] = (autocov[:, 0] + 2.0 * autocov[:, 1:] @ kappa) / n_obs
-    return out
 
 
 def _check_indices(indices: np.ndarray, n_obs: int) -> np.ndarray:
