@@ -10,14 +10,16 @@ a fresh single-threaded interpreter that imports the heavy modules once (:data:`
 forks every worker from itself. Forking the calling process instead is unsafe once it runs
 threads (a thread holding a lock at the fork leaves it locked for ever in the child), and the
 window runs Qt's threads from its first moment; the fork server never runs any. A worker lost
-later is replaced by another fork of the server, just as cheaply.
+later is replaced by another fork of the server, just as cheaply. Where there is no fork
+server (Windows), workers are spawned, still once.
 
 Each job's payload is pickled once into a temporary file; the chunk tasks carry the job's
 serial number and that file's path, and each worker keeps the :class:`~hunchbook.core.
 sweep_job.ChunkWorker` of the current job only (built on its first chunk of the job, dropped
-at the first chunk of the next). When a job ends (done, cancelled or failed) its serial is
-written to a number the workers share, and any of its chunks still running or queued stops
-at its next set.
+at the first chunk of the next: between sweeps a worker still holds the last one's backtest
+and window-function cache). When a job ends (done, cancelled or failed) its serial is written
+to a number the workers share, and any of its chunks still running or queued stops at its
+next set.
 """
 
 from __future__ import annotations
@@ -167,8 +169,11 @@ class WarmPool:
         import multiprocessing
         from concurrent.futures import ProcessPoolExecutor
 
-        context = multiprocessing.get_context("forkserver")
-        context.set_forkserver_preload(list(PRELOAD))
+        if "forkserver" in multiprocessing.get_all_start_methods():
+            context = multiprocessing.get_context("forkserver")
+            context.set_forkserver_preload(list(PRELOAD))
+        else:  # no fork server on this system: each worker imports everything, once
+            context = multiprocessing.get_context("spawn")
         if self._over is None:
             self._over = context.RawValue("q", 0)
         executor = ProcessPoolExecutor(self.workers, mp_context=context,
