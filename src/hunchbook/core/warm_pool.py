@@ -181,8 +181,12 @@ class WarmPool:
                                        initargs=(self._over, context.Barrier(self.workers)))
         # the executor starts a process per task while none is idle; the workers wait for
         # each other as they start, so these tasks start every one of them now
-        for probe in [executor.submit(os.getpid) for _ in range(self.workers)]:
-            probe.result()
+        try:
+            for probe in [executor.submit(os.getpid) for _ in range(self.workers)]:
+                probe.result()
+        except BaseException:
+            executor.shutdown(wait=False, cancel_futures=True)
+            raise
         self._executor = executor
         return executor
 
