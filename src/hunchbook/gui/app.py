@@ -38,6 +38,7 @@ from PySide6.QtCore import QCoreApplication, QEventLoop, Qt
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication
 
+from hunchbook.core.warm_pool import WarmPool
 from hunchbook.gui.feedback import USER_ENV, install_excepthook
 from hunchbook.gui.main_window import MainWindow
 from hunchbook.gui.sections.registry import section_names
@@ -56,6 +57,8 @@ class Session:
     temp_dir: Path | None = None
     demo_workers: list[DemoDeskWorker] = field(default_factory=list)
     started_at: float = field(default_factory=time.perf_counter)
+    #: The quick runs' worker processes (started once the window shows, closed at the end).
+    pool: WarmPool | None = None
 
     def wait_for_demo_data(self, timeout_ms: int = DEMO_DATA_TIMEOUT_MS) -> bool:
         """Run the event loop until the demo catalogue and data are written (True) or the
@@ -70,7 +73,9 @@ class Session:
                                          and self.window.data_folder is not None)
 
     def cleanup(self) -> None:
-        """Remove the demo's temporary folder."""
+        """Remove the demo's temporary folder and stop the quick runs' worker processes."""
+        if self.pool is not None:
+            self.pool.close()
         if self.temp_dir is not None:
             shutil.rmtree(self.temp_dir, ignore_errors=True)
             self.temp_dir = None
@@ -121,9 +126,10 @@ def start(options: argparse.Namespace) -> Session:
     if options.screenshot is not None:
         os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
     app = application()
+    pool = WarmPool()  # no process yet: see main
     window = MainWindow(remember=not options.demo, keep_layout=options.screenshot is None,
-                        user=_demo_user() if options.demo else None)
-    session = Session(app=app, window=window)
+                        runner=pool, user=_demo_user() if options.demo else None)
+    session = Session(app=app, window=window, pool=pool)
     if options.size:
         window.resize(*options.size)
     elif not window.has_saved_layout() or options.screenshot is not None:
@@ -224,6 +230,8 @@ def main(argv: list[str] | None = None) -> int:
             print(f"Screenshot written to {options.screenshot}")
             return 0
         install_excepthook()
+        if session.pool is not None:  # the quick runs' workers start off the UI thread
+            session.pool.start_in_background()
         return int(session.app.exec())
     finally:
         session.cleanup()

@@ -65,7 +65,8 @@ class MainWindow(QMainWindow):
         Restore the window layout from the settings and save it on closing (screenshots
         do not, so that they always look the same).
     runner
-        The sweep runner of quick runs (default: the sweep's own, worker processes).
+        The sweep runner of quick runs (the ``hunchbook`` command gives a
+        :class:`~hunchbook.core.warm_pool.WarmPool`; default: the sweep's own).
     user
         The name edits, reviews and runs are written under (default:
         :func:`~hunchbook.gui.feedback.current_user`).
