@@ -13,9 +13,9 @@ Prints min / median / max over the repeats of:
 the part of (b) and (c) spent in the sweep, and the ratios of the medians (target: (b) / (a)
 at most 1.2). The three paths take turns, so that all meet the same load of the machine.
 
-What chunks carry back from the workers (each set's daily rows) is what the sweep sends now; a
-rework that sends small per-set summaries instead would shrink (b)'s transfer. Inputs are
-generated (benchmark data only). Not a test. Run:
+Chunks carry back only their sets' figures and their part of the statistics (never daily
+rows), so what crosses between processes is small. Inputs are generated (benchmark data
+only). Not a test. Run:
 ``.venv/bin/python benchmarks/quick_run.py [--repeats R]``
 """
 
