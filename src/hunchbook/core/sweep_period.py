@@ -18,7 +18,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from hunchbook.core.periods import DAYS_PER_YEAR
-from hunchbook.core.stats.effective_trials import effective_from_sample, sample_columns, varies
+from hunchbook.core.stats.effective_trials import (
+    effective_from_standardised,
+    sample_columns,
+    standardised,
+    varies,
+)
 from hunchbook.core.stats.first_pass import column_sharpes, pbo_splits
 from hunchbook.core.stats.overfitting import OverfitResult, block_sums, overfitting_from_blocks
 from hunchbook.core.stats.spa import SpaPartial, SpaPlan, SpaResult, spa_combine, spa_partial
@@ -75,8 +80,8 @@ def period_plan(start: int, stop: int, sets: int, *, others: int = 0, spa_reps: 
 class PeriodParts:
     """One chunk's part of the statistics: columns ``first`` to ``first + len`` of the trials.
 
-    ``kept`` holds the daily net P&L (days x columns) of the chunk's columns listed in the
-    plan's sample, ``kept_columns`` their numbers.
+    ``kept`` holds the daily net P&L (days x columns), :func:`standardised`, of the chunk's
+    varying columns listed in the plan's sample; ``kept_columns`` their numbers.
     """
 
     first: int
@@ -98,12 +103,15 @@ def period_parts(plan: PeriodPlan, net: np.ndarray, first: int) -> PeriodParts:
     only in the trial counts and the SPA test)."""
     n_days, width = net.shape
     columns = np.arange(first, first + width)
-    keep = columns if plan.sample is None else np.intersect1d(columns, plan.sample)
+    moving = varies(net)
+    keep = columns[moving]
+    if plan.sample is not None:
+        keep = np.intersect1d(keep, plan.sample)
     own = max(0, min(plan.sets - first, width))  # the sweep's sets among these columns
     mine = net[:, :own]
     return PeriodParts(
-        first=first, net_sharpes=column_sharpes(net, plan.periods), varying=varies(net),
-        kept=net[:, keep - first].copy(), kept_columns=keep,
+        first=first, net_sharpes=column_sharpes(net, plan.periods), varying=moving,
+        kept=standardised(net[:, keep - first]), kept_columns=keep,
         walk_sums=(segment_sums(mine, plan.walk.edges)
                    if plan.walk is not None and own else None),
         pbo_sums=block_sums(mine, plan.pbo_splits) if plan.pbo_splits and own else None,
@@ -137,8 +145,8 @@ def combine_parts(plan: PeriodPlan, parts: Sequence[PeriodParts]) -> PeriodTotal
     effective = None
     if plan.columns > 1:
         kept = np.hstack([p.kept for p in parts])
-        effective = effective_from_sample(kept, n_sets=plan.columns,
-                                          n_varying=varying).effective
+        effective = effective_from_standardised(kept, n_sets=plan.columns, n_varying=varying,
+                                                sampled=plan.sample is not None).effective
     own = [p for p in parts if p.first < plan.sets]
     walk = None
     if plan.walk is not None:

@@ -112,27 +112,36 @@ def varies(x: np.ndarray) -> np.ndarray:
     return ~np.all(x == x[:1], axis=0)
 
 
+def standardised(x: np.ndarray) -> np.ndarray:
+    """Columns (each one varying) centred and scaled to unit length: ``Z.T @ Z`` of them is
+    their Pearson correlation matrix. Column by column, so chunks of a sweep can do it apart."""
+    z = x - x.mean(axis=0)
+    z /= np.sqrt(np.einsum("ij,ij->j", z, z))
+    return z
+
+
 def effective_from_sample(sample: np.ndarray, *, n_sets: int,
                           n_varying: int) -> EffectiveTrials:
     """The effective number of ``n_sets`` trials (``n_varying`` of them varying) from the daily
     net P&L of the columns :func:`sample_columns` picked (all columns when it picked none)."""
     moving = sample[:, varies(sample)]
-    sampled = None if sample.shape[1] == n_sets else moving.shape[1]
-    if moving.shape[1] == 0:
+    return effective_from_standardised(standardised(moving), n_sets=n_sets,
+                                       n_varying=n_varying,
+                                       sampled=sample.shape[1] != n_sets)
+
+
+def effective_from_standardised(z: np.ndarray, *, n_sets: int, n_varying: int,
+                                sampled: bool) -> EffectiveTrials:
+    """The effective number of ``n_sets`` trials from the :func:`standardised` varying columns
+    of the sample (``sampled``: a sample of the columns, not all of them)."""
+    if z.shape[1] == 0:
         count = float(n_varying)  # nothing to correlate: every varying set counts
     else:
-        count = li_ji_count(_correlation(moving))
+        corr = z.T @ z
+        np.fill_diagonal(corr, 1.0)
+        count = li_ji_count(corr)
         if sampled:
-            count *= n_varying / sampled
+            count *= n_varying / z.shape[1]
     effective = min(max(count + (n_sets - n_varying), 1.0), float(n_sets))
-    return EffectiveTrials(raw=n_sets, effective=effective, method=METHOD, sampled=sampled)
-
-
-def _correlation(x: np.ndarray) -> np.ndarray:
-    """Pearson correlation matrix of the columns (each column varies)."""
-    z = x - x.mean(axis=0)
-    z /= np.sqrt(np.einsum("ij,ij->j", z, z))
-    corr = z.T @ z
-    np.fill_diagonal(corr, 1.0)
-    return corr
-
+    return EffectiveTrials(raw=n_sets, effective=effective, method=METHOD,
+                           sampled=z.shape[1] if sampled else None)
