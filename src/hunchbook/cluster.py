@@ -29,9 +29,14 @@ INSTALL_HINT = "pip install 'hunchbook[cluster]'"
 POLL_SECONDS = 0.05
 
 
+def dask_installed() -> bool:
+    """Whether Dask's ``distributed`` can be imported here (without importing it)."""
+    return importlib.util.find_spec("distributed") is not None
+
+
 def require_dask() -> ModuleType:
     """The ``distributed`` module, or a :class:`HunchbookError` saying how to install it."""
-    if importlib.util.find_spec("distributed") is None:
+    if not dask_installed():
         raise HunchbookError(f"sweeps on a Dask cluster need Dask, which is not installed: "
                              f"{INSTALL_HINT}")
     import distributed

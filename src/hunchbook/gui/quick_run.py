@@ -125,8 +125,10 @@ class QuickRunner(QObject):
             self.refusal_box = offer_amendment(window, idea.id, window.rules.text(), refusal)
             self.failed.emit(refusal)
             return None
+        runner = (window.sweep_runner if window.sweep_runner is not None
+                  else window.sweep_settings.runner())
         worker = RunIdeaWorker(catalogue.path, idea.id, window.rules.text(),
-                               window.data_folder, by=window.user, runner=window.sweep_runner)
+                               window.data_folder, by=window.user, runner=runner)
         worker.signals.progress.connect(self._progress)
         worker.signals.finished.connect(self._done)
         worker.signals.failed.connect(self._failed)
