@@ -23,20 +23,21 @@ MARKETS, DAYS, FAST, SLOW = 20, 10_000, 20, 100
 RULE = f"sign(mean(close, {FAST}) - mean(close, {SLOW}))"
 
 
-def make_inputs(seed: int = 7, *, own_calendars: bool = False
-                ) -> tuple[list[ContinuousSeries], list[MarketSpec]]:
-    """Generated continuous series with a roll every 63 bars (benchmark input only); with
-    ``own_calendars`` each market trades on its own random 98 % of the business days."""
+def make_inputs(seed: int = 7, *, own_calendars: bool = False, days: int = DAYS,
+                markets: int = MARKETS) -> tuple[list[ContinuousSeries], list[MarketSpec]]:
+    """Generated continuous series of ``markets`` markets over ``days`` days with a roll every
+    63 bars (benchmark input only); with ``own_calendars`` each market trades on its own random
+    98 % of the business days."""
     rng = np.random.default_rng(seed)
     every = np.busday_offset(np.datetime64("1985-01-01"),
-                             np.arange(int(DAYS * 1.02) if own_calendars else DAYS),
+                             np.arange(int(days * 1.02) if own_calendars else days),
                              roll="forward")
     series, specs = [], []
-    for j in range(MARKETS):
-        dates = np.sort(rng.choice(every, size=DAYS, replace=False)) if own_calendars else every
-        change = rng.normal(0, 1, DAYS)
+    for j in range(markets):
+        dates = np.sort(rng.choice(every, size=days, replace=False)) if own_calendars else every
+        change = rng.normal(0, 1, days)
         change[0] = 0.0
-        roll = np.zeros(DAYS, dtype=bool)
+        roll = np.zeros(days, dtype=bool)
         roll[63::63] = True
         close = 100 + np.cumsum(change)
         contract = np.array([f"C{k}" for k in np.cumsum(roll)], dtype=object)
