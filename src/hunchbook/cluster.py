@@ -150,25 +150,27 @@ class DaskRunner:
         threads = max(1, sum(client.nthreads().values()))
         # a key of its own (not a hash of the contents): each sweep's payload is sent anew
         payload = client.scatter(job.payload, broadcast=True, hash=False)
-        futures = [client.submit(_run_chunk, payload.key, payload, list(job.sets[a:b]), a,
+        pending = {client.submit(_run_chunk, payload.key, payload, list(job.sets[a:b]), a,
                                  pure=False)
                    for a, b in chunk_bounds(job, threads * self.chunks_per_worker,
-                                            self.min_chunk_sets)]
-        completed = as_completed(futures)
+                                            self.min_chunk_sets)}
+        completed = as_completed(pending)
         try:
-            while not completed.is_empty():
+            while pending:
                 finished = completed.next_batch(block=False)
                 if not finished:
                     time.sleep(POLL_SECONDS)
                 for future in finished:
                     job.add(_result(future, client))
+                    pending.discard(future)
+                    future.release()  # the cluster keeps no copy of a chunk taken
                 job.check_cancel()
         except BaseException:
-            client.cancel(futures)
+            client.cancel(list(pending))
             raise
         finally:
-            with contextlib.suppress(Exception):  # workers that left keep nothing to drop
-                client.run(_forget, payload.key)
+            with contextlib.suppress(Exception):  # a worker that left keeps nothing to drop
+                client.run(_forget, payload.key, on_error="ignore")
             payload.release()
 
 

@@ -5,6 +5,9 @@ from __future__ import annotations
 
 import importlib.util
 import json
+import subprocess
+import sys
+from pathlib import Path
 
 import pytest
 
@@ -31,12 +34,17 @@ def _run(folder, out, *options):
 
 
 def test_cluster_local_gives_the_record_of_local_processes(folder, tmp_path, capsys):
+    """The installed command in its own process (a Dask client leaves a thread behind, after
+    which local worker processes could no longer be forked in this one)."""
     assert _run(folder, tmp_path / "here.json", "--workers", "1") == 0
     here = capsys.readouterr().out
-    assert _run(folder, tmp_path / "cluster.json", "--cluster", "local") == 0
-    printed = capsys.readouterr()
-    assert printed.out == here  # the same tables, statistics and verdict
-    assert "Traceback" not in printed.err
+    command = Path(sys.executable).with_name("hunchbook")
+    done = subprocess.run([str(command), "run", str(folder / "rules.toml"), "--data",
+                           str(folder), "--json", str(tmp_path / "cluster.json"), "--cluster",
+                           "local"], capture_output=True, text=True, check=False)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout == here  # the same tables, statistics and verdict
+    assert "Traceback" not in done.stderr
     record = json.loads((tmp_path / "cluster.json").read_text())
     assert len(record["sets"]) == 10 and record["statistics"]["n_trials"] == 10
     assert record == json.loads((tmp_path / "here.json").read_text())

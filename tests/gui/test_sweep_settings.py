@@ -88,3 +88,10 @@ def test_a_quick_run_on_a_local_dask_cluster(qtbot, window, tmp_path_factory, tm
         here = run_idea(cat, idea_id, window.rules.text(), window.data_folder,
                         by="Test Reviewer", runner=InProcess())
     assert _record(stored.result) == _record(here.summary)
+
+
+def test_an_unknown_place_or_a_scheduler_without_address_runs_here(qtbot):
+    keep_place(SweepPlace("scheduler", "  "))
+    assert read_place() == SweepPlace("processes", "  ") and read_place().runner() is None
+    keep_place(SweepPlace("elsewhere", "tcp://127.0.0.1:8786"))
+    assert read_place().on == "processes"

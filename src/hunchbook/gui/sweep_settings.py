@@ -59,10 +59,13 @@ class SweepPlace:
 
 
 def read_place() -> SweepPlace:
-    """The place kept in the settings (worker processes when none or an unknown one)."""
+    """The place kept in the settings (worker processes when none, an unknown one, or a
+    scheduler without an address)."""
     settings = app_settings()
-    on, address = settings.value(KEY_ON), settings.value(KEY_ADDRESS)
-    return SweepPlace(on if on in PLACES else "processes", str(address or ""))
+    on, address = settings.value(KEY_ON), str(settings.value(KEY_ADDRESS) or "")
+    if on not in PLACES or (on == "scheduler" and not address.strip()):
+        on = "processes"
+    return SweepPlace(on, address)
 
 
 def keep_place(place: SweepPlace) -> None:
