@@ -6,6 +6,7 @@ a scheduler that cannot be reached is one clear line."""
 from __future__ import annotations
 
 import json
+import os
 import socket
 from types import SimpleNamespace
 
@@ -45,6 +46,15 @@ def address():
     shared by the module's tests."""
     with local_cluster(2) as cluster:
         yield cluster.scheduler_address
+
+
+def test_local_workers_keep_the_c_library_memory_settings(address):
+    """No MALLOC_TRIM_THRESHOLD_ in the local cluster's workers: setting it turns off glibc's
+    dynamic mmap threshold, so every large array is mapped and faulted in afresh (glibc
+    mallopt(3), M_TRIM_THRESHOLD and the dynamic mmap threshold) [memory]."""
+    with distributed.Client(address) as client:
+        seen = client.run(os.environ.get, "MALLOC_TRIM_THRESHOLD_")
+    assert len(seen) == 2 and set(seen.values()) == {None}
 
 
 def test_the_wide_grid(study):
