@@ -23,10 +23,11 @@ MARKETS, DAYS, FAST, SLOW = 20, 10_000, 20, 100
 RULE = f"sign(mean(close, {FAST}) - mean(close, {SLOW}))"
 
 
-def make_inputs(seed: int = 7, *, own_calendars: bool = False, markets: int = MARKETS,
-                days: int = DAYS) -> tuple[list[ContinuousSeries], list[MarketSpec]]:
-    """Generated continuous series with a roll every 63 bars (benchmark input only); with
-    ``own_calendars`` each market trades on its own random 98 % of the business days."""
+def make_inputs(seed: int = 7, *, own_calendars: bool = False, days: int = DAYS,
+                markets: int = MARKETS) -> tuple[list[ContinuousSeries], list[MarketSpec]]:
+    """Generated continuous series of ``markets`` markets over ``days`` days with a roll every
+    63 bars (benchmark input only); with ``own_calendars`` each market trades on its own random
+    98 % of the business days."""
     rng = np.random.default_rng(seed)
     every = np.busday_offset(np.datetime64("1985-01-01"),
                              np.arange(int(days * 1.02) if own_calendars else days),

@@ -7,12 +7,13 @@ catalogue commands start without loading the engine, pandas or the statistics.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import dataclasses
 import io
 import json
 import os
 import sys
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -92,7 +93,12 @@ def _build_parser() -> argparse.ArgumentParser:
     run.add_argument("--pnl-csv", metavar="PATH", type=Path,
                      help="write the judged set's daily P&L, one row per (date, market)")
     run.add_argument("--workers", type=_positive_int, default=None, metavar="N",
-                     help="worker processes for a sweep (default: CPU count)")
+                     help="worker processes for a sweep (default: CPU count; with --cluster "
+                          "local: the local cluster's, default 2)")
+    run.add_argument("--cluster", metavar="ADDRESS",
+                     help="run the sweep on a Dask cluster: tcp://HOST:PORT of a running "
+                          "scheduler, or 'local' for worker processes started here (needs the "
+                          "cluster extra; see docs/cluster.md)")
     run.add_argument("--yes", action="store_true",
                      help="run a long or large sweep without asking (the estimate of its time "
                           "and memory is still printed; one that cannot fit is still refused)")
@@ -181,11 +187,24 @@ def _parse_params(text: str) -> dict[str, float]:
     return params
 
 
-def _runner(args: argparse.Namespace) -> SweepRunner:
-    """The sweep runner that ``--workers`` asks for."""
-    from hunchbook.core.runners import LocalProcesses
+@contextlib.contextmanager
+def _runner(args: argparse.Namespace) -> Iterator[SweepRunner]:
+    """The sweep runner that ``--workers`` and ``--cluster`` ask for (a cluster connected,
+    or started, for the command's sweeps and closed after them)."""
+    if args.cluster is None:
+        from hunchbook.core.runners import LocalProcesses
 
-    return LocalProcesses(workers=args.workers)
+        yield LocalProcesses(workers=args.workers)
+        return
+    from hunchbook.cluster import LOCAL, DaskRunner, require_dask
+
+    require_dask()
+    if args.workers is not None and args.cluster != LOCAL:
+        raise HunchbookError("--workers sets the worker processes of this machine or of "
+                             "--cluster local; a scheduler's workers are those started with "
+                             "`dask worker`")
+    with DaskRunner(args.cluster, n_workers=args.workers or 2) as runner:
+        yield runner
 
 
 def _confirmer(args: argparse.Namespace) -> Callable[[SweepEstimate], bool]:
@@ -214,8 +233,9 @@ def _cmd_run(args: argparse.Namespace) -> int:
     n_sets = len(study.parameter_sets())
     if args.params:
         study.parameter_sets(args.params)  # a value that is not declared is refused here
-    report = study.sweep(pick=args.params or None, runner=_runner(args),
-                         progress=_progress_printer(n_sets), confirm=_confirmer(args))
+    with _runner(args) as runner:
+        report = study.sweep(pick=args.params or None, runner=runner,
+                             progress=_progress_printer(n_sets), confirm=_confirmer(args))
     chosen = study.run_set(report.sets[report.chosen])
     run = report.summarise(chosen, currency=study.panel.currency, data_folder=str(args.data))
     _print_and_write(args, run, chosen)
@@ -237,10 +257,10 @@ def _run_for_idea(args: argparse.Namespace) -> int:
         raise RuleError(f"cannot read the rule file ({exc})", file=str(path)) from None
     from hunchbook.services import run_idea
 
-    with open_catalogue(args) as catalogue:
+    with open_catalogue(args) as catalogue, _runner(args) as runner:
         outcome = run_idea(catalogue, args.idea, text, args.data, by=author(args),
-                           rule_file=str(path), runner=_runner(args),
-                           progress=_progress_printer(2), confirm=_confirmer(args))
+                           rule_file=str(path), runner=runner, progress=_progress_printer(2),
+                           confirm=_confirmer(args))
     _print_and_write(args, outcome.summary, outcome.chosen)
     print(f"Recorded as run {outcome.run_id} of idea {args.idea} (rule revision "
           f"{outcome.revision_number}); the idea now counts {outcome.summary.statistics.n_trials} "

@@ -94,6 +94,16 @@ class WarmPool:
         self._over: Any = None  # shared "jobs up to this serial are over" (a ctypes value)
         self._closed = False
 
+    @property
+    def slots(self) -> int:
+        """Sets run at once (for the sweep's estimate): the worker processes."""
+        return self.workers
+
+    @property
+    def local_slots(self) -> int:
+        """Worker processes on this machine: all of them."""
+        return self.workers
+
     def __enter__(self) -> WarmPool:
         return self
 

@@ -44,6 +44,7 @@ from hunchbook.gui.quick_run import QuickRunner
 from hunchbook.gui.sections import registry
 from hunchbook.gui.sections.base import IdeaSection, SectionContext
 from hunchbook.gui.sections.rules import RulesSection
+from hunchbook.gui.sweep_settings import SweepSettings
 from hunchbook.gui.widgets.catalogue_panel import CataloguePanel
 from hunchbook.gui.widgets.desk_dialog import open_desk_dialog
 from hunchbook.gui.widgets.idea_header import IdeaHeader
@@ -65,8 +66,9 @@ class MainWindow(QMainWindow):
         Restore the window layout from the settings and save it on closing (screenshots
         do not, so that they always look the same).
     runner
-        The sweep runner of quick runs (the ``hunchbook`` command gives a
-        :class:`~hunchbook.core.warm_pool.WarmPool`; default: the sweep's own).
+        The sweep runner of quick runs (default: the one chosen under *File ▸ Run sweeps
+        on…*, see :mod:`hunchbook.gui.sweep_settings`; the ``hunchbook`` command gives a
+        :class:`~hunchbook.core.warm_pool.WarmPool` for sweeps on this computer).
     user
         The name edits, reviews and runs are written under (default:
         :func:`~hunchbook.gui.feedback.current_user`).
@@ -79,6 +81,8 @@ class MainWindow(QMainWindow):
         The :class:`~hunchbook.gui.exports.Exports` of runs and ideas.
     desk_settings
         The :class:`~hunchbook.gui.desk_settings.DeskSettings` (one-person desk).
+    sweep_settings
+        The :class:`~hunchbook.gui.sweep_settings.SweepSettings` (where sweeps run).
     data_menu, drops
         The :class:`~hunchbook.gui.data_menu.DataMenu` and the
         :class:`~hunchbook.gui.drops.DropHandler`.
@@ -108,6 +112,7 @@ class MainWindow(QMainWindow):
         self.runs.unlock_requested.connect(self.holdout.unlock)
         self.exports = Exports(self)
         self.desk_settings = DeskSettings(self)
+        self.sweep_settings = SweepSettings(self)
         self.data_menu = DataMenu(self)
         self.drops = DropHandler(self)
         self._build_actions()
@@ -177,7 +182,8 @@ class MainWindow(QMainWindow):
         run, ex, data = self.quick_run, self.exports, self.data_menu
 
         menus = (("&File", (self.new_idea_action, open_catalogue_action,
-                            self.desk_settings.action, None, ex.import_action,
+                            self.desk_settings.action, self.sweep_settings.action, None,
+                            ex.import_action,
                             ex.bundle_action, ex.report_action, ex.pack_action, ex.pnl_action,
                             None,
                             quit_action)),

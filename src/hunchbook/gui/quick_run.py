@@ -125,8 +125,10 @@ class QuickRunner(QObject):
             self.refusal_box = offer_amendment(window, idea.id, window.rules.text(), refusal)
             self.failed.emit(refusal)
             return None
+        # a Dask cluster chosen under File > Run sweeps on...; else this computer's runner
+        runner = window.sweep_settings.runner() or window.sweep_runner
         worker = RunIdeaWorker(catalogue.path, idea.id, window.rules.text(),
-                               window.data_folder, by=window.user, runner=window.sweep_runner)
+                               window.data_folder, by=window.user, runner=runner)
         worker.signals.progress.connect(self._progress)
         worker.signals.confirm.connect(self._confirm)
         worker.signals.finished.connect(self._done)
