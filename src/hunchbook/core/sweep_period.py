@@ -13,6 +13,7 @@ with the days times the chunk's sets, never with every set's days.
 from __future__ import annotations
 
 from collections.abc import Sequence
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
@@ -141,25 +142,37 @@ def combine_parts(plan: PeriodPlan, parts: Sequence[PeriodParts]) -> PeriodTotal
         raise ValueError(f"the statistics' parts cover {covered.size} of {plan.columns} "
                          "columns, or some twice: each column must come exactly once")
     sharpes = np.concatenate([p.net_sharpes for p in parts])
-    varying = int(sum(np.count_nonzero(p.varying) for p in parts))
-    effective = None
-    if plan.columns > 1:
-        kept = np.hstack([p.kept for p in parts])
-        effective = effective_from_standardised(kept, n_sets=plan.columns, n_varying=varying,
-                                                sampled=plan.sample is not None).effective
     own = [p for p in parts if p.first < plan.sets]
     walk = None
     if plan.walk is not None:
         walk = (np.hstack([p.walk_sums[0] for p in own if p.walk_sums]),
                 np.hstack([p.walk_sums[1] for p in own if p.walk_sums]))
-    overfit = None
-    if plan.pbo_splits:
-        sums = np.hstack([p.pbo_sums[0] for p in own if p.pbo_sums])
-        squares = np.hstack([p.pbo_sums[1] for p in own if p.pbo_sums])
-        overfit = overfitting_from_blocks(sums, squares, n_days=plan.days)
+    with ThreadPoolExecutor(max_workers=1) as beside:  # numpy lets the two run at once
+        overfit = beside.submit(_overfitting, plan, own)
+        effective = _effective(plan, parts)
+        overfitting = overfit.result()
     return PeriodTotals(
         net_sharpes=sharpes[:plan.sets], other_sharpes=sharpes[plan.sets:],
         effective=effective,
         spa=(spa_combine(plan.spa, [p.spa for p in parts if p.spa is not None])
              if plan.spa is not None else None),
-        walk_sums=walk, overfitting=overfit)
+        walk_sums=walk, overfitting=overfitting)
+
+
+def _effective(plan: PeriodPlan, parts: Sequence[PeriodParts]) -> float | None:
+    """The Li-Ji effective number of every column (None for one column)."""
+    if plan.columns < 2:
+        return None
+    varying = int(sum(np.count_nonzero(p.varying) for p in parts))
+    kept = np.hstack([p.kept for p in parts])
+    return effective_from_standardised(kept, n_sets=plan.columns, n_varying=varying,
+                                       sampled=plan.sample is not None).effective
+
+
+def _overfitting(plan: PeriodPlan, own: Sequence[PeriodParts]) -> OverfitResult | None:
+    """The PBO of the sweep's own sets (None when it does not apply)."""
+    if not plan.pbo_splits:
+        return None
+    sums = np.hstack([p.pbo_sums[0] for p in own if p.pbo_sums])
+    squares = np.hstack([p.pbo_sums[1] for p in own if p.pbo_sums])
+    return overfitting_from_blocks(sums, squares, n_days=plan.days)
