@@ -4,8 +4,11 @@ Prints (not a test; shared machines are noisy), with the machine's load average 
 - the whole ``hunchbook run`` command (load, sweep, statistics with SPA, verdict, JSON), as a
   child process, several times: min / median / max seconds and each run's peak memory
   (target: at most 2.5 s);
+- the sweep engine alone in this process (every set's P&L and figures over 2 worker
+  processes, without the SPA test), several times;
 - a straightforward pandas loop over the sets computing the same P&L, timed on a sample of
-  sets and scaled up, in this process; and the ratio of the two (target: at least 15x).
+  sets and scaled up, in this process; and its ratios to the whole run and to the sweep engine
+  (target: at least 15x).
 Inputs are generated (benchmark data only). Run: .venv/bin/python benchmarks/sweep.py [REPEATS]
 """
 
@@ -111,6 +114,27 @@ def machine() -> str:
             f"numpy {np.__version__}, pandas {pd.__version__}")
 
 
+def sweep_engine_seconds(sets: list[dict[str, float]], repeats: int) -> list[float]:
+    """Seconds of :func:`run_sweep` over the generated markets (2 worker processes, no SPA)."""
+    from hunchbook.core.engine import Backtest
+    from hunchbook.core.expr import parse_expression
+    from hunchbook.core.panel import build_panel
+    from hunchbook.core.rules.model import SizingSpec
+    from hunchbook.core.sweep import run_sweep
+
+    series, specs = make_inputs()
+    backtest = Backtest(build_panel(series, specs),
+                        parse_expression(RULE, series_names={"close"},
+                                         param_names={"fast", "slow"}),
+                        SizingSpec(contracts=1.0))
+    out = []
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        run_sweep(backtest, sets, spa_reps=0)
+        out.append(time.perf_counter() - t0)
+    return out
+
+
 def pandas_seconds(sets: list[dict[str, float]], markets: int = 20,
                    days: int = 10_000) -> tuple[float, int]:
     """Seconds of the plain pandas loop over all the sets (scaled from a sample) and the sample
@@ -138,9 +162,13 @@ def main() -> None:
     print(f"whole `hunchbook run` (load, sweep, statistics with SPA, verdict, JSON), "
           f"{repeats} runs: {describe(seconds)} (target <= 2.5 s)")
     print(f"peak memory of the largest process of each run: {describe(peaks, 'MB')}")
+    engine = sweep_engine_seconds(sets, repeats)
+    print(f"sweep engine alone (every set's P&L and figures, no SPA), {repeats} runs: "
+          f"{describe(engine)}")
     loop, sample = pandas_seconds(sets)
     print(f"pandas loop over the sets, scaled from {sample} sets: {loop:.1f} s")
-    print(f"ratio pandas loop / whole run (median): {loop / statistics.median(seconds):.1f} x "
+    print(f"ratio pandas loop / whole run (median): {loop / statistics.median(seconds):.1f} x; "
+          f"pandas loop / sweep engine (median): {loop / statistics.median(engine):.1f} x "
           "(target >= 15 x)")
     print(f"load average at the end: {', '.join(f'{x:.2f}' for x in os.getloadavg())}")
 
