@@ -37,6 +37,7 @@ from tests.reference_impl import write_random_walk_market  # noqa: E402
 from hunchbook.api import Study
 from hunchbook.core.runners import InProcess
 from hunchbook.core.stats import first_pass_statistics, judge_pick
+from hunchbook.core.sweep_job import daily_rows
 from hunchbook.core.verdict import LABELS, decide
 
 YEARS, EDGE, SPA_REPS, ONE_YEAR = 10, 1.0, 300, 252
@@ -67,9 +68,11 @@ contracts = 1
 def sweep_pnl(folder: Path, seed: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Daily gross P&L, cost and per-set sizes of the grid over a fresh random walk."""
     write_random_walk_market(folder, LIBRARY, seed, YEARS * 252 + 260, "2000-01-03")
-    outcome = Study.from_text(RULES, folder).sweep(runner=InProcess(), spa_reps=0).outcome
-    start = int(outcome.used.argmax(axis=0).max())
-    return outcome.gross[start:], outcome.cost[start:], outcome.net[start:].std(axis=0, ddof=1)
+    study = Study.from_text(RULES, folder)
+    start, stop = study.sweep(runner=InProcess(), spa_reps=0).outcome.common_period
+    rows = daily_rows(study.backtest, study.parameter_sets())
+    gross, cost = rows.gross[:, start:stop].T, rows.cost[:, start:stop].T
+    return gross, cost, (gross - cost).std(axis=0, ddof=1)
 
 
 def judged(gross: np.ndarray, cost: np.ndarray, seed: int, **kwargs: object) -> str:
