@@ -197,3 +197,29 @@ def test_the_estimate_grows_with_sets_and_workers(study):
     assert two.peak_bytes > one.peak_bytes >= far.peak_bytes
     assert one.period == run_sweep(study.backtest, sets, runner=InProcess(),
                                    spa_reps=0).common_period
+
+
+def test_a_block_of_markets_runs_as_those_markets_of_the_whole(study):
+    """Each market's results are its own: markets 1.. of a backtest, run apart, equal those
+    columns of the whole run exactly (the same code on the same numbers)."""
+    params = study.parameter_sets()[7]
+    whole = study.backtest.run(params)
+    part = study.backtest.columns(1, 2).run(params)
+    for name in ("position", "gross", "traded"):
+        np.testing.assert_array_equal(getattr(part, name), getattr(whole, name)[:, 1:2])
+    np.testing.assert_array_equal(part.first, whole.first[1:2])
+
+
+def test_blocks_of_markets_give_the_same_sweep(study, monkeypatch):
+    """A sweep run one market at a time equals the sweep of both together (to 1e-12: the
+    markets' P&L is summed in another order), and a rule comparing markets is never cut."""
+    want = study.sweep(runner=InProcess(), spa_reps=60)
+    monkeypatch.setattr(sweep_job, "BLOCK_CELLS", 1)  # one market per block
+    assert len(sweep_job.market_blocks(study.backtest)) == 2
+    got = study.sweep(runner=InProcess(), spa_reps=60)
+    _close(got.statistics.to_dict(), want.statistics.to_dict())
+    np.testing.assert_allclose(got.outcome.figures.net_sharpe, want.outcome.figures.net_sharpe,
+                               rtol=1e-12)
+    ranked = Study.from_text(RULES.replace("clip(", "cs_rank(close) + clip("),
+                             study.data.folder)
+    assert len(sweep_job.market_blocks(ranked.backtest)) == 1

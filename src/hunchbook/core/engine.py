@@ -25,7 +25,7 @@ import numpy as np
 import pandas as pd
 
 from hunchbook.core.expr import Expression, parse_expression
-from hunchbook.core.expr.cache import WindowCache
+from hunchbook.core.expr.cache import CACHE_BYTES, WindowCache
 from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.panel import Panel
 from hunchbook.core.periods import DAYS_PER_YEAR
@@ -150,13 +150,34 @@ class Backtest:
         self.change_value = np.where(window, panel.change, 0.0) * panel.multiplier
         self.roll_cells = np.flatnonzero(panel.roll & window)
         self.contracts = _contracts(panel, sizing, self.cache)
-        self._bar = np.arange(window.shape[0])[:, None]
+        self._place_window()
+
+    def _place_window(self) -> None:
+        window = self.window
         self._cols = np.arange(window.shape[1])
         self._row = window.shape[1]  # flat offset of one bar
         # the bar after each market's last window bar (the panel always ends in padding)
         self._window_end = np.where(window.any(axis=0),
                                     window.shape[0] - window[::-1].argmax(axis=0), 0)
         self.after_window = np.ravel_multi_index((self._window_end, self._cols), window.shape)
+
+    def columns(self, first: int, stop: int) -> Backtest:
+        """The same rule over markets ``first`` to ``stop`` only (each market's results are its
+        own, so the parts of a backtest add up to it; for rules that compare markets, run the
+        whole). Arrays are copied to contiguous memory; the part has a cache of its own."""
+        part = object.__new__(Backtest)
+        part.panel = self.panel.columns(first, stop)
+        part.position = self.position
+        part.delay = self.delay
+        part.cache = WindowCache(getattr(self.cache, "max_bytes", CACHE_BYTES))
+        part.dates = DateGrid(part.panel.date_index.shape, part.panel.date_index)
+        part.window = np.ascontiguousarray(self.window[:, first:stop])
+        part.change_value = np.ascontiguousarray(self.change_value[:, first:stop])
+        part.roll_cells = np.flatnonzero(part.panel.roll & part.window)
+        part.contracts = (self.contracts if np.ndim(self.contracts) == 0
+                          else np.ascontiguousarray(self.contracts[:, first:stop]))
+        part._place_window()
+        return part
 
     def run(self, params: Mapping[str, float]) -> EngineOutput:
         """Run one parameter set: positions, gross P&L and contracts traded."""

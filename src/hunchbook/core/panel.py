@@ -44,6 +44,21 @@ class Panel:
         """True on real bars, False in the padding."""
         return np.arange(self.dates.shape[0])[:, None] < self.lengths[None, :]
 
+    def columns(self, first: int, stop: int) -> Panel:
+        """Markets ``first`` to ``stop`` (exclusive) as a panel of their own, each array copied
+        to contiguous memory (the union of dates stays the whole panel's)."""
+        def cut(x: np.ndarray) -> np.ndarray:
+            return np.ascontiguousarray(x[:, first:stop])
+
+        return Panel(markets=self.markets[first:stop], lengths=self.lengths[first:stop],
+                     dates=cut(self.dates), union_dates=self.union_dates,
+                     date_index=cut(self.date_index),
+                     series={k: cut(v) for k, v in self.series.items()},
+                     change=cut(self.change), roll=cut(self.roll), contract=cut(self.contract),
+                     multiplier=self.multiplier[first:stop],
+                     cost_per_contract=self.cost_per_contract[first:stop],
+                     currency=self.currency)
+
 
 def build_panel(series: Sequence[ContinuousSeries], specs: Sequence[MarketSpec]) -> Panel:
     """Stack continuous series and their contract specifications into a :class:`Panel`.

@@ -10,7 +10,8 @@ import numpy as np
 from hunchbook.core.errors import RuleError
 from hunchbook.core.expr.cross_section import DateGrid
 from hunchbook.core.expr.evaluate import bind, evaluate_bound, lookback
-from hunchbook.core.expr.nodes import DATA_NODES, EventRef, Node, ParamRef, SeriesRef
+from hunchbook.core.expr.functions import FUNCTION_SPECS
+from hunchbook.core.expr.nodes import DATA_NODES, Call, EventRef, Node, ParamRef, SeriesRef
 from hunchbook.core.expr.parser import parse_tree
 
 
@@ -47,6 +48,12 @@ class Expression:
         """The series and events the expression reads: one node per key, at its first
         (leftmost) use in the text, in the order of those columns."""
         return self._data
+
+    def compares_markets(self) -> bool:
+        """Whether a market's value depends on other markets' values the same day (a function
+        across markets, such as ``cs_rank``): then the markets cannot be computed apart."""
+        return any(isinstance(node, Call) and FUNCTION_SPECS[node.function].cross_sectional
+                   for node in self.root.walk())
 
     def params_used(self) -> frozenset[str]:
         """Names of the parameters the expression reads."""
