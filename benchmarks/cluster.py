@@ -1,5 +1,5 @@
 """Where a Dask cluster starts to pay on this machine: a sweep run by local worker processes
-(``LocalProcesses()``, forked, writing into shared memory) against the same sweep on a local
+(``LocalProcesses()``, forked) against the same sweep on a local
 Dask cluster of two worker processes (``DaskRunner``: the payload scattered once, chunks sent
 back), at 1,000, 10,000 and 100,000 parameter sets of a two-average cross.
 
@@ -9,8 +9,7 @@ local run is timed in a fresh process, where the workers fork). The cluster is s
 and reused for its runs; its start-up is printed on its own line (``hunchbook run --cluster
 local`` pays it on every command).
 Generated inputs (benchmark data only). The larger sweeps use fewer markets and shorter
-histories to stay within a few minutes and within memory (the sweep keeps every set's daily
-rows until the sweep summaries are bounded): each line says the markets and days used.
+histories to stay within a few minutes: each line says the markets and days used.
 Run: .venv/bin/python benchmarks/cluster.py [--repeats N]
 """
 
@@ -40,7 +39,9 @@ from hunchbook.core.panel import build_panel  # noqa: E402
 from hunchbook.core.rules.model import SizingSpec  # noqa: E402
 from hunchbook.core.runners import LocalProcesses  # noqa: E402
 from hunchbook.core.sweep import run_sweep  # noqa: E402
+from hunchbook.core.sweep_estimate import pilot_period  # noqa: E402
 from hunchbook.core.sweep_job import SweepPayload  # noqa: E402
+from hunchbook.core.sweep_period import period_plan  # noqa: E402
 
 RULE = "sign(mean(close, fast) - mean(close, slow))"
 #: (sets, markets, days, fast values, slow values): fast x slow = sets.
@@ -94,7 +95,8 @@ def main() -> None:
             for _ in range(args.repeats):
                 local.append(local_seconds(size))
                 dask += repeat_times(partial(run_sweep, bt, sets, runner=dask_runner), 1)
-            payload_mb = len(pickle.dumps(SweepPayload(bt), protocol=5)) / 2**20
+            payload = SweepPayload(bt, period_plan(*pilot_period(bt, sets), len(sets)))
+            payload_mb = len(pickle.dumps(payload, protocol=5)) / 2**20
             print(f"\n{n_sets:,} sets (fast {fast[0]}..{fast[-1]} x slow {slow[0]}.."
                   f"{slow[-1]}) over {markets} markets x {days:,} days; payload "
                   f"{payload_mb:.1f} MB")
@@ -109,7 +111,7 @@ def main() -> None:
 def local_seconds(size: int) -> float:
     """Seconds of one sweep of ``SIZES[size]`` on local processes, timed in a fresh process:
     they fork only while their process runs no other thread, and this one runs the Dask
-    client's (here they would be spawned and send their rows back)."""
+    client's (here they would be spawned)."""
     out = subprocess.run([sys.executable, __file__, "--local-run", str(size)], check=True,
                          capture_output=True, text=True).stdout
     return float(out.split()[-1])
