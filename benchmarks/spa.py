@@ -18,11 +18,16 @@ import argparse
 import math
 import platform
 import statistics
+import sys
+from pathlib import Path
 
 import numpy as np
 
-from hunchbook.core.stats.long_run import long_run_variance
-from hunchbook.core.stats.spa import spa_combine, spa_partial, spa_plan, spa_test
+sys.path.insert(0, str(Path(__file__).parent))
+from timing import repeat_times  # noqa: E402
+
+from hunchbook.core.stats.long_run import long_run_variance  # noqa: E402
+from hunchbook.core.stats.spa import spa_combine, spa_partial, spa_plan, spa_test  # noqa: E402
 
 DAYS, SETS, REPS = 10_000, 1_000, 1_000
 #: Memory of one group of replications' count weights in the dense approach (as it was).
@@ -92,17 +97,6 @@ def chunked(x: np.ndarray, chunks: int, seed: int) -> object:
                               for a, b in zip(edges, edges[1:], strict=False)])
 
 
-def timed(work, runs: int) -> list[float]:
-    import time
-
-    out = []
-    for _ in range(runs):
-        start = time.perf_counter()
-        work()
-        out.append(time.perf_counter() - start)
-    return out
-
-
 def line(label: str, samples: list[float]) -> str:
     return (f"{label:<44} min {min(samples):6.3f}  median {statistics.median(samples):6.3f}  "
             f"max {max(samples):6.3f} s")
@@ -123,25 +117,27 @@ def main() -> None:
     same = old == (new.lower, new.consistent, new.upper)
     print(f"p-values dense {old}, new {(new.lower, new.consistent, new.upper)}: "
           f"{'identical' if same else 'DIFFERENT'}")
-    dense_times = timed(lambda: dense_spa(x, REPS, 3), args.runs)
-    new_times = timed(lambda: spa_test(x, reps=REPS, seed=3), args.runs)
+    dense_times = repeat_times(lambda: dense_spa(x, REPS, 3), args.runs)
+    new_times = repeat_times(lambda: spa_test(x, reps=REPS, seed=3), args.runs)
     print(line("dense counts @ X, FFT variance (before)", dense_times))
     print(line("plan + prefix sums, recursion (spa_test)", new_times))
     print(f"{'ratio before / now (medians)':<44} "
           f"{statistics.median(dense_times) / statistics.median(new_times):.2f}x")
     plan = spa_plan(DAYS, reps=REPS, seed=3)
-    print(line("  drawing the plan", timed(lambda: spa_plan(DAYS, reps=REPS, seed=3), args.runs)))
-    print(line("  one partial of all the sets", timed(lambda: spa_partial(plan, x), args.runs)))
+    print(line("  drawing the plan",
+               repeat_times(lambda: spa_plan(DAYS, reps=REPS, seed=3), args.runs)))
+    print(line("  one partial of all the sets",
+               repeat_times(lambda: spa_partial(plan, x), args.runs)))
     print(line("  ten chunks of 100 sets (plan included)",
-               timed(lambda: chunked(x, 10, 3), args.runs)))
+               repeat_times(lambda: chunked(x, 10, 3), args.runs)))
     print(f"  plan: {plan.offsets[-1]:,} blocks, "
           f"{(plan.starts.nbytes + plan.lengths.nbytes + plan.offsets.nbytes) / 2**20:.2f} MB")
     p = 1.0 / int(math.sqrt(DAYS))
     e = x - x.mean(axis=0)
     squares = (e * e).sum(axis=0)
-    fft_all = timed(lambda: fft_variance(x, p, workers=-1), args.runs)
-    fft_one = timed(lambda: fft_variance(x, p, workers=1), args.runs)
-    recursion = timed(lambda: long_run_variance(e, p, squares), args.runs)
+    fft_all = repeat_times(lambda: fft_variance(x, p, workers=-1), args.runs)
+    fft_one = repeat_times(lambda: fft_variance(x, p, workers=1), args.runs)
+    recursion = repeat_times(lambda: long_run_variance(e, p, squares), args.runs)
     print(line("long-run variance, FFT (all cores)", fft_all))
     print(line("long-run variance, FFT (one core)", fft_one))
     print(line("long-run variance, O(T) recursion (one core)", recursion))
