@@ -18,7 +18,7 @@ import numpy as np
 from hunchbook.core.periods import CALENDAR_DAYS_PER_YEAR, DAYS_PER_YEAR
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class SetFigures:
     """One value per set (arrays of equal length, in set order).
 

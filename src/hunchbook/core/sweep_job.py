@@ -50,7 +50,7 @@ class SweepRefused(HunchbookError):
     """The sweep would not fit in the memory free, so it was not started."""
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class DailyRows:
     """Daily portfolio gross P&L, cost and used-day flags on the union of dates, one row per
     set, with each set's market-days with a trade and contracts traded."""
@@ -67,7 +67,7 @@ class DailyRows:
         return self.gross - self.cost
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class SweepPayload:
     """Everything a :class:`ChunkWorker` needs, sent once to each worker process or machine
     (pickled, or inherited by a forked process): the backtest and the statistics' plan."""
@@ -76,7 +76,7 @@ class SweepPayload:
     plan: PeriodPlan
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class Chunk:
     """The consecutive sets from ``start``: their own figures and their part of the
     statistics over the common period."""
@@ -89,7 +89,7 @@ class Chunk:
         return len(self.figures)
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class SweepOutcome:
     """Every set's figures (in grid order) and every chunk's part of the statistics, for the
     plan they were computed by."""

@@ -32,7 +32,7 @@ from hunchbook.core.stats.spa import spa_plan as make_spa_plan
 from hunchbook.core.stats.walk_forward import WalkForwardPlan, segment_sums, walk_forward_plan
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class PeriodPlan:
     """What each chunk computes over the common period, days ``[start, stop)`` of the union of
     dates.
@@ -77,7 +77,7 @@ def period_plan(start: int, stop: int, sets: int, *, others: int = 0, spa_reps: 
              if spa_reps > 0 and days >= 3 else None))
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class PeriodParts:
     """One chunk's part of the statistics: columns ``first`` to ``first + len`` of the trials.
 
@@ -119,7 +119,7 @@ def period_parts(plan: PeriodPlan, net: np.ndarray, first: int) -> PeriodParts:
         spa=spa_partial(plan.spa, net, first_column=first) if plan.spa is not None else None)
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class PeriodTotals:
     """Every chunk's parts joined: each trial's net Sharpe ratio on the common period (this
     sweep's sets, then the earlier trials), the Li-Ji effective number of them (None for one

@@ -310,7 +310,7 @@ def first_pass_statistics(
         spike_spread_multiple=spike_spread_multiple, spike_min_ratio=spike_min_ratio)
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class TrialFigures:
     """What the statistics need of every trial on the common days, however it was computed
     (from the whole P&L matrix, or chunk by chunk of a sweep).

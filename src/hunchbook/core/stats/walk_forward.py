@@ -72,7 +72,7 @@ def default_windows(n_days: int, periods: int = DAYS_PER_YEAR,
     return train, test
 
 
-@dataclass(frozen=True, eq=False)  # holds arrays: compare their fields
+@dataclass(frozen=True, eq=False)
 class WalkForwardPlan:
     """Where a walk-forward test's windows lie on a history of ``n_days`` days.
 
