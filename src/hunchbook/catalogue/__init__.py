@@ -115,6 +115,7 @@ from hunchbook.store import revisions as revmod
 from hunchbook.store import runs as runmod
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import (
+    DataRead,
     Entry,
     Idea,
     ImportReport,
@@ -560,6 +561,19 @@ class Catalogue(ReviewsAPI, HoldoutAPI, ListingAPI):
     def run(self, run_id: int) -> RunRecord:
         """One run with its daily P&L decoded into ``daily_pnl``."""
         return runmod.get(self.db, run_id)
+
+    def data_read(self, *, idea_id: int | None = None,
+                  run_id: int | None = None) -> DataRead | None:
+        """What a run read (``run_id``), or the idea's last run (``idea_id``): its whole-data
+        fingerprint and one digest per market (None when not recorded); None when there is
+        no such run. A run's changes since the run before are on its record
+        (``RunSummary.data_changes``)."""
+        if run_id is not None:
+            found = runmod.data_read(self.db, run_id=validate.integer(run_id, "run id"))
+            if found is None:
+                raise CatalogueError(f"there is no run {run_id}", field="run")
+            return found
+        return runmod.data_read(self.db, idea_id=ideas.get(self.db, idea_id).id)
 
     def promoted_pnl(self, exclude_idea: int | None = None) -> list[PromotedPnl]:
         """The daily net P&L of each promoted idea's latest run (the book a new run is compared

@@ -33,7 +33,14 @@ from typing import TYPE_CHECKING, Any
 from hunchbook.core.errors import RecordError
 from hunchbook.store import chain, families, pnl, run_scopes, validate
 from hunchbook.store.errors import CatalogueError
-from hunchbook.store.records import EarlierStrategy, Revision, RunLine, RunRecord, TrialHistory
+from hunchbook.store.records import (
+    DataRead,
+    EarlierStrategy,
+    Revision,
+    RunLine,
+    RunRecord,
+    TrialHistory,
+)
 from hunchbook.store.sqlite_lib import Database
 
 if TYPE_CHECKING:
@@ -231,6 +238,22 @@ def prospective_trials(db: Database, idea_id: int, strategy_key: str,
         net_sharpes=tuple(None if v is None else float(v) for _, v in items))
         for key, items in groups.items())
     return TrialHistory(total=len({(r[0], r[1]) for r in rows} | new), earlier=earlier)
+
+
+def data_read(db: Database, *, idea_id: int | None = None,
+              run_id: int | None = None) -> DataRead | None:
+    """The data read by one run, or by the idea's last run (highest id); None when there is
+    no such run. The digests are read from the stored record in SQL, without parsing it."""
+    sql = ("SELECT id, data_fingerprint, json_extract(summary, '$.market_fingerprints') "
+           "FROM runs WHERE ")
+    if run_id is not None:
+        row = db.execute(sql + "id = ?", [run_id]).fetchone()
+    else:
+        row = db.execute(sql + "idea_id = ? ORDER BY id DESC LIMIT 1", [idea_id]).fetchone()
+    if row is None:
+        return None
+    markets = json.loads(row[2]) if row[2] is not None else None
+    return DataRead(run_id=row[0], data_fingerprint=row[1], markets=markets)
 
 
 _SELECT = ("SELECT r.*, v.number AS revision_number, p.version AS pre_version, "
