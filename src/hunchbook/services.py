@@ -174,7 +174,8 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     fingerprint, markets = data_fingerprint(study.data), market_fingerprints(study.data)
     last = catalogue.data_read(idea_id=idea_id)
     changes = None if last is None else compare_markets(
-        last.run_id, last.markets, markets, whole_changed=last.data_fingerprint != fingerprint)
+        last.run_id, last.markets, markets, whole_changed=last.data_fingerprint != fingerprint,
+        since_uuid=last.uuid)
     summary = replace(report.summarise(chosen, currency=study.panel.currency,
                                        data_folder=str(Path(data_folder)),
                                        holdout_boundary=boundary), book=book,

@@ -22,7 +22,8 @@ class DataChanges:
     ``changed`` lists the markets read by both whose prices differ, ``new`` those only this run
     read, ``gone`` those only the last run read (each in the order the runs read them);
     ``recorded`` is false when the last run kept no per-market digests (its data differed, but
-    which markets is not known).
+    which markets is not known). ``since_uuid`` names the last run wherever the record travels
+    (an imported run's ``since_run`` is renumbered from it).
     """
 
     since_run: int
@@ -30,6 +31,7 @@ class DataChanges:
     new: tuple[str, ...] = ()
     gone: tuple[str, ...] = ()
     recorded: bool = True
+    since_uuid: str | None = None
 
     @property
     def any(self) -> bool:
@@ -48,14 +50,15 @@ class DataChanges:
 
 
 def compare_markets(since_run: int, last: Mapping[str, str] | None, current: Mapping[str, str],
-                    *, whole_changed: bool) -> DataChanges | None:
+                    *, whole_changed: bool, since_uuid: str | None = None) -> DataChanges | None:
     """This run's per-market digests (``current``) against the last run's (``last``; None when
     it kept none); ``whole_changed`` whether the whole-data fingerprints differ. None when
     nothing changed."""
     if last is None:
-        return DataChanges(since_run=since_run, recorded=False) if whole_changed else None
+        return (DataChanges(since_run=since_run, recorded=False, since_uuid=since_uuid)
+                if whole_changed else None)
     found = DataChanges(
-        since_run=since_run,
+        since_run=since_run, since_uuid=since_uuid,
         changed=tuple(m for m in current if m in last and last[m] != current[m]),
         new=tuple(m for m in current if m not in last),
         gone=tuple(m for m in last if m not in current))

@@ -166,10 +166,11 @@ class RunRecord:
 
 @dataclass(frozen=True)
 class DataRead:
-    """What a run read: its id, its whole-data fingerprint and its per-market digests (None
+    """What a run read: its id and uuid, its whole-data fingerprint and its per-market digests (None
     when not recorded, as for a run recorded before they existed)."""
 
     run_id: int
+    uuid: str
     data_fingerprint: str
     markets: dict[str, str] | None
 

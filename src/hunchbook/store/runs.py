@@ -27,7 +27,7 @@ import json
 import math
 import uuid as uuidlib
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING, Any
 
 from hunchbook.core.errors import RecordError
@@ -244,7 +244,7 @@ def data_read(db: Database, *, idea_id: int | None = None,
               run_id: int | None = None) -> DataRead | None:
     """The data read by one run, or by the idea's last run (highest id); None when there is
     no such run. The digests are read from the stored record in SQL, without parsing it."""
-    sql = ("SELECT id, data_fingerprint, json_extract(summary, '$.market_fingerprints') "
+    sql = ("SELECT id, uuid, data_fingerprint, json_extract(summary, '$.market_fingerprints') "
            "FROM runs WHERE ")
     if run_id is not None:
         row = db.execute(sql + "id = ?", [run_id]).fetchone()
@@ -252,8 +252,23 @@ def data_read(db: Database, *, idea_id: int | None = None,
         row = db.execute(sql + "idea_id = ? ORDER BY id DESC LIMIT 1", [idea_id]).fetchone()
     if row is None:
         return None
-    markets = json.loads(row[2]) if row[2] is not None else None
-    return DataRead(run_id=row[0], data_fingerprint=row[1], markets=markets)
+    markets = json.loads(row[3]) if row[3] is not None else None
+    return DataRead(run_id=row[0], uuid=row[1], data_fingerprint=row[2], markets=markets)
+
+
+def renumbered(run: RunInput, db: Database) -> RunInput:
+    """An imported run whose data changes name the run before by this catalogue's id (found by
+    its uuid; kept as written when that run is not here)."""
+    changes = run.result.data_changes
+    if changes is None or changes.since_uuid is None:
+        return run
+    row = db.execute("SELECT id FROM runs WHERE uuid = ?", [changes.since_uuid]).fetchone()
+    if row is None or row[0] == changes.since_run:
+        return run
+    result = replace(run.result, data_changes=replace(changes, since_run=row[0]))
+    record = json.loads(run.summary)
+    record["data_changes"]["since_run"] = row[0]
+    return replace(run, result=result, summary=validate.to_json(record, "summary"))
 
 
 _SELECT = ("SELECT r.*, v.number AS revision_number, p.version AS pre_version, "
