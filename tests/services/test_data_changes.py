@@ -91,6 +91,8 @@ def test_a_re_run_names_exactly_the_market_whose_price_changed(desk, tmp_path, c
                            since_uuid=cat.run(later.run_id).uuid)
     assert again.summary.data_changes == expected
     assert cat.run(again.run_id).result.data_changes == expected  # the record keeps it
+    entry = [e for e in cat.journal(idea) if e.kind == "run"][-1]  # and the journal says it
+    assert f"Data changed since run {later.run_id}: SOYBEAN (prices differ)." in entry.text
     assert again.summary.market_fingerprints["CORN"] == first.summary.market_fingerprints["CORN"]
 
     # the command line says it in one line, against the run just recorded

@@ -681,9 +681,11 @@ def _run_text(run_id: int, revision: Revision, run: runmod.RunInput, trials: int
     sharpe = ("n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}")
     verdict = run.result.verdict
     whose = f" (with its family of {family} ideas)" if family > 1 else ""
+    changes = run.result.data_changes
+    changed = "" if changes is None else f" {changes.sentence()}"
     return (f"Run {run_id} on rule revision {revision.number}: {len(run.parameter_sets)} "
             f"parameter set(s), trial count now {trials}{whose}; data "
             f"{run.data_fingerprint[:12]}, "
-            f"engine {run.engine_version}. Chosen set {chosen}, net Sharpe {sharpe}. "
+            f"engine {run.engine_version}.{changed} Chosen set {chosen}, net Sharpe {sharpe}. "
             f"Verdict: {verdict.label}. {' '.join(verdict.reasons)} Next: {verdict.action}"
             ).strip()
