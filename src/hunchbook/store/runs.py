@@ -1,8 +1,9 @@
 """Runs of an idea and the trials they count.
 
-A run stores its rule revision, the parameter sets tried, the data fingerprint, the engine
-version, its results record (:class:`~hunchbook.core.results.RunSummary`, as JSON in three
-columns: statistics, verdict and the rest) and the chosen set's daily P&L
+A run stores its rule revision, the parameter sets tried, the data fingerprint (one digest per
+market and the markets changed since the idea's last run are on its record: :func:`data_read`),
+the engine version, its results record (:class:`~hunchbook.core.results.RunSummary`, as JSON in
+three columns: statistics, verdict and the rest) and the chosen set's daily P&L
 (see :mod:`hunchbook.store.pnl`).
 
 Trials
@@ -244,15 +245,17 @@ def data_read(db: Database, *, idea_id: int | None = None,
               run_id: int | None = None) -> DataRead | None:
     """The data read by one run, or by the idea's last run (highest id); None when there is
     no such run. The digests are read from the stored record in SQL, without parsing it."""
-    sql = ("SELECT id, uuid, data_fingerprint, json_extract(summary, '$.market_fingerprints') "
-           "FROM runs WHERE ")
+    sql = ("SELECT id, uuid, data_fingerprint, CASE WHEN json_valid(summary) THEN "
+           "json_extract(summary, '$.market_fingerprints') END FROM runs WHERE ")
     if run_id is not None:
         row = db.execute(sql + "id = ?", [run_id]).fetchone()
     else:
         row = db.execute(sql + "idea_id = ? ORDER BY id DESC LIMIT 1", [idea_id]).fetchone()
     if row is None:
         return None
-    markets = json.loads(row[3]) if row[3] is not None else None
+    markets = json.loads(row[3]) if isinstance(row[3], str) else None
+    if not isinstance(markets, dict) or not all(isinstance(v, str) for v in markets.values()):
+        markets = None  # none recorded, or a record of another shape
     return DataRead(run_id=row[0], uuid=row[1], data_fingerprint=row[2], markets=markets)
 
 
