@@ -267,6 +267,8 @@ def _run_for_idea(args: argparse.Namespace) -> int:
           "trials.")
     print(f"In-sample up to {outcome.boundary} (the holdout boundary, not included); "
           f"{outcome.held_out_days:,} held-out days locked.")
+    if outcome.summary.data_changes is not None:
+        print(outcome.summary.data_changes.sentence())
     return 0
 
 

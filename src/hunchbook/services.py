@@ -14,10 +14,17 @@ from hunchbook import __version__
 from hunchbook.api import EarlierTrials, SetResult, Study
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.book import compare_with_book
+from hunchbook.core.data_changes import compare_markets
 from hunchbook.core.errors import DataError, HunchbookError, RuleError
 from hunchbook.core.history import HOLDOUT_SHARE, common_history, default_boundary
 from hunchbook.core.holdout import held_out, holdout_figures, holdout_seen_warning
-from hunchbook.core.prices import MarketData, data_fingerprint, held_out_dates, load_data
+from hunchbook.core.prices import (
+    MarketData,
+    data_fingerprint,
+    held_out_dates,
+    load_data,
+    market_fingerprints,
+)
 from hunchbook.core.results import RunSummary
 from hunchbook.core.rules import parse_rules
 from hunchbook.core.sweep import CancelCheck, Progress, SweepCancelled, SweepRunner
@@ -130,7 +137,9 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     pre-registration frozen at the first run says so too
     (:meth:`Catalogue.check_preregistration`). Once the idea's holdout was unlocked, the verdict
     says so in its last reason. ``confirm`` is asked before a long or large sweep (see
-    :meth:`Study.sweep`).
+    :meth:`Study.sweep`). The record keeps one digest per market of the prices read and,
+    when the idea ran before, which markets changed since its last run
+    (``summary.data_changes``; :mod:`hunchbook.core.data_changes`).
 
     Raises
     ------
@@ -162,9 +171,15 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     report = report.rejudged(  # the facts beyond the statistics, given together
         [*prereg, *book.warnings(), *([] if seen is None else
                                       [holdout_seen_warning(seen.seen_at, seen.seen_by)])])
+    fingerprint, markets = data_fingerprint(study.data), market_fingerprints(study.data)
+    last = catalogue.data_read(idea_id=idea_id)
+    changes = None if last is None else compare_markets(
+        last.run_id, last.markets, markets, whole_changed=last.data_fingerprint != fingerprint,
+        since_uuid=last.uuid)
     summary = replace(report.summarise(chosen, currency=study.panel.currency,
                                        data_folder=str(Path(data_folder)),
-                                       holdout_boundary=boundary), book=book)
+                                       holdout_boundary=boundary), book=book,
+                      market_fingerprints=markets, data_changes=changes)
     with catalogue.transaction():  # the revision and its run are kept together, or neither
         if default_reason is not None and catalogue.holdout_boundary() is None:
             catalogue.set_holdout_boundary(boundary, by=by, reason=default_reason)
@@ -175,7 +190,7 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
         revision = catalogue.save_rules(idea_id, rule_text, by=by)
         run_id = catalogue.record_run(
             idea_id, revision_id=revision.id, summary=summary,
-            data_fingerprint=data_fingerprint(study.data), engine_version=__version__,
+            data_fingerprint=fingerprint, engine_version=__version__,
             daily_pnl=daily_pnl(chosen, report.walk_forward_pnl), by=by)
     return IdeaRun(summary=summary, chosen=chosen, run_id=run_id,
                    revision_number=revision.number, boundary=boundary,

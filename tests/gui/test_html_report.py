@@ -135,3 +135,23 @@ def test_export_to_a_missing_folder_is_a_clear_error(view, runs, tmp_path):
     with pytest.raises(HunchbookError, match="report.html"):
         view.export_html(target, idea=runs.idea, run=runs.two, rule_text="x")
     assert not target.parent.exists()
+
+
+def test_report_says_which_markets_changed_since_the_last_run(runs):
+    """The provenance list says the markets the test planted as changed, "not recorded" for a
+    run without per-market digests, and nothing changed for a run whose data did not."""
+    from hunchbook.core.data_changes import DataChanges
+    from hunchbook.gui.html_report import record_html
+
+    assert runs.two.result.market_fingerprints is not None
+    changes = DataChanges(since_run=runs.one.id, changed=("CORN", "GOLD"))
+    changed = dataclasses.replace(runs.two, result=dataclasses.replace(
+        runs.two.result, data_changes=changes))
+    text = record_html(changed, recorded_at="now")
+    assert (f"<dd>Data changed since run {runs.one.id}: CORN, GOLD (prices differ).</dd>"
+            in text)
+    assert "<dd>no market changed (or a first run)</dd>" in record_html(runs.two,
+                                                                        recorded_at="now")
+    old = dataclasses.replace(runs.two, result=dataclasses.replace(
+        runs.two.result, market_fingerprints=None))
+    assert "<dd>not recorded</dd>" in record_html(old, recorded_at="now")

@@ -647,3 +647,33 @@ def test_path_helpers_are_plain(tmp_path: Path):
     with zipfile.ZipFile(archive, "w") as z:
         z.writestr("x.txt", "x")
     assert classify_drop(archive) == ("bundle", archive)
+
+
+def test_a_quick_run_on_changed_data_says_which_market_changed(qtbot, window, short_data,
+                                                               tmp_path):
+    """A second quick run after one close of one market was moved (the market the test plants)
+    says so in the status bar and under the verdict banner, against the first run."""
+    import shutil
+
+    idea_id = idea_id_by_title(window, ACCEPTED_TITLE)
+    window.select_idea(idea_id)
+    with qtbot.waitSignal(window.quick_run.finished, timeout=60000) as blocker:
+        assert window.quick_run.start() is not None
+    first = blocker.args[0]
+    assert "Data changed" not in window.statusBar().currentMessage()
+    market = next(iter(window.catalogue.run(first).result.market_fingerprints))
+    changed = tmp_path / "changed"
+    shutil.copytree(short_data, changed)
+    path = changed / f"{market}.csv"
+    lines = path.read_text(encoding="utf-8").splitlines()
+    column = lines[0].split(",").index("close")
+    cells = lines[1].split(",")
+    cells[column] = repr(float(cells[column]) + 0.5)  # the first row: before any boundary
+    lines[1] = ",".join(cells)
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    window.set_data_folder(changed)
+    with qtbot.waitSignal(window.quick_run.finished, timeout=60000):
+        assert window.quick_run.start() is not None
+    sentence = f"Data changed since run {first}: {market} (prices differ)."
+    assert window.statusBar().currentMessage().endswith(sentence)
+    assert window.runs.results.data_note.text() == sentence

@@ -316,3 +316,23 @@ def test_banner_label_is_readable_in_light_and_dark_palettes(window):
     for outcome in OUTCOME_HUES:
         background, _, label = banner_colours(outcome, palette)
         assert _contrast(label, background) >= 3.0, outcome
+
+
+def test_the_markets_changed_since_the_last_run_are_said_under_the_banner(view, runs):
+    """A run whose data changed since the idea's last run says which markets, in the record's
+    own sentence; a run without changes says nothing (the markets are planted by the test)."""
+    from hunchbook.core.data_changes import DataChanges
+
+    changes = DataChanges(since_run=runs.one.id, changed=("CORN",), new=("GOLD",))
+    changed = dataclasses.replace(runs.two, result=dataclasses.replace(runs.two.result,
+                                                                       data_changes=changes))
+    view.show_run(changed, title="t")
+    assert not view.data_note.isHidden()
+    assert view.data_note.text() == (f"Data changed since run {runs.one.id}: CORN (prices "
+                                     "differ); GOLD (new).")
+    assert view.data_note.textFormat() == Qt.TextFormat.PlainText
+    view.show_run(runs.two, title="t")
+    assert view.data_note.isHidden()
+    view.show_run(changed, title="t")
+    view.clear()
+    assert view.data_note.isHidden()

@@ -115,6 +115,7 @@ from hunchbook.store import revisions as revmod
 from hunchbook.store import runs as runmod
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import (
+    DataRead,
     Entry,
     Idea,
     ImportReport,
@@ -561,6 +562,19 @@ class Catalogue(ReviewsAPI, HoldoutAPI, ListingAPI):
         """One run with its daily P&L decoded into ``daily_pnl``."""
         return runmod.get(self.db, run_id)
 
+    def data_read(self, *, idea_id: int | None = None,
+                  run_id: int | None = None) -> DataRead | None:
+        """What a run read (``run_id``), or the idea's last run (``idea_id``): its whole-data
+        fingerprint and one digest per market (None when not recorded); None when there is
+        no such run. A run's changes since the run before are on its record
+        (``RunSummary.data_changes``)."""
+        if run_id is not None:
+            found = runmod.data_read(self.db, run_id=validate.integer(run_id, "run id"))
+            if found is None:
+                raise CatalogueError(f"there is no run {run_id}", field="run")
+            return found
+        return runmod.data_read(self.db, idea_id=ideas.get(self.db, idea_id).id)
+
     def promoted_pnl(self, exclude_idea: int | None = None) -> list[PromotedPnl]:
         """The daily net P&L of each promoted idea's latest run (the book a new run is compared
         with, :mod:`hunchbook.core.book`), ``exclude_idea`` left out."""
@@ -667,9 +681,11 @@ def _run_text(run_id: int, revision: Revision, run: runmod.RunInput, trials: int
     sharpe = ("n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}")
     verdict = run.result.verdict
     whose = f" (with its family of {family} ideas)" if family > 1 else ""
+    changes = run.result.data_changes
+    changed = "" if changes is None else f" {changes.sentence()}"
     return (f"Run {run_id} on rule revision {revision.number}: {len(run.parameter_sets)} "
             f"parameter set(s), trial count now {trials}{whose}; data "
             f"{run.data_fingerprint[:12]}, "
-            f"engine {run.engine_version}. Chosen set {chosen}, net Sharpe {sharpe}. "
+            f"engine {run.engine_version}.{changed} Chosen set {chosen}, net Sharpe {sharpe}. "
             f"Verdict: {verdict.label}. {' '.join(verdict.reasons)} Next: {verdict.action}"
             ).strip()

@@ -6,7 +6,8 @@ A contract-level CSV has the columns ``date, contract, expiry, close`` (required
 
 Held-out years: ``load_data(..., before=D)`` drops every row dated on or after ``D`` as soon
 as a file is read, before anything is built from it, so nothing downstream can read a later
-price; its :func:`data_fingerprint` is then taken over the values read, not the whole files.
+price; its :func:`data_fingerprint` is then taken over the values read, not the whole files,
+and :func:`market_fingerprints` gives one such digest per market.
 """
 
 from __future__ import annotations
@@ -175,6 +176,23 @@ def data_fingerprint(data: MarketData) -> str:
             for block in iter(lambda: handle.read(1 << 20), b""):
                 digest.update(block)
     return digest.hexdigest()
+
+
+def market_fingerprints(data: MarketData) -> dict[str, str]:
+    """One SHA-256 per market read, in market order: the price file's name and the rows read
+    from it (:func:`frame_bytes`, the bytes :func:`data_fingerprint` takes for cut data).
+
+    Rows dropped at the holdout boundary (``data.before``) never enter, and the digest is the
+    same whichever path read the file (:data:`FAST_READ`), so that a market's digest changes
+    exactly when a price of it that a run reads changes.
+    """
+    out = {}
+    for market, bars in data.bars.items():
+        digest = hashlib.sha256(Path(bars.file).name.encode() + b"\0")
+        for chunk in frame_bytes(bars.frame.drop(columns="line")):
+            digest.update(chunk)
+        out[market] = digest.hexdigest()
+    return out
 
 
 def _cut_fingerprint(data: MarketData) -> str:

@@ -22,6 +22,7 @@ from functools import cache
 from typing import Any
 
 from hunchbook.core.book import BookComparison
+from hunchbook.core.data_changes import DataChanges
 from hunchbook.core.errors import RecordError
 from hunchbook.core.plain import json_safe
 from hunchbook.core.set_figures import SetFigures
@@ -29,7 +30,8 @@ from hunchbook.core.stats.first_pass import FirstPassStats
 from hunchbook.core.verdict import Verdict
 
 #: Version of the record's shape; raised whenever a field is removed or renamed, or a field is
-#: added that a reader cannot do without. An optional field with a default (``book``) keeps it:
+#: added that a reader cannot do without. An optional field with a default (``book``,
+#: ``market_fingerprints``, ``data_changes``) keeps it:
 #: records without the field read with the default, and readers that do not know it skip it.
 SCHEMA = 2
 #: Earlier shapes still read: schema 1 had no ``holdout_boundary`` (read as ``None``).
@@ -119,6 +121,10 @@ class RunSummary:
     run saw only the dates before it (``None``: the whole history). ``book`` is the chosen set
     against the promoted ideas (:mod:`hunchbook.core.book`; ``None``: not compared, as for a
     run outside the catalogue or one recorded before the comparison existed).
+    ``market_fingerprints`` holds one digest per market of the rows read
+    (:func:`hunchbook.core.prices.market_fingerprints`; ``None``: not recorded, as for a run
+    recorded before they existed) and ``data_changes`` which markets changed since the idea's
+    last run (:mod:`hunchbook.core.data_changes`; ``None``: nothing changed, or a first run).
     """
 
     name: str
@@ -131,6 +137,8 @@ class RunSummary:
     verdict: Verdict
     holdout_boundary: str | None = None
     book: BookComparison | None = None
+    market_fingerprints: dict[str, str] | None = None
+    data_changes: DataChanges | None = None
     schema: int = SCHEMA
 
     @property

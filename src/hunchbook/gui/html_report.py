@@ -205,6 +205,15 @@ def _prereg_flag(run: RunRecord) -> str:
     return f'<p class="flag"><strong>Flagged.</strong> {_e(prereg.finding)}</p>'
 
 
+def data_since_text(run: RunRecord) -> str:
+    """Which markets' prices changed since the idea's run before this one, in words."""
+    result = run.result
+    if result is None or result.market_fingerprints is None:
+        return "not recorded"
+    changes = result.data_changes
+    return "no market changed (or a first run)" if changes is None else changes.sentence()
+
+
 def record_html(run: RunRecord, *, recorded_at: str) -> str:
     """The run's provenance as a definition list (``recorded_at``: the time as shown)."""
     result = run.result
@@ -216,6 +225,7 @@ def record_html(run: RunRecord, *, recorded_at: str) -> str:
              ("Trials counted for the idea", run.trial_count),
              ("Pre-registration", prereg_text(run)),
              ("Data fingerprint", run.data_fingerprint),
+             ("Data since the idea's last run", data_since_text(run)),
              ("Holdout boundary", (result.holdout_boundary if result else None)
               or "none (the whole history)"),
              ("Engine version", run.engine_version)]

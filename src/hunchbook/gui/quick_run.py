@@ -195,7 +195,8 @@ class QuickRunner(QObject):
             window.show_section("runs")
         window.status_message(f"Run {run_id} recorded (rule revision "
                               f"{result.revision_number}, {len(result.summary.sets)} sets, "
-                              f"in-sample up to {result.boundary}): {label}.")
+                              f"in-sample up to {result.boundary}): {label}."
+                              + _changes(result.summary))
         self.finished.emit(run_id)
 
     def _failed(self, message: str) -> None:
@@ -207,3 +208,9 @@ class QuickRunner(QObject):
         self._end()
         self._window.status_message("Quick run cancelled; nothing was recorded.")
         self.cancelled.emit()
+
+
+def _changes(summary: Any) -> str:
+    """The line saying which markets' data changed since the idea's last run ("" when none)."""
+    changes = summary.data_changes
+    return "" if changes is None else " " + changes.sentence()

@@ -223,8 +223,8 @@ def import_bundle(db: Database, path: str | os.PathLike[str], *, by: str,
             continue
         _check_uuid_free(db, "runs", item["uuid"])
         run_id = runs.insert(db, idea_id, revisions.get(db, rev_ids[item["revision"]]),
-                             item["run"], by=item["recorded_by"], at=item["recorded_at"],
-                             run_uuid=item["uuid"])
+                             runs.renumbered(item["run"], db), by=item["recorded_by"],
+                             at=item["recorded_at"], run_uuid=item["uuid"])
         run_scopes.derive(db, run_id)  # against the pre-registration as it stood then
         added["runs"] += 1
     if content.holdout is not None:

@@ -164,6 +164,17 @@ class RunRecord:
         return len(self.parameter_sets)
 
 
+@dataclass(frozen=True)
+class DataRead:
+    """What a run read: its id and uuid, its whole-data fingerprint and its per-market digests (None
+    when not recorded, as for a run recorded before they existed)."""
+
+    run_id: int
+    uuid: str
+    data_fingerprint: str
+    markets: dict[str, str] | None
+
+
 class RunLine(NamedTuple):
     """One line of a list of runs: the run, its idea (id and title), rule revision, when it
     was recorded and its verdict's label (read from the stored record without parsing it)."""

@@ -1,8 +1,9 @@
 """Runs of an idea and the trials they count.
 
-A run stores its rule revision, the parameter sets tried, the data fingerprint, the engine
-version, its results record (:class:`~hunchbook.core.results.RunSummary`, as JSON in three
-columns: statistics, verdict and the rest) and the chosen set's daily P&L
+A run stores its rule revision, the parameter sets tried, the data fingerprint (one digest per
+market and the markets changed since the idea's last run are on its record: :func:`data_read`),
+the engine version, its results record (:class:`~hunchbook.core.results.RunSummary`, as JSON in
+three columns: statistics, verdict and the rest) and the chosen set's daily P&L
 (see :mod:`hunchbook.store.pnl`).
 
 Trials
@@ -27,13 +28,20 @@ import json
 import math
 import uuid as uuidlib
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING, Any
 
 from hunchbook.core.errors import RecordError
 from hunchbook.store import chain, families, pnl, run_scopes, validate
 from hunchbook.store.errors import CatalogueError
-from hunchbook.store.records import EarlierStrategy, Revision, RunLine, RunRecord, TrialHistory
+from hunchbook.store.records import (
+    DataRead,
+    EarlierStrategy,
+    Revision,
+    RunLine,
+    RunRecord,
+    TrialHistory,
+)
 from hunchbook.store.sqlite_lib import Database
 
 if TYPE_CHECKING:
@@ -231,6 +239,39 @@ def prospective_trials(db: Database, idea_id: int, strategy_key: str,
         net_sharpes=tuple(None if v is None else float(v) for _, v in items))
         for key, items in groups.items())
     return TrialHistory(total=len({(r[0], r[1]) for r in rows} | new), earlier=earlier)
+
+
+def data_read(db: Database, *, idea_id: int | None = None,
+              run_id: int | None = None) -> DataRead | None:
+    """The data read by one run, or by the idea's last run (highest id); None when there is
+    no such run. The digests are read from the stored record in SQL, without parsing it."""
+    sql = ("SELECT id, uuid, data_fingerprint, CASE WHEN json_valid(summary) THEN "
+           "json_extract(summary, '$.market_fingerprints') END FROM runs WHERE ")
+    if run_id is not None:
+        row = db.execute(sql + "id = ?", [run_id]).fetchone()
+    else:
+        row = db.execute(sql + "idea_id = ? ORDER BY id DESC LIMIT 1", [idea_id]).fetchone()
+    if row is None:
+        return None
+    markets = json.loads(row[3]) if isinstance(row[3], str) else None
+    if not isinstance(markets, dict) or not all(isinstance(v, str) for v in markets.values()):
+        markets = None  # none recorded, or a record of another shape
+    return DataRead(run_id=row[0], uuid=row[1], data_fingerprint=row[2], markets=markets)
+
+
+def renumbered(run: RunInput, db: Database) -> RunInput:
+    """An imported run whose data changes name the run before by this catalogue's id (found by
+    its uuid; kept as written when that run is not here)."""
+    changes = run.result.data_changes
+    if changes is None or changes.since_uuid is None:
+        return run
+    row = db.execute("SELECT id FROM runs WHERE uuid = ?", [changes.since_uuid]).fetchone()
+    if row is None or row[0] == changes.since_run:
+        return run
+    result = replace(run.result, data_changes=replace(changes, since_run=row[0]))
+    record = json.loads(run.summary)
+    record["data_changes"]["since_run"] = row[0]
+    return replace(run, result=result, summary=validate.to_json(record, "summary"))
 
 
 _SELECT = ("SELECT r.*, v.number AS revision_number, p.version AS pre_version, "

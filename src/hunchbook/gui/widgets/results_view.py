@@ -127,6 +127,10 @@ class ResultsView(QWidget):
         self.pick_note.setWordWrap(True)
         self.pick_note.setTextFormat(Qt.TextFormat.PlainText)
         self.pick_note.setObjectName("pickNote")
+        self.data_note = QLabel()  # which markets' data changed since the idea's last run
+        self.data_note.setWordWrap(True)
+        self.data_note.setTextFormat(Qt.TextFormat.PlainText)
+        self.data_note.setObjectName("dataNote")
         self.performance = FiguresModel(self)
         self.statistics = FiguresModel(self)
         self.performance_table = _figures_table(self.performance)
@@ -200,6 +204,7 @@ class ResultsView(QWidget):
         layout.setContentsMargins(8, 8, 8, 6)
         layout.setSpacing(8)
         layout.addWidget(self.banner)
+        layout.addWidget(self.data_note)
         layout.addWidget(self.pick_note)
         layout.addWidget(splitter, 1)
         layout.addWidget(self.caution)
@@ -232,6 +237,9 @@ class ResultsView(QWidget):
         self.run = run
         self.pick_note.hide()
         self.banner.set_verdict(verdict_text(run), subtitle=run_subtitle(run, title))
+        changes = None if run.result is None else run.result.data_changes
+        self.data_note.setText("" if changes is None else changes.sentence())
+        self.data_note.setVisible(changes is not None)
         self.performance.set_rows(performance_rows(run))
         self.statistics.set_rows(statistic_rows(run))
         self._fit_tables()
@@ -272,6 +280,7 @@ class ResultsView(QWidget):
         """Show no run."""
         self.run = None
         self.pick_note.hide()
+        self.data_note.hide()
         self.banner.clear()
         self.performance.set_rows([])
         self.statistics.set_rows([])
