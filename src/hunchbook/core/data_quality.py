@@ -84,13 +84,14 @@ class QualityCheck:
 QUALITY_CHECKS: dict[str, QualityCheck] = {c.key: c for c in (
     QualityCheck("ohlc", "high/low/close", ERROR,
                  "close outside [low, high], or low above high"),
-    QualityCheck("non_positive", "zero or negative price", ERROR,
-                 "a price at or below zero in a market that cannot trade there, or under the "
-                 "ratio adjustment"),
+    QualityCheck("ratio_non_positive", "zero or negative price under ratio", ERROR,
+                 "a price at or below zero where the ratio adjustment divides by prices"),
     QualityCheck("expiries", "overlapping expiries", ERROR,
                  "two contracts with one expiry, or expiries out of the contracts' order"),
     QualityCheck("spike", "price spike", ERROR,
                  "a daily return beyond {spike_sds:g} robust SDs that reverses the next day"),
+    QualityCheck("non_positive", "zero or negative price", WARNING,
+                 "a price at or below zero in a market whose sector does not trade there"),
     QualityCheck("stale", "stale prices", WARNING,
                  "the same close {stale_days} rows in a row while volume or other contracts "
                  "move"),
@@ -270,13 +271,14 @@ def _non_positive(frame: pd.DataFrame, market: str, spec: MarketSpec | None,
         bad = np.logical_or.reduce([frame[c].to_numpy() <= 0 for c in columns])
     sector = (spec.sector or "").strip().lower() if spec is not None else ""
     if roll.adjust == "ratio":
-        why = "the ratio adjustment divides by prices, so they must be positive"
+        check, why = "ratio_non_positive", ("the ratio adjustment divides by prices, so they "
+                                            "must be positive")
     elif sector in NEGATIVE_SECTORS:
         return []
     else:
-        why = (f"sector '{sector or 'none'}' is not one that trades at or below zero "
-               f"({', '.join(sorted(NEGATIVE_SECTORS))})")
-    return _per_contract_rows(frame, bad, "non_positive", market,
+        check, why = "non_positive", (f"sector '{sector or 'none'}' is not one known to trade "
+                                      f"at or below zero ({', '.join(sorted(NEGATIVE_SECTORS))})")
+    return _per_contract_rows(frame, bad, check, market,
                               "price at or below zero on {n} row(s): " + why)
 
 
@@ -337,20 +339,32 @@ def _log_returns(frame: pd.DataFrame) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _spikes(frame: pd.DataFrame, market: str, t: QualityThresholds) -> list[Finding]:
+    """Both the log return and the price change must be extreme (where the log return exists):
+    log returns blow up near zero, price changes grow with the price level."""
     returns, same = _log_returns(frame)
-    scale = robust_sd(returns)
+    close = frame["close"].to_numpy(dtype=float)
+    changes = np.full(len(close), np.nan)
+    changes[1:] = np.where(same[1:], close[1:] - close[:-1], np.nan)
+    by_return, by_change = _reversed_extremes(returns, t), _reversed_extremes(changes, t)
+    spike = by_change & (np.isnan(returns) | by_return)
+    dates, contracts = frame["date"].to_numpy(), frame["contract"].to_numpy()
+    return [_finding("spike", market, dates[i:i + 1], str(contracts[i]),
+                     f"close {close[i - 1]:g} -> {close[i]:g} -> {close[i + 1]:g}, a move "
+                     f"beyond {t.spike_sds:g} robust SDs reversed the next day")
+            for i in np.flatnonzero(spike)]
+
+
+def _reversed_extremes(moves: np.ndarray, t: QualityThresholds) -> np.ndarray:
+    """Rows whose move, and the next row's, are beyond ``spike_sds`` robust SDs of all moves,
+    in opposite directions."""
+    scale = robust_sd(moves)
     if scale == 0.0:
-        return []
-    z = returns / scale
+        return np.zeros(len(moves), dtype=bool)
+    z = moves / scale
     nxt = np.full(len(z), np.nan)
     nxt[:-1] = z[1:]
     with np.errstate(invalid="ignore"):
-        spike = (np.abs(z) > t.spike_sds) & (np.abs(nxt) > t.spike_sds) & (z * nxt < 0)
-    dates, contracts = frame["date"].to_numpy(), frame["contract"].to_numpy()
-    return [_finding("spike", market, dates[i:i + 1], str(contracts[i]),
-                     f"close moved {z[i]:+.1f} robust SDs and {nxt[i]:+.1f} the next day "
-                     f"(robust SD of daily returns {scale:.4f})")
-            for i in np.flatnonzero(spike)]
+        return (np.abs(z) > t.spike_sds) & (np.abs(nxt) > t.spike_sds) & (z * nxt < 0)
 
 
 def _stale(frame: pd.DataFrame, market: str, t: QualityThresholds) -> list[Finding]:
