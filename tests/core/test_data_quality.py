@@ -9,6 +9,7 @@ never share an expiry; month codes F G H J K M N Q U V X Z: common practice, no 
 
 from __future__ import annotations
 
+import json
 from dataclasses import replace
 from pathlib import Path
 
@@ -16,6 +17,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from hunchbook.catalogue import Catalogue
 from hunchbook.cli import main
 from hunchbook.core.data_check import check_data_folder
 from hunchbook.core.data_quality import (
@@ -34,7 +36,9 @@ from hunchbook.core.errors import DataError
 from hunchbook.core.markets import MarketSpec
 from hunchbook.core.prices import MarketBars, read_market_csv
 from hunchbook.core.rules.model import RollSpec
+from hunchbook.core.runners import InProcess
 from hunchbook.demo import write_demo_data
+from hunchbook.services import run_idea
 
 _CODES = "FGHJKMNQUVXZ"
 GRAINS = MarketSpec("TST", 50.0, 0.25, "USD", 1.0, 0.0, 0.0, 0.0, sector="grains")
@@ -272,3 +276,70 @@ def test_close_times_ten_is_caught_and_refused(demo, tmp_path, capsys):
     err = capsys.readouterr().err
     assert "run refused: market CORN, high/low/close" in err
     assert frame.loc[at, "date"] in err
+
+
+def _demo_copy(demo: Path, target: Path, change) -> Path:
+    """A copy of the demo folder with CORN's rows changed by ``change`` (text frame)."""
+    target.mkdir()
+    for file in demo.iterdir():
+        (target / file.name).write_bytes(file.read_bytes())
+    frame = pd.read_csv(target / "CORN.csv", dtype=str)
+    change(frame)
+    frame.to_csv(target / "CORN.csv", index=False)
+    return target
+
+
+def _stale_corn(frame: pd.DataFrame) -> None:
+    """Eight rows of the held CORN contract at one close from row 400 on (volume moves)."""
+    contract = frame.loc[400, "contract"]
+    rows = frame.index[(frame["contract"] == contract) & (frame.index >= 400)][:8]
+    value = float(frame.loc[400, "close"])
+    frame.loc[rows, "close"] = f"{value:.4f}"
+    for column, pick in (("high", max), ("low", min)):
+        frame.loc[rows, column] = [f"{pick(float(v), value):.4f}" for v in frame.loc[rows, column]]
+    frame.loc[rows, "open"] = f"{value:.4f}"
+
+
+def test_warning_recorded_beside_the_verdict(demo, tmp_path, capsys):
+    folder = _demo_copy(demo, tmp_path / "stale", _stale_corn)
+    rules = tmp_path / "rules.toml"
+    rules.write_text(RULE)
+    out = tmp_path / "run.json"
+    assert main(["run", str(rules), "--data", str(folder), "--json", str(out)]) == 0
+    printed = capsys.readouterr().out
+    assert "Data: stale prices" in printed and "CORN at" in printed
+    checks = json.loads(out.read_text())["verdict"]["checks"]
+    assert [c["status"] for c in checks if c["key"] == "data_stale"] == ["warn"]
+
+
+def _accepted_idea(path: Path) -> int:
+    with Catalogue(path) as cat:
+        idea = cat.add_idea(title="Corn trend", hypothesis="Trends persist.",
+                            rationale="Slow diffusion.", rationale_kind="behavioural",
+                            submitted_by="Theo", markets=("CORN",), stage="submitted")
+        cat.save_rules(idea, RULE, by="Theo")
+        cat.review(idea, reviewer="Ines", decision="accept", comments="Go.",
+                   checklist={"rationale_not_data_mined": True, "markets_named": True,
+                              "parameter_space_declared": True,
+                              "series_and_costs_stated": True})
+    return idea
+
+
+def test_run_idea_refuses_errors_and_records_warnings(demo, tmp_path):
+    path = tmp_path / "cat.sqlite"
+    idea = _accepted_idea(path)
+
+    def times_ten(frame: pd.DataFrame) -> None:
+        frame.loc[400, "close"] = f"{float(frame.loc[400, 'close']) * 10:.4f}"
+
+    bad = _demo_copy(demo, tmp_path / "bad", times_ten)
+    stale = _demo_copy(demo, tmp_path / "stale", _stale_corn)
+    with Catalogue(path) as cat:
+        with pytest.raises(DataError, match="run refused: market CORN, high/low/close"):
+            run_idea(cat, idea, RULE, bad, by="Ines", runner=InProcess(), spa_reps=50)
+        assert cat.runs(idea) == []  # nothing recorded
+        outcome = run_idea(cat, idea, RULE, stale, by="Ines", runner=InProcess(), spa_reps=50)
+        stored = cat.runs(idea)[0].result.verdict.checks
+    assert [c.status for c in outcome.summary.verdict.checks if c.key == "data_stale"] == ["warn"]
+    assert [c.key for c in stored if c.status == "warn"] == [
+        c.key for c in outcome.summary.verdict.checks if c.status == "warn"]
