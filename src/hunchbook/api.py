@@ -206,7 +206,7 @@ class Study:
         except RuleError as exc:
             raise exc.located(file=self.file, key="signal.position", kind="expression") from None
         self.panel: Panel = replace(panel, series={**panel.series, **extra})
-        self._built: dict[str, ContinuousSeries] = built
+        self._built: dict[str, ContinuousSeries] = built  # for the quality checks, once
         self._findings: tuple[Finding, ...] | None = None
         self.backtest = Backtest(self.panel, self.position, rules.sizing, delay=rules.delay,
                                  start=rules.start, end=rules.end)
@@ -252,6 +252,7 @@ class Study:
                 f for m, series in self._built.items()
                 for f in check_bars(self.data.bars[m], self.data.library.get(m),
                                     roll=self.rules.roll, series=series))
+            self._built = {}  # not needed again: let the series go
         return self._findings
 
     def data_warnings(self) -> list[Check]:
