@@ -233,7 +233,7 @@ def robust_sd(values: np.ndarray) -> float:
 
 
 def _dates(values: np.ndarray) -> tuple[dt.date, ...]:
-    return tuple(dt.date.fromisoformat(str(d)) for d in np.asarray(values).astype("datetime64[D]"))
+    return tuple(np.asarray(values).astype("datetime64[D]").tolist())  # datetime.date each
 
 
 def _finding(check: str, market: str, dates: np.ndarray, contract: str, message: str) -> Finding:
@@ -246,10 +246,12 @@ def _per_contract_rows(frame: pd.DataFrame, mask: np.ndarray, check: str, market
     """One finding per contract holding rows where ``mask`` is true."""
     if not mask.any():
         return []
-    bad = frame.loc[mask, ["contract", "date"]]
-    return [_finding(check, market, group["date"].to_numpy(), str(contract),
+    contracts = frame["contract"].to_numpy()[mask]  # rows sorted by contract, then date
+    dates = frame["date"].to_numpy()[mask]
+    starts = np.flatnonzero(np.concatenate(([True], contracts[1:] != contracts[:-1])))
+    return [_finding(check, market, group, str(contracts[start]),
                      message.format(n=len(group)))
-            for contract, group in bad.groupby("contract", sort=False)]
+            for start, group in zip(starts, np.split(dates, starts[1:]), strict=True)]
 
 
 def _ohlc(frame: pd.DataFrame, market: str) -> list[Finding]:
