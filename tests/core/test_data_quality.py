@@ -232,7 +232,7 @@ def test_warnings_and_refusal_lines(tmp_path):
     dates = frame["date"].unique()
     quiet = frame[~frame["date"].isin(dates[200:212])]
     warned = quality_warnings(check_bars(_bars(quiet, tmp_path), GRAINS))
-    assert [(c.key, c.status) for c in warned] == [("data_missing_days", "warn")]
+    assert [(c.key, c.status) for c in warned] == [("data_missing_days_TST", "warn")]
 
 
 @pytest.fixture(scope="module")
@@ -307,9 +307,9 @@ def test_warning_recorded_beside_the_verdict(demo, tmp_path, capsys):
     out = tmp_path / "run.json"
     assert main(["run", str(rules), "--data", str(folder), "--json", str(out)]) == 0
     printed = capsys.readouterr().out
-    assert "Data: stale prices" in printed and "CORN at" in printed
+    assert "Data: stale prices (CORN)" in printed and "CORN at" in printed
     checks = json.loads(out.read_text())["verdict"]["checks"]
-    assert [c["status"] for c in checks if c["key"] == "data_stale"] == ["warn"]
+    assert [c["status"] for c in checks if c["key"] == "data_stale_CORN"] == ["warn"]
 
 
 def _accepted_idea(path: Path) -> int:
@@ -340,6 +340,7 @@ def test_run_idea_refuses_errors_and_records_warnings(demo, tmp_path):
         assert cat.runs(idea) == []  # nothing recorded
         outcome = run_idea(cat, idea, RULE, stale, by="Ines", runner=InProcess(), spa_reps=50)
         stored = cat.runs(idea)[0].result.verdict.checks
-    assert [c.status for c in outcome.summary.verdict.checks if c.key == "data_stale"] == ["warn"]
+    checks = outcome.summary.verdict.checks
+    assert [c.status for c in checks if c.key == "data_stale_CORN"] == ["warn"]
     assert [c.key for c in stored if c.status == "warn"] == [
         c.key for c in outcome.summary.verdict.checks if c.status == "warn"]

@@ -202,7 +202,8 @@ def refuse_errors(findings: Sequence[Finding], *, folder: str | None = None) -> 
 
 
 def quality_warnings(findings: Sequence[Finding]) -> list[Check]:
-    """The warning findings as verdict warnings, one per market and check."""
+    """The warning findings as verdict warnings, one per market and check (key
+    ``data_<check>_<market>``, so two runs' checks pair by market when compared)."""
     grouped: dict[tuple[str, str], list[Finding]] = {}
     for f in findings:
         if f.severity == WARNING:
@@ -212,7 +213,7 @@ def quality_warnings(findings: Sequence[Finding]) -> list[Check]:
         first = items[0]
         figure = f"{len(items)} found"
         more = f"; {len(items) - 1} more like it" if len(items) > 1 else ""
-        checks.append(warning(f"data_{key}", f"Data: {first.name}", figure,
+        checks.append(warning(f"data_{key}_{market}", f"Data: {first.name} ({market})", figure,
                               f"{market} at {first.rows}: {first.message}{more}."))
     return checks
 
