@@ -11,7 +11,8 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 import pandas as pd
 
-from hunchbook.core.continuous import build_continuous
+from hunchbook.core.continuous import ContinuousSeries, build_continuous
+from hunchbook.core.data_quality import Finding, check_bars, quality_warnings, refuse_errors
 from hunchbook.core.engine import Backtest, EngineOutput
 from hunchbook.core.errors import DataError, HunchbookError, RuleError
 from hunchbook.core.events import read_events
@@ -205,6 +206,8 @@ class Study:
         except RuleError as exc:
             raise exc.located(file=self.file, key="signal.position", kind="expression") from None
         self.panel: Panel = replace(panel, series={**panel.series, **extra})
+        self._built: dict[str, ContinuousSeries] = built  # for the quality checks, once
+        self._findings: tuple[Finding, ...] | None = None
         self.backtest = Backtest(self.panel, self.position, rules.sizing, delay=rules.delay,
                                  start=rules.start, end=rules.end)
 
@@ -240,6 +243,30 @@ class Study:
                   before: dt.date | None = None) -> Study:
         """Read a rule file and prepare it on a data folder (see :meth:`from_text`)."""
         return cls.from_text(read_rule_text(path), data_folder, file=path, before=before)
+
+    def data_findings(self) -> tuple[Finding, ...]:
+        """The quality checks of :mod:`hunchbook.core.data_quality` on every market the rules
+        trade or read (as cut at the holdout boundary, with the rules' roll); found once."""
+        if self._findings is None:
+            self._findings = tuple(
+                f for m, series in self._built.items()
+                for f in check_bars(self.data.bars[m], self.data.library.get(m),
+                                    roll=self.rules.roll, series=series))
+            self._built = {}  # not needed again: let the series go
+        return self._findings
+
+    def data_warnings(self) -> list[Check]:
+        """Refuse data with a quality error (one line naming the market, check and first
+        rows); otherwise the quality warnings as verdict warnings.
+
+        Raises
+        ------
+        DataError
+            When a quality check found an error.
+        """
+        findings = self.data_findings()
+        refuse_errors(findings, folder=self.data.folder)
+        return quality_warnings(findings)
 
     def parameter_sets(self, fixed: Mapping[str, float] | None = None) -> list[dict[str, float]]:
         """Declared parameter sets that satisfy the constraint, optionally filtered by values."""
@@ -299,11 +326,14 @@ class Study:
 
         Raises
         ------
+        DataError
+            A quality check of the data found an error (:meth:`data_warnings`).
         SweepRefused
             The sweep would not fit in the memory free.
         SweepCancelled
             ``cancel`` returned True, or ``confirm`` False.
         """
+        warnings = [*self.data_warnings(), *warnings]  # data with errors is refused here
         sets = self.parameter_sets()
         candidates = {_key(s) for s in self.parameter_sets(pick)} if pick else None
         earlier = earlier or EarlierTrials()

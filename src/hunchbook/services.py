@@ -157,6 +157,7 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     else:
         boundary, default_reason = setting.boundary, None
     study = Study.from_text(rule_text, data_folder, file=rule_file, before=boundary)
+    data_warnings = study.data_warnings()  # data with a quality error is refused here
     # refused here, before the sweep, when the run lies outside the pre-registration in force
     prereg = catalogue.check_preregistration(idea_id, rule_text, study.parameter_sets())
     history = catalogue.prospective_trials(idea_id, rule_text, study.parameter_sets())
@@ -169,7 +170,7 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
                              catalogue.promoted_pnl(exclude_idea=idea_id))
     seen = catalogue.holdout_view(idea_id)
     report = report.rejudged(  # the facts beyond the statistics, given together
-        [*prereg, *book.warnings(), *([] if seen is None else
+        [*data_warnings, *prereg, *book.warnings(), *([] if seen is None else
                                       [holdout_seen_warning(seen.seen_at, seen.seen_by)])])
     fingerprint, markets = data_fingerprint(study.data), market_fingerprints(study.data)
     last = catalogue.data_read(idea_id=idea_id)

@@ -158,3 +158,23 @@ def test_missing_folder_is_reported(qtbot, tmp_path):
     assert dialog.model.rowCount() == 0
     assert "data folder not found" in dialog.summary_label.text()
     assert not report.ok
+
+
+def test_quality_findings_listed_with_severity_market_and_rows(qtbot, tmp_path):
+    """A close x10 (above that day's high: a close lies within [low, high], a fact of the
+    trade) is listed as an error with its market, check and row; the market's status is
+    error."""
+    folder = write_demo_data(tmp_path / "data", start="2016-01-04", end="2017-12-29")
+    frame = pd.read_csv(folder / "CORN.csv", dtype=str)
+    frame.loc[300, "close"] = f"{float(frame.loc[300, 'close']) * 10:.4f}"
+    frame.to_csv(folder / "CORN.csv", index=False)
+    dialog, report = _open(qtbot, folder)
+    table = dialog.findings_table
+    assert not table.isHidden()
+    rows = {tuple(table.item(r, c).text() for c in range(3)) for r in range(table.rowCount())}
+    assert rows == {("error", "CORN", "high/low/close"), ("error", "CORN", "price spike")}
+    assert all(frame.loc[300, "date"] in table.item(r, 3).text()
+               for r in range(table.rowCount()))
+    corn = DEMO_MARKETS.index("CORN")
+    assert dialog.model.index(corn, COL["Status"]).data() == "error"
+    assert not report.ok

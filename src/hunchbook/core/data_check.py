@@ -11,9 +11,11 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 from hunchbook.core.continuous import build_continuous
+from hunchbook.core.data_quality import ERROR as QUALITY_ERROR
+from hunchbook.core.data_quality import Finding, check_bars
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.events import EVENTS_FILE
-from hunchbook.core.markets import read_market_library
+from hunchbook.core.markets import MarketSpec, read_market_library
 from hunchbook.core.prices import ACTIVITY_COLUMNS, LIBRARY_FILE, PRICE_COLUMNS, read_market_csv
 from hunchbook.core.rules.model import RollSpec
 
@@ -57,6 +59,9 @@ class MarketCheck:
         Optional columns present (``open``, ``high``, ``low``, ``volume``, ``open_interest``).
     series_days
         Dates in the continuous series built with the default roll; ``None`` if it did not build.
+    findings
+        What the quality checks of :mod:`hunchbook.core.data_quality` found in the rows (an
+        error finding makes the status :data:`ERROR`).
     """
 
     market: str
@@ -71,6 +76,7 @@ class MarketCheck:
     continuous: bool | None = None
     columns: tuple[str, ...] = ()
     series_days: int | None = None
+    findings: tuple[Finding, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -93,6 +99,11 @@ class DataCheckReport:
         return not self.problem and all(m.status == OK for m in self.markets)
 
     @property
+    def findings(self) -> tuple[Finding, ...]:
+        """Every market's quality findings, market by market."""
+        return tuple(f for m in self.markets for f in m.findings)
+
+    @property
     def counts(self) -> dict[str, int]:
         """Number of markets per status, for the statuses that occur."""
         return dict(Counter(m.status for m in self.markets))
@@ -113,6 +124,9 @@ class DataCheckReport:
             if others:
                 what += f" and {_plural(others, 'other price file')}"
         line = f"Checked {what}: {', '.join(parts)}"
+        warned = sum(f.severity != QUALITY_ERROR for f in self.findings)
+        if warned:
+            line += f"; {_plural(warned, 'quality warning')}"
         if self.problem:
             line = f"Market library problem: {self.problem}. {line}"
         elif self.ok:
@@ -142,14 +156,14 @@ def check_data_folder(folder: str | os.PathLike[str], *,
     if not root.is_dir():
         return DataCheckReport(folder=str(root), problem=f"{root}: data folder not found",
                                markets=())
-    library: list[str] | None = None
+    library: dict[str, MarketSpec] | None = None
     problem = ""
     library_path = root / LIBRARY_FILE
     if not library_path.is_file():
         problem = f"no {LIBRARY_FILE} (the market library) in the folder"
     else:
         try:
-            library = list(read_market_library(library_path))
+            library = read_market_library(library_path)
         except HunchbookError as err:
             problem = _relative_text(err, root)
     try:
@@ -159,7 +173,7 @@ def check_data_folder(folder: str | os.PathLike[str], *,
     except OSError as err:
         return DataCheckReport(folder=str(root), problem=f"{root}: cannot list the folder "
                                f"({err.strerror or err})", markets=())
-    known = library if library is not None else []
+    known = list(library) if library is not None else []
     extra = [stem for stem in files if stem not in known]
     order = [*known, *extra]
     checks = []
@@ -200,6 +214,9 @@ def format_data_check(report: DataCheckReport) -> str:
     problems = [m for m in report.markets if m.message]
     if problems:
         out += ["", "Problems:", *(f"- {m.market}: {m.message}" for m in problems)]
+    if report.findings:
+        out += ["", "Quality checks (severity, market, check, rows: finding):",
+                *(f"- {f.line}" for f in report.findings)]
     out += ["", report.summary]
     return "\n".join(out) + "\n"
 
@@ -222,8 +239,8 @@ def _plural(count: int, noun: str) -> str:
 
 
 def _check_market(root: Path, market: str, file: str | None,
-                  library: list[str] | None) -> MarketCheck:
-    """Read, validate and splice one market's file."""
+                  library: dict[str, MarketSpec] | None) -> MarketCheck:
+    """Read, validate and splice one market's file, and run the quality checks on it."""
     outside = library is not None and market not in library
     in_library = library is not None and not outside
     if file is None:
@@ -248,13 +265,23 @@ def _check_market(root: Path, market: str, file: str | None,
         continuous=bars.continuous,
         columns=tuple(c for c in (*PRICE_COLUMNS, *ACTIVITY_COLUMNS) if c in bars.columns))
     try:
-        days = len(build_continuous(bars, RollSpec()))
+        series = build_continuous(bars, RollSpec())
     except HunchbookError as err:
         message = f"continuous series with the default roll: {_relative_text(err, root)}"
         return MarketCheck(market=market, file=file, status=ERROR, in_library=in_library,
                            message=f"{note}; {message}" if note else message, **found)
+    findings = check_bars(bars, (library or {}).get(market), series=series)
+    errors = [f for f in findings if f.severity == QUALITY_ERROR]
+    if errors:
+        message = (f"quality check '{errors[0].name}' failed at {errors[0].rows}: "
+                   f"{errors[0].message}" + (f" ({len(errors) - 1} more error(s))"
+                                             if len(errors) > 1 else ""))
+        return MarketCheck(market=market, file=file, status=ERROR, in_library=in_library,
+                           message=f"{note}; {message}" if note else message,
+                           series_days=len(series), findings=findings, **found)
     return MarketCheck(market=market, file=file, status=EXTRA if outside else OK,
-                       in_library=in_library, message=note, series_days=days, **found)
+                       in_library=in_library, message=note, series_days=len(series),
+                       findings=findings, **found)
 
 
 def _missing_text(market: str, root: Path) -> str:

@@ -26,6 +26,8 @@ from PySide6.QtWidgets import (
     QProgressBar,
     QPushButton,
     QTableView,
+    QTableWidget,
+    QTableWidgetItem,
     QVBoxLayout,
     QWidget,
 )
@@ -48,6 +50,8 @@ HEADERS = ("Market", "File", "Rows", "Contracts", "First", "Last", "Status", "Me
 COL_STATUS = HEADERS.index("Status")
 COL_MESSAGE = HEADERS.index("Message")
 _NUMERIC = {HEADERS.index("Rows"), HEADERS.index("Contracts")}
+#: Column headers of the quality findings table.
+FINDING_HEADERS = ("Severity", "Market", "Check", "Rows", "Finding")
 #: Status cell tints (translucent, so they read on light and dark palettes).
 _TINTS = {OK: QColor(40, 170, 70, 60), ERROR: QColor(220, 40, 40, 70),
           MISSING: QColor(220, 40, 40, 70), EXTRA: QColor(230, 160, 20, 70)}
@@ -183,6 +187,18 @@ class DataCheckDialog(QDialog):
         header.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
         header.setSectionResizeMode(COL_MESSAGE, QHeaderView.ResizeMode.Stretch)
 
+        self.findings_table = QTableWidget(0, len(FINDING_HEADERS), self)
+        self.findings_table.setObjectName("dataQualityTable")
+        self.findings_table.setHorizontalHeaderLabels(FINDING_HEADERS)
+        self.findings_table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.findings_table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.findings_table.verticalHeader().setVisible(False)
+        found_header = self.findings_table.horizontalHeader()
+        found_header.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        found_header.setSectionResizeMode(len(FINDING_HEADERS) - 1,
+                                          QHeaderView.ResizeMode.Stretch)
+        self.findings_table.hide()
+
         self.buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close, self)
         self.copy_button = QPushButton("Copy report", self)
         self.rerun_button = QPushButton("Check again", self)
@@ -198,6 +214,7 @@ class DataCheckDialog(QDialog):
         layout.addWidget(self.summary_label)
         layout.addWidget(self.progress_bar)
         layout.addWidget(self.table, 1)
+        layout.addWidget(self.findings_table, 1)
         layout.addWidget(self.buttons)
         self.resize(1100, 400)
         self.start_check()
@@ -237,12 +254,28 @@ class DataCheckDialog(QDialog):
         self._worker = None
         self.report = report
         self.model.set_report(report)
+        self._show_findings(report)
         self.progress_bar.hide()
         self.summary_label.setText(f"<b>{_escape(report.summary)}</b>")
         self.summary_label.setToolTip(report.problem or None)
         self.copy_button.setEnabled(True)
         self.rerun_button.setEnabled(True)
         self.check_finished.emit(report)
+
+    def _show_findings(self, report: DataCheckReport) -> None:
+        """The quality checks' findings, one row each (hidden when there are none)."""
+        findings = report.findings
+        self.findings_table.setRowCount(len(findings))
+        for row, finding in enumerate(findings):
+            cells = (finding.severity, finding.market, finding.name, finding.rows,
+                     finding.message)
+            for column, text in enumerate(cells):
+                item = QTableWidgetItem(text)
+                item.setToolTip(text)
+                if column == 0:
+                    item.setBackground(_TINTS[ERROR if finding.severity == ERROR else EXTRA])
+                self.findings_table.setItem(row, column, item)
+        self.findings_table.setVisible(bool(findings))
 
     def _on_errored(self, message: str) -> None:
         self._worker = None
