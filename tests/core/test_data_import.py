@@ -273,8 +273,12 @@ def small(tmp_path):
      "expiry rule 'before-day:15' not understood"),
     ("CORNH2020.csv", "Date,Settle\n2020-01-02,1\n", ["--map", "close=Bid"],
      "--map close=Bid: no column 'Bid'"),
-    ("CORNH2020.csv", "Date,Settle\n03/02/2020,1\n04/02/2020,1\n", [],
-     "dates read both as %d/%m/%Y and as %m/%d/%Y (give the format with --date-format)"),
+    ("CORNH2020.csv", "Trade Date,Settle\n03/02/2020,1\n04/02/2020,1\n", [],
+     "CORNH2020.csv: column 'Trade Date': dates read both as %d/%m/%Y and as %m/%d/%Y (give "
+     "the format with --date-format)"),
+    ("CORNH2020.csv", "Date,Settle\n2020-01-02,1\n03/01/2020,1\n", [],
+     "CORNH2020.csv, line 3: column 'Date' (date): cannot read '03/01/2020' as a date "
+     "(expected the format %Y-%m-%d)"),
     ("WHEATH2020.csv", "Date,Settle\n2020-01-02,1\n", [],
      "market(s) WHEAT not in the market library"),
     ("CORN.csv", "Date,Settle\n2019-12-02,1\n", [],

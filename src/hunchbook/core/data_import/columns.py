@@ -87,26 +87,26 @@ def sniff_delimiter(sample: str, *, file: str | None = None) -> str:
 
 def guess_date_format(text: pd.Series, *, file: str | None = None,
                       column: str = "date") -> str:
-    """The one format of :data:`DATE_FORMATS` that reads every non-blank cell.
+    """The format of :data:`DATE_FORMATS` that reads the most non-blank cells (a cell that
+    it does not read is then reported where it is).
 
     Raises
     ------
     DataError
-        When none reads them all, or two read them all differently (day/month order unknown).
+        When none reads any, or two read as many differently (day/month order unknown).
     """
     sample = text[text.str.strip() != ""].str.strip()
-    readings = {}
-    for fmt in DATE_FORMATS:
-        parsed = pd.to_datetime(sample, format=fmt, errors="coerce")
-        if not parsed.isna().any():
-            readings[fmt] = parsed
-    if not readings:
+    readings = {fmt: pd.to_datetime(sample, format=fmt, errors="coerce")
+                for fmt in DATE_FORMATS}
+    counts = {fmt: int(parsed.notna().sum()) for fmt, parsed in readings.items()}
+    most = max(counts.values(), default=0)
+    if most == 0:
         first = sample.iloc[0] if len(sample) else ""
         raise DataError(f"column '{column}': cannot tell the date format of {first!r} (give "
                         "it with --date-format, e.g. %d/%m/%Y)", file=file)
-    formats = list(readings)
-    for fmt in formats[1:]:
-        if not readings[fmt].equals(readings[formats[0]]):
-            raise DataError(f"column '{column}': dates read both as {formats[0]} and as {fmt} "
+    best = [fmt for fmt, n in counts.items() if n == most]
+    for fmt in best[1:]:
+        if not readings[fmt].equals(readings[best[0]]):
+            raise DataError(f"column '{column}': dates read both as {best[0]} and as {fmt} "
                             "(give the format with --date-format)", file=file)
-    return formats[0]
+    return best[0]

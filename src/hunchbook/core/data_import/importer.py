@@ -20,8 +20,9 @@ from hunchbook.core.data_import.read import (
     PARQUET_SUFFIXES,
     VALUE_FIELDS,
     Skipped,
-    SourceRows,
-    read_source,
+    SourceFile,
+    read_rows,
+    read_tables,
 )
 from hunchbook.core.data_import.settings import (
     SETTINGS_FILE,
@@ -189,9 +190,16 @@ def import_data(settings: ImportSettings, into: str | os.PathLike[str], *,
     if not files:
         raise DataError("no CSV or Parquet files in the sources given",
                         file=", ".join(settings.sources))
-    read: list[SourceRows] = [read_source(path, settings, regex) for path in files]
+    frames: list[pd.DataFrame] = []
+    read: list[SourceFile] = []
+    for table in read_tables(files, settings):
+        frame, sources = read_rows(table, settings, regex)
+        frames.append(frame)
+        read += sources
     skipped += [s for r in read for s in r.skipped]
-    rows = pd.concat([r.frame for r in read if not r.frame.empty], ignore_index=True)
+    rows = pd.concat(frames, ignore_index=True)
+    if rows.empty:
+        raise DataError("no price rows in the sources given", file=", ".join(settings.sources))
     markets = sorted(rows["market"].unique())
     if not replace_files:
         there = [m for m in markets if (folder / f"{m}.csv").exists()]
@@ -200,22 +208,22 @@ def import_data(settings: ImportSettings, into: str | os.PathLike[str], *,
                             f"{'it' if len(there) == 1 else 'the ' + str(len(there)) + ' files'})",
                             file=str(folder))
     library, added = _library_text(folder, markets, settings.library)
-    frames = {m: market_frame(m, part) for m, part in rows.groupby("market", sort=True)}
+    by_market = {m: market_frame(m, part) for m, part in rows.groupby("market", sort=True)}
     done = replace(settings, markets=tuple(markets))
     try:
         earlier = [s for s in read_settings(folder) if not set(s.markets) <= set(markets)]
     except DataError:
         earlier = []
     written = {f"{m}.csv": frame.to_csv(index=False, lineterminator="\n")
-               for m, frame in frames.items()}
+               for m, frame in by_market.items()}
     written[SETTINGS_FILE] = settings_text([*earlier, done])
     if library is not None:
         written[LIBRARY_FILE] = library
     _write_folder(folder, written, markets)
+    files_per_market = rows.groupby("market")["file"].nunique()
     report = [MarketWritten(m, len(f), int(f["contract"].nunique()) if "contract" in f else 0,
-                            f["date"].min(), f["date"].max(),
-                            int(rows.loc[rows["market"] == m, "file"].nunique()))
-              for m, f in frames.items()]
+                            f["date"].iloc[0], f["date"].iloc[-1], int(files_per_market[m]))
+              for m, f in by_market.items()]
     shapes: dict[str, int] = {}
     for r in read:
         shapes[r.shape] = shapes.get(r.shape, 0) + 1
