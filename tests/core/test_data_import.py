@@ -324,3 +324,30 @@ def test_files_that_are_not_prices_are_reported(small, capsys):
     out = capsys.readouterr().out
     assert f"{src / 'README.md'}: not a CSV or Parquet file" in out
     assert "CORN" in out and "1 contracts" in out
+
+
+def test_market_file_with_contract_codes_takes_expiry_from_the_rule(tmp_path):
+    """A contract-level market file without an expiry column: the codes are read with the
+    pattern and dated by the rule (third Friday, common practice for index futures)."""
+    (tmp_path / "ES.csv").write_text("date|contract|last\n2020-03-02|ESH20|3000\n"
+                                     "2020-03-02|ESM20|2990\n2020-03-03|ESH20|3010\n")
+    (tmp_path / "lib.toml").write_text(WTI_LIBRARY.replace("[WTI]", "[ES]"))
+    import_data(ImportSettings(sources=(str(tmp_path / "ES.csv"),), expiry={"ES": "third-friday"},
+                               library=str(tmp_path / "lib.toml")), tmp_path / "d")
+    frame = load_data(tmp_path / "d").bars["ES"].frame
+    assert dict(zip(frame["contract"], frame["expiry"].dt.date, strict=False)) == {
+        "ESH20": dt.date(2020, 3, 20), "ESM20": dt.date(2020, 6, 19)}  # 1 Jun 2020 a Monday
+
+
+@pytest.mark.parametrize(("content", "message"), [
+    (b"", "file is empty"),
+    (b"date,close\n2020-01-02,\xff\n", "file is not UTF-8 text"),
+    (b"PAR1 not really", "not a readable Parquet file"),
+])
+def test_unreadable_files_are_one_line(tmp_path, content, message):
+    name = "X.parquet" if content.startswith(b"PAR1") else "X.csv"
+    (tmp_path / name).write_bytes(content)
+    with pytest.raises(DataError) as caught:
+        import_data(ImportSettings(sources=(str(tmp_path / name),)), tmp_path / "d")
+    assert message in str(caught.value) and name in str(caught.value)
+    assert "\n" not in str(caught.value) and not (tmp_path / "d").exists()
