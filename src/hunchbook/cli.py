@@ -21,6 +21,7 @@ from hunchbook import __version__
 from hunchbook.cli_catalogue import author, open_catalogue
 from hunchbook.cli_catalogue import register as register_catalogue_commands
 from hunchbook.cli_committee import register as register_committee_commands
+from hunchbook.cli_data import register as register_data_commands
 from hunchbook.cli_desk import register as register_desk_command
 from hunchbook.cli_holdout import register as register_holdout_commands
 from hunchbook.cli_settings import register as register_settings_commands
@@ -151,6 +152,7 @@ def _build_parser() -> argparse.ArgumentParser:
         epilog="Example: hunchbook data check build/demo-data")
     check.add_argument("folder", metavar="DIR", type=Path)
     check.set_defaults(handler=_cmd_data_check)
+    register_data_commands(data_commands)
 
     demo = commands.add_parser(
         "demo-data", help="write the invented demo desk's market library and price files",

@@ -21,8 +21,9 @@ class DataMenu(QObject):
 
     Attributes
     ----------
-    folder_action, library_action, check_action
-        "Data folder", "Market library" and "Check data" for the menus and toolbar.
+    folder_action, library_action, check_action, import_action
+        "Data folder", "Market library", "Check data" and "Import prices" for the menus and
+        toolbar.
     label
         The status-bar label naming the data folder (see :meth:`show_folder`).
     """
@@ -40,6 +41,8 @@ class DataMenu(QObject):
         self.check_action = make_action(window, "Check data\u2026", self.open_data_check, None,
                                         "Check the data folder's price files",
                                         pix.SP_DialogApplyButton)
+        self.import_action = make_action(window, "Import prices\u2026", self.open_import, None,
+                                         "Import price files into a data folder")
         self.label = QLabel(window)
         self.label.setObjectName("dataFolderLabel")
 
@@ -86,5 +89,16 @@ class DataMenu(QObject):
         from hunchbook.gui.widgets.data_check import DataCheckDialog  # pandas: when first used
 
         dialog = DataCheckDialog(window.data_folder, window)
+        dialog.open()
+        return dialog
+
+    def open_import(self) -> QDialog:
+        """Import price files (window-modal; the import runs on a worker); the window takes
+        the folder written as its data folder."""
+        window = self._window
+        from hunchbook.gui.widgets.import_dialog import ImportDialog  # pandas: when first used
+
+        dialog = ImportDialog(window.data_folder, window)
+        dialog.imported.connect(window.set_data_folder)
         dialog.open()
         return dialog

@@ -189,7 +189,8 @@ class MainWindow(QMainWindow):
                             quit_action)),
                  ("&Idea", (run.run_action, run.cancel_action, self.save_rules_action,
                             self.find_action, None, self.holdout.unlock_action)),
-                 ("&Data", (data.folder_action, data.library_action, data.check_action, None,
+                 ("&Data", (data.folder_action, data.library_action, data.check_action,
+                            data.import_action, None,
                             self.holdout.boundary_action)),
                  ("&View", (self.desk_action, None, *(
                      make_action(self, s.tab_title, partial(self.show_section, s.key),
