@@ -666,9 +666,12 @@ def test_a_quick_run_on_changed_data_says_which_market_changed(qtbot, window, sh
     shutil.copytree(short_data, changed)
     path = changed / f"{market}.csv"
     lines = path.read_text(encoding="utf-8").splitlines()
-    column = lines[0].split(",").index("close")
+    header = lines[0].split(",")
     cells = lines[1].split(",")
-    cells[column] = repr(float(cells[column]) + 0.5)  # the first row: before any boundary
+    for name in ("open", "high", "low", "close"):  # the whole first bar, so it stays consistent
+        if name in header:
+            column = header.index(name)
+            cells[column] = repr(float(cells[column]) + 0.5)  # before any boundary
     lines[1] = ",".join(cells)
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
     window.set_data_folder(changed)
