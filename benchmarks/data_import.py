@@ -12,13 +12,12 @@ from __future__ import annotations
 import argparse
 import platform
 import shutil
-import statistics
 from pathlib import Path
 from tempfile import TemporaryDirectory
 
 import numpy as np
 import pandas as pd
-from timing import repeat_times
+from timing import line, repeat_times
 
 from hunchbook.core.data_check import check_data_folder
 from hunchbook.core.data_import import ImportSettings, expiry_from_rule, import_data
@@ -54,10 +53,6 @@ def write_sources(folder: Path) -> None:
                               "Volume": rng.integers(100, 5000, listed.sum())}).to_csv(
                     folder / f"{market}{code}{year}.csv", index=False)
 
-
-def line(label: str, samples: list[float]) -> str:
-    return (f"{label:<26} min {min(samples):6.3f}  median {statistics.median(samples):6.3f}  "
-            f"max {max(samples):6.3f} s")
 
 
 def main() -> None:

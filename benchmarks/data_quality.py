@@ -13,7 +13,6 @@ from __future__ import annotations
 
 import argparse
 import platform
-import statistics
 from pathlib import Path
 from tempfile import TemporaryDirectory
 
@@ -21,7 +20,7 @@ import numpy as np
 import pandas as pd
 from series import TWO_AVERAGE  # the sibling benchmark scripts
 from series import write_folder as write_long_folder
-from timing import repeat_times
+from timing import line, repeat_times
 
 from hunchbook.api import Study
 from hunchbook.core.data_check import check_data_folder
@@ -58,10 +57,6 @@ def write_folder(folder: Path) -> None:
                        "slippage_ticks = 1\n")
     (folder / "markets.toml").write_text("\n".join(library))
 
-
-def line(label: str, samples: list[float]) -> str:
-    return (f"{label:<40} min {min(samples):6.3f}  median {statistics.median(samples):6.3f}  "
-            f"max {max(samples):6.3f} s")
 
 
 def main() -> None:

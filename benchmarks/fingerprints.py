@@ -11,20 +11,14 @@ Run: .venv/bin/python benchmarks/fingerprints.py
 from __future__ import annotations
 
 import argparse
-import statistics
 from pathlib import Path
 from tempfile import TemporaryDirectory
 
 from series import DAYS, MARKETS, write_folder  # the sibling benchmark script
-from timing import repeat_times
+from timing import line, repeat_times
 
 from hunchbook.core import prices
 from hunchbook.core.history import common_history, default_boundary
-
-
-def line(label: str, samples: list[float]) -> str:
-    return (f"{label:<30} min {min(samples):6.3f}  median {statistics.median(samples):6.3f}  "
-            f"max {max(samples):6.3f} s")
 
 
 def main() -> None:

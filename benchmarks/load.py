@@ -17,7 +17,7 @@ from tempfile import TemporaryDirectory
 
 import pandas as pd
 from series import DAYS, MARKETS, write_folder  # the sibling benchmark script
-from timing import repeat_times
+from timing import line, repeat_times
 
 from hunchbook.core import prices
 
@@ -30,10 +30,6 @@ def load(folder: Path, fast: bool) -> prices.MarketData:
     finally:
         prices.FAST_READ = True
 
-
-def line(label: str, samples: list[float]) -> str:
-    return (f"{label:<34} min {min(samples):6.3f}  median {statistics.median(samples):6.3f}  "
-            f"max {max(samples):6.3f} s")
 
 
 def main() -> None:

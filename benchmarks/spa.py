@@ -24,7 +24,7 @@ from pathlib import Path
 import numpy as np
 
 sys.path.insert(0, str(Path(__file__).parent))
-from timing import repeat_times  # noqa: E402
+from timing import line, repeat_times  # noqa: E402
 
 from hunchbook.core.stats.long_run import long_run_variance  # noqa: E402
 from hunchbook.core.stats.spa import spa_combine, spa_partial, spa_plan, spa_test  # noqa: E402
@@ -96,10 +96,6 @@ def chunked(x: np.ndarray, chunks: int, seed: int) -> object:
     return spa_combine(plan, [spa_partial(plan, x[:, a:b], first_column=int(a))
                               for a, b in zip(edges, edges[1:], strict=False)])
 
-
-def line(label: str, samples: list[float]) -> str:
-    return (f"{label:<44} min {min(samples):6.3f}  median {statistics.median(samples):6.3f}  "
-            f"max {max(samples):6.3f} s")
 
 
 def main() -> None:

@@ -3,6 +3,7 @@ their min / median / max; nothing here is a test)."""
 
 from __future__ import annotations
 
+import statistics
 import time
 from collections.abc import Callable
 
@@ -15,3 +16,9 @@ def repeat_times(work: Callable[[], object], repeats: int) -> list[float]:
         work()
         out.append(time.perf_counter() - start)
     return out
+
+
+def line(label: str, samples: list[float], width: int = 44) -> str:
+    """One printed line: the label, then min / median / max seconds of repeated runs."""
+    return (f"{label:<{width}} min {min(samples):6.3f}  median {statistics.median(samples):6.3f}"
+            f"  max {max(samples):6.3f} s")
