@@ -13,13 +13,13 @@ from html.parser import HTMLParser
 import pytest
 
 from hunchbook.catalogue import CHECKLIST, Catalogue
+from hunchbook.core.when import readable_time
 from hunchbook.gui.html_book import book_section
 from hunchbook.gui.review_pack import (
     SECTIONS,
     pack_from_catalogue,
     pack_html,
     print_html,
-    readable_time,
     write_pack_html,
     write_pack_pdf,
 )
@@ -90,7 +90,7 @@ def test_the_pack_holds_rationale_reviews_runs_and_journal(pack) -> None:
     assert not re.search(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d", text)  # no raw timestamps
     assert [r.id for r in pack.runs] == [pack.runs[0].id, pack.run.id]
     assert "OUTSIDE" in text and pack.run.preregistration.finding in text
-    assert "Prepared 4 Mar 2025, 09:15 UTC" in text
+    assert "Prepared 2025-03-04 09:15" in text
     table = re.search(r'<table class="prereg">.*?</table>', page).group(0)
     versions = re.findall(r"<tr><td>(\d)</td><td>", table)
     assert versions == ["1", "2"]  # both pre-registration versions, with the amendment's reason

@@ -27,6 +27,7 @@ from PySide6.QtCore import (
 from PySide6.QtGui import QColor, QFont
 
 from hunchbook.core.verdict import LABELS
+from hunchbook.core.when import readable_time
 from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.store.records import Entry, IdeaSummary, RunRecord
 
@@ -48,11 +49,6 @@ def verdict_label(outcome: str | None) -> str:
     if not outcome:
         return ""
     return LABELS.get(outcome, outcome)
-
-
-def short_time(stamp: str | None) -> str:
-    """A stored UTC timestamp as ``YYYY-MM-DD HH:MM`` ('' for none)."""
-    return "" if not stamp else stamp[:16].replace("T", " ")
 
 
 def format_sharpe(value: float | None) -> str:
@@ -350,7 +346,7 @@ class IdeaTableModel(_RecordTableModel):
     def _tooltip(self, idea: IdeaSummary, column: int) -> Any:
         markets = ", ".join(idea.markets) or "no markets yet"
         return (f"{idea.title}\n{idea.hypothesis}\n\nBy {idea.submitted_by} \u00b7 {markets}"
-                f" \u00b7 updated {short_time(idea.updated_at)}")
+                f" \u00b7 updated {readable_time(idea.updated_at)}")
 
     def _is_number(self, column: int) -> bool:
         return column in (self.SHARPE, self.TRIALS)
@@ -379,7 +375,7 @@ class RunTableModel(_RecordTableModel):
         if column == self.RUN:
             return str(run.id)
         if column == self.RECORDED:
-            return short_time(run.recorded_at)
+            return readable_time(run.recorded_at)
         if column == self.REVISION:
             return str(run.revision_number)
         if column == self.SETS:
@@ -454,7 +450,7 @@ class JournalModel(_RecordTableModel):
 
     def _display(self, entry: Entry, column: int) -> Any:
         if column == self.WHEN:
-            return short_time(entry.at)
+            return readable_time(entry.at)
         if column == self.KIND:
             return entry.kind
         if column == self.BY:

@@ -31,6 +31,7 @@ from hunchbook.core.errors import HunchbookError
 from hunchbook.core.prereg import describe_space
 from hunchbook.core.presenter import market_table, set_table
 from hunchbook.core.verdict import CAUTION
+from hunchbook.core.when import readable_time
 from hunchbook.gui.charts.run_figures import (
     format_params,
     performance_rows,
@@ -158,20 +159,6 @@ def ensure_application() -> object:
 #: A section of the pack: its heading, whether it starts a new printed page, and the function
 #: that renders its body (None: the section is left out).
 Section = tuple[str, bool, Callable[[ReviewPack], str | None]]
-
-
-def readable_time(stamp: str | None, *, time: bool = True) -> str:
-    """A stored timestamp (ISO 8601, UTC) as ``13 Jan 2025, 17:01 UTC`` (``13 Jan 2025``
-    without ``time``; '' for none)."""
-    if not stamp:
-        return ""
-    try:
-        moment = dt.datetime.fromisoformat(stamp.replace("Z", "+00:00"))
-    except ValueError:
-        return stamp
-    if moment.tzinfo is not None:
-        moment = moment.astimezone(dt.UTC)
-    return f"{moment.day} {moment:%b %Y}" + (f", {moment:%H:%M} UTC" if time else "")
 
 
 def _summary(pack: ReviewPack) -> str:
