@@ -15,6 +15,7 @@ import pytest
 from hunchbook.catalogue import CHECKLIST, Catalogue
 from hunchbook.core.when import readable_time
 from hunchbook.gui.html_book import book_section
+from hunchbook.gui.journal_html import entry_html
 from hunchbook.gui.review_pack import (
     SECTIONS,
     pack_from_catalogue,
@@ -84,8 +85,8 @@ def test_the_pack_holds_rationale_reviews_runs_and_journal(pack) -> None:
     for question in CHECKLIST.values():  # every answer in words, beside its question
         assert f"Yes \u2014 {question}" in text
     assert "Comments: Go." in text
-    for entry in pack.journal:  # every entry, in words, with a readable time
-        assert html.escape(entry.text, quote=True) in page
+    for entry in pack.journal:  # every entry, in words (rendered), with a readable time
+        assert entry_html(entry) in page
         assert readable_time(entry.at) in text
     assert not re.search(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d", text)  # no raw timestamps
     assert [r.id for r in pack.runs] == [pack.runs[0].id, pack.run.id]

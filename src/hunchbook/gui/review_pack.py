@@ -51,6 +51,8 @@ from hunchbook.gui.html_report import (
     record_html,
     render_chart_images,
 )
+from hunchbook.gui.journal_html import entry_html
+from hunchbook.store.entry_text import kind_label
 from hunchbook.store.records import (
     Entry,
     HoldoutView,
@@ -319,8 +321,8 @@ def _journal(pack: ReviewPack) -> str:
         if entry.corrected_by:
             note += f" (corrected by entry {entry.corrected_by})"
         rows.append(f'<tr><td class="when">{_e(readable_time(entry.at))}</td>'
-                    f"<td>{_e(entry.by)}</td><td>{_e(entry.kind)}</td>"
-                    f'<td><span class="text">{_e(entry.text)}</span>{_e(note)}</td></tr>')
+                    f"<td>{_e(entry.by)}</td><td>{_e(kind_label(entry.kind))}</td>"
+                    f'<td><div class="text">{entry_html(entry)}</div>{_e(note)}</td></tr>')
     return ('<table class="journal"><thead><tr><th>When</th><th>Who</th><th>Kind</th>'
             "<th>Entry</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
 
