@@ -58,7 +58,7 @@ def test_run_entries_read_with_the_figures_of_their_run_record(demo: Catalogue):
             continue
         run = runs[int(match[1])]
         assert int(match[2]) == run.revision_number and int(match[3]) == run.set_count
-        assert f"net Sharpe {run.chosen_net_sharpe:.2f}, verdict **{run.result.verdict.label}**." \
+        assert f"net Sharpe {run.chosen_net_sharpe:.2f}, verdict {run.result.verdict.label}." \
             in shown
         read += 1
     assert read == len(runs)
@@ -73,7 +73,7 @@ def test_review_names_the_items_not_ticked_by_their_question(cat: Catalogue):
     entry = cat.journal(idea, kind="review")[-1]
     assert "markets_named" in entry.text  # stored as written
     assert sentence(entry) == (
-        "**Returned with comments**; 3 of 4 checklist items ticked; not ticked: "
+        "Returned with comments; 3 of 4 checklist items ticked; not ticked: "
         f"\u201c{CHECKLIST['markets_named'].rstrip('.')}\u201d. Comments: Name *the* markets.")
 
 
@@ -98,7 +98,7 @@ def test_stage_changes_and_unmatched_text():
         return Entry(id=1, uuid="u", idea_id=1, kind=kind, text=text, by="Nia", at="")
 
     assert sentence(entry("stage", "Stage draft -> submitted. Ready.")) == (
-        "Moved from draft to **submitted**: Ready.")
+        "Moved from draft to submitted: Ready.")
     # a text of another pattern (older entries, bundles) is shown with its keys in words
     shown = sentence(entry("review", "Looked at markets_named only."))
     assert shown == f"Looked at \u201c{CHECKLIST['markets_named'].rstrip('.')}\u201d only."

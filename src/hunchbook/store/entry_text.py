@@ -93,7 +93,7 @@ def _run(text: str) -> str:
     return (f"Quick run {run['id']} on rule revision {run['rev']}: "
             f"{_plural(run['sets'], 'set')}, {_plural(run['trials'], 'trial')} counted{family}, "
             f"chosen {run['chosen']}, net Sharpe {run['sharpe']}, verdict "
-            f"**{run['verdict']}**.{changed}{run['rest']}")
+            f"{run['verdict']}.{changed}{run['rest']}")
 
 
 def _stage(text: str) -> str:
@@ -102,7 +102,7 @@ def _stage(text: str) -> str:
     if stage is None:
         return text
     reason = stage["reason"].strip()
-    return (f"Moved from {stage['old']} to **{stage['new']}**"
+    return (f"Moved from {stage['old']} to {stage['new']}"
             + (f": {reason}" if reason else "."))
 
 
@@ -122,7 +122,7 @@ def _review(text: str) -> str:
         ticked = (f"{len(ticks) - len(missing)} of {len(ticks)} {what} items ticked; not "
                   "ticked: " + "; ".join(f"\u201c{q}\u201d" for q in missing))
     comments = f" Comments: {review['comments']}" if review["comments"] else ""
-    return f"**{review['decision']}**{review['own'] or ''}; {ticked}.{comments}"
+    return f"{review['decision']}{review['own'] or ''}; {ticked}.{comments}"
 
 
 def _edit(text: str) -> str:

@@ -4,7 +4,7 @@ sentences, links opened in the browser), a note box and stage changes with a rea
 from __future__ import annotations
 
 from PySide6.QtCore import Qt, QUrl
-from PySide6.QtGui import QDesktopServices
+from PySide6.QtGui import QDesktopServices, QTextCursor
 from PySide6.QtWidgets import (
     QComboBox,
     QGroupBox,
@@ -100,8 +100,8 @@ class JournalPanel(IdeaSection):
         self.setEnabled(True)
         self.entries = self.catalogue.journal(idea_id)
         self.view.setHtml(timeline_html(self.entries))
-        bar = self.view.verticalScrollBar()
-        bar.setValue(bar.maximum())
+        self.view.moveCursor(QTextCursor.MoveOperation.End)  # the newest entry in sight
+        self.view.ensureCursorVisible()
         stage = self.catalogue.idea(idea_id).stage
         self.current_stage.setText(f"Now <b>{stage}</b>")
         self.stage.clear()
