@@ -6,8 +6,9 @@ Options
 ``--demo``
     Copy the demo desk (its catalogue and invented data; built on a worker into the user
     cache folder the first time a version starts, with progress in the status bar) into a
-    temporary folder and open the window on it (removed when the window closes). You act as
-    the invented desk's research lead unless ``$HUNCHBOOK_USER`` names someone.
+    temporary folder and open the window on it (removed when the window closes, and on
+    SIGINT or SIGTERM, which close the window). You act as the invented desk's research lead
+    unless ``$HUNCHBOOK_USER`` names someone.
 ``--catalogue PATH``
     The catalogue file (default: the last one opened, else
     :func:`hunchbook.catalogue.default_catalogue_path`).
@@ -19,6 +20,10 @@ Options
     ``--idea ID`` and ``--section idea|rules|runs|journal|review`` choose what it shows.
 ``--size WxH``
     Window size in pixels.
+
+The options are listed once, in :mod:`hunchbook.window_options` (``hunchbook --help`` shows
+them too). Without a display (Linux: no ``DISPLAY`` or ``WAYLAND_DISPLAY``, and no
+``QT_QPA_PLATFORM``) one line on stderr says how to run headless and the exit status is 2.
 """
 
 from __future__ import annotations
