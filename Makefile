@@ -1,19 +1,28 @@
-# The two everyday commands: `make demo` and `make test`. Each sets up its own virtualenv.
-VENV   := .venv
-PY     := $(VENV)/bin/python
-STAMP  := $(VENV)/.installed-$(shell python3 -c "import hashlib,sys;print(hashlib.sha1(open('pyproject.toml','rb').read()).hexdigest()[:12])")
+# The two everyday commands: `make demo` and `make test`. Each sets up its own virtualenv:
+# `make demo` installs only what the window needs, `make test` adds the test tools.
+VENV       := .venv
+PY         := $(VENV)/bin/python
+HASH       := $(shell python3 -c "import hashlib,sys;print(hashlib.sha1(open('pyproject.toml','rb').read()).hexdigest()[:12])")
+STAMP      := $(VENV)/.installed-$(HASH)
+DEMO_STAMP := $(VENV)/.demo-$(HASH)
 
 .PHONY: demo test setup
 
 setup: $(STAMP)
 
-$(STAMP): pyproject.toml
+$(VENV)/bin/python:
 	python3 -m venv $(VENV)
 	$(PY) -m pip install --quiet --disable-pip-version-check --upgrade pip
+
+$(STAMP): pyproject.toml $(VENV)/bin/python
 	$(PY) -m pip install --quiet --disable-pip-version-check -e '.[test]'
 	rm -f $(VENV)/.installed-* && touch $(STAMP)
 
-demo: $(STAMP)
+$(DEMO_STAMP): pyproject.toml $(VENV)/bin/python
+	$(PY) -m pip install --quiet --disable-pip-version-check -e .
+	rm -f $(VENV)/.demo-* && touch $(DEMO_STAMP)
+
+demo: $(DEMO_STAMP)
 	$(VENV)/bin/hunchbook --demo
 
 test: $(STAMP)

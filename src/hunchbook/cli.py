@@ -28,6 +28,7 @@ from hunchbook.cli_settings import register as register_settings_commands
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.plain import json_safe
 from hunchbook.core.verdict import CAUTION
+from hunchbook.window_options import WINDOW_FLAGS, add_window_options
 
 if TYPE_CHECKING:
     from hunchbook.api import SetResult
@@ -35,9 +36,6 @@ if TYPE_CHECKING:
     from hunchbook.core.sweep import SweepRunner
     from hunchbook.core.sweep_estimate import SweepEstimate
 
-#: Options that open the desktop window instead of running a command.
-WINDOW_OPTIONS = ("--demo", "--catalogue", "--data", "--screenshot", "--idea", "--section",
-                  "--size")
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -46,7 +44,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     With no command (or only window options such as ``--demo``) it opens the desktop window.
     """
     argv = list(sys.argv[1:] if argv is None else argv)
-    if not argv or argv[0].split("=")[0] in WINDOW_OPTIONS:
+    if not argv or argv[0].split("=")[0] in WINDOW_FLAGS:
         from hunchbook.gui.app import main as window_main
 
         return window_main(argv)
@@ -71,8 +69,12 @@ def main(argv: Sequence[str] | None = None) -> int:
 
 def _build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
-        prog="hunchbook", description="Research journal and quick-run backtests for futures ideas.")
+        prog="hunchbook", usage="hunchbook [WINDOW OPTIONS] | hunchbook COMMAND ...",
+        description="Research journal and quick-run backtests for futures ideas. Without a "
+                    "command it opens the desktop window.")
     parser.add_argument("--version", action="version", version=f"hunchbook {__version__}")
+    add_window_options(parser.add_argument_group(
+        "the desktop window (given instead of a command)"))
     commands = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
 
     run = commands.add_parser(

@@ -18,6 +18,8 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from hunchbook.core.verdict import LABELS
+from hunchbook.core.when import readable_time
+from hunchbook.store.entry_text import kind_label, sentence
 from hunchbook.store.errors import CatalogueError, DamagedCatalogue
 from hunchbook.store.vocab import (
     BY_AUTHOR,
@@ -497,8 +499,8 @@ def _entry_line(e: Any) -> str:
     about = f"idea {e.idea_id}" if e.idea_id is not None else "general"
     note = f" (corrects {e.corrects})" if e.corrects else ""
     note += f" [corrected by {e.corrected_by}]" if e.corrected_by else ""
-    return f"  #{e.id}  {e.at[:16].replace('T', ' ')}  {about:>8}  {e.kind:<15} {e.by}: " \
-           f"{e.text}{note}"
+    return (f"  #{e.id}  {readable_time(e.at)}  {about:>8}  {kind_label(e.kind):<16} {e.by}: "
+            f"{sentence(e)}{note}")
 
 
 def _journal_correct(args: argparse.Namespace) -> int:

@@ -66,7 +66,9 @@ def test_report_carries_the_verdict_statistics_and_caution(report, runs):
         assert html.escape(reason) in text
     assert html.escape(CAUTION) in text
     assert run.data_fingerprint in text and run.engine_version in text
-    assert run.recorded_at in text
+    # the time as people read it, one format (ISO 8601 date, then hours:minutes in UTC)
+    assert run.recorded_at not in text
+    assert f"{run.recorded_at[:10]} {run.recorded_at[11:16]}" in text
     assert "Deflated Sharpe" in text and "Effective trials" in text
     # every check of the verdict, in order, with its figure and finding
     checks = text[text.index('<table class="checks">'):]

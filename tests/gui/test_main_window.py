@@ -430,7 +430,8 @@ def test_journal_note_and_confirmed_shelving(qtbot, window, monkeypatch):
     qtbot.keyClicks(panel.note, "Checked the inventory data source.")
     qtbot.mouseClick(panel.add, Qt.MouseButton.LeftButton)
     assert window.catalogue.journal(idea_id)[-1].text == "Checked the inventory data source."
-    assert panel.model.rowCount() == len(window.catalogue.journal(idea_id))
+    assert len(panel.entries) == len(window.catalogue.journal(idea_id))
+    assert "Checked the inventory data source." in panel.view.toPlainText()
 
     window.catalogue.set_stage(idea_id, "draft", by="Test Reviewer", reason="rework")
     panel.show_idea(idea_id)

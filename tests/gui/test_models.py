@@ -12,7 +12,6 @@ from hunchbook.gui.models import (
     ID_ROLE,
     SORT_ROLE,
     IdeaTableModel,
-    JournalModel,
     RunTableModel,
     verdict_label,
 )
@@ -40,14 +39,11 @@ def test_idea_model_passes_qt_model_checks(qtmodeltester, catalogue):
     qtmodeltester.check(filtered)
 
 
-def test_run_and_journal_models_pass_qt_model_checks(qtmodeltester, catalogue):
-    """The run and journal models pass Qt's model checks with real records."""
+def test_run_model_passes_qt_model_checks(qtmodeltester, catalogue):
+    """The run model passes Qt's model checks with real records."""
     runs = RunTableModel()
     runs.set_runs(catalogue.runs())
     qtmodeltester.check(runs)
-    journal = JournalModel()
-    journal.set_entries(catalogue.journal())
-    qtmodeltester.check(journal)
 
 
 def test_idea_model_shows_every_idea_with_verdict_labels(catalogue):
@@ -132,16 +128,3 @@ def test_run_model_shows_verdict_label_and_sharpe(catalogue):
         shown = model.index(row, RunTableModel.SHARPE).data()
         if run.chosen_net_sharpe is not None and math.isfinite(run.chosen_net_sharpe):
             assert shown == f"{run.chosen_net_sharpe:.2f}"
-
-
-def test_journal_model_marks_corrected_entries(catalogue):
-    """An entry that was corrected later is shown in italics with the correction as tip."""
-    entries = catalogue.journal()
-    corrected = next(e for e in entries if e.corrected_by is not None)
-    model = JournalModel()
-    model.set_entries(entries)
-    row = model.row_of(corrected.id)
-    index = model.index(row, JournalModel.TEXT)
-    assert index.data(Qt.ItemDataRole.FontRole).italic()
-    correction = catalogue.entry(corrected.corrected_by)
-    assert correction.text in index.data(Qt.ItemDataRole.ToolTipRole)

@@ -13,13 +13,14 @@ from html.parser import HTMLParser
 import pytest
 
 from hunchbook.catalogue import CHECKLIST, Catalogue
+from hunchbook.core.when import readable_time
 from hunchbook.gui.html_book import book_section
+from hunchbook.gui.journal_html import entry_html
 from hunchbook.gui.review_pack import (
     SECTIONS,
     pack_from_catalogue,
     pack_html,
     print_html,
-    readable_time,
     write_pack_html,
     write_pack_pdf,
 )
@@ -84,13 +85,13 @@ def test_the_pack_holds_rationale_reviews_runs_and_journal(pack) -> None:
     for question in CHECKLIST.values():  # every answer in words, beside its question
         assert f"Yes \u2014 {question}" in text
     assert "Comments: Go." in text
-    for entry in pack.journal:  # every entry, in words, with a readable time
-        assert html.escape(entry.text, quote=True) in page
+    for entry in pack.journal:  # every entry, in words (rendered), with a readable time
+        assert entry_html(entry) in page
         assert readable_time(entry.at) in text
     assert not re.search(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d", text)  # no raw timestamps
     assert [r.id for r in pack.runs] == [pack.runs[0].id, pack.run.id]
     assert "OUTSIDE" in text and pack.run.preregistration.finding in text
-    assert "Prepared 4 Mar 2025, 09:15 UTC" in text
+    assert "Prepared 2025-03-04 09:15" in text
     table = re.search(r'<table class="prereg">.*?</table>', page).group(0)
     versions = re.findall(r"<tr><td>(\d)</td><td>", table)
     assert versions == ["1", "2"]  # both pre-registration versions, with the amendment's reason

@@ -6,8 +6,9 @@ Options
 ``--demo``
     Copy the demo desk (its catalogue and invented data; built on a worker into the user
     cache folder the first time a version starts, with progress in the status bar) into a
-    temporary folder and open the window on it (removed when the window closes). You act as
-    the invented desk's research lead unless ``$HUNCHBOOK_USER`` names someone.
+    temporary folder and open the window on it (removed when the window closes, and on
+    SIGINT or SIGTERM, which close the window). You act as the invented desk's research lead
+    unless ``$HUNCHBOOK_USER`` names someone.
 ``--catalogue PATH``
     The catalogue file (default: the last one opened, else
     :func:`hunchbook.catalogue.default_catalogue_path`).
@@ -19,6 +20,10 @@ Options
     ``--idea ID`` and ``--section idea|rules|runs|journal|review`` choose what it shows.
 ``--size WxH``
     Window size in pixels.
+
+The options are listed once, in :mod:`hunchbook.window_options` (``hunchbook --help`` shows
+them too). Without a display (Linux: no ``DISPLAY`` or ``WAYLAND_DISPLAY``, and no
+``QT_QPA_PLATFORM``) one line on stderr says how to run headless and the exit status is 2.
 """
 
 from __future__ import annotations
@@ -27,6 +32,7 @@ import argparse
 import logging
 import os
 import shutil
+import signal
 import sys
 import tempfile
 import time
@@ -34,7 +40,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from PySide6.QtCore import QCoreApplication, QEventLoop, Qt
+from PySide6.QtCore import QCoreApplication, QEventLoop, Qt, QTimer
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication
 
@@ -43,6 +49,10 @@ from hunchbook.gui.feedback import USER_ENV, install_excepthook
 from hunchbook.gui.main_window import MainWindow
 from hunchbook.gui.sections.registry import section_names
 from hunchbook.gui.workers import DemoDeskWorker
+from hunchbook.window_options import add_window_options, display_missing
+
+#: Signals that close the window like its close button (the demo's folder is removed).
+STOP_SIGNALS = (signal.SIGINT, signal.SIGTERM)
 
 #: Longest wait for the demo data before a screenshot is taken (ms).
 DEMO_DATA_TIMEOUT_MS = 120_000
@@ -59,6 +69,8 @@ class Session:
     started_at: float = field(default_factory=time.perf_counter)
     #: The quick runs' worker processes (started once the window shows, closed at the end).
     pool: WarmPool | None = None
+    #: Lets Python see SIGINT/SIGTERM while Qt's loop waits (see :func:`quit_on_signals`).
+    signal_timer: QTimer | None = None
 
     def wait_for_demo_data(self, timeout_ms: int = DEMO_DATA_TIMEOUT_MS) -> bool:
         """Run the event loop until the demo catalogue and data are written (True) or the
@@ -73,9 +85,13 @@ class Session:
                                          and self.window.data_folder is not None)
 
     def cleanup(self) -> None:
-        """Remove the demo's temporary folder and stop the quick runs' worker processes."""
+        """Remove the demo's temporary folder (once its copy has stopped writing there) and
+        stop the quick runs' worker processes."""
         if self.pool is not None:
             self.pool.close()
+        for worker in self.demo_workers:
+            worker.cancel()
+            worker.done.wait()
         if self.temp_dir is not None:
             shutil.rmtree(self.temp_dir, ignore_errors=True)
             self.temp_dir = None
@@ -85,27 +101,8 @@ def parse_args(argv: Sequence[str] | None = None) -> argparse.Namespace:
     """Parse the window's command-line options (see the module docstring)."""
     parser = argparse.ArgumentParser(
         prog="hunchbook", description="Open Hunchbook's desktop window.")
-    parser.add_argument("--demo", action="store_true",
-                        help="open a temporary copy of the invented demo desk and data")
-    parser.add_argument("--catalogue", type=Path, help="catalogue file to open")
-    parser.add_argument("--data", type=Path, help="data folder of price files")
-    parser.add_argument("--screenshot", type=Path, metavar="PATH",
-                        help="save the window as PNG after loading, then exit")
-    parser.add_argument("--idea", type=int, help="idea to show (with --screenshot or not)")
-    parser.add_argument("--section", choices=section_names(), help="section to show")
-    parser.add_argument("--size", type=_size, metavar="WxH", help="window size, e.g. 1400x900")
+    add_window_options(parser, section_names())
     return parser.parse_args(list(argv) if argv is not None else None)
-
-
-def _size(text: str) -> tuple[int, int]:
-    try:
-        width, height = (int(part) for part in text.lower().split("x"))
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected WIDTHxHEIGHT such as 1400x900, got "
-                                         f"'{text}'") from None
-    if not (200 <= width <= 10_000 and 200 <= height <= 10_000):
-        raise argparse.ArgumentTypeError("width and height must be between 200 and 10000")
-    return width, height
 
 
 def application(argv: Sequence[str] = ()) -> QApplication:
@@ -215,12 +212,38 @@ def take_screenshot(session: Session, path: Path) -> bool:
     return window.grab().save(str(path), "PNG")
 
 
+def quit_on_signals(app: QApplication) -> QTimer:
+    """Quit the event loop on SIGINT or SIGTERM, so that the clean-up after it runs (the
+    returned timer lets Python see a signal while Qt's loop waits; keep it alive)."""
+    def stop(_number: int, _frame: object) -> None:
+        QTimer.singleShot(0, app.quit)  # queued: quits the loop even before it has started
+
+    for number in STOP_SIGNALS:
+        signal.signal(number, stop)
+    timer = QTimer(app)
+    timer.timeout.connect(lambda: None)
+    timer.start(200)
+    return timer
+
+
 def main(argv: list[str] | None = None) -> int:
-    """Open the window (see the module docstring for the options); returns the exit status."""
+    """Open the window (see the module docstring for the options); returns the exit status
+    (2 with one line on stderr when there is no display)."""
     options = parse_args(argv)
+    if options.screenshot is not None:
+        os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+    missing = display_missing()
+    if missing is not None:
+        print(f"hunchbook: {missing}", file=sys.stderr)
+        return 2
     logging.basicConfig(level=logging.WARNING, format="%(levelname)s %(name)s: %(message)s")
     session = start(options)
+    before = {number: signal.getsignal(number) for number in STOP_SIGNALS}
     try:
+        session.signal_timer = quit_on_signals(session.app)
+        if session.temp_dir is not None:
+            print(f"Demo desk in {session.temp_dir} (removed when the window closes).",
+                  flush=True)
         if options.screenshot is not None:
             written = take_screenshot(session, options.screenshot)
             session.window.close()
@@ -235,3 +258,5 @@ def main(argv: list[str] | None = None) -> int:
         return int(session.app.exec())
     finally:
         session.cleanup()
+        for number, handler in before.items():
+            signal.signal(number, handler)

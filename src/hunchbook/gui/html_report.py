@@ -23,6 +23,7 @@ from hunchbook.core.presenter import (
     set_table,
 )
 from hunchbook.core.verdict import CAUTION, Check
+from hunchbook.core.when import readable_time
 from hunchbook.gui.charts.result_charts import ResultCharts
 from hunchbook.gui.charts.run_figures import (
     FigureRow,
@@ -163,7 +164,8 @@ def _holdout_section(run: RunRecord, held_out: HoldoutView | None) -> str:
     f = held_out.figures
     also = ("" if held_out.run_id == run.id else
             f" These figures continue run {held_out.run_id}, not this run.")
-    return (f"<p>Unlocked by {_e(held_out.seen_by)} on {_e(held_out.seen_at)}: rule revision "
+    seen = readable_time(held_out.seen_at)
+    return (f"<p>Unlocked by {_e(held_out.seen_by)} on {_e(seen)}: rule revision "
             f"{_e(held_out.revision_number)}, set {_e(format_params(held_out.chosen_params))} "
             f"(run {_e(held_out.run_id)}), run once on the held-out dates {_e(f.first_date)} "
             f"to {_e(f.last_date)}.{_e(also)}</p>"
@@ -249,7 +251,7 @@ def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str,
                           "run.") if result else ""
     sets_html = _table(set_table(result), "No parameter sets were recorded for this "
                        "run.") if result else ""
-    provenance_html = record_html(run, recorded_at=run.recorded_at)
+    provenance_html = record_html(run, recorded_at=readable_time(run.recorded_at))
     return f"""<!DOCTYPE html>
 <html lang="en">
 <head>
@@ -260,7 +262,8 @@ def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str,
 </head>
 <body>
 <h1>{_e(idea.title)}</h1>
-<p class="meta">Run {_e(run.id)} of {_e(run.recorded_at)} by {_e(run.recorded_by)}; rules
+<p class="meta">Run {_e(run.id)} of {_e(readable_time(run.recorded_at))} by
+{_e(run.recorded_by)}; rules
 revision {_e(run.revision_number)}; {_e(run.set_count)} parameter sets; {_e(run.trial_count)}
 trials counted for the idea.</p>
 {_prereg_flag(run)}

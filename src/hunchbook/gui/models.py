@@ -1,6 +1,7 @@
-"""Qt item models over the catalogue's records: ideas, runs and journal entries.
+"""Qt item models over the catalogue's records: ideas and runs (the journal is a timeline of
+rendered entries: :mod:`hunchbook.gui.journal_html`).
 
-The run and journal models are thin adapters over lists of the catalogue's frozen records.
+The run model is a thin adapter over lists of the catalogue's frozen records.
 Each model keeps display text and raw sort values apart (``SORT_ROLE`` gives the raw value:
 numbers stay numbers, missing values sort last).
 
@@ -27,8 +28,9 @@ from PySide6.QtCore import (
 from PySide6.QtGui import QColor, QFont
 
 from hunchbook.core.verdict import LABELS
+from hunchbook.core.when import readable_time
 from hunchbook.gui.charts.run_figures import verdict_text
-from hunchbook.store.records import Entry, IdeaSummary, RunRecord
+from hunchbook.store.records import IdeaSummary, RunRecord
 
 if TYPE_CHECKING:
     from hunchbook.catalogue import Catalogue
@@ -48,11 +50,6 @@ def verdict_label(outcome: str | None) -> str:
     if not outcome:
         return ""
     return LABELS.get(outcome, outcome)
-
-
-def short_time(stamp: str | None) -> str:
-    """A stored UTC timestamp as ``YYYY-MM-DD HH:MM`` ('' for none)."""
-    return "" if not stamp else stamp[:16].replace("T", " ")
 
 
 def format_sharpe(value: float | None) -> str:
@@ -350,7 +347,7 @@ class IdeaTableModel(_RecordTableModel):
     def _tooltip(self, idea: IdeaSummary, column: int) -> Any:
         markets = ", ".join(idea.markets) or "no markets yet"
         return (f"{idea.title}\n{idea.hypothesis}\n\nBy {idea.submitted_by} \u00b7 {markets}"
-                f" \u00b7 updated {short_time(idea.updated_at)}")
+                f" \u00b7 updated {readable_time(idea.updated_at)}")
 
     def _is_number(self, column: int) -> bool:
         return column in (self.SHARPE, self.TRIALS)
@@ -379,7 +376,7 @@ class RunTableModel(_RecordTableModel):
         if column == self.RUN:
             return str(run.id)
         if column == self.RECORDED:
-            return short_time(run.recorded_at)
+            return readable_time(run.recorded_at)
         if column == self.REVISION:
             return str(run.revision_number)
         if column == self.SETS:
@@ -430,51 +427,3 @@ def prereg_label(run: RunRecord) -> str:
     if prereg is None:
         return "not checked"
     return "within" if prereg.within else "\u26a0 outside"
-
-
-class JournalModel(_RecordTableModel):
-    """An idea's journal, oldest first: when, kind, by whom, text. Entries that were later
-    corrected show in italics with the correction in their tooltip."""
-
-    COLUMNS = ("When", "Kind", "By", "Entry")
-    WHEN, KIND, BY, TEXT = range(4)
-
-    def __init__(self, parent: Any = None) -> None:
-        super().__init__(parent)
-        self._by_id: dict[int, Entry] = {}
-
-    def set_entries(self, entries: Sequence[Entry]) -> None:
-        """Show these entries."""
-        self._by_id = {e.id: e for e in entries}
-        self.set_records(entries)
-
-    def entry_at(self, row: int) -> Entry:
-        """The entry on ``row``."""
-        return self._rows[row]
-
-    def _display(self, entry: Entry, column: int) -> Any:
-        if column == self.WHEN:
-            return short_time(entry.at)
-        if column == self.KIND:
-            return entry.kind
-        if column == self.BY:
-            return entry.by
-        if entry.corrects is not None:
-            return f"(correcting entry {entry.corrects}) {entry.text}"
-        return entry.text
-
-    def _raw(self, entry: Entry, column: int) -> Any:
-        return entry.at if column == self.WHEN else self._display(entry, column)
-
-    def _tooltip(self, entry: Entry, column: int) -> Any:
-        if entry.corrected_by is not None:
-            later = self._by_id.get(entry.corrected_by)
-            return f"Corrected later: {later.text}" if later else "Corrected later."
-        return entry.text if column == self.TEXT else None
-
-    def _extra(self, entry: Entry, column: int, role: int) -> Any:
-        if role == Qt.ItemDataRole.FontRole and entry.corrected_by is not None:
-            font = QFont()
-            font.setItalic(True)
-            return font
-        return None

@@ -31,6 +31,7 @@ from hunchbook.core.errors import HunchbookError
 from hunchbook.core.prereg import describe_space
 from hunchbook.core.presenter import market_table, set_table
 from hunchbook.core.verdict import CAUTION
+from hunchbook.core.when import readable_time
 from hunchbook.gui.charts.run_figures import (
     format_params,
     performance_rows,
@@ -50,6 +51,8 @@ from hunchbook.gui.html_report import (
     record_html,
     render_chart_images,
 )
+from hunchbook.gui.journal_html import entry_html
+from hunchbook.store.entry_text import kind_label
 from hunchbook.store.records import (
     Entry,
     HoldoutView,
@@ -158,20 +161,6 @@ def ensure_application() -> object:
 #: A section of the pack: its heading, whether it starts a new printed page, and the function
 #: that renders its body (None: the section is left out).
 Section = tuple[str, bool, Callable[[ReviewPack], str | None]]
-
-
-def readable_time(stamp: str | None, *, time: bool = True) -> str:
-    """A stored timestamp (ISO 8601, UTC) as ``13 Jan 2025, 17:01 UTC`` (``13 Jan 2025``
-    without ``time``; '' for none)."""
-    if not stamp:
-        return ""
-    try:
-        moment = dt.datetime.fromisoformat(stamp.replace("Z", "+00:00"))
-    except ValueError:
-        return stamp
-    if moment.tzinfo is not None:
-        moment = moment.astimezone(dt.UTC)
-    return f"{moment.day} {moment:%b %Y}" + (f", {moment:%H:%M} UTC" if time else "")
 
 
 def _summary(pack: ReviewPack) -> str:
@@ -332,8 +321,8 @@ def _journal(pack: ReviewPack) -> str:
         if entry.corrected_by:
             note += f" (corrected by entry {entry.corrected_by})"
         rows.append(f'<tr><td class="when">{_e(readable_time(entry.at))}</td>'
-                    f"<td>{_e(entry.by)}</td><td>{_e(entry.kind)}</td>"
-                    f'<td><span class="text">{_e(entry.text)}</span>{_e(note)}</td></tr>')
+                    f"<td>{_e(entry.by)}</td><td>{_e(kind_label(entry.kind))}</td>"
+                    f'<td><div class="text">{entry_html(entry)}</div>{_e(note)}</td></tr>')
     return ('<table class="journal"><thead><tr><th>When</th><th>Who</th><th>Kind</th>'
             "<th>Entry</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>")
 

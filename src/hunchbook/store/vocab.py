@@ -30,10 +30,27 @@ RATIONALE_KINDS = ("risk_premium", "behavioural", "structural", "other")
 #: Where an idea came from.
 SOURCE_KINDS = ("own", "paper", "book", "web", "colleague")
 
+#: How each kind of rationale and of source reads (the idea form, the journal).
+RATIONALE_LABELS = {"risk_premium": "Risk premium", "behavioural": "Behavioural",
+                    "structural": "Structural or flow", "other": "Other"}
+SOURCE_LABELS = {"own": "Own idea", "paper": "Paper", "book": "Book", "web": "Web",
+                 "colleague": "Colleague"}
+
+#: How each editable field of an idea reads in the journal's sentences.
+FIELD_LABELS = {"title": "Title", "hypothesis": "Hypothesis", "rationale": "Rationale",
+                "rationale_kind": "Kind of rationale", "source_kind": "Source",
+                "citation": "Citation", "link": "Link", "reviewer": "Reviewer",
+                "markets": "Markets", "tags": "Tags"}
+
 #: Kinds of journal entry. ``stage``, ``run``, ``review``, ``edit`` and ``preregistration``
 #: entries are written by the catalogue itself; ``correction`` entries amend an earlier entry.
 ENTRY_KINDS = ("note", "decision", "review", "run", "stage", "edit", "preregistration",
                "correction")
+
+#: How each kind of journal entry reads (the window, the review pack, the command line).
+ENTRY_KIND_LABELS = {"note": "Note", "decision": "Decision", "review": "Review", "run": "Run",
+                     "stage": "Stage", "edit": "Edit", "preregistration": "Pre-registration",
+                     "correction": "Correction"}
 
 #: Kinds a person may write directly with ``add_entry``.
 USER_ENTRY_KINDS = ("note", "decision")

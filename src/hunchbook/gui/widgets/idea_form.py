@@ -40,16 +40,15 @@ from hunchbook.gui.sections.base import IdeaSection, SectionContext
 from hunchbook.gui.widgets.family_panel import FamilyPanel
 from hunchbook.store.records import Idea
 from hunchbook.store.revisions import analyse
-from hunchbook.store.vocab import RATIONALE_KINDS, SOURCE_KINDS
+from hunchbook.store.vocab import (
+    RATIONALE_KINDS,
+    RATIONALE_LABELS,
+    SOURCE_KINDS,
+    SOURCE_LABELS,
+)
 
 #: Quiet time after the last edit before the idea is saved (ms).
 AUTOSAVE_DELAY_MS = 700
-
-RATIONALE_LABELS = {"risk_premium": "Risk premium", "behavioural": "Behavioural",
-                    "structural": "Structural or flow", "other": "Other"}
-SOURCE_LABELS = {"own": "Own idea", "paper": "Paper", "book": "Book", "web": "Web",
-                 "colleague": "Colleague"}
-
 
 class MarketPicker(QListWidget):
     """Checkable markets: the data folder's market library plus any market already chosen

@@ -1,27 +1,28 @@
-"""The Journal section: an idea's timeline, a note box and stage changes with a reason."""
+"""The Journal section: an idea's timeline (notes rendered from Markdown, automatic entries as
+sentences, links opened in the browser), a note box and stage changes with a reason."""
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt
+from PySide6.QtCore import Qt, QUrl
+from PySide6.QtGui import QDesktopServices, QTextCursor
 from PySide6.QtWidgets import (
-    QAbstractItemView,
     QComboBox,
     QGroupBox,
     QHBoxLayout,
-    QHeaderView,
     QLabel,
     QLineEdit,
     QPlainTextEdit,
     QPushButton,
-    QTableView,
+    QTextBrowser,
     QVBoxLayout,
     QWidget,
 )
 
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.feedback import one_line
-from hunchbook.gui.models import JournalModel
+from hunchbook.gui.journal_html import timeline_html
 from hunchbook.gui.sections.base import IdeaSection
+from hunchbook.store.records import Entry
 from hunchbook.store.vocab import TRANSITIONS
 
 #: Stage changes that need a confirmation (they put an idea away).
@@ -29,34 +30,25 @@ DESTRUCTIVE_STAGES = ("shelved",)
 
 
 class JournalPanel(IdeaSection):
-    """The Journal section: timeline of one idea's journal, with "Add note" and "Change
-    stage" (shelving asks the context's ``confirm`` first); ``idea_changed`` follows each
-    entry written."""
+    """The Journal section: timeline of one idea's journal (``entries``, shown in ``view``),
+    with "Add note" (Markdown) and "Change stage" (shelving asks the context's ``confirm``
+    first); ``idea_changed`` follows each entry written."""
 
     key = "journal"
     tab_title = "Journal"
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self.model = JournalModel(self)
-        self.table = QTableView(self)
-        self.table.setObjectName("journalTable")
-        self.table.setModel(self.model)
-        self.table.setWordWrap(True)
-        self.table.setAlternatingRowColors(True)
-        self.table.setShowGrid(False)
-        self.table.verticalHeader().hide()
-        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
-        self.table.setVerticalScrollMode(QAbstractItemView.ScrollMode.ScrollPerPixel)
-        header = self.table.horizontalHeader()
-        for column in range(3):
-            header.setSectionResizeMode(column, QHeaderView.ResizeMode.ResizeToContents)
-        header.setSectionResizeMode(JournalModel.TEXT, QHeaderView.ResizeMode.Stretch)
-        header.sectionResized.connect(lambda *_: self.table.resizeRowsToContents())
+        self.entries: list[Entry] = []
+        self.view = QTextBrowser(self)
+        self.view.setObjectName("journalView")
+        self.view.setOpenLinks(False)  # links open in the browser, never inside the view
+        self.view.anchorClicked.connect(self.open_link)
 
         self.note = QPlainTextEdit(self)
         self.note.setObjectName("noteEdit")
-        self.note.setPlaceholderText("Write a note: what you saw, what you will try next\u2026")
+        self.note.setPlaceholderText("Write a note: what you saw, what you will try next\u2026 "
+                                     "(Markdown: *italic*, **bold**, [link](https://\u2026))")
         self.note.setMaximumHeight(80)
         self.note.setTabChangesFocus(True)
         self.decision = QComboBox(self)
@@ -92,7 +84,7 @@ class JournalPanel(IdeaSection):
         stage_row.addWidget(self.reason, 1)
         stage_row.addWidget(self.move)
         layout = QVBoxLayout(self)
-        layout.addWidget(self.table, 1)
+        layout.addWidget(self.view, 1)
         layout.addWidget(notes)
         layout.addWidget(stages)
         self.setEnabled(False)
@@ -101,13 +93,15 @@ class JournalPanel(IdeaSection):
         """Show an idea's journal and the stages it may move to (None clears)."""
         self.idea_id = idea_id
         if idea_id is None or self.catalogue is None:
-            self.model.set_entries([])
+            self.entries = []
+            self.view.clear()
             self.setEnabled(False)
             return
         self.setEnabled(True)
-        self.model.set_entries(self.catalogue.journal(idea_id))
-        self.table.resizeRowsToContents()
-        self.table.scrollToBottom()
+        self.entries = self.catalogue.journal(idea_id)
+        self.view.setHtml(timeline_html(self.entries))
+        self.view.moveCursor(QTextCursor.MoveOperation.End)  # the newest entry in sight
+        self.view.ensureCursorVisible()
         stage = self.catalogue.idea(idea_id).stage
         self.current_stage.setText(f"Now <b>{stage}</b>")
         self.stage.clear()
@@ -116,6 +110,10 @@ class JournalPanel(IdeaSection):
                 self.stage.addItem(target, target)
         self.stage.setEnabled(self.stage.count() > 0)
         self.move.setEnabled(self.stage.count() > 0)
+
+    def open_link(self, url: QUrl) -> None:
+        """Open a link of a note in the desktop's browser (or mail program)."""
+        QDesktopServices.openUrl(url)
 
     def add_note(self) -> bool:
         """Append the note box's text as a note or decision."""
