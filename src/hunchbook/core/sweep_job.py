@@ -315,7 +315,7 @@ def _run_sets(blocks: Sequence[tuple[Backtest, _Aggregator]], sets: Sequence[Par
             cost[i] += t @ cost_per_contract
             used[i] |= agg.used(out.first)
             contracts[i] += t.sum()
-            trades[i] += np.count_nonzero(t > 0)
+            trades[i] += np.count_nonzero(agg.by_day(out.trades))
     return DailyRows(gross=gross, cost=cost, used=used, trades=trades, contracts=contracts)
 
 
