@@ -170,6 +170,18 @@ def test_trades_are_position_changes_per_market_on_a_hand_built_matrix():
     assert out.trades[:, 0].tolist() == [False, True, False, True, False]
 
 
+def test_fractional_resizing_is_a_trade_only_when_the_whole_contracts_change():
+    # By hand: 0.2, 0.4, 0.7, 1.3, 1.4 contracts: whole contracts 0, 0, 1, 1, 1: one trade (bar
+    # 2), while 1.4 contracts were traded in all.
+    position = np.array([[0.2], [0.4], [0.7], [1.3], [1.4]])
+    traded = np.abs(np.diff(position, axis=0, prepend=0.0))
+    out = EngineOutput(panel=None, params={}, window=np.ones((5, 1), bool),  # type: ignore[arg-type]
+                       position=position, gross=np.zeros((5, 1)), traded=traded,
+                       first=np.zeros(1, dtype=int))
+    assert out.trades[:, 0].tolist() == [False, False, True, False, False]
+    assert traded.sum() == pytest.approx(1.4)
+
+
 RULES = """
 name = "Trades"
 markets = ["M1", "M2"]
@@ -190,9 +202,9 @@ def test_trade_count_of_a_run_matches_pandas_on_its_positions(tmp_path):
     study = Study.from_text(RULES, tmp_path)
     result = study.run_set({})
     table = result.pnl
-    # reference library: pandas: a trade is a change of a market's position from its day
-    # before (flat before the first row)
-    changes = sum(int((g["position"].diff().fillna(g["position"]) != 0).sum())
+    # reference library: pandas: a trade is a change of a market's position in whole
+    # contracts from its day before (flat before the first row)
+    changes = sum(int((g["position"].round().diff().fillna(g["position"].round()) != 0).sum())
                   for _, g in table.groupby("market"))
     p = result.metrics["portfolio"]
     assert p["trades"] == changes

@@ -78,12 +78,12 @@ def test_every_figure_in_currency_says_so_and_costs_give_both_sides(run) -> None
     perf = _rows(rows)
     p = record.chosen.performance
     # a round turn is a buy and a sell: twice the per-side cost (common practice, no source)
-    side = perf["Cost per contract (USD, per side)"][1]
+    side = perf["Cost per contract (USD/side)"][1]
     assert side == pytest.approx(daily["cost"].sum() / daily["contracts_traded"].sum())
-    assert perf["Cost per contract (USD, round turn)"][1] == pytest.approx(2 * side)
-    assert perf["Break-even cost per contract (USD, per side)"][1] == pytest.approx(
+    assert perf["Cost per contract (USD/round turn)"][1] == pytest.approx(2 * side)
+    assert perf["Break-even cost per contract (USD/side)"][1] == pytest.approx(
         p.break_even_cost)
-    assert perf["Break-even cost per contract (USD, round turn)"][1] == pytest.approx(
+    assert perf["Break-even cost per contract (USD/round turn)"][1] == pytest.approx(
         2 * p.break_even_cost)
     assert all("USD" in c.label for c in market_table(record).columns if c.kind == "money")
     assert all("USD" in c.label for c in set_table(record).columns if c.kind == "money")

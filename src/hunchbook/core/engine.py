@@ -7,8 +7,10 @@ Semantics, per market (t counts that market's own bars):
 - P&L on t = ``pos[t-1] * change[t] * multiplier``, ``change`` being the price change of the
   contract held at the close of t-1 (never the back-adjusted series);
 - contracts traded on t = ``|pos[t] - pos[t-1]|``, or ``|pos[t-1]| + |pos[t]|`` on a roll date;
-- a trade on t = a change of the market's position from t-1 (a roll that keeps the position
-  trades contracts but is not a trade: trades count decisions, contracts traded count volume);
+- a trade on t = a change of the market's position in whole contracts (rounded to the nearest
+  one) from t-1: one per market and day. A roll that keeps the position trades contracts but is
+  not a trade, nor is a fractional resizing (volatility target) that leaves the whole contracts
+  as they were: trades count tickets, contracts traded count volume;
 - cost = contracts traded x cost per contract; net = gross - cost;
 - rows start at the first bar on which the position is defined (and not before ``start``);
   an undefined position later on means flat.
@@ -61,12 +63,13 @@ class EngineOutput:
 
     @cached_property
     def trades(self) -> np.ndarray:
-        """True where a market's position changed from its bar before: one trade per market
-        and day (a roll that keeps the position is not one; nothing after the window)."""
-        pos = self.position
-        changed = np.empty(pos.shape, dtype=bool)
-        changed[0] = pos[0] != 0.0
-        np.not_equal(pos[1:], pos[:-1], out=changed[1:])
+        """True where a market's position in whole contracts (rounded to the nearest one)
+        changed from its bar before: one trade per market and day (a roll that keeps the
+        position is not one; nothing after the window)."""
+        whole = np.rint(self.position)
+        changed = np.empty(whole.shape, dtype=bool)
+        changed[0] = whole[0] != 0.0
+        np.not_equal(whole[1:], whole[:-1], out=changed[1:])
         changed &= self.traded > 0.0
         return changed
 

@@ -28,15 +28,17 @@ MISSING = "—"
 #: The unit of figures in the run currency (replaced by its code: ``USD``).
 CURRENCY = "{currency}"
 #: Units of the cost figures per contract: one side (a buy or a sell) and a round turn (both).
-PER_SIDE = "{currency}, per side"
-ROUND_TURN = "{currency}, round turn"
+PER_SIDE = "{currency}/side"
+ROUND_TURN = "{currency}/round turn"
 #: Unit of shares of the capital.
 OF_CAPITAL = "% of capital"
 #: What a trade is, wherever trades are counted.
-TRADE_NOTE = ("A trade is a change of one market's position on one day (opening, adding, "
-              "reducing, closing or reversing); a roll that keeps the position trades contracts "
-              "but is not a trade. Contracts traded count every contract bought or sold, rolls "
-              "included.")
+TRADE_NOTE = ("A trade is a change of one market's position in whole contracts (rounded to "
+              "the nearest one) on one day: opening, adding, reducing, closing or reversing. A "
+              "roll that keeps the position is not a trade, nor is a fractional resizing that "
+              "leaves the whole contracts as they were (volatility targeting resizes a little "
+              "most days). Contracts traded count every contract bought or sold, rolls and "
+              "fractions included.")
 #: Why the set table's Sharpe ratio and the statistics' one differ.
 SHARPE_NOTE = ("Over the set's own history (every day it has a result). The statistics use "
                "only the days every set shares, so that all sets are judged on the same days; "
@@ -167,7 +169,7 @@ PERFORMANCE_FIGURES: list[Figure[Performance]] = [
            "Twice the cost per side: buying and later selling one contract.",
            unit=ROUND_TURN),
     Figure("Cost share of gross", "pct", None, lambda p: p.cost_share_of_gross,
-           "Total cost / gross total P&L.", unit="% of gross P&L"),
+           "Total cost / gross total P&L.", unit="%"),
     Figure("Break-even cost per contract", "money", None, lambda p: p.break_even_cost,
            "Cost per contract per side at which net P&L would be zero (gross P&L / contracts "
            "traded).", unit=PER_SIDE),

@@ -53,7 +53,8 @@ class SweepRefused(HunchbookError):
 @dataclass(frozen=True, eq=False)
 class DailyRows:
     """Daily portfolio gross P&L, cost and used-day flags on the union of dates, one row per
-    set, with each set's market-days with a trade and contracts traded."""
+    set, with each set's trades (changes of whole contracts held, one per market and day)
+    and contracts traded."""
 
     gross: np.ndarray
     cost: np.ndarray

@@ -34,6 +34,7 @@ from hunchbook.gui.charts.run_figures import (
 )
 from hunchbook.gui.charts.theme import light_theme
 from hunchbook.gui.html_book import BOOK_CAPTION, book_section
+from hunchbook.gui.html_capital import capital_section, sets_note
 from hunchbook.gui.html_parts import escaped as _e
 from hunchbook.gui.html_parts import table_html as _table
 from hunchbook.store.records import HoldoutView, Idea, RunRecord
@@ -275,6 +276,7 @@ trials counted for the idea.</p>
 <h2>Chosen set over its whole history</h2>
 <p>Chosen set: {_e(format_params(dict(run.chosen_params)))}.</p>
 {_figures_table(performance_rows(run))}
+{capital_section(run)}
 <h2>How far to trust it (days all sets share)</h2>
 {_figures_table(statistic_rows(run), explained=True)}
 {notes_html}
@@ -288,6 +290,7 @@ trials counted for the idea.</p>
 {markets_html}
 <h2>Parameter sets</h2>
 {sets_html}
+{sets_note()}
 <h2>Rule file</h2>
 <pre>{_e(rule_text)}</pre>
 <h2>Run record</h2>
