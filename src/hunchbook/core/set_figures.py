@@ -45,8 +45,8 @@ class SetFigures:
 
     @property
     def trades_per_year(self) -> np.ndarray:
-        """Trades (changes of whole contracts held, one per market and day) per year of the set's own
-        history."""
+        """Trades (changes of whole contracts held, one per market and day) per year of the
+        set's own history."""
         with np.errstate(divide="ignore", invalid="ignore"):
             return self.trades / self.years
 
