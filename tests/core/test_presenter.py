@@ -80,10 +80,10 @@ def test_every_figure_in_currency_says_so_and_costs_give_both_sides(run) -> None
     # a round turn is a buy and a sell: twice the per-side cost (common practice, no source)
     side = perf["Cost per contract (USD/side)"][1]
     assert side == pytest.approx(daily["cost"].sum() / daily["contracts_traded"].sum())
-    assert perf["Cost per contract (USD/round turn)"][1] == pytest.approx(2 * side)
-    assert perf["Break-even cost per contract (USD/side)"][1] == pytest.approx(
+    assert perf["Cost per round turn (USD)"][1] == pytest.approx(2 * side)
+    assert perf["Break-even per contract (USD/side)"][1] == pytest.approx(
         p.break_even_cost)
-    assert perf["Break-even cost per contract (USD/round turn)"][1] == pytest.approx(
+    assert perf["Break-even per round turn (USD)"][1] == pytest.approx(
         2 * p.break_even_cost)
     assert all("USD" in c.label for c in market_table(record).columns if c.kind == "money")
     assert all("USD" in c.label for c in set_table(record).columns if c.kind == "money")
@@ -99,13 +99,16 @@ def test_capital_rows_and_the_year_table(run) -> None:  # noqa: F811
     assert perf["Annual return (% of capital)"][1] == pytest.approx(
         daily["net_pnl"].mean() * 252 / 50_000.0)
     assert perf["Capital (USD)"] == (None, 50_000.0)
+    dd = with_capital.capital.net_drawdown
+    length = next(k for k in perf if k.startswith("Max drawdown length (trading days"))
+    assert perf[length][1] == dd.length_days and ("still open" in length) == dd.open
     years = year_table(with_capital)
     sums = daily["net_pnl"].groupby(daily.index.year).sum()
     assert [name for name, _ in years.rows] == [str(y) for y in sums.index]
     assert [values[0] for _, values in years.rows] == pytest.approx(list(sums))
     assert [values[1] for _, values in years.rows] == pytest.approx(list(sums / 50_000.0))
     monthly = monthly_table(monthly_returns(daily["net_pnl"], 50_000.0), 50_000.0, "USD")
-    assert monthly.columns[-1].label == "Year (% of capital)"
+    assert monthly.columns[-1].label == "Total (% of capital)"
     assert [values[-1] for _, values in monthly.rows] == pytest.approx(list(sums / 50_000.0))
 
 

@@ -75,4 +75,4 @@ def test_without_daily_pnl_the_dialog_says_so(runs, qtbot):
 def test_the_report_carries_the_years_and_months(runs):
     page = report_html(idea=runs.idea, run=runs.two, rule_text="", images={})
     assert YEAR_HEADING in page and "Monthly net returns" in page
-    assert "Return (% of capital)" in page and "Break-even cost per contract (USD/side)" in page
+    assert "Return (% of capital)" in page and "Break-even per contract (USD/side)" in page

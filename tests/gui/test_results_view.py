@@ -68,7 +68,7 @@ def test_performance_table_holds_the_stored_portfolio_figures(view, runs, qtmode
                        ("Contracts per year (contracts)", "contracts_per_year"),
                        ("Total cost (USD)", "cost_total"),
                        ("Cost share of gross (%)", "cost_share_of_gross"),
-                       ("Break-even cost per contract (USD/side)", "break_even_cost")]:
+                       ("Break-even per contract (USD/side)", "break_even_cost")]:
         assert net[label] == getattr(portfolio, key)
         assert gross[label] is None
     # the stored totals are the sums of the stored daily P&L (reference: pandas sum)

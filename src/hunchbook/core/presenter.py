@@ -27,9 +27,8 @@ if TYPE_CHECKING:
 MISSING = "—"
 #: The unit of figures in the run currency (replaced by its code: ``USD``).
 CURRENCY = "{currency}"
-#: Units of the cost figures per contract: one side (a buy or a sell) and a round turn (both).
+#: Unit of the cost figures per contract and side (a buy or a sell; a round turn is both).
 PER_SIDE = "{currency}/side"
-ROUND_TURN = "{currency}/round turn"
 #: Unit of shares of the capital.
 OF_CAPITAL = "% of capital"
 #: What a trade is, wherever trades are counted.
@@ -164,27 +163,27 @@ PERFORMANCE_FIGURES: list[Figure[Performance]] = [
            lambda p: _per_contract(p.cost_total, p.contracts_traded),
            "Total cost / contracts traded: what one buy or one sell cost on average.",
            unit=PER_SIDE),
-    Figure("Cost per contract", "money", None,
+    Figure("Cost per round turn", "money", None,
            lambda p: _per_contract(p.cost_total, p.contracts_traded, 2),
-           "Twice the cost per side: buying and later selling one contract.",
-           unit=ROUND_TURN),
+           "Twice the cost per contract per side: buying and later selling one contract.",
+           unit=CURRENCY),
     Figure("Cost share of gross", "pct", None, lambda p: p.cost_share_of_gross,
            "Total cost / gross total P&L.", unit="%"),
-    Figure("Break-even cost per contract", "money", None, lambda p: p.break_even_cost,
+    Figure("Break-even per contract", "money", None, lambda p: p.break_even_cost,
            "Cost per contract per side at which net P&L would be zero (gross P&L / contracts "
            "traded).", unit=PER_SIDE),
-    Figure("Break-even cost per contract", "money", None,
+    Figure("Break-even per round turn", "money", None,
            lambda p: _per_contract(p.gross.total, p.contracts_traded, 2),
            "The break-even cost of a round turn (buying and later selling one contract): "
-           "twice the per-side figure.", unit=ROUND_TURN),
+           "twice the per-side figure.", unit=CURRENCY),
 ]
 
 
 def _length_label(figures: CapitalFigures) -> str:
-    open_sides = [side for side, dd in (("gross", figures.gross_drawdown),
-                                        ("net", figures.net_drawdown)) if dd.open]
-    label = "Max drawdown length"
-    return f"{label}, still open ({' and '.join(open_sides)})" if open_sides else label
+    gross, net = figures.gross_drawdown.open, figures.net_drawdown.open
+    still = {(True, True): ", still open", (False, True): ", net still open",
+             (True, False): ", gross still open"}.get((gross, net), "")
+    return f"Max drawdown length (trading days{still})"
 
 
 #: The chosen set against its capital (shown after the figures in currency).
@@ -204,8 +203,7 @@ CAPITAL_FIGURES: list[Figure[CapitalFigures]] = [
     Figure(_length_label, "count", lambda c: c.gross_drawdown.length_days,
            lambda c: c.net_drawdown.length_days,
            "Trading days from the peak before the largest fall to the first day back at that "
-           "peak, or to the last day when it never got back (still open).",
-           unit="trading days"),
+           "peak, or to the last day when it never got back (still open)."),
 ]
 
 #: How far to trust the chosen set, on the days every set shares.
@@ -299,10 +297,10 @@ MARKET_COLUMNS: list[Column[MarketFigures]] = [
     Column("Cost", "money", lambda m: m.cost_total, unit=CURRENCY),
     Column("Cost / contract", "money", lambda m: _per_contract(m.cost_total, m.contracts_traded),
            "What one buy or one sell of this market cost (fees and slippage).", unit=PER_SIDE),
-    Column("Cost / contract", "money",
+    Column("Round turn", "money",
            lambda m: _per_contract(m.cost_total, m.contracts_traded, 2),
            "Cost of buying and later selling one contract: twice the per-side cost.",
-           unit=ROUND_TURN),
+           unit=CURRENCY),
     Column("Break-even cost", "money", lambda m: m.break_even_cost,
            "Cost per contract per side at which the market's net P&L would be zero.",
            unit=PER_SIDE),
@@ -405,7 +403,7 @@ def monthly_table(table: pd.DataFrame, capital: float | None, currency: str = ""
     (fractions of ``capital``, or currency without one) with each year's total."""
     kind, unit = ("pct", OF_CAPITAL) if capital else ("money", CURRENCY)
     months = [Column(m, kind, lambda r, m=m: r[m]) for m in MONTHS]
-    total = Column("Year", kind, lambda r: r.sum(min_count=1), "The months' sum.", unit=unit)
+    total = Column("Total", kind, lambda r: r.sum(min_count=1), "The year's sum.", unit=unit)
     columns = _titled([*months, total], currency)
     return Table("Year", columns, tuple(
         (str(year), tuple(number(c.value(row)) for c in columns))
@@ -467,7 +465,7 @@ def format_params(params: Mapping[str, Any]) -> str:
 
 
 __all__ = ["CAPITAL_FIGURES", "CURRENCY", "MARKET_COLUMNS", "MISSING", "OF_CAPITAL",
-           "PERFORMANCE_FIGURES", "PER_SIDE", "ROUND_TURN", "SET_COLUMNS", "SHARPE_NOTE",
+           "PERFORMANCE_FIGURES", "PER_SIDE", "SET_COLUMNS", "SHARPE_NOTE",
            "STATISTIC_FIGURES", "TRADE_NOTE", "YEAR_COLUMNS", "Column", "Figure", "FigureRow",
            "Table", "capital_rows", "capital_sentence", "chosen_rows", "format_params",
            "format_value", "market_table", "monthly_table", "number", "performance_rows",

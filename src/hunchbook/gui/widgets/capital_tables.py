@@ -83,8 +83,8 @@ class MonthlyDialog(QDialog):
             self.note.setText(NO_DAILY)
         else:
             self.model.set_table(table)
-            self.note.setText(f"Net P&L per calendar month in {table.columns[-1].label[6:-1]}; "
-                              "the last column is the year's sum.")
+            self.note.setText(f"Net P&L per calendar month in {table.columns[-1].label[7:-1]}; "
+                              "Total is the year's sum.")
             self.view = _table_view(self.model)
             layout.addWidget(self.view)
         buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Close)
@@ -138,7 +138,8 @@ class CapitalTables(QWidget):
         self.table.resizeRowsToContents()
         rows = sum(self.table.rowHeight(r) for r in range(self.model.rowCount()))
         self.table.setFixedHeight(rows + self.table.horizontalHeader().sizeHint().height()
-                                  + 2 * self.table.frameWidth())
+                                  + self.table.horizontalScrollBar().sizeHint().height()
+                                  + 2 * self.table.frameWidth())  # room for a scroll bar
         self.monthly_button.setEnabled(run is not None and run.daily_pnl is not None)
         self.setVisible(result is not None)
 
