@@ -277,13 +277,14 @@ HOLDOUT_FIGURES: list[Figure[HoldoutFigures]] = [
            "Chance of a held-out Sharpe ratio this far below the in-sample one if the "
            "in-sample one were true (one-sided; Lo 2002 standard error)."),
     Figure("Days", "count", lambda f: f.in_sample_days, lambda f: f.days,
-           "Trading days measured."),
+           "Trading days measured.", unit="trading days"),
     Figure("Gross Sharpe", "ratio", None, lambda f: f.gross_sharpe,
            "Annualised Sharpe ratio before costs on the held-out dates."),
     Figure("Net P&L", "money", None, lambda f: f.net_total,
-           "Sum of daily net P&L on the held-out dates."),
+           "Sum of daily net P&L on the held-out dates.", unit=CURRENCY),
     Figure("Net drawdown", "money", None, lambda f: f.net_max_drawdown,
-           "Largest fall of cumulative net P&L from a running peak on the held-out dates."),
+           "Largest fall of cumulative net P&L from a running peak on the held-out dates.",
+           unit=CURRENCY),
 ]
 
 #: One row per market of the chosen set.
@@ -416,9 +417,9 @@ def statistic_rows(statistics: FirstPassStats) -> list[FigureRow]:
     return [f.row(statistics) for f in STATISTIC_FIGURES if f.applies(statistics)]
 
 
-def holdout_rows(figures: HoldoutFigures) -> list[FigureRow]:
+def holdout_rows(figures: HoldoutFigures, currency: str = "") -> list[FigureRow]:
     """The held-out figures beside the in-sample ones (columns: :data:`HOLDOUT_HEADERS`)."""
-    return [f.row(figures) for f in HOLDOUT_FIGURES]
+    return [f.row(figures, currency) for f in HOLDOUT_FIGURES]
 
 
 def market_table(run: RunSummary) -> Table:

@@ -168,7 +168,8 @@ def _holdout_section(run: RunRecord, held_out: HoldoutView | None) -> str:
             f"{_e(held_out.revision_number)}, set {_e(format_params(held_out.chosen_params))} "
             f"(run {_e(held_out.run_id)}), run once on the held-out dates {_e(f.first_date)} "
             f"to {_e(f.last_date)}.{_e(also)}</p>"
-            + _figures_table(holdout_rows(f), HOLDOUT_HEADERS) + f"<p>{_e(f.finding())}</p>")
+            + _figures_table(holdout_rows(f, run.result.currency if run.result else ""),
+                             HOLDOUT_HEADERS) + f"<p>{_e(f.finding())}</p>")
 
 
 #: How each check status reads in the report.
