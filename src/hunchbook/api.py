@@ -11,6 +11,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 import pandas as pd
 
+from hunchbook.core.capital_figures import capital_figures, resolve_capital
 from hunchbook.core.continuous import ContinuousSeries, build_continuous
 from hunchbook.core.data_quality import Finding, check_bars, quality_warnings, refuse_errors
 from hunchbook.core.engine import Backtest, EngineOutput
@@ -118,15 +119,20 @@ class SweepReport:
         return replace(self, verdict=decide(self.statistics, warnings=warnings))
 
     def summarise(self, chosen: SetResult, *, currency: str, data_folder: str,
-                  holdout_boundary: dt.date | None = None) -> RunSummary:
+                  holdout_boundary: dt.date | None = None,
+                  capital: float | None = None) -> RunSummary:
         """The run record: every set's figures, the chosen set in full (``chosen``, from
         :meth:`Study.run_set` on ``sets[self.chosen]``), the statistics and the verdict;
-        ``holdout_boundary`` the date the study's data were cut at, if any."""
+        ``holdout_boundary`` the date the study's data were cut at, if any. The chosen set's
+        figures against a capital use the rule's ``[sizing] capital``, else ``capital``
+        (:func:`hunchbook.core.capital_figures.resolve_capital`)."""
+        amount, source = resolve_capital(self.rules.sizing.capital, capital)
         return build_run_summary(
             name=self.rules.name, markets=self.rules.markets, currency=currency,
             data_folder=data_folder, parameter_sets=self.sets, set_figures=self.outcome.figures,
             chosen_metrics=chosen.metrics, statistics=self.statistics, verdict=self.verdict,
-            holdout_boundary=None if holdout_boundary is None else holdout_boundary.isoformat())
+            holdout_boundary=None if holdout_boundary is None else holdout_boundary.isoformat(),
+            capital=capital_figures(chosen.portfolio, amount, source))
 
 
 @dataclass(frozen=True)

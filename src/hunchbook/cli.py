@@ -93,6 +93,11 @@ def _build_parser() -> argparse.ArgumentParser:
                           "every declared set still runs and counts as a trial)")
     run.add_argument("--json", metavar="PATH", type=Path,
                      help="write parameters and per-market/portfolio metrics as JSON")
+    run.add_argument("--capital", type=_positive_number, metavar="AMOUNT",
+                     help="measure returns and drawdowns in %% of this capital (in the "
+                          "markets' currency) when the rule file's [sizing] gives none")
+    run.add_argument("--monthly", action="store_true",
+                     help="also print the chosen set's net returns month by month")
     run.add_argument("--pnl-csv", metavar="PATH", type=Path,
                      help="write the judged set's daily P&L, one row per (date, market)")
     run.add_argument("--workers", type=_positive_int, default=None, metavar="N",
@@ -165,6 +170,16 @@ def _build_parser() -> argparse.ArgumentParser:
     demo.add_argument("--seed", type=int, default=None, help="generator seed (default: fixed)")
     demo.set_defaults(handler=_cmd_demo_data)
     return parser
+
+
+def _positive_number(text: str) -> float:
+    try:
+        value = float(text.replace("_", ""))
+    except ValueError:
+        value = 0.0
+    if not value > 0 or value == float("inf"):
+        raise argparse.ArgumentTypeError(f"expected a number above 0, got {text!r}")
+    return value
 
 
 def _positive_int(text: str) -> int:
@@ -241,7 +256,8 @@ def _cmd_run(args: argparse.Namespace) -> int:
         report = study.sweep(pick=args.params or None, runner=runner,
                              progress=_progress_printer(n_sets), confirm=_confirmer(args))
     chosen = study.run_set(report.sets[report.chosen])
-    run = report.summarise(chosen, currency=study.panel.currency, data_folder=str(args.data))
+    run = report.summarise(chosen, currency=study.panel.currency, data_folder=str(args.data),
+                           capital=args.capital)
     _print_and_write(args, run, chosen)
     if args.params and n_sets > 1:
         print(f"The set judged was picked with --params out of the {n_sets:,} declared sets: "
@@ -264,7 +280,7 @@ def _run_for_idea(args: argparse.Namespace) -> int:
     with open_catalogue(args) as catalogue, _runner(args) as runner:
         outcome = run_idea(catalogue, args.idea, text, args.data, by=author(args),
                            rule_file=str(path), runner=runner, progress=_progress_printer(2),
-                           confirm=_confirmer(args))
+                           confirm=_confirmer(args), capital=args.capital)
     _print_and_write(args, outcome.summary, outcome.chosen)
     print(f"Recorded as run {outcome.run_id} of idea {args.idea} (rule revision "
           f"{outcome.revision_number}); the idea now counts {outcome.summary.statistics.n_trials} "
@@ -281,9 +297,16 @@ def _print_and_write(args: argparse.Namespace, run: RunSummary, chosen: SetResul
     from hunchbook.report import format_judgement, format_single, format_sweep
 
     print(format_single(run) if len(run.sets) == 1 else format_sweep(run))
-    if len(run.sets) > 1 and getattr(args, "params", None):  # the picked set in full
+    if len(run.sets) > 1:  # the chosen set in full: its figures against capital and years
         print()
         print(format_single(run))
+    if args.monthly:
+        from hunchbook.core.capital_figures import monthly_returns
+        from hunchbook.report import format_monthly
+
+        capital = None if run.capital is None else run.capital.capital
+        print()
+        print(format_monthly(run, monthly_returns(chosen.portfolio["net_pnl"], capital)))
     print()
     print(format_judgement(run))
     print(CAUTION)

@@ -1,6 +1,7 @@
 """Commands that prepare an idea for its committee: ``hunchbook ideas amend`` (the
-pre-registration, with a person's reason), ``hunchbook runs compare`` (two runs side by side)
-and ``hunchbook ideas pack`` (the review pack: HTML, and PDF).
+pre-registration, with a person's reason), ``hunchbook runs compare`` (two runs side by side),
+``hunchbook runs show`` (one run in full, with its year-by-year and monthly returns) and
+``hunchbook ideas pack`` (the review pack: HTML, and PDF).
 
 They join the ``ideas`` and ``runs`` groups of :mod:`hunchbook.cli_catalogue` and take its
 ``--catalogue PATH`` and ``--by NAME``. The pack draws its charts with the window's code,
@@ -67,6 +68,14 @@ def register(groups: dict[str, Any]) -> None:
             "the line-by-line difference of their rule files", _compare,
             "hunchbook runs compare 2 3", compare_args)
 
+    def show_args(p: argparse.ArgumentParser) -> None:
+        p.add_argument("run", type=int, metavar="RUN")
+        p.add_argument("--monthly", action="store_true",
+                       help="also the chosen set's net returns month by month")
+    command(groups["runs"], "show", "one recorded run in full: the chosen set's figures in "
+            "currency and in % of capital, its year-by-year table, statistics and verdict",
+            _show, "hunchbook runs show 3 --monthly", show_args)
+
 
 # -- handlers ------------------------------------------------------------------------------
 def _amend(args: argparse.Namespace) -> int:
@@ -105,6 +114,33 @@ def _compare(args: argparse.Namespace) -> int:
                          indent=1))
         return 0
     print(comparison_text(comparison, titles))
+    return 0
+
+
+def _show(args: argparse.Namespace) -> int:
+    from hunchbook.report import format_judgement, format_monthly, format_single
+
+    with open_catalogue(args, read_only=True) as cat:
+        run = cat.run(args.run)
+    if run.result is None:
+        raise CatalogueError(f"run {run.id} was recorded by an earlier version in another "
+                             "shape: it has no figures to show; run the idea again",
+                             field="runs")
+    print(f"Run {run.id} of idea {run.idea_id} (rule revision {run.revision_number}), "
+          f"{run.recorded_at[:16].replace('T', ' ')} by {run.recorded_by}")
+    print(format_single(run.result))
+    if args.monthly:
+        from hunchbook.core.capital_figures import monthly_returns
+
+        if run.daily_pnl is None or "net_pnl" not in run.daily_pnl:
+            raise CatalogueError(f"run {run.id} kept no daily P&L: no monthly returns",
+                                 field="runs")
+        figures = run.result.capital
+        print()
+        print(format_monthly(run.result, monthly_returns(
+            run.daily_pnl["net_pnl"], None if figures is None else figures.capital)))
+    print()
+    print(format_judgement(run.result))
     return 0
 
 

@@ -14,21 +14,29 @@ from hunchbook.core.book_presenter import (
 )
 from hunchbook.core.presenter import (
     HOLDOUT_HEADERS,
+    SHARPE_NOTE,
+    TRADE_NOTE,
     FigureRow,
     Table,
+    capital_sentence,
+    chosen_rows,
     format_params,
     format_value,
     holdout_rows,
     market_table,
-    performance_rows,
+    monthly_table,
     set_table,
+    sharpe_sentence,
     statistic_rows,
+    year_table,
 )
 from hunchbook.core.results import RunSummary
 from hunchbook.core.stats import FirstPassStats
 from hunchbook.core.verdict import Verdict
 
 if TYPE_CHECKING:
+    import pandas as pd
+
     from hunchbook.core.book import BookComparison
     from hunchbook.services import HoldoutPlan
     from hunchbook.store.records import HoldoutView
@@ -73,11 +81,25 @@ def format_single(run: RunSummary) -> str:
         f"Rows: {p.first_date} to {p.last_date} ({p.days:,} days, {p.years:.1f} years)    "
         f"Currency: {run.currency}",
         "",
-        *figures_text(performance_rows(p)),
+        *figures_text(chosen_rows(run)),
+        capital_sentence(run),
+        f"Trades: {TRADE_NOTE}",
         "",
         *table_text(market_table(run)),
     ]
+    years = year_table(run)
+    if years.rows:
+        lines += ["", "Year by year (net of costs):", *table_text(years)]
     return "\n".join(lines)
+
+
+def format_monthly(run: RunSummary, table: pd.DataFrame) -> str:
+    """The chosen set's net P&L per month (``table`` from
+    :func:`hunchbook.core.capital_figures.monthly_returns`), in % of capital when it has one."""
+    capital = None if run.capital is None else run.capital.capital
+    what = "in % of capital" if capital else f"in {run.currency}"
+    return "\n".join([f"Monthly net returns ({what}):",
+                      *table_text(monthly_table(table, capital, run.currency))])
 
 
 def format_sweep(run: RunSummary) -> str:
@@ -89,6 +111,7 @@ def format_sweep(run: RunSummary) -> str:
         f"{len(table.rows)} by net Sharpe ratio (currency {run.currency}).",
         "",
         *table_text(table),
+        f"Sharpe ratios: {SHARPE_NOTE}",
     ]
     return "\n".join(lines)
 
@@ -98,6 +121,9 @@ def format_judgement(run: RunSummary) -> str:
     params = run.chosen.params
     text = format_statistics(run.statistics, run.verdict,
                              chosen=format_params(params) if params else None)
+    sentence = sharpe_sentence(run)
+    if sentence is not None:
+        text = sentence + "\n" + text
     return text if run.book is None else f"{text}\n\n{format_book(run.book)}"
 
 

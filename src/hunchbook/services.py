@@ -124,7 +124,8 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
              data_folder: str | os.PathLike[str], *, by: str, rule_file: str | None = None,
              runner: SweepRunner | None = None, progress: Progress | None = None,
              cancel: CancelCheck | None = None, spa_reps: int = 1000,
-             confirm: Callable[[SweepEstimate], bool] | None = None) -> IdeaRun:
+             confirm: Callable[[SweepEstimate], bool] | None = None,
+             capital: float | None = None) -> IdeaRun:
     """Save the rule text as the idea's revision, run its whole declared space on the dates
     before the catalogue's holdout boundary, judge it with every trial the idea has ever had
     counted, and record the run on the idea.
@@ -179,7 +180,7 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
         since_uuid=last.uuid)
     summary = replace(report.summarise(chosen, currency=study.panel.currency,
                                        data_folder=str(Path(data_folder)),
-                                       holdout_boundary=boundary), book=book,
+                                       holdout_boundary=boundary, capital=capital), book=book,
                       market_fingerprints=markets, data_changes=changes)
     with catalogue.transaction():  # the revision and its run are kept together, or neither
         if default_reason is not None and catalogue.holdout_boundary() is None:

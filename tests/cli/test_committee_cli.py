@@ -132,3 +132,19 @@ def test_ideas_pack_writes_html_and_pdf_without_a_display(capsys, demo_catalogue
     assert len(re.findall(rb"/Type\s*/Page\b", data)) == pages
     code, _, err = _cli(capsys, "ideas", "pack", "2", "--catalogue", str(demo_catalogue))
     assert code == 1 and "--html PATH" in err
+
+
+def test_runs_show_prints_the_figures_against_capital_the_years_and_months(
+        capsys, demo_catalogue) -> None:
+    with Catalogue(demo_catalogue) as cat:
+        run = cat.run(2)
+    code, out, _ = _cli(capsys, "runs", "show", "2", "--monthly", "--catalogue",
+                        str(demo_catalogue))
+    assert code == 0
+    assert "Year by year (net of costs):" in out and "Monthly net returns" in out
+    net = run.daily_pnl["net_pnl"]
+    # reference library: pandas: calendar-year sums of the stored daily net P&L
+    for year, total in net.groupby(net.index.year).sum().items():
+        line = next(x for x in out.splitlines() if x.startswith(f"{year} "))
+        assert f"{total:,.0f}" in line
+    assert "Trades:" in out and "Verdict:" in out

@@ -3,17 +3,24 @@
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 import pytest
 
+from hunchbook.core.capital_figures import capital_figures, monthly_returns
 from hunchbook.core.presenter import (
     MISSING,
+    PERFORMANCE_FIGURES,
+    chosen_rows,
     format_params,
     format_value,
     market_table,
+    monthly_table,
     performance_rows,
     set_table,
+    sharpe_sentence,
     statistic_rows,
+    year_table,
 )
 from tests.core.test_results import run  # noqa: F401 (the module-scoped record fixture)
 
@@ -24,10 +31,10 @@ def _rows(rows):
 
 def test_rows_carry_the_record_fields(run) -> None:  # noqa: F811
     record, daily = run
-    perf = _rows(performance_rows(record.chosen.performance))
-    assert perf["Total P&L"] == (pytest.approx(daily["gross_pnl"].sum()),
+    perf = _rows(performance_rows(record.chosen.performance, "USD"))
+    assert perf["Total P&L (USD)"] == (pytest.approx(daily["gross_pnl"].sum()),
                                  pytest.approx(daily["net_pnl"].sum()))
-    assert perf["Contracts per year"][0] is None  # one-valued figures have no gross cell
+    assert perf["Contracts per year (contracts)"][0] is None  # one value: no gross cell
     stats = record.statistics
     rows = _rows(statistic_rows(stats))
     assert rows["Probabilistic Sharpe (vs 0)"] == (stats.gross.psr, stats.net.psr)
@@ -60,3 +67,58 @@ def test_values_are_formatted_as_traders_read_them() -> None:
     assert format_value(math.nan, "ratio") == format_value(None, "money") == MISSING
     assert format_params({"fast": 8.0, "slow": 64.0}) == "fast=8, slow=64"
     assert format_params({}) == "no parameters"
+
+
+def test_every_figure_in_currency_says_so_and_costs_give_both_sides(run) -> None:  # noqa: F811
+    record, daily = run
+    rows = chosen_rows(record)
+    money = [r.label for r in rows if r.kind == "money"]
+    assert money and all("USD" in label for label in money)
+    assert all(f.unit for f in PERFORMANCE_FIGURES if f.kind in ("money", "count", "pct"))
+    perf = _rows(rows)
+    p = record.chosen.performance
+    # a round turn is a buy and a sell: twice the per-side cost (common practice, no source)
+    side = perf["Cost per contract (USD/side)"][1]
+    assert side == pytest.approx(daily["cost"].sum() / daily["contracts_traded"].sum())
+    assert perf["Cost per round turn (USD)"][1] == pytest.approx(2 * side)
+    assert perf["Break-even per contract (USD/side)"][1] == pytest.approx(
+        p.break_even_cost)
+    assert perf["Break-even per round turn (USD)"][1] == pytest.approx(
+        2 * p.break_even_cost)
+    assert all("USD" in c.label for c in market_table(record).columns if c.kind == "money")
+    assert all("USD" in c.label for c in set_table(record).columns if c.kind == "money")
+
+
+def test_capital_rows_and_the_year_table(run) -> None:  # noqa: F811
+    record, daily = run
+    assert record.capital is not None and record.capital.capital is None  # no capital given
+    assert "Annual return (% of capital)" not in _rows(chosen_rows(record))
+    with_capital = replace(record, capital=capital_figures(daily, 50_000.0, "run option"))
+    perf = _rows(chosen_rows(with_capital))
+    # reference library: pandas (mean x 252 / capital)
+    assert perf["Annual return (% of capital)"][1] == pytest.approx(
+        daily["net_pnl"].mean() * 252 / 50_000.0)
+    assert perf["Capital (USD)"] == (None, 50_000.0)
+    dd = with_capital.capital.net_drawdown
+    length = next(k for k in perf if k.startswith("Max drawdown length (trading days"))
+    assert perf[length][1] == dd.length_days and ("still open" in length) == dd.open
+    years = year_table(with_capital)
+    sums = daily["net_pnl"].groupby(daily.index.year).sum()
+    assert [name for name, _ in years.rows] == [str(y) for y in sums.index]
+    assert [values[0] for _, values in years.rows] == pytest.approx(list(sums))
+    assert [values[1] for _, values in years.rows] == pytest.approx(list(sums / 50_000.0))
+    monthly = monthly_table(monthly_returns(daily["net_pnl"], 50_000.0), 50_000.0, "USD")
+    assert monthly.columns[-1].label == "Total (% of capital)"
+    assert [values[-1] for _, values in monthly.rows] == pytest.approx(list(sums / 50_000.0))
+
+
+def test_the_two_sharpe_ratios_are_explained_when_they_differ(run) -> None:  # noqa: F811
+    record, _ = run
+    sentence = sharpe_sentence(record)
+    if record.chosen.performance.days == record.statistics.n_days:
+        assert sentence is None
+    else:
+        assert sentence is not None and f"{record.statistics.n_days:,} days" in sentence
+    same = replace(record, statistics=replace(record.statistics,
+                                              n_days=record.chosen.performance.days))
+    assert sharpe_sentence(same) is None

@@ -126,8 +126,8 @@ def test_two_selected_runs_open_side_by_side(qtbot, window):
              for r in range(dialog.figures.rowCount())}
     for side, run in ((1, first), (3, wide)):
         performance = run.result.chosen.performance
-        assert cells["Total P&L"][side - 1] == format_value(performance.gross.total, "money")
-        assert cells["Total P&L"][side] == format_value(performance.net.total, "money")
+        assert cells["Total P&L (USD)"][side - 1] == format_value(performance.gross.total, "money")
+        assert cells["Total P&L (USD)"][side] == format_value(performance.net.total, "money")
     text_a = window.catalogue.revision(first.revision_id).text
     text_b = window.catalogue.revision(wide.revision_id).text
     shown = dialog.diff.toPlainText().splitlines()

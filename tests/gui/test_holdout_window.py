@@ -117,7 +117,7 @@ def test_unlocking_through_the_window(qtbot, window, monkeypatch, tmp_path) -> N
     # the held-out figures beside the in-sample ones, with who and when
     qtbot.waitUntil(lambda: "unlocked by Test Reviewer" in panel.status.text(), timeout=5000)
     assert panel.figures.isVisible() and not panel.unlock_button.isVisible()
-    for row in holdout_rows(view.figures):
+    for row in holdout_rows(view.figures, "USD"):
         assert panel.cells()[("Held out", row.label)] == format_value(row.net, row.kind)
         if row.gross is not None:
             assert panel.cells()[("In-sample", row.label)] == format_value(row.gross, row.kind)

@@ -59,24 +59,26 @@ def test_performance_table_holds_the_stored_portfolio_figures(view, runs, qtmode
     qtmodeltester.check(model)
     portfolio = run.result.chosen.performance
     gross, net = _cells(model, COL_GROSS), _cells(model, COL_NET)
-    for label, key in [("Total P&L", "total"), ("Annual mean", "ann_mean"),
-                       ("Annual volatility", "ann_vol"), ("Sharpe ratio", "sharpe"),
-                       ("t-statistic", "t_stat"), ("Max drawdown", "max_drawdown")]:
+    for label, key in [("Total P&L (USD)", "total"), ("Annual mean (USD)", "ann_mean"),
+                       ("Annual volatility (USD)", "ann_vol"), ("Sharpe ratio", "sharpe"),
+                       ("t-statistic", "t_stat"), ("Max drawdown (USD)", "max_drawdown")]:
         assert gross[label] == getattr(portfolio.gross, key)
         assert net[label] == getattr(portfolio.net, key)
-    for label, key in [("Trades per year", "trades_per_year"),
-                       ("Contracts per year", "contracts_per_year"),
-                       ("Total cost", "cost_total"), ("Cost share of gross", "cost_share_of_gross"),
-                       ("Break-even cost per contract", "break_even_cost")]:
+    for label, key in [("Trades per year (trades)", "trades_per_year"),
+                       ("Contracts per year (contracts)", "contracts_per_year"),
+                       ("Total cost (USD)", "cost_total"),
+                       ("Cost share of gross (%)", "cost_share_of_gross"),
+                       ("Break-even per contract (USD/side)", "break_even_cost")]:
         assert net[label] == getattr(portfolio, key)
         assert gross[label] is None
     # the stored totals are the sums of the stored daily P&L (reference: pandas sum)
-    assert net["Total P&L"] == pytest.approx(run.daily_pnl["net_pnl"].sum())
-    assert gross["Total P&L"] == pytest.approx(run.daily_pnl["gross_pnl"].sum())
+    assert net["Total P&L (USD)"] == pytest.approx(run.daily_pnl["net_pnl"].sum())
+    assert gross["Total P&L (USD)"] == pytest.approx(run.daily_pnl["gross_pnl"].sum())
     # shown text: two decimals for ratios, thousands separators for money (common practice)
     row = [model.index(r, COL_LABEL).data() for r in range(model.rowCount())].index("Sharpe ratio")
     assert model.index(row, COL_NET).data() == f"{portfolio.net.sharpe:.2f}"
-    row = [model.index(r, COL_LABEL).data() for r in range(model.rowCount())].index("Total P&L")
+    labels = [model.index(r, COL_LABEL).data() for r in range(model.rowCount())]
+    row = labels.index("Total P&L (USD)")
     assert model.index(row, COL_NET).data() == f"{portfolio.net.total:,.0f}"
 
 
@@ -242,6 +244,7 @@ def test_one_parameter_space_shows_net_sharpe_against_the_parameter(view, runs, 
     view.show_run(run, title="t")
     profile = view.charts.profile
     assert view.sweep_slot.currentWidget() is profile
+    _scroll_to(view, profile)  # the figures above it may fill the column
     x, y = profile.line.getOriginalDataset()
     stored = sorted((s.params["n"], s.net_sharpe) for s in run.result.sets)
     np.testing.assert_array_equal(x, [n for n, _ in stored])

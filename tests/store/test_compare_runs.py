@@ -10,7 +10,7 @@ import pytest
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.compare import compare_runs, rule_diff, run_label
-from hunchbook.core.presenter import PERFORMANCE_FIGURES
+from hunchbook.core.presenter import PERFORMANCE_FIGURES, with_unit
 from hunchbook.demo.build import demo_catalogue_copy
 
 
@@ -31,13 +31,14 @@ def test_figures_are_each_runs_own_record(demo: Catalogue) -> None:
     first, wide, text_a, text_b = _breakout(demo)
     comparison = compare_runs(first.result, wide.result, text_a, text_b)
     # every performance figure of the presenter, in its order, for both runs
-    assert [p.label for p in comparison.performance] == [f.label for f in PERFORMANCE_FIGURES]
+    assert [p.label for p in comparison.performance] == [
+        with_unit(f.label, f.unit, first.result.currency) for f in PERFORMANCE_FIGURES]
     by_label = {p.label: p for p in comparison.performance}
     for run, side in ((first, "a"), (wide, "b")):
         performance = run.result.chosen.performance
-        total = getattr(by_label["Total P&L"], side)
+        total = getattr(by_label["Total P&L (USD)"], side)
         assert (total.gross, total.net) == (performance.gross.total, performance.net.total)
-        assert getattr(by_label["Total cost"], side).net == performance.cost_total
+        assert getattr(by_label["Total cost (USD)"], side).net == performance.cost_total
         stats = {p.label.split(" (")[0]: getattr(p, side) for p in comparison.statistics}
         assert stats["Sharpe ratio"].net == run.result.statistics.net.sharpe
         assert stats["Trials counted"].net == run.result.statistics.n_trials == run.trial_count
@@ -92,6 +93,6 @@ def test_the_comparison_reads_as_plain_json(demo: Catalogue) -> None:
     first, wide, text_a, text_b = _breakout(demo)
     data = json.loads(json.dumps(compare_runs(first.result, wide.result, text_a,
                                               text_b).to_dict()))
-    total = next(f for f in data["performance"] if f["label"] == "Total P&L")
+    total = next(f for f in data["performance"] if f["label"] == "Total P&L (USD)")
     assert total["a"]["net"] == first.result.chosen.performance.net.total
     assert data["diff"][0].startswith("--- ")

@@ -116,7 +116,9 @@ def compare_runs(a: RunSummary, b: RunSummary, rules_a: str, rules_b: str, *,
     return RunComparison(
         names=names, outcomes=(a.verdict.outcome, b.verdict.outcome),
         labels=(a.verdict.label, b.verdict.label),
-        performance=_pairs(PERFORMANCE_FIGURES, a.chosen.performance, b.chosen.performance),
+        performance=_pairs(PERFORMANCE_FIGURES, a.chosen.performance, b.chosen.performance,
+                           a.currency if a.currency == b.currency
+                           else f"{a.currency} / {b.currency}"),
         statistics=_pairs(STATISTIC_FIGURES, a.statistics, b.statistics),
         checks=check_pairs(a.verdict.checks, b.verdict.checks),
         diff=rule_diff(rules_a, rules_b, names, context=context))
@@ -149,11 +151,12 @@ def rule_diff(text_a: str, text_b: str, names: tuple[str, str] = ("run A", "run 
     return tuple(out)
 
 
-def _pairs(figures: Sequence[Figure[Any]], a: Any, b: Any) -> tuple[FigurePair, ...]:
+def _pairs(figures: Sequence[Figure[Any]], a: Any, b: Any,
+           currency: str = "") -> tuple[FigurePair, ...]:
     out = []
     for figure in figures:
-        row_a = figure.row(a) if figure.applies(a) else None
-        row_b = figure.row(b) if figure.applies(b) else None
+        row_a = figure.row(a, currency) if figure.applies(a) else None
+        row_b = figure.row(b, currency) if figure.applies(b) else None
         if row_a is None and row_b is None:
             continue
         labels = list(dict.fromkeys(r.label for r in (row_a, row_b) if r is not None))

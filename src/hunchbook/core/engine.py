@@ -7,6 +7,10 @@ Semantics, per market (t counts that market's own bars):
 - P&L on t = ``pos[t-1] * change[t] * multiplier``, ``change`` being the price change of the
   contract held at the close of t-1 (never the back-adjusted series);
 - contracts traded on t = ``|pos[t] - pos[t-1]|``, or ``|pos[t-1]| + |pos[t]|`` on a roll date;
+- a trade on t = a change of the market's position in whole contracts (rounded to the nearest
+  one) from t-1: one per market and day. A roll that keeps the position trades contracts but is
+  not a trade, nor is a fractional resizing (volatility target) that leaves the whole contracts
+  as they were: trades count tickets, contracts traded count volume;
 - cost = contracts traded x cost per contract; net = gross - cost;
 - rows start at the first bar on which the position is defined (and not before ``start``);
   an undefined position later on means flat.
@@ -58,6 +62,18 @@ class EngineOutput:
         return self.window & (np.arange(len(self.window))[:, None] >= self.first)
 
     @cached_property
+    def trades(self) -> np.ndarray:
+        """True where a market's position in whole contracts (rounded to the nearest one)
+        changed from its bar before: one trade per market and day (a roll that keeps the
+        position is not one; nothing after the window)."""
+        whole = np.rint(self.position)
+        changed = np.empty(whole.shape, dtype=bool)
+        changed[0] = whole[0] != 0.0
+        np.not_equal(whole[1:], whole[:-1], out=changed[1:])
+        changed &= self.traded > 0.0
+        return changed
+
+    @cached_property
     def cost(self) -> np.ndarray:
         """Cost: contracts traded x cost per contract."""
         return self.traded * self.panel.cost_per_contract
@@ -81,7 +97,7 @@ class EngineOutput:
         return pd.DataFrame({
             "gross_pnl": total(self.gross), "cost": total(self.cost),
             "net_pnl": total(self.net), "contracts_traded": total(self.traded),
-            "trades": total((self.traded > 0).astype(float)),
+            "trades": total(self.trades.astype(float)),
         }, index=pd.DatetimeIndex(p.union_dates[used], name="date"))
 
     def market_frame(self, j: int) -> pd.DataFrame:
@@ -91,7 +107,7 @@ class EngineOutput:
         return pd.DataFrame({
             "gross_pnl": self.gross[r, j], "cost": self.cost[r, j], "net_pnl": self.net[r, j],
             "contracts_traded": self.traded[r, j],
-            "trades": (self.traded[r, j] > 0).astype(float),
+            "trades": self.trades[r, j].astype(float),
         }, index=pd.DatetimeIndex(p.dates[r, j], name="date"))
 
     def pnl_table(self) -> pd.DataFrame:

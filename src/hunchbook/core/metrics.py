@@ -46,7 +46,8 @@ def summarise(daily: pd.DataFrame) -> dict[str, object]:
     """Gross and net statistics plus trading and cost figures of a daily table.
 
     ``daily`` is indexed by date with columns ``gross_pnl``, ``cost``, ``net_pnl``,
-    ``contracts_traded`` and ``trades`` (number of market-days with any contracts traded).
+    ``contracts_traded`` and ``trades`` (changes of whole contracts held, one per market and
+    day: see :attr:`hunchbook.core.engine.EngineOutput.trades`).
     The break-even cost is the cost per contract at which net P&L would be zero:
     gross P&L / contracts traded.
     """

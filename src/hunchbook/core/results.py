@@ -22,6 +22,7 @@ from functools import cache
 from typing import Any
 
 from hunchbook.core.book import BookComparison
+from hunchbook.core.capital_figures import CapitalFigures
 from hunchbook.core.data_changes import DataChanges
 from hunchbook.core.errors import RecordError
 from hunchbook.core.plain import json_safe
@@ -31,7 +32,7 @@ from hunchbook.core.verdict import Verdict
 
 #: Version of the record's shape; raised whenever a field is removed or renamed, or a field is
 #: added that a reader cannot do without. An optional field with a default (``book``,
-#: ``market_fingerprints``, ``data_changes``) keeps it:
+#: ``market_fingerprints``, ``data_changes``, ``capital``) keeps it:
 #: records without the field read with the default, and readers that do not know it skip it.
 SCHEMA = 2
 #: Earlier shapes still read: schema 1 had no ``holdout_boundary`` (read as ``None``).
@@ -125,6 +126,9 @@ class RunSummary:
     (:func:`hunchbook.core.prices.market_fingerprints`; ``None``: not recorded, as for a run
     recorded before they existed) and ``data_changes`` which markets changed since the idea's
     last run (:mod:`hunchbook.core.data_changes`; ``None``: nothing changed, or a first run).
+    ``capital`` holds the chosen set's figures against the capital it was measured on (the
+    capital itself, returns and drawdowns in % of it, the drawdown's length, the year-by-year
+    table: :mod:`hunchbook.core.capital_figures`; ``None``: recorded before they existed).
     """
 
     name: str
@@ -139,6 +143,7 @@ class RunSummary:
     book: BookComparison | None = None
     market_fingerprints: dict[str, str] | None = None
     data_changes: DataChanges | None = None
+    capital: CapitalFigures | None = None
     schema: int = SCHEMA
 
     @property
@@ -180,13 +185,15 @@ def build_run_summary(*, name: str, markets: Sequence[str], currency: str, data_
                       parameter_sets: Sequence[Mapping[str, float]],
                       set_figures: SetFigures, chosen_metrics: Mapping[str, Any],
                       statistics: FirstPassStats, verdict: Verdict,
-                      holdout_boundary: str | None = None) -> RunSummary:
+                      holdout_boundary: str | None = None,
+                      capital: CapitalFigures | None = None) -> RunSummary:
     """The run record of a sweep: the one place where the engine's figures become a record.
 
     ``set_figures`` holds every set's figures over its own history (in set order);
     ``chosen_metrics`` the chosen set's full metrics (``portfolio``
     as :func:`hunchbook.core.metrics.summarise` gives them, ``markets`` per market);
-    ``holdout_boundary`` the date the data were cut at, if any.
+    ``holdout_boundary`` the date the data were cut at, if any; ``capital`` the chosen set's
+    figures against its capital (:func:`hunchbook.core.capital_figures.capital_figures`).
     """
     if len(set_figures) != len(parameter_sets):
         raise ValueError(f"{len(set_figures)} sets' figures for {len(parameter_sets)} sets")
@@ -199,7 +206,7 @@ def build_run_summary(*, name: str, markets: Sequence[str], currency: str, data_
                       for market, m in chosen_metrics.get("markets", {}).items()))
     return RunSummary(name=name, markets=tuple(markets), currency=currency,
                       data_folder=data_folder, sets=sets, chosen=chosen, statistics=statistics,
-                      verdict=verdict, holdout_boundary=holdout_boundary)
+                      verdict=verdict, holdout_boundary=holdout_boundary, capital=capital)
 
 
 def _market_figures(market: str, m: Mapping[str, Any]) -> MarketFigures:

@@ -45,7 +45,8 @@ class SetFigures:
 
     @property
     def trades_per_year(self) -> np.ndarray:
-        """Market-days with a trade per year of the set's own history."""
+        """Trades (changes of whole contracts held, one per market and day) per year of the
+        set's own history."""
         with np.errstate(divide="ignore", invalid="ignore"):
             return self.trades / self.years
 
@@ -92,7 +93,8 @@ def set_figures(gross: np.ndarray, cost: np.ndarray, used: np.ndarray, trades: n
     used
         (sets, days) True on the days a set has a result row.
     trades, contracts
-        (sets,) market-days with a trade and contracts traded.
+        (sets,) trades (changes of whole contracts held, one per market and day) and
+        contracts traded.
     dates
         (days,) the union of dates (``datetime64[D]``).
     """

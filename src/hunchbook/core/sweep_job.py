@@ -53,7 +53,8 @@ class SweepRefused(HunchbookError):
 @dataclass(frozen=True, eq=False)
 class DailyRows:
     """Daily portfolio gross P&L, cost and used-day flags on the union of dates, one row per
-    set, with each set's market-days with a trade and contracts traded."""
+    set, with each set's trades (changes of whole contracts held, one per market and day)
+    and contracts traded."""
 
     gross: np.ndarray
     cost: np.ndarray
@@ -315,7 +316,7 @@ def _run_sets(blocks: Sequence[tuple[Backtest, _Aggregator]], sets: Sequence[Par
             cost[i] += t @ cost_per_contract
             used[i] |= agg.used(out.first)
             contracts[i] += t.sum()
-            trades[i] += np.count_nonzero(t > 0)
+            trades[i] += np.count_nonzero(agg.by_day(out.trades))
     return DailyRows(gross=gross, cost=cost, used=used, trades=trades, contracts=contracts)
 
 

@@ -35,6 +35,7 @@ from hunchbook.gui.charts.run_figures import (
 )
 from hunchbook.gui.charts.theme import light_theme
 from hunchbook.gui.html_book import BOOK_CAPTION, book_section
+from hunchbook.gui.html_capital import capital_section, sets_note
 from hunchbook.gui.html_parts import escaped as _e
 from hunchbook.gui.html_parts import table_html as _table
 from hunchbook.store.records import HoldoutView, Idea, RunRecord
@@ -169,7 +170,8 @@ def _holdout_section(run: RunRecord, held_out: HoldoutView | None) -> str:
             f"{_e(held_out.revision_number)}, set {_e(format_params(held_out.chosen_params))} "
             f"(run {_e(held_out.run_id)}), run once on the held-out dates {_e(f.first_date)} "
             f"to {_e(f.last_date)}.{_e(also)}</p>"
-            + _figures_table(holdout_rows(f), HOLDOUT_HEADERS) + f"<p>{_e(f.finding())}</p>")
+            + _figures_table(holdout_rows(f, run.result.currency if run.result else ""),
+                             HOLDOUT_HEADERS) + f"<p>{_e(f.finding())}</p>")
 
 
 #: How each check status reads in the report.
@@ -278,6 +280,7 @@ trials counted for the idea.</p>
 <h2>Chosen set over its whole history</h2>
 <p>Chosen set: {_e(format_params(dict(run.chosen_params)))}.</p>
 {_figures_table(performance_rows(run))}
+{capital_section(run)}
 <h2>How far to trust it (days all sets share)</h2>
 {_figures_table(statistic_rows(run), explained=True)}
 {notes_html}
@@ -291,6 +294,7 @@ trials counted for the idea.</p>
 {markets_html}
 <h2>Parameter sets</h2>
 {sets_html}
+{sets_note()}
 <h2>Rule file</h2>
 <pre>{_e(rule_text)}</pre>
 <h2>Run record</h2>

@@ -39,6 +39,7 @@ from hunchbook.gui.charts.run_figures import (
     verdict_text,
 )
 from hunchbook.gui.html_book import book_section
+from hunchbook.gui.html_capital import capital_section
 from hunchbook.gui.html_parts import escaped as _e
 from hunchbook.gui.html_parts import table_html as _table
 from hunchbook.gui.html_report import (
@@ -277,7 +278,7 @@ def _figures(pack: ReviewPack) -> str | None:
         return None
     notes = "".join(f"<p>{_e(n)}</p>" for n in run.result.statistics.notes)
     return ("<h3>Chosen set over its whole history</h3>"
-            + _figures_table(performance_rows(run))
+            + _figures_table(performance_rows(run)) + capital_section(run)
             + "<h3>How far to trust it (days all sets share)</h3>"
             + _figures_table(statistic_rows(run), explained=True) + notes)
 

@@ -88,7 +88,9 @@ class SizingSpec:
     With ``target_vol`` set, each market's contract count at the close of t is
     ``capital * target_vol / (multiplier * sigma_t)``, where ``sigma_t`` is the annualised
     (x sqrt(252)) standard deviation of the adjusted price changes over the last ``vol_window``
-    bars up to and including t.
+    bars up to and including t. ``capital`` (in the markets' currency) is also the amount the
+    run's returns and drawdowns are measured against (:mod:`hunchbook.core.capital_figures`);
+    with fixed contracts it is optional and serves only that.
     """
 
     contracts: float | None = 1.0

@@ -460,11 +460,14 @@ def _sizing(table: _Table | None) -> SizingSpec:
     table.check_keys(SIZING_KEYS)
     has_target = [k for k in ("target_vol", "capital", "vol_window") if k in table.data]
     if "contracts" in table.data:
-        if has_target:
+        target = [k for k in has_target if k != "capital"]  # a capital measures the figures
+        if target:
             raise RuleError("choose one sizing: 'contracts', or 'target_vol' with 'capital' "
-                            f"(and optional 'vol_window'), not both; found {_quoted(has_target)} "
+                            f"(and optional 'vol_window'), not both; found {_quoted(target)} "
                             "next to 'contracts'", key=table.path, kind="bad-value")
-        return SizingSpec(contracts=table.number("contracts", positive=True))
+        return SizingSpec(contracts=table.number("contracts", positive=True),
+                          capital=table.number("capital", positive=True)
+                          if "capital" in table.data else None)
     if not has_target:
         raise RuleError("give 'contracts', or 'target_vol' with 'capital'", key=table.path,
                         kind="missing-key")

@@ -137,7 +137,9 @@ def _wanted(spec: RuleSpec) -> dict[str, Any]:
     top["signal"] = {"position": spec.position, "delay": spec.delay}
     top["roll"] = {**_roll_choice(spec.roll), ADJUST_KEY: spec.roll.adjust}
     sizing = spec.sizing
-    top["sizing"] = ({"contracts": sizing.contracts} if sizing.contracts is not None else
+    top["sizing"] = ({"contracts": sizing.contracts,
+                      **({} if sizing.capital is None else {"capital": sizing.capital})}
+                     if sizing.contracts is not None else
                      {"target_vol": sizing.target_vol, "capital": sizing.capital,
                       "vol_window": sizing.vol_window})
     costs: dict[str, Any] = dict(spec.costs.get("*", {}))

@@ -9,7 +9,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from hunchbook.core.presenter import FigureRow, format_params, format_value, number
-from hunchbook.core.presenter import performance_rows as _performance_rows
+from hunchbook.core.presenter import chosen_rows as _chosen_rows
 from hunchbook.core.presenter import statistic_rows as _statistic_rows
 from hunchbook.core.verdict import ACTIONS, LABELS, Check
 from hunchbook.store.records import RunRecord
@@ -132,7 +132,7 @@ def sharpe_grid(space: ParameterSpace) -> np.ndarray:
 
 def performance_rows(run: RunRecord) -> list[FigureRow]:
     """Gross and net figures of the chosen set over its whole history."""
-    return _performance_rows(run.result.chosen.performance) if run.result else []
+    return _chosen_rows(run.result) if run.result else []
 
 
 def statistic_rows(run: RunRecord) -> list[FigureRow]:

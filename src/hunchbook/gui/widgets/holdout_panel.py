@@ -101,7 +101,7 @@ class HoldoutPanel(QFrame):
                 f"on {view.seen_at[:16].replace('T', ' ')}: rule revision "
                 f"{view.revision_number}, set {format_params(view.chosen_params)} (run "
                 f"{view.run_id}).{also}")
-            self._fill(holdout_rows(f))
+            self._fill(holdout_rows(f, run.result.currency if run and run.result else ""))
             self.finding.setText(f.finding())
         elif boundary is None:
             self.status.setText("This run saw the whole history: nothing was held out of it.")

@@ -201,7 +201,7 @@ class MarketLibraryModel(QAbstractTableModel):
         if role == Qt.ItemDataRole.DisplayRole:
             if section < len(KEYS):
                 return HEADERS[KEYS[section]]
-            return "Tick value" if section == COL_TICK_VALUE else "Cost per contract"
+            return "Tick value" if section == COL_TICK_VALUE else "Cost per contract, side"
         if role == Qt.ItemDataRole.ToolTipRole:
             if section < len(KEYS):
                 return HEADER_HELP.get(KEYS[section])
@@ -346,7 +346,8 @@ class MarketLibraryModel(QAbstractTableModel):
         cells = self._rows[row].cells
         return (f"{cells['commission']} + {cells['exchange_fee']} + {cells['regulatory_fee']} "
                 f"+ {cells['slippage_ticks']} \u00d7 {cells['tick_size']} \u00d7 "
-                f"{cells['multiplier']}  ({COST_FORMULA}, per side)")
+                f"{cells['multiplier']}  ({COST_FORMULA}, per side; a round turn, one buy and "
+                "one sell, costs twice this)")
 
     def _market_label(self, row: int) -> str:
         symbol = self._rows[row].cells.get("symbol", "")

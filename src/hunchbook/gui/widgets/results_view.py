@@ -32,6 +32,7 @@ from hunchbook.gui.charts.run_figures import (
 )
 from hunchbook.gui.html_report import CAUTION, render_chart_images, write_html_report
 from hunchbook.gui.widgets.book_panel import BookPanel
+from hunchbook.gui.widgets.capital_tables import CapitalTables
 from hunchbook.gui.widgets.figures_model import FiguresModel
 from hunchbook.gui.widgets.holdout_panel import HoldoutPanel
 from hunchbook.gui.widgets.verdict_banner import VerdictBanner, mix_colours
@@ -137,6 +138,7 @@ class ResultsView(QWidget):
         self.statistics_table = _figures_table(self.statistics)
         self.holdout = HoldoutPanel()
         self.held_out: HoldoutView | None = None
+        self.capital_tables = CapitalTables()  # figures against capital, years, months
         self.charts = ResultCharts()
         self.charts.heatmap.cell_clicked.connect(self.set_requested)
         self.charts.profile.point_clicked.connect(self.set_requested)
@@ -161,6 +163,7 @@ class ResultsView(QWidget):
         left.setContentsMargins(0, 0, 0, 0)
         left.addWidget(_heading("Chosen set over its whole history"))
         left.addWidget(self.performance_table)
+        left.addWidget(self.capital_tables)
         left.addSpacing(6)
         left.addWidget(_heading("How far to trust it (days all sets share)"))
         left.addWidget(self.statistics_table)
@@ -243,6 +246,7 @@ class ResultsView(QWidget):
         self.performance.set_rows(performance_rows(run))
         self.statistics.set_rows(statistic_rows(run))
         self._fit_tables()
+        self.capital_tables.show_run(run)
         self.charts.show_run(run)
         self.book_panel.show_run(run)
         self.show_holdout(None, None)
@@ -285,6 +289,7 @@ class ResultsView(QWidget):
         self.performance.set_rows([])
         self.statistics.set_rows([])
         self._fit_tables()
+        self.capital_tables.show_run(None)
         self.charts.clear()
         self.book_panel.show_run(None)
         self.holdout.show_state(None, None, None)

@@ -618,7 +618,9 @@ class RuleForm(QWidget):
         if self.sizing_combo.currentData() == "fixed":
             text = self.contracts_edit.text()
             contracts = parse_number(text, "sizing.contracts") if text.strip() else 1.0
-            return SizingSpec(contracts=contracts)
+            capital = self.capital_edit.text()  # kept: the capital the figures are measured on
+            return SizingSpec(contracts=contracts, capital=parse_number(
+                capital, "sizing.capital") if capital.strip() else None)
         values = {}
         for key, edit in (("target_vol", self.target_vol_edit), ("capital", self.capital_edit)):
             if not edit.text().strip():
