@@ -4,10 +4,10 @@ settings and each idea's one unlocking of its held-out years."""
 from __future__ import annotations
 
 import datetime as dt
-import math
 from collections.abc import Callable
 from typing import TYPE_CHECKING
 
+from hunchbook.core.formats import pct, plural
 from hunchbook.store import db as dbmod
 from hunchbook.store import holdout, ideas, journal, validate
 from hunchbook.store import runs as runmod
@@ -141,8 +141,8 @@ class HoldoutAPI:
 
 def _holdout_text(run: RunRecord, figures: HoldoutFigures, by: str) -> str:
     chosen = ", ".join(f"{k}={v:g}" for k, v in run.chosen_params.items()) or "no parameters"
-    psr = "n/a" if math.isnan(figures.psr) else f"{100.0 * figures.psr:.1f} %"
+    psr = pct(figures.psr)
     return (f"Holdout unlocked by {by}: rule revision {run.revision_number}, chosen set "
             f"{chosen} (of run {run.id}) run once on the held-out dates {figures.first_date} "
-            f"to {figures.last_date} ({figures.days} days from the boundary "
+            f"to {figures.last_date} ({plural(figures.days, 'day')} from the boundary "
             f"{figures.boundary}). Held-out PSR {psr}. {figures.finding()}")

@@ -5,6 +5,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from hunchbook.core.labels import Vocabulary
+
 #: Stages of an idea, in pipeline order: written down, sent for review, accepted for testing or
 #: returned with comments, tested (at least one run recorded), promoted to full research or shelved.
 STAGES = ("draft", "submitted", "accepted", "returned", "tested", "promoted", "shelved")
@@ -30,6 +32,13 @@ RATIONALE_KINDS = ("risk_premium", "behavioural", "structural", "other")
 #: Where an idea came from.
 SOURCE_KINDS = ("own", "paper", "book", "web", "colleague")
 
+#: The vocabularies as people read them (label or key accepted, label printed: see
+#: :mod:`hunchbook.core.labels`). Stages read as their own plain words.
+STAGE_WORDS = Vocabulary.of("stage", STAGES, {s: s for s in STAGES})
+RATIONALE_WORDS = Vocabulary.of("kind of rationale", RATIONALE_KINDS,
+                                {"structural": "Structural or flow"})
+SOURCE_WORDS = Vocabulary.of("source", SOURCE_KINDS, {"own": "Own idea"})
+
 #: Kinds of journal entry. ``stage``, ``run``, ``review``, ``edit`` and ``preregistration``
 #: entries are written by the catalogue itself; ``correction`` entries amend an earlier entry.
 ENTRY_KINDS = ("note", "decision", "review", "run", "stage", "edit", "preregistration",
@@ -37,6 +46,11 @@ ENTRY_KINDS = ("note", "decision", "review", "run", "stage", "edit", "preregistr
 
 #: Kinds a person may write directly with ``add_entry``.
 USER_ENTRY_KINDS = ("note", "decision")
+
+#: Journal entry kinds as people read them (their own words).
+ENTRY_WORDS = Vocabulary.of("journal entry kind", ENTRY_KINDS, {k: k for k in ENTRY_KINDS})
+USER_ENTRY_WORDS = Vocabulary.of("journal entry kind", USER_ENTRY_KINDS,
+                                 {k: k for k in USER_ENTRY_KINDS})
 
 #: The review checklist: key -> the question a reviewer answers yes or no.
 CHECKLIST: dict[str, str] = {
@@ -89,6 +103,9 @@ REVIEW_KINDS: dict[str, ReviewKind] = {
 DECISION_LABELS: dict[str, str] = {"accept": "Accepted for testing",
                                    "return": "Returned with comments", "promote": "Promoted",
                                    "decline": "Promotion declined"}
+
+#: The decisions of an idea review as people read them (label or key accepted).
+DECISION_WORDS = Vocabulary("decision", {k: DECISION_LABELS[k] for k in DECISIONS})
 
 #: Every review decision, and the kind of review it belongs to.
 REVIEW_DECISIONS: dict[str, str] = {decision: name for name, kind in REVIEW_KINDS.items()
