@@ -226,6 +226,35 @@ def _catalogue(group: Any) -> None:
              lambda p: p.add_argument("destination", type=Path, metavar="PATH"))
 
 
+class HelpText(argparse.HelpFormatter):
+    """Help text wrapped between words only: an example's long argument (a list of
+    checklist items) moves whole to its own line instead of being cut mid-word."""
+
+    def _fill_text(self, text: str, width: int, indent: str) -> str:
+        import textwrap
+
+        return textwrap.fill(" ".join(text.split()), width, initial_indent=indent,
+                             subsequent_indent=indent + ("  " if text.startswith("Example:")
+                                                         else ""),
+                             break_long_words=False, break_on_hyphens=False)
+
+    def _split_lines(self, text: str, width: int) -> list[str]:
+        import textwrap
+
+        return textwrap.wrap(" ".join(text.split()), width, break_long_words=False,
+                             break_on_hyphens=False)
+
+
+def use_help_text(parser: argparse.ArgumentParser) -> argparse.ArgumentParser:
+    """Give ``parser`` and every parser below it :class:`HelpText`; return ``parser``."""
+    parser.formatter_class = HelpText
+    for action in parser._actions:
+        if isinstance(action, argparse._SubParsersAction):
+            for sub in action.choices.values():
+                use_help_text(sub)
+    return parser
+
+
 #: How other command modules (:mod:`hunchbook.cli_holdout`) add a group and a command.
 group, command = _group, _command
 
@@ -468,6 +497,9 @@ def _ideas_rules(args: argparse.Namespace) -> int:
 
 
 def _ideas_export(args: argparse.Namespace) -> int:
+    if args.bundle.exists() and not args.overwrite:
+        raise CatalogueError("file exists; choose another name, or give --overwrite to replace "
+                             "it", where=str(args.bundle))
     with open_catalogue(args, read_only=True) as cat:
         cat.export_bundle(args.idea, args.bundle, overwrite=args.overwrite)
     print(f"Idea {args.idea} written to {args.bundle}")

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from hunchbook.catalogue import Catalogue
+from hunchbook.catalogue import CHECKLIST, Catalogue
 from hunchbook.cli import main
 from hunchbook.core.labels import Vocabulary
 from hunchbook.core.verdict import LABELS, VERDICTS
@@ -83,3 +83,34 @@ def test_a_vocabulary_reads_its_keys_and_labels() -> None:
     assert words.labels == {"risk_premium": "Risk premium", "other": "Other"}
     assert words.key("risk premium") == "risk_premium" == words.key("RISK_PREMIUM")
     assert VERDICTS.label("selection_luck") == "Likely luck" and VERDICTS.label(None) == ""
+
+
+def test_the_review_example_wraps_between_words(capsys: pytest.CaptureFixture[str],
+                                                 monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setenv("COLUMNS", "80")
+    with pytest.raises(SystemExit):
+        main(["ideas", "review", "--help"])
+    out = capsys.readouterr().out
+    items = ",".join(CHECKLIST)
+    assert any(line.strip() == items for line in out.splitlines())
+
+
+def test_exporting_over_a_file_names_the_option_that_replaces_it(
+        desk: list[str], tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    bundle = tmp_path / "grain.zip"
+    bundle.write_text("kept")
+    assert main(["ideas", "export", "1", str(bundle), *desk]) == 1
+    err = capsys.readouterr().err
+    assert "file exists" in err and "--overwrite" in err and bundle.read_text() == "kept"
+    assert main(["ideas", "export", "1", str(bundle), *desk, "--overwrite"]) == 0
+
+
+def test_an_import_counts_its_records_in_words(desk: list[str], tmp_path: Path,
+                                               capsys: pytest.CaptureFixture[str]) -> None:
+    bundle = tmp_path / "grain.zip"
+    assert main(["ideas", "export", "1", str(bundle), *desk]) == 0
+    other = ["--catalogue", str(tmp_path / "other.sqlite")]
+    assert main(["ideas", "import", str(bundle), *other]) == 0
+    out = capsys.readouterr().out
+    assert "1 rule revision," in out and "1 run." in out and "7 journal entries" in out
+    assert "(s)" not in out and "1 runs" not in out

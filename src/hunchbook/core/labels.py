@@ -80,7 +80,8 @@ class Vocabulary:
 
     def help(self) -> str:
         """The labels for an option's help text."""
-        return ", ".join(f"'{label}'" for label in self.labels.values())
+        return (", ".join(f"'{label}'" for label in self.labels.values())
+                + " (or the keys; any case)")
 
 
 __all__ = ["Vocabulary"]
