@@ -65,7 +65,7 @@ class ReviewsAPI:
             if idea.stage != kind.stage:
                 what = "promotion reviews are for tested ideas" if kind_name == "promotion" \
                     else "only submitted ideas are reviewed"
-                raise CatalogueError(f"idea {idea.id} is '{idea.stage}'; {what}",
+                raise CatalogueError(f"it is '{idea.stage}'; {what}",
                                      field=f"idea {idea.id}")
             problem = settings.author_review_problem(self.db, idea.submitted_by, reviewer)
             if problem is not None:

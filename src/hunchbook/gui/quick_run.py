@@ -20,7 +20,7 @@ from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.gui.preregistration import offer_amendment, run_refusal
 from hunchbook.gui.workers import RunIdeaWorker
 from hunchbook.starter import STARTER_HINT, is_starter
-from hunchbook.store.vocab import RUNNABLE_STAGES
+from hunchbook.store.vocab import RUN_ADVICE, RUNNABLE_STAGES
 
 if TYPE_CHECKING:
     from hunchbook.gui.main_window import MainWindow
@@ -113,7 +113,7 @@ class QuickRunner(QObject):
         if idea.stage not in RUNNABLE_STAGES:
             window.show_error("Not ready to run",
                               f"This idea is '{idea.stage}'; quick runs are for ideas that are "
-                              f"{', '.join(RUNNABLE_STAGES)} (submit it for review first).")
+                              f"{', '.join(RUNNABLE_STAGES)}. {RUN_ADVICE[idea.stage]}")
             return None
         if window.data_folder is None:
             window.show_error("No data folder", "Choose a data folder first (Data \u25b8 Data "

@@ -25,6 +25,18 @@ TRANSITIONS: dict[str, tuple[str, ...]] = {
 #: Stages at which a run may be recorded (the idea has passed review).
 RUNNABLE_STAGES = ("accepted", "tested", "promoted")
 
+#: What an idea at each stage needs before it can be run (a quick run refused, an idea without
+#: runs): one plain sentence per stage.
+RUN_ADVICE: dict[str, str] = {
+    "draft": "Write its rules and submit it for review; it can run once a reviewer accepts it.",
+    "submitted": "It waits for its review: it can run once a reviewer accepts it.",
+    "returned": "Rework it as the review asks and submit it again; it can run once accepted.",
+    "accepted": "Run its rules: the first run freezes its markets and parameter space.",
+    "tested": "Run it again, or send it to its promotion review.",
+    "promoted": "It is promoted: runs go on being recorded against it.",
+    "shelved": "Move it back to draft to work on it again.",
+}
+
 #: Kinds of rationale: a premium paid for bearing a risk, a behavioural bias, a structural or
 #: flow effect (index rolls, hedging pressure), or something else.
 RATIONALE_KINDS = ("risk_premium", "behavioural", "structural", "other")
