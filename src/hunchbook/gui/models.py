@@ -26,7 +26,8 @@ from PySide6.QtCore import (
 )
 from PySide6.QtGui import QColor, QFont
 
-from hunchbook.core.verdict import LABELS
+from hunchbook.core.formats import count, date, moment
+from hunchbook.core.verdict import VERDICTS
 from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.store.records import Entry, IdeaSummary, RunRecord
 
@@ -45,14 +46,12 @@ Index = QModelIndex | QPersistentModelIndex
 
 def verdict_label(outcome: str | None) -> str:
     """The product label of a verdict outcome key ('' when there is none)."""
-    if not outcome:
-        return ""
-    return LABELS.get(outcome, outcome)
+    return VERDICTS.label(outcome)
 
 
 def short_time(stamp: str | None) -> str:
     """A stored UTC timestamp as ``YYYY-MM-DD HH:MM`` ('' for none)."""
-    return "" if not stamp else stamp[:16].replace("T", " ")
+    return "" if not stamp else moment(stamp)
 
 
 def format_sharpe(value: float | None) -> str:
@@ -179,13 +178,14 @@ class IdeaTableModel(_RecordTableModel):
     title, stage, last verdict, net Sharpe, trials, updated. Sorting asks the catalogue anew
     (a model reset); :meth:`refresh_ideas` changes rows in place."""
 
-    COLUMNS = ("Title", "Stage", "Last verdict", "Sharpe", "Trials", "Updated")
+    COLUMNS = ("Title", "Stage", "Last verdict", "Net SR", "Trials", "Updated")
     TITLE, STAGE, VERDICT, SHARPE, TRIALS, UPDATED = range(6)
     #: The catalogue's order of each column (see ``Catalogue.idea_ids``).
     ORDERS = ("title", "stage", "verdict", "sharpe", "trials", "updated")
     #: Header tooltips, one per column.
     TIPS = ("The idea's title", "Where the idea is in the pipeline",
-            "Verdict of the latest run", "Net Sharpe ratio of the latest run's chosen set",
+            "Verdict of the latest run",
+            "Net Sharpe ratio (after costs, annualised) of the latest run's chosen set",
             "Distinct parameter sets ever run (the trial count)", "Last change")
 
     def __init__(self, parent: Any = None) -> None:
@@ -335,8 +335,8 @@ class IdeaTableModel(_RecordTableModel):
         if column == self.SHARPE:
             return "" if idea.last_verdict is None else format_sharpe(idea.last_net_sharpe)
         if column == self.TRIALS:
-            return str(idea.trial_count) if idea.trial_count else ""
-        return idea.updated_at[:10]
+            return count(idea.trial_count) if idea.trial_count else ""
+        return date(idea.updated_at)
 
     def _raw(self, idea: IdeaSummary, column: int) -> Any:
         if column == self.SHARPE:

@@ -29,6 +29,8 @@ from hunchbook.store.vocab import STAGES
 
 #: Quiet time after the last key press before the search runs (ms).
 SEARCH_DELAY_MS = 200
+#: Room beside a cell's text, and beside a header's title for its sort arrow (pixels).
+CELL_PADDING, HEADER_PADDING = 14, 26
 _ANY = "Any"
 
 
@@ -88,11 +90,13 @@ class CataloguePanel(QWidget):
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setSectionResizeMode(IdeaTableModel.TITLE, QHeaderView.ResizeMode.Stretch)
-        unit = self.fontMetrics().horizontalAdvance("0")
-        for column, chars in ((IdeaTableModel.STAGE, 9), (IdeaTableModel.VERDICT, 14),
-                              (IdeaTableModel.SHARPE, 7), (IdeaTableModel.TRIALS, 6),
-                              (IdeaTableModel.UPDATED, 10)):
-            header.resizeSection(column, chars * unit + 10)
+        # every column but the title as narrow as its longest text: the title gets the rest
+        for column, texts in ((IdeaTableModel.STAGE, STAGES),
+                              (IdeaTableModel.VERDICT, tuple(LABELS.values())),
+                              (IdeaTableModel.SHARPE, ("-0.00",)),
+                              (IdeaTableModel.TRIALS, ("9,999",)),
+                              (IdeaTableModel.UPDATED, ("2000-00-00",))):
+            header.resizeSection(column, self._fit(column, texts))
         header.setHighlightSections(False)
         header.setMinimumSectionSize(40)
         self.table.sortByColumn(IdeaTableModel.UPDATED, Qt.SortOrder.DescendingOrder)
@@ -206,6 +210,14 @@ class CataloguePanel(QWidget):
         return [int(self.model.index(r, 0).data(ID_ROLE)) for r in range(self.model.rowCount())]
 
     # -- internals ------------------------------------------------------------------------
+    def _fit(self, column: int, texts: Sequence[str]) -> int:
+        """The width of a column: its longest text, or its header with the sort arrow."""
+        cells = self.table.fontMetrics()
+        heading = self.table.horizontalHeader().fontMetrics()
+        title = str(self.model.COLUMNS[column])
+        return max(max(cells.horizontalAdvance(t) for t in texts) + CELL_PADDING,
+                   heading.horizontalAdvance(title) + HEADER_PADDING)
+
     def _combo(self, name: str, items: Sequence[tuple[str, str]]) -> QComboBox:
         combo = QComboBox(self)
         combo.setObjectName(f"{name.lower()}Filter")
