@@ -60,3 +60,13 @@ def test_values_are_formatted_as_traders_read_them() -> None:
     assert format_value(math.nan, "ratio") == format_value(None, "money") == MISSING
     assert format_params({"fast": 8.0, "slow": 64.0}) == "fast=8, slow=64"
     assert format_params({}) == "no parameters"
+
+
+def test_the_total_cost_note_names_every_cost_the_engine_counts():
+    # the engine's cost per contract adds commission, exchange and regulatory fees and
+    # slippage (core/markets.py, MarketSpec.cost_per_contract): the note names each one
+    from hunchbook.core.presenter import PERFORMANCE_FIGURES
+
+    (total,) = [f for f in PERFORMANCE_FIGURES if f.label == "Total cost"]
+    note = total.note.lower()
+    assert all(word in note for word in ("commission", "exchange", "regulatory", "slippage"))
