@@ -15,6 +15,7 @@ from PySide6.QtWidgets import (
     QStyle,
 )
 
+from hunchbook.core.formats import plural
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.gui.preregistration import offer_amendment, run_refusal
@@ -193,8 +194,9 @@ class QuickRunner(QObject):
         window.refresh_idea(idea_id)  # the Runs section lists the new run, the rules are saved
         if idea_id == window.current_idea_id():
             window.show_section("runs")
+        sets = plural(len(result.summary.sets), "set")
         window.status_message(f"Run {run_id} recorded (rule revision "
-                              f"{result.revision_number}, {len(result.summary.sets)} sets, "
+                              f"{result.revision_number}, {sets}, "
                               f"in-sample up to {result.boundary}): {label}."
                               + _changes(result.summary))
         self.finished.emit(run_id)
