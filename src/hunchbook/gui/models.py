@@ -30,6 +30,7 @@ from hunchbook.core.formats import count, date, moment
 from hunchbook.core.verdict import VERDICTS
 from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.store.records import Entry, IdeaSummary, RunRecord
+from hunchbook.store.vocab import STAGE_WORDS
 
 if TYPE_CHECKING:
     from hunchbook.catalogue import Catalogue
@@ -329,7 +330,7 @@ class IdeaTableModel(_RecordTableModel):
         if column == self.TITLE:
             return idea.title
         if column == self.STAGE:
-            return idea.stage
+            return STAGE_WORDS.label(idea.stage)
         if column == self.VERDICT:
             return verdict_label(idea.last_verdict)
         if column == self.SHARPE:

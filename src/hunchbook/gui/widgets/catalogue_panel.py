@@ -21,11 +21,11 @@ from PySide6.QtWidgets import (
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError
-from hunchbook.core.verdict import LABELS
+from hunchbook.core.verdict import VERDICTS
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.models import ID_ROLE, IdeaTableModel
 from hunchbook.store.records import IdeaChoices
-from hunchbook.store.vocab import STAGES
+from hunchbook.store.vocab import STAGE_WORDS
 
 #: Quiet time after the last key press before the search runs (ms).
 SEARCH_DELAY_MS = 200
@@ -61,8 +61,9 @@ class CataloguePanel(QWidget):
         self.search.textChanged.connect(self._search_timer.start)
         self.search.returnPressed.connect(self.apply_filters)
 
-        self.stage = self._combo("Stage", [(s.capitalize(), s) for s in STAGES])
-        self.verdict = self._combo("Verdict", [(label, key) for key, label in LABELS.items()])
+        # the labels the table shows (the command line prints and accepts the same ones)
+        self.stage = self._combo("Stage", [(v, k) for k, v in STAGE_WORDS.labels.items()])
+        self.verdict = self._combo("Verdict", [(v, k) for k, v in VERDICTS.labels.items()])
         self.market = self._combo("Market", [])
         self.tag = self._combo("Tag", [])
         self.author = self._combo("Author", [])
@@ -91,8 +92,8 @@ class CataloguePanel(QWidget):
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setSectionResizeMode(IdeaTableModel.TITLE, QHeaderView.ResizeMode.Stretch)
         # every column but the title as narrow as its longest text: the title gets the rest
-        for column, texts in ((IdeaTableModel.STAGE, STAGES),
-                              (IdeaTableModel.VERDICT, tuple(LABELS.values())),
+        for column, texts in ((IdeaTableModel.STAGE, tuple(STAGE_WORDS.labels.values())),
+                              (IdeaTableModel.VERDICT, tuple(VERDICTS.labels.values())),
                               (IdeaTableModel.SHARPE, ("-0.00",)),
                               (IdeaTableModel.TRIALS, ("9,999",)),
                               (IdeaTableModel.UPDATED, ("2000-00-00",))):
