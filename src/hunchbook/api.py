@@ -81,8 +81,8 @@ def _check_markets(text: str, rules: RuleSpec, folder: str | os.PathLike[str],
             close = get_close_matches(market, known, n=1)
             hint = f"did you mean '{close[0]}'? " if close else ""
             raise locate_error(text, RuleError(
-                f"unknown market '{market}': the data folder's market library ({LIBRARY_FILE}) "
-                f"has no such market; {hint}known markets: {', '.join(known)}", file=file,
+                f"unknown market '{market}': the data folder's market library ({path}) has no "
+                f"such market; {hint}known markets: {', '.join(known)}", file=file,
                 key="markets", kind="bad-value"))
 
 @dataclass(frozen=True)

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass
-from difflib import get_close_matches
 
 from hunchbook.core.errors import HunchbookError
 
@@ -61,6 +60,8 @@ class Vocabulary:
         for key, label in self.labels.items():
             if wanted in (_fold(key), _fold(label)):
                 return key
+        from difflib import get_close_matches  # only for the error: kept out of start-up
+
         choices = list(self.labels.values())
         close = get_close_matches(text, choices, n=1, cutoff=0.6)
         hint = f"; did you mean '{close[0]}'?" if close else ""
