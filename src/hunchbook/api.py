@@ -19,6 +19,7 @@ from hunchbook.core.errors import DataError, HunchbookError, RuleError
 from hunchbook.core.events import read_events
 from hunchbook.core.expr import Expression, parse_expression
 from hunchbook.core.expr.nodes import EventRef, SeriesRef
+from hunchbook.core.markets import LIBRARY_FILE, read_market_library
 from hunchbook.core.metrics import summarise
 from hunchbook.core.panel import Panel, build_panel
 from hunchbook.core.prices import MarketData
@@ -62,6 +63,28 @@ def load_data(folder: str | os.PathLike[str], markets: list[str] | None = None, 
     with ``before`` (a holdout boundary) only the rows dated before it."""
     return _load_data(folder, markets, before=before)
 
+
+
+def _check_markets(text: str, rules: RuleSpec, folder: str | os.PathLike[str],
+                   file: str | None) -> None:
+    """Refuse a market of the rule file's ``markets`` key that the data folder's market library
+    does not have, pointing at the key's line and naming the closest known market (a folder
+    without a library is reported by :func:`load_data`)."""
+    from difflib import get_close_matches
+    from pathlib import Path
+
+    path = Path(folder) / LIBRARY_FILE
+    if not path.is_file():
+        return
+    known = sorted(read_market_library(path))
+    for market in rules.markets:
+        if market not in known:
+            close = get_close_matches(market, known, n=1)
+            hint = f"did you mean '{close[0]}'? " if close else ""
+            raise locate_error(text, RuleError(
+                f"unknown market '{market}': the data folder's market library ({path}) has no "
+                f"such market; {hint}known markets: {', '.join(known)}", file=file,
+                key="markets", kind="bad-value"))
 
 @dataclass(frozen=True)
 class SetResult:
@@ -238,6 +261,7 @@ class Study:
         """
         name = None if file is None else str(file)
         rules = parse_rules(text, file=name)
+        _check_markets(text, rules, data_folder, name)
         data = load_data(data_folder, [*rules.markets, *rules.reads], before=before)
         try:
             return cls(rules, data, file=name)

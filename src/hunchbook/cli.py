@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from hunchbook import __version__
-from hunchbook.cli_catalogue import author, open_catalogue
+from hunchbook.cli_catalogue import author, open_catalogue, use_help_text
 from hunchbook.cli_catalogue import register as register_catalogue_commands
 from hunchbook.cli_committee import register as register_committee_commands
 from hunchbook.cli_data import register as register_data_commands
@@ -169,7 +169,7 @@ def _build_parser() -> argparse.ArgumentParser:
     demo.add_argument("folder", metavar="DIR", type=Path)
     demo.add_argument("--seed", type=int, default=None, help="generator seed (default: fixed)")
     demo.set_defaults(handler=_cmd_demo_data)
-    return parser
+    return use_help_text(parser)
 
 
 def _positive_number(text: str) -> float:

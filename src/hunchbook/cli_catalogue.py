@@ -17,20 +17,20 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from hunchbook.core.verdict import LABELS
-from hunchbook.core.when import readable_time
+from hunchbook.core.formats import count, date, moment, plural
+from hunchbook.core.verdict import VERDICTS
 from hunchbook.store.entry_text import kind_label, sentence
 from hunchbook.store.errors import CatalogueError, DamagedCatalogue
 from hunchbook.store.vocab import (
     BY_AUTHOR,
     CHECKLIST,
     DECISION_LABELS,
-    DECISIONS,
-    ENTRY_KINDS,
-    RATIONALE_KINDS,
-    SOURCE_KINDS,
-    STAGES,
-    USER_ENTRY_KINDS,
+    DECISION_WORDS,
+    ENTRY_WORDS,
+    RATIONALE_WORDS,
+    SOURCE_WORDS,
+    STAGE_WORDS,
+    USER_ENTRY_WORDS,
 )
 
 if TYPE_CHECKING:  # the catalogue (and SQLite) is imported only when a command opens one
@@ -88,12 +88,13 @@ def _command(group: Any, name: str, help_text: str, handler: Handler, example: s
 
 def _ideas(group: Any) -> None:
     def list_args(p: argparse.ArgumentParser) -> None:
-        p.add_argument("--stage", choices=STAGES)
-        p.add_argument("--verdict", help="last verdict label")
+        p.add_argument("--stage", type=STAGE_WORDS.parse, help=STAGE_WORDS.help())
+        p.add_argument("--verdict", type=VERDICTS.parse,
+                       help="last verdict: " + VERDICTS.help())
         p.add_argument("--market")
         p.add_argument("--tag")
         p.add_argument("--author", help="who submitted the idea")
-        p.add_argument("--source", choices=SOURCE_KINDS)
+        p.add_argument("--source", type=SOURCE_WORDS.parse, help=SOURCE_WORDS.help())
         p.add_argument("--search", metavar="WORDS",
                        help="full-text search of titles, hypotheses, rationales and journal")
         p.add_argument("--waiting-for-me", action="store_true",
@@ -141,7 +142,7 @@ def _ideas(group: Any) -> None:
 
     def stage_args(p: argparse.ArgumentParser) -> None:
         p.add_argument("idea", type=int, metavar="ID")
-        p.add_argument("stage", choices=STAGES)
+        p.add_argument("stage", type=STAGE_WORDS.parse, help=STAGE_WORDS.help())
         p.add_argument("--reason", required=True)
     _command(group, "stage", "move an idea to another stage (journalled with who and why)",
              _ideas_stage, 'hunchbook ideas stage 7 submitted --reason "ready" --by Nia',
@@ -149,7 +150,9 @@ def _ideas(group: Any) -> None:
 
     def review_args(p: argparse.ArgumentParser) -> None:
         p.add_argument("idea", type=int, metavar="ID")
-        p.add_argument("--decision", required=True, choices=list(DECISIONS))
+        p.add_argument("--decision", required=True, type=DECISION_WORDS.parse,
+                       help=DECISION_WORDS.help() + " (or their keys: "
+                       + ", ".join(DECISION_WORDS.keys) + ")")
         p.add_argument("--checked", default="", metavar="ITEM,...",
                        help="checklist items satisfied (others count as not): "
                             + ", ".join(CHECKLIST))
@@ -179,8 +182,9 @@ def _ideas(group: Any) -> None:
 def _idea_fields(p: argparse.ArgumentParser) -> None:
     p.add_argument("--rationale", help="why it should work (or use --rationale-file)")
     p.add_argument("--rationale-file", type=Path, metavar="PATH")
-    p.add_argument("--rationale-kind", choices=RATIONALE_KINDS)
-    p.add_argument("--source", choices=SOURCE_KINDS, help="where the idea came from")
+    p.add_argument("--rationale-kind", type=RATIONALE_WORDS.parse, help=RATIONALE_WORDS.help())
+    p.add_argument("--source", type=SOURCE_WORDS.parse,
+                   help="where the idea came from: " + SOURCE_WORDS.help())
     p.add_argument("--citation")
     p.add_argument("--link")
     p.add_argument("--markets", type=_names, metavar="A,B,...")
@@ -191,14 +195,15 @@ def _journal(group: Any) -> None:
     def add_args(p: argparse.ArgumentParser) -> None:
         p.add_argument("text", help="the entry; '-' reads it from standard input")
         p.add_argument("--idea", type=int, metavar="ID", help="the idea (default: general)")
-        p.add_argument("--kind", choices=USER_ENTRY_KINDS, default="note")
+        p.add_argument("--kind", type=USER_ENTRY_WORDS.parse, default="note",
+                       help=USER_ENTRY_WORDS.help())
     _command(group, "add", "append an entry to the journal", _journal_add,
              'hunchbook journal add --idea 7 "Roll dates look wrong in CORN" --by Theo',
              add_args, writes=True)
 
     def list_args(p: argparse.ArgumentParser) -> None:
         p.add_argument("--idea", type=int, metavar="ID")
-        p.add_argument("--kind", choices=ENTRY_KINDS)
+        p.add_argument("--kind", type=ENTRY_WORDS.parse, help=ENTRY_WORDS.help())
         p.add_argument("--limit", type=int, metavar="N", help="only the newest N")
     _command(group, "list", "list journal entries, oldest first", _journal_list,
              "hunchbook journal list --idea 7", list_args)
@@ -220,6 +225,35 @@ def _catalogue(group: Any) -> None:
     _command(group, "demo", "write the invented demo desk's catalogue to a new file", _cat_demo,
              "hunchbook catalogue demo build/demo-catalogue.sqlite",
              lambda p: p.add_argument("destination", type=Path, metavar="PATH"))
+
+
+class HelpText(argparse.HelpFormatter):
+    """Help text wrapped between words only: an example's long argument (a list of
+    checklist items) moves whole to its own line instead of being cut mid-word."""
+
+    def _fill_text(self, text: str, width: int, indent: str) -> str:
+        import textwrap
+
+        return textwrap.fill(" ".join(text.split()), width, initial_indent=indent,
+                             subsequent_indent=indent + ("  " if text.startswith("Example:")
+                                                         else ""),
+                             break_long_words=False, break_on_hyphens=False)
+
+    def _split_lines(self, text: str, width: int) -> list[str]:
+        import textwrap
+
+        return textwrap.wrap(" ".join(text.split()), width, break_long_words=False,
+                             break_on_hyphens=False)
+
+
+def use_help_text(parser: argparse.ArgumentParser) -> argparse.ArgumentParser:
+    """Give ``parser`` and every parser below it :class:`HelpText`; return ``parser``."""
+    parser.formatter_class = HelpText
+    for action in parser._actions:
+        if isinstance(action, argparse._SubParsersAction):
+            for sub in action.choices.values():
+                use_help_text(sub)
+    return parser
 
 
 #: How other command modules (:mod:`hunchbook.cli_holdout`) add a group and a command.
@@ -249,7 +283,7 @@ def open_catalogue(args: argparse.Namespace, *, create: bool = False,
 
 def _verdict_label(outcome: str | None) -> str:
     """The product label of a stored verdict outcome (older records may hold a label)."""
-    return LABELS.get(outcome, outcome) if outcome else ""
+    return VERDICTS.label(outcome)
 
 
 def author(args: argparse.Namespace) -> str:
@@ -274,13 +308,14 @@ def _ideas_list(args: argparse.Namespace) -> int:
         for row, step in zip(table, steps, strict=True):
             row.insert(2, step or "")
     print(_table(headers, table))
-    print(f"{len(rows)} idea(s)" + (f" waiting for {me}" if me else ""))
+    print(plural(len(rows), "idea") + (f" waiting for {me}" if me else ""))
     return 0
 
 
 def _summary_row(r: IdeaSummary) -> list[str]:
     sharpe = "" if r.last_net_sharpe is None else f"{r.last_net_sharpe:.2f}"
-    return [str(r.id), r.stage, _verdict_label(r.last_verdict), sharpe, str(r.trial_count),
+    return [str(r.id), STAGE_WORDS.label(r.stage), _verdict_label(r.last_verdict), sharpe,
+            count(r.trial_count),
             r.submitted_by, r.title]
 
 
@@ -315,17 +350,18 @@ def _ideas_show(args: argparse.Namespace) -> int:
     if prereg:
         from hunchbook.core.prereg import describe_space
 
-        print(f"Pre-registered {prereg[0].frozen_at[:10]} (version {prereg[-1].version}): "
+        print(f"Pre-registered {date(prereg[0].frozen_at)} (version {prereg[-1].version}): "
               f"markets {', '.join(prereg[-1].markets) or '(none)'}; parameter space "
               f"{describe_space(prereg[-1].parameter_space)}")
     print(f"\nRule revisions ({len(revisions)}):")
     for r in revisions:
-        print(f"  {r.number}  {r.saved_at[:16]}  {r.saved_by}  sha256 {r.sha256[:12]}")
-    print(f"\nRuns ({len(runs)}), trial count {idea.trial_count}:")
+        print(f"  {r.number}  {moment(r.saved_at)}  {r.saved_by}  sha256 {r.sha256[:12]}")
+    print(f"\nRuns ({len(runs)}), trial count {count(idea.trial_count)}:")
     for run in runs:
         sharpe = "n/a" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}"
-        print(f"  run {run.id}  {run.recorded_at[:10]}  revision {run.revision_number}  "
-              f"{run.set_count} set(s)  net SR {sharpe}  verdict {run.verdict_label}")
+        print(f"  run {run.id}  {date(run.recorded_at)}  revision {run.revision_number}  "
+              f"{plural(run.set_count, 'set')}  net SR {sharpe}  verdict "
+              f"{_verdict_label(run.verdict_label)}")
         reasons = run.result.verdict.reasons if run.result else ()
         flag = prereg_flag(run.preregistration)
         print("      pre-registration: " + ("OUTSIDE (the verdict's warning below)"
@@ -337,12 +373,12 @@ def _ideas_show(args: argparse.Namespace) -> int:
 
             print(f"      {book_line(run.result.book)}")
     if seen is not None:
-        print(f"\nHoldout seen by {seen.seen_by} on {seen.seen_at[:10]} (run {seen.run_id}): "
+        print(f"\nHoldout seen by {seen.seen_by} on {date(seen.seen_at)} (run {seen.run_id}): "
               + seen.figures.finding())
     print(f"\nReviews ({len(reviews)}):")
     for v in reviews:
         own = f" ({BY_AUTHOR})" if v.by_author else ""
-        print(f"  {v.at[:10]}  {v.reviewer}: {DECISION_LABELS.get(v.decision, v.decision)}"
+        print(f"  {date(v.at)}  {v.reviewer}: {DECISION_LABELS.get(v.decision, v.decision)}"
               f"{own}. {v.comments}")
     print(f"\nJournal ({len(entries)}):")
     for e in entries:
@@ -353,13 +389,13 @@ def _ideas_show(args: argparse.Namespace) -> int:
 def family_lines(family: Family) -> list[str]:
     """The family as an indented tree: each member's id, title, stage, last verdict and own
     trials, the idea asked about marked."""
-    lines = [f"Family ({len(family)} ideas, {family.trial_count} trial(s) counted for each "
-             "one's deflated Sharpe):"]
+    lines = [f"Family ({plural(len(family), 'idea')}, {plural(family.trial_count, 'trial')} "
+             "counted for each one's deflated Sharpe):"]
     for depth, m in family.members():
         mark = "*" if m.id == family.idea_id else " "
         verdict = _verdict_label(m.last_verdict) or "no run yet"
         lines.append(f" {mark}{'    ' * depth}{'└─ ' if depth else ''}{m.id}  {m.title}  "
-                     f"[{m.stage}; {verdict}; {m.own_trials} own trial(s)]")
+                     f"[{m.stage}; {verdict}; {plural(m.own_trials, 'own trial')}]")
     return lines
 
 
@@ -368,15 +404,17 @@ def _idea_text(idea: Idea) -> str:
              f"  stage      : {idea.stage}"
              + (f" (last verdict: {_verdict_label(idea.last_verdict)})"
                 if idea.last_verdict else ""),
-             f"  rationale  : [{idea.rationale_kind}] {idea.rationale or '(none yet)'}",
-             f"  source     : {idea.source_kind}" + (f"; {idea.citation}" if idea.citation
-                                                      else "")
+             f"  rationale  : [{RATIONALE_WORDS.label(idea.rationale_kind)}] "
+             f"{idea.rationale or '(none yet)'}",
+             f"  source     : {SOURCE_WORDS.label(idea.source_kind)}"
+             + (f"; {idea.citation}" if idea.citation else "")
              + (f" <{idea.link}>" if idea.link else ""),
              f"  markets    : {', '.join(idea.markets) or '(none)'}",
              f"  tags       : {', '.join(idea.tags) or '(none)'}",
              f"  people     : submitted by {idea.submitted_by}; reviewer "
              f"{idea.reviewer or '(none yet)'}",
-             f"  dates      : created {idea.created_at[:16]}, updated {idea.updated_at[:16]}",
+             f"  dates      : created {moment(idea.created_at)}, updated "
+             f"{moment(idea.updated_at)}",
              f"  uuid       : {idea.uuid}"]
     return "\n".join(lines)
 
@@ -460,6 +498,9 @@ def _ideas_rules(args: argparse.Namespace) -> int:
 
 
 def _ideas_export(args: argparse.Namespace) -> int:
+    if args.bundle.exists() and not args.overwrite:
+        raise CatalogueError("file exists; choose another name, or give --overwrite to replace "
+                             "it", where=str(args.bundle))
     with open_catalogue(args, read_only=True) as cat:
         cat.export_bundle(args.idea, args.bundle, overwrite=args.overwrite)
     print(f"Idea {args.idea} written to {args.bundle}")
@@ -470,12 +511,27 @@ def _ideas_import(args: argparse.Namespace) -> int:
     with open_catalogue(args, create=True) as cat:
         report = cat.import_bundle(args.bundle, by=author(args))
     verb = "created" if report.created else "already in the catalogue; appended to"
-    added = ", ".join(f"{n} {k.replace('_', ' ')}" for k, n in report.added.items()
-                      if n) or "nothing new"
+    added = ", ".join(_record_count(n, k) for k, n in report.added.items() if n) \
+        or "nothing new"
     print(f"Idea {report.idea_id} {verb}: {added}.")
     for conflict in report.conflicts:
         print(f"  conflict: {conflict}")
     return 0
+
+
+#: A bundle's kinds of record (``store.bundles.RECORD_KINDS``) as one record and as several.
+_RECORD_WORDS = {"revisions": ("rule revision", "rule revisions"),
+                 "preregistrations": ("pre-registration", "pre-registrations"),
+                 "journal": ("journal entry", "journal entries"),
+                 "reviews": ("review", "reviews"), "runs": ("run", "runs"),
+                 "holdout": ("holdout unlocking", "holdout unlockings"),
+                 "variant_link": ("variant link", "variant links")}
+
+
+def _record_count(n: int, kind: str) -> str:
+    """``1 review``, ``3 runs``, ``2 journal entries``: a count of a bundle's records."""
+    one, many = _RECORD_WORDS.get(kind, (kind, kind))
+    return plural(n, one, many)
 
 
 def _journal_add(args: argparse.Namespace) -> int:
@@ -491,7 +547,7 @@ def _journal_list(args: argparse.Namespace) -> int:
         entries = cat.journal(args.idea, kind=args.kind, limit=args.limit)
     for e in entries:
         print(_entry_line(e))
-    print(f"{len(entries)} entr{'y' if len(entries) == 1 else 'ies'}")
+    print(plural(len(entries), "entry", "entries"))
     return 0
 
 
@@ -499,7 +555,7 @@ def _entry_line(e: Any) -> str:
     about = f"idea {e.idea_id}" if e.idea_id is not None else "general"
     note = f" (corrects {e.corrects})" if e.corrects else ""
     note += f" [corrected by {e.corrected_by}]" if e.corrected_by else ""
-    return (f"  #{e.id}  {readable_time(e.at)}  {about:>8}  {kind_label(e.kind):<16} {e.by}: "
+    return (f"  #{e.id}  {moment(e.at)}  {about:>8}  {kind_label(e.kind):<16} {e.by}: "
             f"{sentence(e)}{note}")
 
 
@@ -514,13 +570,14 @@ def _journal_correct(args: argparse.Namespace) -> int:
 def _runs_list(args: argparse.Namespace) -> int:
     with open_catalogue(args, read_only=True) as cat:
         runs = cat.runs(args.idea)
-    rows = [[str(r.id), str(r.idea_id), r.recorded_at[:10], str(r.revision_number),
-             str(r.set_count), str(r.trial_count),
+    rows = [[str(r.id), str(r.idea_id), date(r.recorded_at), str(r.revision_number),
+             count(r.set_count), count(r.trial_count),
              "" if r.chosen_net_sharpe is None else f"{r.chosen_net_sharpe:.2f}",
-             r.verdict_label, _prereg_cell(r.preregistration), r.recorded_by] for r in runs]
+             _verdict_label(r.verdict_label), _prereg_cell(r.preregistration), r.recorded_by]
+            for r in runs]
     print(_table(["run", "idea", "date", "rev", "sets", "trials", "net SR", "verdict",
                   "pre-reg", "by"], rows))
-    print(f"{len(runs)} run(s)")
+    print(plural(len(runs), "run"))
     for r in runs:
         if r.preregistration is not None and not r.preregistration.within:
             print(f"run {r.id}: {r.preregistration.finding}")
@@ -559,7 +616,7 @@ def _cat_check(args: argparse.Namespace) -> int:
         cat = open_catalogue(args, read_only=True)
     except DamagedCatalogue as exc:  # too damaged to open: that is the finding
         print(f"problem: {exc.problem}")
-        print(f"{exc.where}: 1 problem(s)")
+        print(f"{exc.where}: 1 problem")
         return 1
     with cat:
         problems = cat.check()
@@ -567,7 +624,7 @@ def _cat_check(args: argparse.Namespace) -> int:
     for problem in problems:
         print(f"problem: {problem}")
     print(f"{cat.path}: schema version {version}; "
-          + ("ok" if not problems else f"{len(problems)} problem(s)"))
+          + ("ok" if not problems else plural(len(problems), "problem")))
     return 1 if problems else 0
 
 

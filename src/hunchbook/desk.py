@@ -19,6 +19,7 @@ import os
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
+from hunchbook.core.formats import plural
 from hunchbook.core.plain import json_safe
 from hunchbook.core.stats.haircut import (
     DRAWS,
@@ -175,8 +176,8 @@ def promoted_cells(item: PromotedHaircut) -> tuple[str, ...]:
 def headline(report: DeskReport) -> str:
     """One sentence: ideas tested, trials, promotions."""
     s = report.summary
-    return (f"The desk tested {report.tests:,} idea(s) in {s.trials:,} trial(s) over "
-            f"{s.runs:,} run(s) and promoted {len(report.promoted):,} of them.")
+    return (f"The desk tested {plural(report.tests, 'idea')} in {plural(s.trials, 'trial')} "
+            f"over {plural(s.runs, 'run')} and promoted {len(report.promoted):,} of them.")
 
 
 def evidence_note(report: DeskReport) -> str:
@@ -185,8 +186,9 @@ def evidence_note(report: DeskReport) -> str:
         return (f"Each promoted idea is adjusted among the p-values of the {report.tests:,} "
                 "ideas tested (each idea's latest run: net Sharpe ratio over its history, "
                 "Student t).")
-    return (f"{report.unknown:,} tested idea(s) have no Sharpe ratio: their p-values are drawn "
-            f"from the Harvey-Liu-Zhu model (median of {report.draws:,} draws, seed "
+    have = "has" if report.unknown == 1 else "have"
+    return (f"{plural(report.unknown, 'tested idea')} {have} no Sharpe ratio: their p-values are "
+            f"drawn from the Harvey-Liu-Zhu model (median of {report.draws:,} draws, seed "
             f"{report.seed}).")
 
 

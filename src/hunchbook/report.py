@@ -12,6 +12,7 @@ from hunchbook.core.book_presenter import (
     book_table,
     threshold_sentence,
 )
+from hunchbook.core.formats import moment
 from hunchbook.core.presenter import (
     HOLDOUT_HEADERS,
     SHARPE_NOTE,
@@ -178,6 +179,6 @@ def format_holdout(view: HoldoutView) -> str:
     """An idea's held-out figures beside the in-sample ones, who saw them and when."""
     f = view.figures
     head = (f"Held-out years of idea {view.idea_id}: {f.first_date} to {f.last_date}, seen by "
-            f"{view.seen_by} on {view.seen_at[:16].replace('T', ' ')} (run {view.run_id}, "
+            f"{view.seen_by} on {moment(view.seen_at)} (run {view.run_id}, "
             f"rule revision {view.revision_number}, set {format_params(view.chosen_params)})")
     return "\n".join([head, *figures_text(holdout_rows(f), HOLDOUT_HEADERS), f.finding()])

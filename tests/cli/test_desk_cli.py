@@ -34,7 +34,7 @@ def test_desk_prints_periods_haircuts_and_caution(desk_path: Path, tmp_path: Pat
     text = capsys.readouterr().out
     lines = text.splitlines()
     # counted by hand (see build_desk): 3 ideas tested, 5 trials, 4 runs, 2 promoted
-    assert lines[0] == "The desk tested 3 idea(s) in 5 trial(s) over 4 run(s) and promoted 2 " \
+    assert lines[0] == "The desk tested 3 ideas in 5 trials over 4 runs and promoted 2 " \
                        "of them."
     assert lines[4].split() == ["2024-Q4", "1", "1", "2", "2", "0"]
     assert lines[6].split() == ["2025-Q2", "1", "1", "2", "2", "1"]

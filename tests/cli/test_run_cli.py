@@ -120,7 +120,15 @@ def test_sweep_summary_and_pnl_of_the_judged_set(tmp_path, wti_dir, capsys):
     ("rule_text", "args", "message"),
     [
         (RULE, ["--params", "fast=15"], "fast=15 is not one of the declared values"),
-        (RULE.replace('"WTI"', '"BRENT"'), [], "market 'BRENT' is not in the market library"),
+        # blamed on the rule file's markets key (line 3), not on the library
+        (RULE.replace('"WTI"', '"BRENT"'), [], "r.toml, key 'markets', line 3, column 11: "
+         "unknown market 'BRENT': the data folder's market library ("),
+        (RULE.replace('"WTI"', '"BRENT"'), [], "markets.toml) has no such market; known "
+         "markets: WTI"),
+        (RULE.replace('"WTI"', '"WIT"'), [], "did you mean 'WTI'?"),
+        (RULE.replace('name = "WTI two-average cross"', 'name = "WTI two-average cross'), [],
+         "line 2, column 30: TOML syntax error: the string opened with \" at column 8 is not "
+         "closed before the end of the line"),
         (RULE.replace("mean(close, fast)", "mean(clsoe, fast)"), [], "clsoe"),
         (RULE.replace("[sizing]", "[sizng]"), [], "sizng"),
     ],

@@ -92,7 +92,8 @@ def test_unreviewed_idea_records_nothing(demo_dir, catalogue_path, tmp_path, cap
     code, captured, _ = _run(EXAMPLES / "momentum.toml", demo_dir, catalogue_path, 2,
                              tmp_path, capsys)
     assert code == 1
-    assert "review it first" in captured.err and "Traceback" not in captured.err
+    assert "can run once a reviewer accepts it" in captured.err and "Traceback" not in captured.err
+    assert "idea 2: it is '" in captured.err and "idea 2: idea 2" not in captured.err
     with Catalogue(catalogue_path) as cat:
         assert cat.revisions(2) == [] and cat.runs(2) == []
 

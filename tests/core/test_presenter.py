@@ -122,3 +122,13 @@ def test_the_two_sharpe_ratios_are_explained_when_they_differ(run) -> None:  # n
     same = replace(record, statistics=replace(record.statistics,
                                               n_days=record.chosen.performance.days))
     assert sharpe_sentence(same) is None
+
+
+def test_the_total_cost_note_names_every_cost_the_engine_counts():
+    # the engine's cost per contract adds commission, exchange and regulatory fees and
+    # slippage (core/markets.py, MarketSpec.cost_per_contract): the note names each one
+    from hunchbook.core.presenter import PERFORMANCE_FIGURES
+
+    (total,) = [f for f in PERFORMANCE_FIGURES if f.label == "Total cost"]
+    note = total.note.lower()
+    assert all(word in note for word in ("commission", "exchange", "regulatory", "slippage"))

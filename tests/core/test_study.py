@@ -6,7 +6,7 @@ from __future__ import annotations
 import pytest
 
 from hunchbook.api import Study
-from hunchbook.core.errors import DataError, RuleError
+from hunchbook.core.errors import RuleError
 from hunchbook.core.prices import load_data
 from tests.reference_impl import TWO_MARKET_LIBRARY, write_random_contracts
 
@@ -62,9 +62,11 @@ def test_rule_errors_name_the_file(folder):
 
 
 def test_a_market_without_data_names_the_folder(folder):
-    with pytest.raises(DataError) as missing:
+    # a market the library lacks is blamed on the rule file's markets key (with its line)
+    with pytest.raises(RuleError) as missing:
         Study.from_text(RULES.replace('"M2"', '"M3"'), folder)
-    assert str(folder) in str(missing.value)
+    assert str(folder) in str(missing.value) and missing.value.key == "markets"
+    assert missing.value.span is not None and "known markets: M1, M2" in str(missing.value)
 
 
 def test_a_missing_rule_file_is_one_clear_error(folder):

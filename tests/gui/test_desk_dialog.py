@@ -66,7 +66,7 @@ def test_desk_dialog_on_the_demo(qtbot, window, monkeypatch):
               str(trials),
               str(sum(cat.idea(i).stage == "promoted" for i in tested))]
     assert _cells(dialog.period_table) == [["2025", *counts], ["Total", *counts]]
-    assert f"tested {counts[0]} idea(s) in {counts[3]} trial(s)" in dialog.headline.text()
+    assert f"tested {counts[0]} ideas in {counts[3]} trials" in dialog.headline.text()
     (row,) = _cells(dialog.promoted_table)
     assert row[0] == "1 Two-average trend across the book"
 

@@ -73,7 +73,7 @@ def test_the_idea_section_shows_the_family_tree(qtbot, window):
         (1, [f"{variant}  {VARIANT}", "tested", "No edge", "4"])]
     assert [m.own_trials for _, m in family.members()] == [8, 4] and family.trial_count == 12
     assert panel.tree.topLevelItem(0).child(0).font(0).bold()
-    assert "A family of 2 ideas: 12 trial(s) in all" in panel.summary.text()
+    assert "A family of 2 ideas: 12 trials in all" in panel.summary.text()
     assert not panel.variant_button.isEnabled()
     assert "never changed" in panel.variant_button.toolTip()
     assert _trials_cell(window, variant) == _trials_cell(window, parent) == "12"

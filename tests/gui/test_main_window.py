@@ -102,13 +102,14 @@ def _close_error_dialogs(win: MainWindow) -> list[str]:
 
 
 def test_new_idea_through_the_dialog(qtbot, window):
-    """Ctrl+N's action opens the dialog; typing a title and hypothesis and pressing OK writes
-    a draft idea, selects it in the table and shows its Idea section."""
+    """Ctrl+N's action opens the dialog; typing a title and hypothesis, ticking a market and
+    pressing OK writes a draft idea, selects it in the table and shows its Idea section."""
     window.new_idea_action.trigger()
     dialog = window.findChild(NewIdeaDialog)
     assert dialog is not None and dialog.isVisible()
     qtbot.keyClicks(dialog.title, "Grain basis carry")
     qtbot.keyClicks(dialog.hypothesis, "Wide basis means the curve pays to hold.")
+    dialog.market_list.item(0).setCheckState(Qt.CheckState.Checked)
     qtbot.mouseClick(dialog.buttons.button(QDialogButtonBox.StandardButton.Ok),
                      Qt.MouseButton.LeftButton)
     idea_id = window.current_idea_id()

@@ -56,13 +56,13 @@ def test_variants_from_the_command_line(desk: list[str], tmp_path: Path,
     out = capsys.readouterr().out
     assert out.splitlines() == [
         "Idea 2 is now a variant of idea 3.",
-        "Family (3 ideas, 2 trial(s) counted for each one's deflated Sharpe):",
-        "  1  Grain trend  [tested; Promote; 2 own trial(s)]",
-        "      └─ 3  Grain trend, slower  [draft; no run yet; 0 own trial(s)]",
-        " *        └─ 2  Soy trend  [draft; no run yet; 0 own trial(s)]"]
+        "Family (3 ideas, 2 trials counted for each one's deflated Sharpe):",
+        "  1  Grain trend  [tested; Promote; 2 own trials]",
+        "      └─ 3  Grain trend, slower  [draft; no run yet; 0 own trials]",
+        " *        └─ 2  Soy trend  [draft; no run yet; 0 own trials]"]
     assert _run("ideas", "show", *c, "2") == 0
     shown = capsys.readouterr().out
-    assert "Family (3 ideas, 2 trial(s)" in shown and " *        └─ 2  Soy trend" in shown
+    assert "Family (3 ideas, 2 trials" in shown and " *        └─ 2  Soy trend" in shown
     with Catalogue(Path(c[1])) as cat:
         assert cat.trial_count(2) == 2 and cat.variant_link(2).set_by == "Theo"
     # a second link, a circle or a missing reason: one line each, nothing written
@@ -95,7 +95,7 @@ def test_a_bundle_import_carries_the_family_link(desk: list[str], tmp_path: Path
     assert "Idea 1 already in the catalogue; appended to: 1 variant link." in out
     assert _run("ideas", "show", *other, "2") == 0
     out = capsys.readouterr().out
-    assert "Family (2 ideas, 2 trial(s)" in out and "└─ 1  Soy trend" in out
+    assert "Family (2 ideas, 2 trials" in out and "└─ 1  Soy trend" in out
 
 
 def test_four_eyes_and_the_promotion_review(desk: list[str],
@@ -106,9 +106,9 @@ def test_four_eyes_and_the_promotion_review(desk: list[str],
     out = capsys.readouterr().out.splitlines()
     assert out[0].split()[:5] == ["id", "stage", "your", "next", "step"]
     assert out[1].startswith("1   tested  promotion review") and out[-1] == (
-        "1 idea(s) waiting for Theo")
+        "1 idea waiting for Theo")
     assert _run("ideas", "list", *c, "--waiting-for-me") == 0  # Nia (HUNCHBOOK_USER)
-    assert capsys.readouterr().out.endswith("0 idea(s) waiting for Nia\n")
+    assert capsys.readouterr().out.endswith("0 ideas waiting for Nia\n")
     with pytest.raises(HunchbookError, match="promoted by a promotion review, not a stage "
                                              "change"):
         _run("ideas", "stage", *c, "1", "promoted", "--reason", "strong", "--by", "Theo")

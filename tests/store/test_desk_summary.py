@@ -177,4 +177,4 @@ def test_unknown_evidence_is_simulated_or_reported() -> None:
     # expected false promotions count the promotion with a p-value only
     assert report.expected_false == pytest.approx(first.haircut.bhy.p_value)
     text = format_desk(report)
-    assert "3 I3" in text and "n/a" in text and "2 tested idea(s) have no Sharpe ratio" in text
+    assert "3 I3" in text and "n/a" in text and "2 tested ideas have no Sharpe ratio" in text

@@ -64,6 +64,7 @@ def test_bad_links_are_refused_in_one_line_and_write_nothing(cat: Catalogue, cas
     with pytest.raises(CatalogueError, match=message) as caught:
         cat.set_variant_of(idea, parent, by="Nia", reason=reason)
     assert "\n" not in str(caught.value)
+    assert f"idea {idea}: idea {idea}" not in str(caught.value)  # the idea named once
     assert table_counts(cat) == before
     assert len(cat.db.execute("SELECT * FROM variant_links").fetchall()) == 2
 

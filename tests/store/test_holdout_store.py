@@ -83,8 +83,7 @@ def test_an_idea_sees_its_holdout_once_and_the_journal_says_who_and_when(
         cat: Catalogue) -> None:
     idea = accepted_idea(cat)
     cat.set_holdout_boundary(BOUNDARY, by="Ines Marwood", reason="last year out")
-    assert cat.unlock_problem(idea) == (f"idea {idea} has no run yet: run it before the "
-                                        "boundary first")
+    assert cat.unlock_problem(idea) == "it has no run yet: run it before the boundary first"
     run_id = _run(cat, idea)
     assert cat.unlock_problem(idea) is None and cat.holdout_view(idea) is None
     view = _unlock(cat, idea, run_id)
@@ -99,7 +98,7 @@ def test_an_idea_sees_its_holdout_once_and_the_journal_says_who_and_when(
         f"run {run_id}) run once on the held-out dates 2021-10-01 to ")
     assert view.figures.finding() in entry.text
     # once per idea: a second unlocking is refused, naming who saw it and when
-    problem = (f"the held-out years of idea {idea} were already unlocked by Ines Marwood on "
+    problem = (f"its held-out years were already unlocked by Ines Marwood on "
                f"{view.seen_at[:10]} (continuing run {run_id}); they are seen once per idea")
     assert cat.unlock_problem(idea) == problem
     before = (len(cat.journal()), len(cat.holdout_views()))
@@ -126,7 +125,7 @@ def test_unlocking_is_refused_when_runs_saw_past_the_boundary(cat: Catalogue) ->
     third = accepted_idea(cat, title="Third")
     _run(cat, third, boundary="2021-03-01")  # an earlier boundary: saw less, but not this one
     assert cat.unlock_problem(third) == (
-        f"the latest run of idea {third} (run {cat.runs(third)[-1].id}) was made before "
+        f"its latest run (run {cat.runs(third)[-1].id}) was made before "
         "2021-03-01, not at the boundary in force (2021-06-01): run it again first")
     assert cat.holdout_views() == []
 

@@ -137,7 +137,7 @@ def test_a_damaged_page_gives_one_line_naming_check_and_the_latest_backup(
     assert (code, err) == (1, "")
     assert out.splitlines() == [*(f"problem: integrity: table ideas: {f}" for f in found),
                                 f"{path}: schema version {SCHEMA_VERSION}; {len(found)} "
-                                "problem(s)"]
+                                f"problem{'' if len(found) == 1 else 's'}"]
     assert snapshot(tmp_path) == before
 
 
@@ -151,7 +151,7 @@ def test_check_reports_a_file_too_damaged_to_open(tmp_path: Path,
     before = snapshot(tmp_path)
     assert cli(capsys, "catalogue", "check", "--catalogue", path) == (
         1, "problem: the catalogue file is damaged (SQLite: database disk image is malformed)\n"
-           f"{path}: 1 problem(s)\n", "")
+           f"{path}: 1 problem\n", "")
     assert snapshot(tmp_path) == before
 
 
@@ -307,7 +307,7 @@ WRITES = (["journal", "add", "--idea", "1", "Re-ran on the longer history."],
 
 def _check_reads(results: list[tuple[int, str, str]], path: Path) -> None:
     listed, shown, journal, check = results[:4]
-    assert listed[0] == 0 and "Grain trend" in listed[1] and listed[1].endswith("1 idea(s)\n")
+    assert listed[0] == 0 and "Grain trend" in listed[1] and listed[1].endswith("1 idea\n")
     assert shown[0] == 0 and shown[1].startswith("Idea 1: Grain trend\n")
     assert journal[0] == 0 and "Roll dates checked." in journal[1]
     assert check == (0, f"{path}: schema version {SCHEMA_VERSION}; ok\n", "")

@@ -134,7 +134,7 @@ def test_check_finds_a_row_rewritten_past_the_triggers(
     out, err = capsys.readouterr()
     assert err == ""
     assert out.splitlines() == [f"problem: {problem}{CHANGED}",
-                                f"{path}: schema version {SCHEMA_VERSION}; 1 problem(s)"]
+                                f"{path}: schema version {SCHEMA_VERSION}; 1 problem"]
 
 
 def test_check_finds_trials_that_no_longer_match_their_run(

@@ -81,8 +81,10 @@ def test_tested_is_reached_only_by_recording_a_run(cat: Catalogue) -> None:
 def test_runs_are_refused_before_review(cat: Catalogue) -> None:
     idea = cat.add_idea(title="t", hypothesis="h", submitted_by="Theo", stage="submitted")
     rev = cat.save_rules(idea, RULES, by="Theo")
-    with pytest.raises(CatalogueError, match="review it first"):
+    with pytest.raises(CatalogueError, match="waits for its review") as refused:
         cat.record_run(idea, revision_id=rev.id, by="Theo", **run_args(SET, [0.3]))
+    # the idea is named once, where the error says what it is about
+    assert str(refused.value).startswith(f"idea {idea}: it is 'submitted'")
     assert cat.runs(idea) == []
 
 

@@ -129,6 +129,7 @@ from hunchbook.store.vocab import (
     FROZEN_FIELDS,
     PROMOTION_CHECKLIST,
     REVIEW_KINDS,
+    RUN_ADVICE,
     RUNNABLE_STAGES,
     STAGES,
     TRANSITIONS,
@@ -494,8 +495,9 @@ class Catalogue(ReviewsAPI, HoldoutAPI, ListingAPI):
             idea = ideas.get(self.db, idea_id)
             if idea.stage not in RUNNABLE_STAGES:
                 raise CatalogueError(
-                    f"idea {idea.id} is '{idea.stage}'; runs are recorded for ideas that are "
-                    f"{', '.join(RUNNABLE_STAGES)} (review it first)", field=f"idea {idea.id}")
+                    f"it is '{idea.stage}', and runs are recorded for ideas that are "
+                    f"{', '.join(RUNNABLE_STAGES)}. {RUN_ADVICE[idea.stage]}",
+                    field=f"idea {idea.id}")
             revision = revmod.get(self.db, validate.integer(revision_id, "revision id"))
             if revision.idea_id != idea.id:
                 raise CatalogueError(f"rule revision {revision.id} belongs to idea "

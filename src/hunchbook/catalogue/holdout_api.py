@@ -4,10 +4,10 @@ settings and each idea's one unlocking of its held-out years."""
 from __future__ import annotations
 
 import datetime as dt
-import math
 from collections.abc import Callable
 from typing import TYPE_CHECKING
 
+from hunchbook.core.formats import pct, plural
 from hunchbook.store import db as dbmod
 from hunchbook.store import holdout, ideas, journal, validate
 from hunchbook.store import runs as runmod
@@ -79,7 +79,7 @@ class HoldoutAPI:
     def _unlock_problem(self, idea_id: int) -> str | None:
         seen = holdout.view(self.db, idea_id, with_pnl=False)
         if seen is not None:
-            return (f"the held-out years of idea {idea_id} were already unlocked by "
+            return (f"its held-out years were already unlocked by "
                     f"{seen.seen_by} on {seen.seen_at[:10]} (continuing run {seen.run_id}); "
                     "they are seen once per idea")
         current = holdout.current(self.db)
@@ -87,15 +87,15 @@ class HoldoutAPI:
             return "the catalogue has no holdout boundary yet (a quick run sets one)"
         runs = holdout.run_boundaries(self.db, idea_id)
         if not runs:
-            return f"idea {idea_id} has no run yet: run it before the boundary first"
+            return "it has no run yet: run it before the boundary first"
         for run_id, edge in runs:
             if edge is None or edge > current.boundary:
                 saw = "the whole history" if edge is None else f"the dates before {edge}"
-                return (f"run {run_id} of idea {idea_id} saw {saw}, past the holdout "
+                return (f"its run {run_id} saw {saw}, past the holdout "
                         f"boundary {current.boundary}: its held-out years are not unseen")
         last, edge = runs[-1]
         if edge != current.boundary:
-            return (f"the latest run of idea {idea_id} (run {last}) was made before {edge}, "
+            return (f"its latest run (run {last}) was made before {edge}, "
                     f"not at the boundary in force ({current.boundary}): run it again first")
         return None
 
@@ -141,8 +141,8 @@ class HoldoutAPI:
 
 def _holdout_text(run: RunRecord, figures: HoldoutFigures, by: str) -> str:
     chosen = ", ".join(f"{k}={v:g}" for k, v in run.chosen_params.items()) or "no parameters"
-    psr = "n/a" if math.isnan(figures.psr) else f"{100.0 * figures.psr:.1f} %"
+    psr = pct(figures.psr)
     return (f"Holdout unlocked by {by}: rule revision {run.revision_number}, chosen set "
             f"{chosen} (of run {run.id}) run once on the held-out dates {figures.first_date} "
-            f"to {figures.last_date} ({figures.days} days from the boundary "
+            f"to {figures.last_date} ({plural(figures.days, 'day')} from the boundary "
             f"{figures.boundary}). Held-out PSR {psr}. {figures.finding()}")

@@ -65,7 +65,7 @@ class ReviewsAPI:
             if idea.stage != kind.stage:
                 what = "promotion reviews are for tested ideas" if kind_name == "promotion" \
                     else "only submitted ideas are reviewed"
-                raise CatalogueError(f"idea {idea.id} is '{idea.stage}'; {what}",
+                raise CatalogueError(f"it is '{idea.stage}'; {what}",
                                      field=f"idea {idea.id}")
             problem = settings.author_review_problem(self.db, idea.submitted_by, reviewer)
             if problem is not None:
@@ -133,8 +133,8 @@ class ReviewsAPI:
             idea = ideas.get(self.db, idea_id)
             parent = ideas.get(self.db, parent_id)
             problem = families.link_problem(self.db, idea.id, parent.id)
-            if problem is not None:
-                raise CatalogueError(problem, field=f"idea {idea.id}")
+            if problem is not None:  # the problem names the ideas itself
+                raise CatalogueError(problem)
             families.insert(self.db, idea.id, parent.id, reason=reason, by=by, at=at)
             families.refresh_trial_counts(self.db, idea.id)
             count = runmod.trial_count(self.db, idea.id)

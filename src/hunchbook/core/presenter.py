@@ -14,6 +14,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Generic, TypeVar
 
 from hunchbook.core.capital_figures import MONTHS, CapitalFigures, YearRow
+from hunchbook.core.formats import MISSING, count, pct, plural
 from hunchbook.core.periods import DAYS_PER_YEAR
 from hunchbook.core.results import MarketFigures, Performance, RunSummary, SetSummary
 from hunchbook.core.stats.first_pass import FirstPassStats
@@ -23,8 +24,6 @@ if TYPE_CHECKING:
 
     from hunchbook.core.holdout import HoldoutFigures
 
-#: Shown wherever a figure is missing or undefined.
-MISSING = "—"
 #: The unit of figures in the run currency (replaced by its code: ``USD``).
 CURRENCY = "{currency}"
 #: Unit of the cost figures per contract and side (a buy or a sell; a round turn is both).
@@ -128,10 +127,6 @@ def number(value: Any) -> Value:
     return value if math.isfinite(value) else None
 
 
-def _plural(n: int, word: str) -> str:
-    return f"{n:,} {word}{'' if n == 1 else 's'}"
-
-
 #: The chosen set over its whole history (portfolio, gross and net).
 PERFORMANCE_FIGURES: list[Figure[Performance]] = [
     Figure("Total P&L", "money", lambda p: p.gross.total, lambda p: p.net.total,
@@ -233,7 +228,7 @@ STATISTIC_FIGURES: list[Figure[FirstPassStats]] = [
     Figure("Best Sharpe by luck", "ratio", None, lambda s: s.expected_max_sharpe,
            "The Sharpe ratio the best of the trials would reach with no edge at all (SR0 of "
            "the deflated Sharpe)."),
-    Figure(lambda s: f"SPA p-value ({_plural(s.spa_sets, 'set')})", "pvalue", None,
+    Figure(lambda s: f"SPA p-value ({plural(s.spa_sets, 'set')})", "pvalue", None,
            lambda s: None if s.spa is None else s.spa.consistent,
            "Chance that no set ever run beats doing nothing (Hansen's consistent p-value)."),
     Figure("Walk-forward Sharpe (out of sample)", "ratio", None,
@@ -439,15 +434,16 @@ def set_table(run: RunSummary, limit: int | None = None) -> Table:
 
 
 def format_value(value: Value, kind: str) -> str:
-    """A figure as table text (thousands separators; a dash when missing)."""
+    """A figure as table text (:mod:`hunchbook.core.formats`: thousands separators, ``99.6 %``;
+    a dash when missing)."""
     if value is None or not math.isfinite(value):
         return MISSING
     if kind == "money":
         return f"{value:,.0f}"
     if kind == "pct":
-        return f"{100.0 * value:.1f} %"
+        return pct(value)
     if kind == "count":
-        return f"{value:,.0f}" if float(value).is_integer() else f"{value:,.1f}"
+        return count(value)
     if kind == "years":
         return f"{value:.1f}"
     if kind == "pvalue":

@@ -29,6 +29,9 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.formats import pct as _pct
+from hunchbook.core.formats import plural as _plural
+from hunchbook.core.labels import Vocabulary
 
 if TYPE_CHECKING:  # labels are read by the window at start-up: keep scipy out of this import
     from hunchbook.core.stats.first_pass import FirstPassStats
@@ -42,6 +45,9 @@ LABELS = {
     "selection_luck": "Likely luck",
     "passes": "Promote",
 }
+
+#: The outcomes as people read them: the label printed, label or key accepted.
+VERDICTS = Vocabulary("verdict", LABELS)
 
 #: What to do next, one plain sentence per outcome.
 ACTIONS = {
@@ -329,14 +335,6 @@ def _trials_text(s: FirstPassStats) -> str:
 
 def _status(ok: bool) -> str:
     return "pass" if ok else "fail"
-
-
-def _plural(n: int, word: str) -> str:
-    return f"{n:,} {word}" + ("" if n == 1 else "s")
-
-
-def _pct(p: float) -> str:
-    return "n/a" if math.isnan(p) else f"{100.0 * p:.1f} %"
 
 
 def _numbers(stats: FirstPassStats) -> dict[str, float | int | bool | None]:

@@ -23,6 +23,7 @@ from pathlib import Path
 from typing import Any
 
 from hunchbook.catalogue import CHECKLIST, PROMOTION_CHECKLIST, Catalogue
+from hunchbook.core.formats import pct
 from hunchbook.core.runners import InProcess
 from hunchbook.demo import rules as demo_rules
 from hunchbook.demo.desk import DESK
@@ -460,7 +461,7 @@ def _net(run: IdeaRun) -> str:
 
 
 def _dsr(run: IdeaRun) -> str:
-    return f"{run.summary.statistics.dsr:.0%}"
+    return pct(run.summary.statistics.dsr)
 
 
 def _trials(run: IdeaRun) -> int:
@@ -477,4 +478,4 @@ def _chosen(run: IdeaRun) -> str:
 
 def _cost_share(run: IdeaRun) -> str:
     costs = run.summary.statistics.costs
-    return f"{costs.cost_total / costs.gross_total:.0%}" if costs.gross_total > 0 else "all"
+    return pct(costs.cost_total / costs.gross_total) if costs.gross_total > 0 else "all"

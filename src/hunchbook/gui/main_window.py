@@ -11,6 +11,7 @@ Long work runs on :mod:`hunchbook.gui.workers`, which open their own catalogue c
 from __future__ import annotations
 
 import os
+from collections.abc import Sequence
 from functools import partial
 from pathlib import Path
 from typing import TYPE_CHECKING, cast
@@ -296,21 +297,24 @@ class MainWindow(QMainWindow):
         the dialog is accepted)."""
         if self.need_catalogue() is None:
             return None
-        dialog = NewIdeaDialog(self)
+        dialog = NewIdeaDialog(self, tuple(self.library))
         dialog.accepted.connect(lambda: self.create_idea(dialog.title.text(),
-                                                         dialog.hypothesis.text()))
+                                                         dialog.hypothesis.text(),
+                                                         dialog.markets()))
         dialog.finished.connect(dialog.deleteLater)
         dialog.open()
         return dialog
 
-    def create_idea(self, title: str, hypothesis: str) -> int | None:
-        """Write a new draft idea, select it and open its Idea section."""
+    def create_idea(self, title: str, hypothesis: str,
+                    markets: Sequence[str] = ()) -> int | None:
+        """Write a new draft idea (trading ``markets``: its starter rules name them), select
+        it and open its Idea section."""
         catalogue = self.need_catalogue()
         if catalogue is None:
             return None
         try:
             idea_id = catalogue.add_idea(title=title.strip(), hypothesis=hypothesis.strip(),
-                                         submitted_by=self.user)
+                                         submitted_by=self.user, markets=list(markets))
         except HunchbookError as exc:
             self.show_error("Idea not written", one_line(exc))
             return None

@@ -27,10 +27,12 @@ from PySide6.QtCore import (
 )
 from PySide6.QtGui import QColor, QFont
 
-from hunchbook.core.verdict import LABELS
+from hunchbook.core.formats import count, date
+from hunchbook.core.verdict import VERDICTS
 from hunchbook.core.when import readable_time
 from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.store.records import IdeaSummary, RunRecord
+from hunchbook.store.vocab import STAGE_WORDS
 
 if TYPE_CHECKING:
     from hunchbook.catalogue import Catalogue
@@ -47,9 +49,7 @@ Index = QModelIndex | QPersistentModelIndex
 
 def verdict_label(outcome: str | None) -> str:
     """The product label of a verdict outcome key ('' when there is none)."""
-    if not outcome:
-        return ""
-    return LABELS.get(outcome, outcome)
+    return VERDICTS.label(outcome)
 
 
 def format_sharpe(value: float | None) -> str:
@@ -176,13 +176,14 @@ class IdeaTableModel(_RecordTableModel):
     title, stage, last verdict, net Sharpe, trials, updated. Sorting asks the catalogue anew
     (a model reset); :meth:`refresh_ideas` changes rows in place."""
 
-    COLUMNS = ("Title", "Stage", "Last verdict", "Sharpe", "Trials", "Updated")
+    COLUMNS = ("Title", "Stage", "Last verdict", "Net SR", "Trials", "Updated")
     TITLE, STAGE, VERDICT, SHARPE, TRIALS, UPDATED = range(6)
     #: The catalogue's order of each column (see ``Catalogue.idea_ids``).
     ORDERS = ("title", "stage", "verdict", "sharpe", "trials", "updated")
     #: Header tooltips, one per column.
     TIPS = ("The idea's title", "Where the idea is in the pipeline",
-            "Verdict of the latest run", "Net Sharpe ratio of the latest run's chosen set",
+            "Verdict of the latest run",
+            "Net Sharpe ratio (after costs, annualised) of the latest run's chosen set",
             "Distinct parameter sets ever run (the trial count)", "Last change")
 
     def __init__(self, parent: Any = None) -> None:
@@ -326,14 +327,14 @@ class IdeaTableModel(_RecordTableModel):
         if column == self.TITLE:
             return idea.title
         if column == self.STAGE:
-            return idea.stage
+            return STAGE_WORDS.label(idea.stage)
         if column == self.VERDICT:
             return verdict_label(idea.last_verdict)
         if column == self.SHARPE:
             return "" if idea.last_verdict is None else format_sharpe(idea.last_net_sharpe)
         if column == self.TRIALS:
-            return str(idea.trial_count) if idea.trial_count else ""
-        return idea.updated_at[:10]
+            return count(idea.trial_count) if idea.trial_count else ""
+        return date(idea.updated_at)
 
     def _raw(self, idea: IdeaSummary, column: int) -> Any:
         if column == self.SHARPE:

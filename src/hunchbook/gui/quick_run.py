@@ -15,12 +15,13 @@ from PySide6.QtWidgets import (
     QStyle,
 )
 
+from hunchbook.core.formats import plural
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.gui.preregistration import offer_amendment, run_refusal
 from hunchbook.gui.workers import RunIdeaWorker
 from hunchbook.starter import STARTER_HINT, is_starter
-from hunchbook.store.vocab import RUNNABLE_STAGES
+from hunchbook.store.vocab import RUN_ADVICE, RUNNABLE_STAGES
 
 if TYPE_CHECKING:
     from hunchbook.gui.main_window import MainWindow
@@ -113,7 +114,7 @@ class QuickRunner(QObject):
         if idea.stage not in RUNNABLE_STAGES:
             window.show_error("Not ready to run",
                               f"This idea is '{idea.stage}'; quick runs are for ideas that are "
-                              f"{', '.join(RUNNABLE_STAGES)} (submit it for review first).")
+                              f"{', '.join(RUNNABLE_STAGES)}. {RUN_ADVICE[idea.stage]}")
             return None
         if window.data_folder is None:
             window.show_error("No data folder", "Choose a data folder first (Data \u25b8 Data "
@@ -193,8 +194,9 @@ class QuickRunner(QObject):
         window.refresh_idea(idea_id)  # the Runs section lists the new run, the rules are saved
         if idea_id == window.current_idea_id():
             window.show_section("runs")
+        sets = plural(len(result.summary.sets), "set")
         window.status_message(f"Run {run_id} recorded (rule revision "
-                              f"{result.revision_number}, {len(result.summary.sets)} sets, "
+                              f"{result.revision_number}, {sets}, "
                               f"in-sample up to {result.boundary}): {label}."
                               + _changes(result.summary))
         self.finished.emit(run_id)

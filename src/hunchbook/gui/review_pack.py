@@ -28,6 +28,7 @@ from pathlib import Path
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.formats import plural
 from hunchbook.core.prereg import describe_space
 from hunchbook.core.presenter import market_table, set_table
 from hunchbook.core.verdict import CAUTION
@@ -167,8 +168,9 @@ Section = tuple[str, bool, Callable[[ReviewPack], str | None]]
 def _summary(pack: ReviewPack) -> str:
     idea, run = pack.idea, pack.run
     lines = [f"Idea {idea.id}, stage <strong>{_e(idea.stage)}</strong>; "
-             f"{len(pack.runs)} run(s), {idea.trial_count} trial(s) counted; "
-             f"{len(pack.reviews)} review(s); {len(pack.journal)} journal entries."]
+             f"{plural(len(pack.runs), 'run')}, {plural(idea.trial_count, 'trial')} counted; "
+             f"{plural(len(pack.reviews), 'review')}; "
+             f"{plural(len(pack.journal), 'journal entry', 'journal entries')}."]
     if run is not None:
         verdict = verdict_text(run)
         lines.append(f"Latest verdict shown here (run {run.id}): <strong>"

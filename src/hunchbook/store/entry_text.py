@@ -18,18 +18,18 @@ from hunchbook.store.records import Entry
 from hunchbook.store.vocab import (
     CHECKLIST,
     DESK_SETTINGS,
-    ENTRY_KIND_LABELS,
+    ENTRY_WORDS,
     FIELD_LABELS,
     PROMOTION_CHECKLIST,
-    RATIONALE_LABELS,
-    SOURCE_LABELS,
+    RATIONALE_WORDS,
+    SOURCE_WORDS,
 )
 
 #: Every checklist item's question, by key (idea review and promotion review).
 _QUESTIONS = {**CHECKLIST, **PROMOTION_CHECKLIST}
 
 #: Labels of stored values that are keys (kinds of rationale and source).
-_VALUE_LABELS = {**RATIONALE_LABELS, **SOURCE_LABELS}
+_VALUE_LABELS = {**RATIONALE_WORDS.labels, **SOURCE_WORDS.labels}
 
 _RUN = re.compile(
     r"Run (?P<id>\d+) on rule revision (?P<rev>\d+): (?P<sets>\d+) parameter set\(s\), "
@@ -58,7 +58,7 @@ def sentence(entry: Entry) -> str:
 
 def kind_label(kind: str) -> str:
     """How a kind of entry reads, e.g. ``Pre-registration``."""
-    return ENTRY_KIND_LABELS.get(kind, kind.replace("_", " ").capitalize())
+    return ENTRY_WORDS.label(kind)
 
 
 def _as_written(text: str) -> str:

@@ -5,6 +5,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from hunchbook.core.labels import Vocabulary
+
 #: Stages of an idea, in pipeline order: written down, sent for review, accepted for testing or
 #: returned with comments, tested (at least one run recorded), promoted to full research or shelved.
 STAGES = ("draft", "submitted", "accepted", "returned", "tested", "promoted", "shelved")
@@ -23,6 +25,18 @@ TRANSITIONS: dict[str, tuple[str, ...]] = {
 #: Stages at which a run may be recorded (the idea has passed review).
 RUNNABLE_STAGES = ("accepted", "tested", "promoted")
 
+#: What an idea at each stage needs before it can be run (a quick run refused, an idea without
+#: runs): one plain sentence per stage.
+RUN_ADVICE: dict[str, str] = {
+    "draft": "Write its rules and submit it for review; it can run once a reviewer accepts it.",
+    "submitted": "It waits for its review: it can run once a reviewer accepts it.",
+    "returned": "Rework it as the review asks and submit it again; it can run once accepted.",
+    "accepted": "Run its rules: the first run freezes its markets and parameter space.",
+    "tested": "Run it again, or send it to its promotion review.",
+    "promoted": "It is promoted: runs go on being recorded against it.",
+    "shelved": "Move it back to draft to work on it again.",
+}
+
 #: Kinds of rationale: a premium paid for bearing a risk, a behavioural bias, a structural or
 #: flow effect (index rolls, hedging pressure), or something else.
 RATIONALE_KINDS = ("risk_premium", "behavioural", "structural", "other")
@@ -30,11 +44,12 @@ RATIONALE_KINDS = ("risk_premium", "behavioural", "structural", "other")
 #: Where an idea came from.
 SOURCE_KINDS = ("own", "paper", "book", "web", "colleague")
 
-#: How each kind of rationale and of source reads (the idea form, the journal).
-RATIONALE_LABELS = {"risk_premium": "Risk premium", "behavioural": "Behavioural",
-                    "structural": "Structural or flow", "other": "Other"}
-SOURCE_LABELS = {"own": "Own idea", "paper": "Paper", "book": "Book", "web": "Web",
-                 "colleague": "Colleague"}
+#: The vocabularies as people read them (label or key accepted, label printed: see
+#: :mod:`hunchbook.core.labels`). Stages read as their own plain words.
+STAGE_WORDS = Vocabulary.of("stage", STAGES, {s: s for s in STAGES})
+RATIONALE_WORDS = Vocabulary.of("kind of rationale", RATIONALE_KINDS,
+                                {"structural": "Structural or flow"})
+SOURCE_WORDS = Vocabulary.of("source", SOURCE_KINDS, {"own": "Own idea"})
 
 #: How each editable field of an idea reads in the journal's sentences.
 FIELD_LABELS = {"title": "Title", "hypothesis": "Hypothesis", "rationale": "Rationale",
@@ -47,13 +62,13 @@ FIELD_LABELS = {"title": "Title", "hypothesis": "Hypothesis", "rationale": "Rati
 ENTRY_KINDS = ("note", "decision", "review", "run", "stage", "edit", "preregistration",
                "correction")
 
-#: How each kind of journal entry reads (the window, the review pack, the command line).
-ENTRY_KIND_LABELS = {"note": "Note", "decision": "Decision", "review": "Review", "run": "Run",
-                     "stage": "Stage", "edit": "Edit", "preregistration": "Pre-registration",
-                     "correction": "Correction"}
-
 #: Kinds a person may write directly with ``add_entry``.
 USER_ENTRY_KINDS = ("note", "decision")
+
+#: Journal entry kinds as people read them (the window, the review pack, the command line).
+ENTRY_WORDS = Vocabulary.of("journal entry kind", ENTRY_KINDS,
+                            {"preregistration": "Pre-registration"})
+USER_ENTRY_WORDS = Vocabulary.of("journal entry kind", USER_ENTRY_KINDS)
 
 #: The review checklist: key -> the question a reviewer answers yes or no.
 CHECKLIST: dict[str, str] = {
@@ -106,6 +121,9 @@ REVIEW_KINDS: dict[str, ReviewKind] = {
 DECISION_LABELS: dict[str, str] = {"accept": "Accepted for testing",
                                    "return": "Returned with comments", "promote": "Promoted",
                                    "decline": "Promotion declined"}
+
+#: The decisions of an idea review as people read them (label or key accepted).
+DECISION_WORDS = Vocabulary("decision", {k: DECISION_LABELS[k] for k in DECISIONS})
 
 #: Every review decision, and the kind of review it belongs to.
 REVIEW_DECISIONS: dict[str, str] = {decision: name for name, kind in REVIEW_KINDS.items()

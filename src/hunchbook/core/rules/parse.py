@@ -184,7 +184,34 @@ def _syntax_error(text: str, err: TomlPositionError) -> RuleError:
         reason = reason.rsplit(" at line ", 1)[0]
         if span is None:  # built outside tomlkit's source: its own position, columns from 0
             span = TextSpan(cause.line, cause.col + 1, cause.line, cause.col + 1)
+    unclosed = None if err.index is None else _unclosed_quote(text, err.index)
+    if unclosed is not None:
+        reason = (f"the string opened with {unclosed[1]} at column {unclosed[0]} is not closed "
+                  f"before the end of the line: add the closing {unclosed[1]} (or use triple "
+                  "quotes for text over several lines)")
     return RuleError(f"TOML syntax error: {reason}", kind="toml-syntax", span=span)
+
+
+def _unclosed_quote(text: str, index: int) -> tuple[int, str] | None:
+    """Where a one-line string left open runs into the end of its line: the column (from 1)
+    and the quote that opened it, when reading stopped at a line end inside a string."""
+    if index < len(text) and text[index] not in "\r\n":
+        return None
+    start = text.rfind("\n", 0, index) + 1
+    line, quote, opened = text[start:index], None, 0
+    skip = False
+    for column, char in enumerate(line, 1):
+        if skip:
+            skip = False
+        elif quote is None and char == "#":
+            return None
+        elif quote is None and char in "\"'":
+            quote, opened = char, column
+        elif char == quote:
+            quote = None
+        elif char == "\\" and quote == '"':
+            skip = True
+    return None if quote is None else (opened, quote)
 
 
 class _Table:

@@ -21,14 +21,16 @@ from PySide6.QtWidgets import (
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError
-from hunchbook.core.verdict import LABELS
+from hunchbook.core.verdict import VERDICTS
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.models import ID_ROLE, IdeaTableModel
 from hunchbook.store.records import IdeaChoices
-from hunchbook.store.vocab import STAGES
+from hunchbook.store.vocab import STAGE_WORDS
 
 #: Quiet time after the last key press before the search runs (ms).
 SEARCH_DELAY_MS = 200
+#: Room beside a cell's text, and beside a header's title for its sort arrow (pixels).
+CELL_PADDING, HEADER_PADDING = 14, 26
 _ANY = "Any"
 
 
@@ -59,8 +61,9 @@ class CataloguePanel(QWidget):
         self.search.textChanged.connect(self._search_timer.start)
         self.search.returnPressed.connect(self.apply_filters)
 
-        self.stage = self._combo("Stage", [(s.capitalize(), s) for s in STAGES])
-        self.verdict = self._combo("Verdict", [(label, key) for key, label in LABELS.items()])
+        # the labels the table shows (the command line prints and accepts the same ones)
+        self.stage = self._combo("Stage", [(v, k) for k, v in STAGE_WORDS.labels.items()])
+        self.verdict = self._combo("Verdict", [(v, k) for k, v in VERDICTS.labels.items()])
         self.market = self._combo("Market", [])
         self.tag = self._combo("Tag", [])
         self.author = self._combo("Author", [])
@@ -88,11 +91,13 @@ class CataloguePanel(QWidget):
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setSectionResizeMode(IdeaTableModel.TITLE, QHeaderView.ResizeMode.Stretch)
-        unit = self.fontMetrics().horizontalAdvance("0")
-        for column, chars in ((IdeaTableModel.STAGE, 9), (IdeaTableModel.VERDICT, 14),
-                              (IdeaTableModel.SHARPE, 7), (IdeaTableModel.TRIALS, 6),
-                              (IdeaTableModel.UPDATED, 10)):
-            header.resizeSection(column, chars * unit + 10)
+        # every column but the title as narrow as its longest text: the title gets the rest
+        for column, texts in ((IdeaTableModel.STAGE, tuple(STAGE_WORDS.labels.values())),
+                              (IdeaTableModel.VERDICT, tuple(VERDICTS.labels.values())),
+                              (IdeaTableModel.SHARPE, ("-0.00",)),
+                              (IdeaTableModel.TRIALS, ("9,999",)),
+                              (IdeaTableModel.UPDATED, ("2000-00-00",))):
+            header.resizeSection(column, self._fit(column, texts))
         header.setHighlightSections(False)
         header.setMinimumSectionSize(40)
         self.table.sortByColumn(IdeaTableModel.UPDATED, Qt.SortOrder.DescendingOrder)
@@ -206,6 +211,14 @@ class CataloguePanel(QWidget):
         return [int(self.model.index(r, 0).data(ID_ROLE)) for r in range(self.model.rowCount())]
 
     # -- internals ------------------------------------------------------------------------
+    def _fit(self, column: int, texts: Sequence[str]) -> int:
+        """The width of a column: its longest text, or its header with the sort arrow."""
+        cells = self.table.fontMetrics()
+        heading = self.table.horizontalHeader().fontMetrics()
+        title = str(self.model.COLUMNS[column])
+        return max(max(cells.horizontalAdvance(t) for t in texts) + CELL_PADDING,
+                   heading.horizontalAdvance(title) + HEADER_PADDING)
+
     def _combo(self, name: str, items: Sequence[tuple[str, str]]) -> QComboBox:
         combo = QComboBox(self)
         combo.setObjectName(f"{name.lower()}Filter")

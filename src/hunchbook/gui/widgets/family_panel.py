@@ -24,6 +24,7 @@ from PySide6.QtWidgets import (
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import HunchbookError
+from hunchbook.core.formats import plural
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.models import ID_ROLE, verdict_label
 from hunchbook.store.records import Family, FamilyMember, IdeaSummary
@@ -109,7 +110,7 @@ class FamilyPanel(QWidget):
         self.tree.expandAll()
         self._fit_height(len(family))
         self.summary.setText(
-            f"A family of {len(family)} ideas: {family.trial_count} trial(s) in all, each "
+            f"A family of {len(family)} ideas: {plural(family.trial_count, 'trial')} in all, each "
             "counted for every member's deflated Sharpe." if len(family) > 1 else
             "Not a variant of another idea. A variant counts the trials of its whole family.")
         own = next(m for _, m in family.members() if m.id == idea_id)
@@ -157,7 +158,7 @@ class FamilyPanel(QWidget):
             return False
         self.show_family(self._catalogue, idea_id, self._user)
         self.message.emit(f"Idea {idea_id} is a variant of idea {parent_id}; its family counts "
-                          f"{self.family.trial_count if self.family else 0} trial(s).")
+                          f"{plural(self.family.trial_count if self.family else 0, 'trial')}.")
         self.linked.emit(idea_id)
         return True
 

@@ -10,7 +10,7 @@ or of the latest saved revision, when it differs from the pre-registered one.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from typing import Any
 
 from PySide6.QtCore import Qt, QTime, QTimer, Signal
@@ -40,15 +40,11 @@ from hunchbook.gui.sections.base import IdeaSection, SectionContext
 from hunchbook.gui.widgets.family_panel import FamilyPanel
 from hunchbook.store.records import Idea
 from hunchbook.store.revisions import analyse
-from hunchbook.store.vocab import (
-    RATIONALE_KINDS,
-    RATIONALE_LABELS,
-    SOURCE_KINDS,
-    SOURCE_LABELS,
-)
+from hunchbook.store.vocab import RATIONALE_KINDS, RATIONALE_WORDS, SOURCE_KINDS, SOURCE_WORDS
 
 #: Quiet time after the last edit before the idea is saved (ms).
 AUTOSAVE_DELAY_MS = 700
+
 
 class MarketPicker(QListWidget):
     """Checkable markets: the data folder's market library plus any market already chosen
@@ -175,8 +171,8 @@ class IdeaForm(IdeaSection):
         self.rationale.setTabChangesFocus(True)
         self.rationale.setMinimumHeight(70)
         self.rationale.setMaximumHeight(130)
-        self.rationale_kind = _choice(body, RATIONALE_KINDS, RATIONALE_LABELS)
-        self.source_kind = _choice(body, SOURCE_KINDS, SOURCE_LABELS)
+        self.rationale_kind = _choice(body, RATIONALE_KINDS, RATIONALE_WORDS.labels)
+        self.source_kind = _choice(body, SOURCE_KINDS, SOURCE_WORDS.labels)
         self.citation = QLineEdit(body)
         self.citation.setPlaceholderText("Author, title, year \u2014 where the idea comes from")
         self.link = QLineEdit(body)
@@ -404,7 +400,7 @@ class IdeaForm(IdeaSection):
             self.amend.hide()
 
 
-def _choice(parent: QWidget, keys: Iterable[str], labels: dict[str, str]) -> QComboBox:
+def _choice(parent: QWidget, keys: Iterable[str], labels: Mapping[str, str]) -> QComboBox:
     combo = QComboBox(parent)
     for key in keys:
         combo.addItem(labels.get(key, key), key)

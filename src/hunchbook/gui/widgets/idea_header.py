@@ -5,6 +5,7 @@ from __future__ import annotations
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel, QWidget
 
+from hunchbook.core.formats import plural
 from hunchbook.gui.models import verdict_label
 from hunchbook.store.records import Idea
 
@@ -25,7 +26,7 @@ class IdeaHeader(QLabel):
             self.setText("<span style='font-size:large'>No idea selected</span><br>"
                          "Pick an idea on the left, or write a new one (Ctrl+N).")
             return
-        bits = [f"<b>{idea.stage}</b>", f"{idea.trial_count} trial(s)",
+        bits = [f"<b>{idea.stage}</b>", plural(idea.trial_count, "trial"),
                 f"by {_html(idea.submitted_by)}"]
         if idea.last_verdict:
             bits.insert(1, f"last verdict <b>{_html(verdict_label(idea.last_verdict))}</b>")

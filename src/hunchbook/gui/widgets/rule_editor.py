@@ -40,6 +40,8 @@ SETTLE_MS = 300
 _OUT_OF_DATE = ("The text has an error, so these fields show its last valid version. Fix the "
                 "text (see the message below it) to edit here again.")
 _NO_RULES = "No valid rule text yet: write or load a rule file and the fields will follow it."
+_NEVER_VALID = ("The text has an error, so these fields are empty. Fix the text (see the "
+                "message below it) and the fields will follow it.")
 
 
 class RuleEditor(QWidget):
@@ -145,7 +147,8 @@ class RuleEditor(QWidget):
         self._text = text
         self._plain = self.text_edit.toPlainText()
         self._crlf = "\r\n" in text
-        self._reread()
+        self.form.set_spec(None)  # another text: the last one's fields never stand for it
+        self._reread(loaded=True)
 
     def text(self) -> str:
         """The current rule text, exactly as loaded, typed or written by the form."""
@@ -231,8 +234,9 @@ class RuleEditor(QWidget):
         if new is not None and self._parse_pending and self.form.isAncestorOf(new):
             self._flush()
 
-    def _reread(self) -> None:
-        """Parse the text; refill the form when valid, else show and underline the error."""
+    def _reread(self, *, loaded: bool = False) -> None:
+        """Parse the text; refill the form when valid, else show and underline the error
+        (``loaded``: the text was just loaded, so it has no last valid version to show)."""
         self._parse_pending = False
         try:
             spec = parse_rules(self._text)
@@ -241,6 +245,8 @@ class RuleEditor(QWidget):
             if not self._text.strip():
                 self.form.set_spec(None)
                 self.form.set_out_of_date(_NO_RULES)
+            elif loaded:
+                self.form.set_out_of_date(_NEVER_VALID)
             elif not self.form.is_out_of_date():
                 self.form.set_out_of_date(_OUT_OF_DATE)
             return

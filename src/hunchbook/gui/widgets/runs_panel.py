@@ -28,7 +28,8 @@ from hunchbook.gui.feedback import one_line
 from hunchbook.gui.models import ID_ROLE, RunTableModel
 from hunchbook.gui.sections.base import IdeaSection
 from hunchbook.gui.workers import CallWorker, set_curves
-from hunchbook.store.records import RunRecord
+from hunchbook.store.records import Idea, RunRecord
+from hunchbook.store.vocab import RUN_ADVICE
 
 if TYPE_CHECKING:
     from hunchbook.gui.widgets.compare_dialog import CompareDialog, RunPickerDialog
@@ -36,6 +37,29 @@ if TYPE_CHECKING:
 
 #: Gap between the compare buttons and the runs table (pixels).
 BUTTON_GAP = 4
+
+#: Where in the window each stage's next step is taken (beside :data:`RUN_ADVICE`), shown
+#: for an idea without runs.
+WINDOW_STEPS: dict[str, str] = {
+    "draft": "Rules section: write the rules and save them (Ctrl+S). Journal section: "
+             "<i>Change stage</i> to <i>submitted</i>.",
+    "submitted": "Review section: someone other than the author answers the checklist and "
+                 "accepts or returns it.",
+    "returned": "Review section: read the comments. Change the idea or its rules, then "
+                "Journal section: <i>Change stage</i> to <i>submitted</i>.",
+    "accepted": "Press <b>Ctrl+R</b> (Idea \u25b8 Quick run) to run its rules on the data "
+                "folder.",
+    "tested": "Press <b>Ctrl+R</b> to run its rules again.",
+    "promoted": "Press <b>Ctrl+R</b> to run its rules again.",
+    "shelved": "Journal section: <i>Change stage</i> to <i>draft</i>.",
+}
+
+
+def next_step_html(idea: Idea) -> str:
+    """What an idea without runs needs next, as the Runs section shows it."""
+    return (f"<h3>No runs yet</h3><p>This idea is <b>{idea.stage}</b>. "
+            f"{RUN_ADVICE.get(idea.stage, '')}</p>"
+            f"<p>{WINDOW_STEPS.get(idea.stage, '')}</p>")
 
 
 class RunsPanel(IdeaSection):
@@ -98,6 +122,13 @@ class RunsPanel(IdeaSection):
                             self)
         self.empty.setObjectName("noRunsLabel")
         self.empty.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        # an idea without runs: what to do next instead of an empty results frame
+        self.next_step = QLabel(self)
+        self.next_step.setObjectName("nextStepPage")
+        self.next_step.setTextFormat(Qt.TextFormat.RichText)
+        self.next_step.setWordWrap(True)
+        self.next_step.setAlignment(Qt.AlignmentFlag.AlignHCenter | Qt.AlignmentFlag.AlignTop)
+        self.next_step.setContentsMargins(24, 48, 24, 24)
         self._results: ResultsView | None = None
         # the results' charts need room: on a small screen they scroll instead of forcing a
         # tall window
@@ -127,6 +158,7 @@ class RunsPanel(IdeaSection):
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.addWidget(self.splitter)
+        layout.addWidget(self.next_step, 1)
         self.show_idea(None)
 
     @property
@@ -145,13 +177,19 @@ class RunsPanel(IdeaSection):
         """List an idea's runs and show the newest."""
         self.idea_id = idea_id
         runs = [] if idea_id is None or self.catalogue is None else self.catalogue.runs(idea_id)
-        self._title = (self.catalogue.idea(idea_id).title
-                       if idea_id is not None and self.catalogue is not None else "")
+        idea = (self.catalogue.idea(idea_id)
+                if idea_id is not None and self.catalogue is not None else None)
+        self._title = "" if idea is None else idea.title
         self._run_ids = {r.id for r in runs}
         self.model.set_runs(runs)
         self._update_compare()
         self.table.setVisible(bool(runs))
         self.empty.setVisible(not runs)
+        waiting = not runs and idea is not None
+        self.splitter.setVisible(not waiting)
+        self.next_step.setVisible(waiting)
+        if idea is not None and waiting:
+            self.next_step.setText(next_step_html(idea))
         rows = self.table.verticalHeader().defaultSectionSize() * min(max(len(runs), 1), 6)
         height = (self.table.horizontalHeader().sizeHint().height() + rows
                   + 2 * self.table.frameWidth() + 2 + self.compare_button.sizeHint().height()
