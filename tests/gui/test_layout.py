@@ -125,6 +125,13 @@ def test_nothing_is_cut_short_in_any_section(qtbot, window, size, idea):
         _show(qtbot, window, size, idea, section)
         assert window.size().width() == size[0]
         problems += [f"{section}: {p}" for p in layout_problems(window)]
+    if idea == WITH_RUNS:  # each page of the results in front in turn
+        window.show_section("runs")
+        pages = window.runs.results.pages
+        for index in range(pages.count()):
+            pages.setCurrentIndex(index)
+            QCoreApplication.processEvents()
+            problems += [f"runs, {pages.tabText(index)}: {p}" for p in layout_problems(window)]
     assert not problems, "\n".join(problems)
 
 

@@ -16,7 +16,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, cast
 
 from PySide6.QtCore import Qt, QThreadPool
-from PySide6.QtGui import QCloseEvent, QKeySequence
+from PySide6.QtGui import QCloseEvent, QKeySequence, QShowEvent
 from PySide6.QtWidgets import (
     QFileDialog,
     QLabel,
@@ -53,6 +53,10 @@ from hunchbook.gui.widgets.runs_panel import RunsPanel
 
 if TYPE_CHECKING:
     from hunchbook.core.sweep import SweepRunner
+
+
+#: The catalogue's share of the window's width when nothing else was kept, and its widest.
+CATALOGUE_SHARE, CATALOGUE_MAX_WIDTH = 0.32, 640
 
 
 class MainWindow(QMainWindow):
@@ -155,9 +159,10 @@ class MainWindow(QMainWindow):
         self.splitter.setObjectName("mainSplitter")
         self.splitter.addWidget(self.catalogue_panel)
         self.splitter.addWidget(right)
-        self.splitter.setStretchFactor(0, 0)
-        self.splitter.setStretchFactor(1, 1)
+        self.splitter.setStretchFactor(0, 1)  # a wider window widens the idea twice as much
+        self.splitter.setStretchFactor(1, 2)
         self.splitter.setSizes([600, 840])
+        self._splitter_fitted = False
         self.splitter.setChildrenCollapsible(False)
         self.setCentralWidget(self.splitter)
 
@@ -396,7 +401,25 @@ class MainWindow(QMainWindow):
         return window_settings.has_saved_layout()
 
     def _splitters(self) -> tuple[tuple[str, QSplitter], ...]:
-        return (("window/splitter", self.splitter), ("window/runs_splitter", self.runs.splitter))
+        return (("window/splitter", self.splitter), ("window/runs_splitter", self.runs.splitter),
+                ("window/rules_splitter", self.rules.editor.splitter))
+
+    def showEvent(self, event: QShowEvent) -> None:  # noqa: N802 (Qt override)
+        """On first showing, share the width between catalogue and idea (unless a kept
+        layout says otherwise)."""
+        super().showEvent(event)
+        if not self._splitter_fitted:
+            self._splitter_fitted = True
+            if not (self.keep_layout and window_settings.has_saved_splitter("window/splitter")):
+                self.fit_splitter()
+
+    def fit_splitter(self) -> None:
+        """Give the catalogue about a third of the width (within its least width and
+        :data:`CATALOGUE_MAX_WIDTH`) and the idea the rest."""
+        total = sum(self.splitter.sizes()) or self.width()
+        least = self.catalogue_panel.minimumSizeHint().width()
+        left = max(least, min(round(CATALOGUE_SHARE * total), CATALOGUE_MAX_WIDTH))
+        self.splitter.setSizes([left, max(total - left, 1)])
 
     def restore_layout(self) -> None:
         """Restore window geometry, toolbar state and splitter positions."""

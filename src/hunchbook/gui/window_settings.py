@@ -37,6 +37,11 @@ def has_saved_layout() -> bool:
     return app_settings().contains("window/geometry")
 
 
+def has_saved_splitter(key: str) -> bool:
+    """Whether the settings hold the positions of the splitter kept under ``key``."""
+    return app_settings().contains(key)
+
+
 def restore_layout(window: QMainWindow, splitters: Sequence[tuple[str, QSplitter]]) -> None:
     """Restore the window's geometry and toolbar state, and each ``(key, splitter)``'s
     positions, where the settings hold them."""
