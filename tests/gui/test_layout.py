@@ -112,7 +112,14 @@ def _show(qtbot, win, size: tuple[int, int], idea: int, section: str) -> None:
     qtbot.waitExposed(win)
     assert win.select_idea(idea)
     win.show_section(section)
-    for _ in range(3):
+    _settle()
+
+
+def _settle() -> None:
+    """Let posted layout requests and resizes run (a few rounds: one layout can post
+    another)."""
+    for _ in range(6):
+        QCoreApplication.sendPostedEvents()
         QCoreApplication.processEvents()
 
 
@@ -130,7 +137,7 @@ def test_nothing_is_cut_short_in_any_section(qtbot, window, size, idea):
         pages = window.runs.results.pages
         for index in range(pages.count()):
             pages.setCurrentIndex(index)
-            QCoreApplication.processEvents()
+            _settle()
             problems += [f"runs, {pages.tabText(index)}: {p}" for p in layout_problems(window)]
     assert not problems, "\n".join(problems)
 

@@ -168,12 +168,14 @@ def test_heatmap_is_the_grid_of_stored_net_sharpes(view, runs):
 
 
 def _scroll_to(view, widget):
-    """Scroll the figures column to its end, where the sweep chart sits, as a user would."""
-    from PySide6.QtWidgets import QApplication, QScrollArea
+    """Bring the page of the parameter sets, where the sweep chart sits, to the front, as a
+    user would."""
+    from PySide6.QtWidgets import QApplication
+
+    from hunchbook.gui.widgets.results_view import SETS_PAGE
 
     QApplication.processEvents()  # lay the tables out first
-    area = view.findChild(QScrollArea)
-    area.verticalScrollBar().setValue(area.verticalScrollBar().maximum())
+    view.show_page(SETS_PAGE)
     QApplication.processEvents()
 
 
@@ -242,6 +244,7 @@ def test_one_parameter_space_shows_net_sharpe_against_the_parameter(view, runs, 
     view.show_run(run, title="t")
     profile = view.charts.profile
     assert view.sweep_slot.currentWidget() is profile
+    _scroll_to(view, profile)
     x, y = profile.line.getOriginalDataset()
     stored = sorted((s.params["n"], s.net_sharpe) for s in run.result.sets)
     np.testing.assert_array_equal(x, [n for n, _ in stored])

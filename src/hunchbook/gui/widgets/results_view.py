@@ -11,10 +11,10 @@ from PySide6.QtGui import QFont, QPalette
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QFrame,
+    QHBoxLayout,
     QHeaderView,
     QLabel,
     QScrollArea,
-    QSplitter,
     QStackedWidget,
     QTableView,
     QTabWidget,
@@ -180,7 +180,8 @@ class ResultsView(QWidget):
         column = QVBoxLayout(summary)
         column.setContentsMargins(0, 0, 4, 0)
         column.setSpacing(4)
-        column.addWidget(_heading("Chosen set over its whole history"))
+        self.summary_heading = _heading("Chosen set over its whole history")
+        column.addWidget(self.summary_heading)
         column.addWidget(self.performance_table)
         column.addWidget(self.caution)
         column.addStretch(1)
@@ -211,21 +212,17 @@ class ResultsView(QWidget):
                             (COSTS_PAGE, self.costs_slot), (BOOK_PAGE, _scrolled(self.book_panel))):
             self.pages.addTab(page, title)
 
-        self.splitter = QSplitter(Qt.Orientation.Horizontal)
-        self.splitter.setObjectName("resultsSplitter")
-        self.splitter.addWidget(self.summary)
-        self.splitter.addWidget(self.pages)
-        self.splitter.setStretchFactor(0, 0)
-        self.splitter.setStretchFactor(1, 1)
-        self.splitter.setChildrenCollapsible(False)
-
+        body = QHBoxLayout()
+        body.setSpacing(8)
+        body.addWidget(self.summary)
+        body.addWidget(self.pages, 1)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(8, 8, 8, 6)
         layout.setSpacing(8)
         layout.addWidget(self.banner)
         layout.addWidget(self.data_note)
         layout.addWidget(self.pick_note)
-        layout.addWidget(self.splitter, 1)
+        layout.addLayout(body, 1)
         self._recolour()
         self.clear()
 
@@ -254,7 +251,8 @@ class ResultsView(QWidget):
         lines = sum(w.heightForWidth(inner) if w.hasHeightForWidth() else w.sizeHint().height()
                     for w in shown)
         return (margins.top() + margins.bottom() + lines + layout.spacing() * len(shown)
-                + max(self.pages.minimumSizeHint().height(), self.pages.minimumHeight()))
+                + (0 if self.pages.isHidden() else
+                   max(self.pages.minimumSizeHint().height(), self.pages.minimumHeight())))
 
     def add_page(self, title: str, page: QWidget) -> int:
         """Add a page behind the others (for example a year-by-year table); its index."""
@@ -273,15 +271,15 @@ class ResultsView(QWidget):
         of its table, so no figure is cut or elided."""
         for table in (self.performance_table, self.statistics_table):
             table.resizeRowsToContents()
-            table.resizeColumnsToContents()
             rows = sum(table.rowHeight(r) for r in range(table.model().rowCount()))
-            table.setFixedHeight(rows + table.horizontalHeader().sizeHint().height()
-                                 + 2 * table.frameWidth())
-            columns = sum(table.horizontalHeader().sectionSize(c)
+            header = table.horizontalHeader()
+            table.setFixedHeight(rows + header.sizeHint().height() + 2 * table.frameWidth())
+            columns = sum(max(table.sizeHintForColumn(c), header.sectionSizeHint(c))
                           for c in range(table.model().columnCount()))
             table.setMinimumWidth(columns + 2 * table.frameWidth())
         scrollbar = self.summary.verticalScrollBar().sizeHint().width()
-        self.summary.setMinimumWidth(self.performance_table.minimumWidth() + scrollbar + 4)
+        self.summary.setFixedWidth(max(self.performance_table.minimumWidth(),
+                                       self.summary_heading.sizeHint().width()) + scrollbar + 4)
 
     def show_run(self, run: RunRecord, *, title: str) -> None:
         """Show a recorded run (from ``Catalogue.run``, daily P&L decoded)."""
@@ -298,6 +296,12 @@ class ResultsView(QWidget):
         self.book_panel.show_run(run)
         self.show_holdout(None, None)
         self._show_slots()
+        self._show_body(True)
+
+    def _show_body(self, shown: bool) -> None:
+        """Figures and pages only while a run is shown (without one the banner says so)."""
+        self.summary.setVisible(shown)
+        self.pages.setVisible(shown)
 
     def show_holdout(self, view: HoldoutView | None, problem: str | None) -> None:
         """Show the shown run's idea's held-out years: ``view`` its unlocking (None: locked;
@@ -341,6 +345,7 @@ class ResultsView(QWidget):
         self.holdout.show_state(None, None, None)
         self.held_out = None
         self._show_slots()
+        self._show_body(False)
 
     def export_html(self, path: str | os.PathLike[str], *, idea: Idea, run: RunRecord,
                     rule_text: str) -> None:
