@@ -110,7 +110,7 @@ def test_the_chart_draws_each_correlation_and_the_threshold(view, desk) -> None:
                                                 book.book_correlation])
     assert chart.threshold.value() == BOOK_CORRELATION_THRESHOLD and chart.threshold.isVisible()
     # the panel fits its page: nothing is cut off on the right of the scrolled page
-    scroll = view.book_panel.parentWidget().parentWidget()
+    scroll = view.book_panel.parentWidget().parentWidget().parentWidget()
     assert isinstance(scroll, QScrollArea)
     assert view.book_panel.width() <= scroll.viewport().width()
     assert chart.width() <= scroll.viewport().width()

@@ -78,9 +78,17 @@ MARKETS_PAGE, COSTS_PAGE, BOOK_PAGE = "Markets", "Costs", "Book"
 PAGES_MIN_HEIGHT, EQUITY_MIN_HEIGHT, DRAWDOWN_MIN_HEIGHT = 300, 170, 100
 
 
-def _scrolled(widget: QWidget) -> QScrollArea:
-    """``widget`` in a frameless area that scrolls it up and down (never sideways)."""
+def _scrolled(widget: QWidget, *, top: bool = False) -> QScrollArea:
+    """``widget`` in a frameless area that scrolls it up and down (never sideways); ``top``
+    keeps it at its own height at the top, the room below it left blank."""
     scroll = QScrollArea()
+    if top:
+        holder = QWidget()
+        column = QVBoxLayout(holder)
+        column.setContentsMargins(0, 4, 0, 0)
+        column.addWidget(widget)
+        column.addStretch(1)
+        widget = holder
     scroll.setWidget(widget)
     scroll.setWidgetResizable(True)
     scroll.setFrameShape(QFrame.Shape.NoFrame)
@@ -207,9 +215,10 @@ class ResultsView(QWidget):
         self.pages.setObjectName("resultPages")
         self.pages.setDocumentMode(True)
         self.pages.setMinimumHeight(PAGES_MIN_HEIGHT)
+        book = _scrolled(self.book_panel, top=True)
         for title, page in ((EQUITY_PAGE, equity), (STATISTICS_PAGE, _scrolled(trust)),
                             (SETS_PAGE, self.sweep_slot), (MARKETS_PAGE, self.contribution_slot),
-                            (COSTS_PAGE, self.costs_slot), (BOOK_PAGE, _scrolled(self.book_panel))):
+                            (COSTS_PAGE, self.costs_slot), (BOOK_PAGE, book)):
             self.pages.addTab(page, title)
 
         body = QHBoxLayout()
