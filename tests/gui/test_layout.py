@@ -157,3 +157,26 @@ def test_verdict_figures_and_equity_in_view_without_scrolling(qtbot, window, siz
     table = results.performance_table
     assert table.verticalScrollBar().maximum() == 0  # every headline figure in view
     assert results.charts.equity.height() >= 200
+
+
+@pytest.mark.parametrize(("width", "columns"), ((1400, 3), (620, 2), (330, 1)))
+def test_the_banner_puts_as_many_columns_of_checks_as_fit(qtbot, width, columns):
+    """A narrow banner stacks its checks in fewer columns instead of running past its edge."""
+    from hunchbook.core.verdict import Check
+    from hunchbook.gui.charts.run_figures import VerdictText
+    from hunchbook.gui.widgets.verdict_banner import VerdictBanner
+
+    banner = VerdictBanner()
+    checks = tuple(Check(f"k{i}", f"Check number {i}", "pass", f"{i}.00 of a long figure",
+                         "found") for i in range(9))
+    banner.set_verdict(VerdictText("passes", "Promote", "Promote the idea.",
+                                   ("A reason in one sentence.",), checks))
+    box = QWidget()
+    QVBoxLayout(box).addWidget(banner)
+    _shown(qtbot, box, width, 400)
+    _settle()
+    assert banner.checks.columns == columns
+    assert layout_problems(box) == []
+    rows = -(-len(checks) // columns)
+    names = [name for _, _, name, _ in banner.checks.rows]
+    assert len({name.y() for name in names}) == rows  # as many lines as the columns need
