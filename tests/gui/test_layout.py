@@ -180,3 +180,42 @@ def test_the_banner_puts_as_many_columns_of_checks_as_fit(qtbot, width, columns)
     rows = -(-len(checks) // columns)
     names = [name for _, _, name, _ in banner.checks.rows]
     assert len({name.y() for name in names}) == rows  # as many lines as the columns need
+
+
+def test_the_rules_splitter_keeps_its_place_between_sessions(qtbot, catalogue_and_data):
+    """Where the form and the text part is kept on closing and found again at the next start
+    (the settings are the test's own, see conftest)."""
+    from hunchbook.core.runners import InProcess
+    from hunchbook.gui.main_window import MainWindow
+
+    first = MainWindow(runner=InProcess())
+    _shown(qtbot, first, 1440, 900)
+    first.show_section("rules")
+    splitter = first.rules.editor.splitter
+    total = sum(splitter.sizes())
+    splitter.setSizes([total - 300, 300])
+    moved = splitter.sizes()
+    first.close()
+    second = MainWindow(runner=InProcess())
+    _shown(qtbot, second, 1440, 900)
+    _settle()
+    second.show_section("rules")
+    _settle()
+    assert second.rules.editor.splitter.sizes() == moved
+    assert second.splitter.sizes() == first.splitter.sizes()  # the catalogue's width too
+
+
+def test_a_new_window_shares_its_width_between_catalogue_and_idea(qtbot, window):
+    """Without a kept layout the idea gets its least width and the catalogue the rest, up to
+    what its columns want; a narrow catalogue leaves out its spare columns."""
+    from hunchbook.gui.main_window import IDEA_MIN_WIDTH
+    from hunchbook.gui.widgets.catalogue_panel import SPARE_COLUMNS
+
+    _show(qtbot, window, (1280, 720), WITH_RUNS, "idea")
+    catalogue, idea = window.splitter.sizes()
+    assert idea >= IDEA_MIN_WIDTH
+    header = window.catalogue_panel.table.horizontalHeader()
+    assert all(header.isSectionHidden(c) for c in SPARE_COLUMNS)
+    window.splitter.setSizes([catalogue + idea - IDEA_MIN_WIDTH + 400, IDEA_MIN_WIDTH - 400])
+    _settle()
+    assert not any(header.isSectionHidden(c) for c in SPARE_COLUMNS)  # room again: shown

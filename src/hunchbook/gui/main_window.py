@@ -15,7 +15,7 @@ from functools import partial
 from pathlib import Path
 from typing import TYPE_CHECKING, cast
 
-from PySide6.QtCore import Qt, QThreadPool
+from PySide6.QtCore import Qt, QThreadPool, QTimer
 from PySide6.QtGui import QCloseEvent, QKeySequence, QShowEvent
 from PySide6.QtWidgets import (
     QFileDialog,
@@ -55,8 +55,9 @@ if TYPE_CHECKING:
     from hunchbook.core.sweep import SweepRunner
 
 
-#: The catalogue's share of the window's width when nothing else was kept, and its widest.
-CATALOGUE_SHARE, CATALOGUE_MAX_WIDTH = 0.32, 640
+#: The idea's least width when the window shares its width out (a kept layout aside): the
+#: results and the rules need it.
+IDEA_MIN_WIDTH = 880
 
 
 class MainWindow(QMainWindow):
@@ -405,20 +406,24 @@ class MainWindow(QMainWindow):
                 ("window/rules_splitter", self.rules.editor.splitter))
 
     def showEvent(self, event: QShowEvent) -> None:  # noqa: N802 (Qt override)
-        """On first showing, share the width between catalogue and idea (unless a kept
-        layout says otherwise)."""
+        """On first showing, put the splitters where the kept layout has them, or share the
+        width between catalogue and idea."""
         super().showEvent(event)
         if not self._splitter_fitted:
             self._splitter_fitted = True
+            if self.keep_layout:  # the splitters' places again once the window is laid out
+                QTimer.singleShot(0, partial(window_settings.restore_splitters,
+                                             self._splitters()))
             if not (self.keep_layout and window_settings.has_saved_splitter("window/splitter")):
                 self.fit_splitter()
 
     def fit_splitter(self) -> None:
-        """Give the catalogue about a third of the width (within its least width and
-        :data:`CATALOGUE_MAX_WIDTH`) and the idea the rest."""
+        """Give the catalogue the width its columns want, as far as the idea keeps
+        :data:`IDEA_MIN_WIDTH` (a narrower catalogue leaves out spare columns), and the idea
+        the rest."""
         total = sum(self.splitter.sizes()) or self.width()
         least = self.catalogue_panel.minimumSizeHint().width()
-        left = max(least, min(round(CATALOGUE_SHARE * total), CATALOGUE_MAX_WIDTH))
+        left = max(least, min(self.catalogue_panel.wanted_width(), total - IDEA_MIN_WIDTH))
         self.splitter.setSizes([left, max(total - left, 1)])
 
     def restore_layout(self) -> None:

@@ -54,6 +54,17 @@ def restore_layout(window: QMainWindow, splitters: Sequence[tuple[str, QSplitter
             restore(value)
 
 
+def restore_splitters(splitters: Sequence[tuple[str, QSplitter]]) -> None:
+    """Restore each ``(key, splitter)``'s positions where the settings hold them (again once
+    the window is shown: a splitter restored before it has its size shares the size out
+    anew)."""
+    settings = app_settings()
+    for key, splitter in splitters:
+        value = settings.value(key)
+        if isinstance(value, QByteArray):
+            splitter.restoreState(value)
+
+
 def save_layout(window: QMainWindow, splitters: Sequence[tuple[str, QSplitter]]) -> None:
     """Keep the window's geometry and toolbar state, and each ``(key, splitter)``'s positions."""
     settings = app_settings()

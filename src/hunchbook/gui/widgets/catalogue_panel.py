@@ -134,6 +134,14 @@ class CataloguePanel(QWidget):
         super().resizeEvent(event)
         self._fit_columns()
 
+    def wanted_width(self) -> int:
+        """The width that shows every column beside a readable title."""
+        margins = self.layout().contentsMargins()
+        return (self._title_room + sum(width for c, width in self._widths.items()
+                                       if c != IdeaTableModel.TITLE)
+                + 2 * self.table.frameWidth() + self.table.verticalScrollBar().sizeHint().width()
+                + margins.left() + margins.right())
+
     def _fit_columns(self) -> None:
         header = self.table.horizontalHeader()
         room = (self.table.width() - 2 * self.table.frameWidth()
