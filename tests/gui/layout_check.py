@@ -131,7 +131,8 @@ def overflow_problem(widget: QWidget) -> str | None:
 
 
 def chart_problems(chart) -> list[str]:
-    """Titles, axis labels and tick labels of a pyqtgraph widget drawn outside it."""
+    """Titles, axis labels, tick labels and texts in the plot (line labels, cell values) of
+    a pyqtgraph widget drawn outside it or outside their plot."""
     import pyqtgraph as pg
 
     view = QRectF(chart.rect())
@@ -147,6 +148,12 @@ def chart_problems(chart) -> list[str]:
                            f"{rect.width():.0f} px wide in a {item.width():.0f} px place")
             elif not _inside(rect, view):
                 out.append(f"chart {_name(chart)} title {item.text[:50]!r} is cut at the edge")
+        if isinstance(item, pg.TextItem) and item.textItem.toPlainText():
+            box = item.getViewBox()
+            rect = _text_rect(item.textItem)
+            if box is not None and not _inside(rect, box.mapRectToScene(box.boundingRect())):
+                out.append(f"chart {_name(chart)} text {item.textItem.toPlainText()[:40]!r} "
+                           "is cut at the edge of the plot")
         if isinstance(item, pg.AxisItem):
             if item.label.isVisible() and item.labelText:
                 rect = _text_rect(item.label)
