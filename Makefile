@@ -6,7 +6,7 @@ HASH       := $(shell python3 -c "import hashlib,sys;print(hashlib.sha1(open('py
 STAMP      := $(VENV)/.installed-$(HASH)
 DEMO_STAMP := $(VENV)/.demo-$(HASH)
 
-.PHONY: demo test setup
+.PHONY: demo test setup screenshots
 
 setup: $(STAMP)
 
@@ -29,3 +29,14 @@ test: $(STAMP)
 	$(VENV)/bin/ruff check src tests benchmarks
 	$(VENV)/bin/lint-imports
 	QT_QPA_PLATFORM=offscreen $(PY) -m pytest
+
+# Every section of the demo desk at each window size the window is checked at, in
+# docs/screenshots/<section>-<WxH>.png (idea 16 has a run), and the idea family of idea 11.
+SIZES    := 1280x720 1440x900 1920x1080
+SECTIONS := idea rules runs journal review
+SHOT     := QT_QPA_PLATFORM=offscreen $(VENV)/bin/hunchbook --demo
+screenshots: $(STAMP)
+	for size in $(SIZES); do for section in $(SECTIONS); do \
+	  $(SHOT) --idea 16 --section $$section --size $$size \
+	    --screenshot docs/screenshots/$$section-$$size.png || exit 1; done; done
+	$(SHOT) --idea 11 --section idea --size 1440x900 --screenshot docs/screenshots/family.png

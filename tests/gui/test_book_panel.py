@@ -20,6 +20,7 @@ from hunchbook.gui.charts.run_figures import format_value
 from hunchbook.gui.html_book import BOOK_CAPTION
 from hunchbook.gui.html_report import render_chart_images, report_html
 from hunchbook.gui.widgets.book_panel import NOT_COMPARED
+from hunchbook.gui.widgets.results_view import BOOK_PAGE
 from tests.gui.run_records import HOSTILE_TITLE
 from tests.store.helpers import accepted_idea, promote, run_summary
 
@@ -77,6 +78,7 @@ def test_the_panel_shows_the_record_and_the_record_equals_pandas(view, desk) -> 
         assert row.correlation == pytest.approx(rho, abs=1e-12)
     assert book.ideas[0].correlation > BOOK_CORRELATION_THRESHOLD > book.ideas[1].correlation
     view.show_run(run, title="Variant")
+    view.show_page(BOOK_PAGE)
     panel = view.book_panel
     assert panel.isVisible() and panel.table.isVisible() and panel.chart.isVisible()
     cells = _cells(view)
@@ -100,14 +102,16 @@ def test_the_chart_draws_each_correlation_and_the_threshold(view, desk) -> None:
     run, _, _ = desk
     book = run.result.book
     view.show_run(run, title="Variant")
+    view.show_page(BOOK_PAGE)
     chart = view.book_panel.chart
     assert chart.labels == ["idea 1", "idea 2", "book"]
     assert chart.bar_widths() == pytest.approx([book.ideas[0].correlation,
                                                 book.ideas[1].correlation,
                                                 book.book_correlation])
     assert chart.threshold.value() == BOOK_CORRELATION_THRESHOLD and chart.threshold.isVisible()
-    # the panel fits its column: nothing is cut off on the right of the scrolled tables
-    scroll = view.findChild(QScrollArea)
+    # the panel fits its page: nothing is cut off on the right of the scrolled page
+    scroll = view.book_panel.parentWidget().parentWidget().parentWidget()
+    assert isinstance(scroll, QScrollArea)
     assert view.book_panel.width() <= scroll.viewport().width()
     assert chart.width() <= scroll.viewport().width()
 
@@ -116,6 +120,7 @@ def test_a_record_without_the_comparison_says_so(view, desk) -> None:
     run, _, _ = desk
     older = dataclasses.replace(run, result=dataclasses.replace(run.result, book=None))
     view.show_run(older, title="Variant")
+    view.show_page(BOOK_PAGE)
     panel = view.book_panel
     assert panel.notes.text() == NOT_COMPARED
     assert not panel.table.isVisible() and not panel.chart.isVisible()

@@ -24,7 +24,8 @@ def runs(tmp_path_factory):
 
 
 def _column(model, label):
-    columns = [model.headerData(c, _horizontal()) for c in range(model.columnCount())]
+    columns = [model.headerData(c, _horizontal()).replace("\n", " ")  # the unit below
+               for c in range(model.columnCount())]
     return columns.index(label)
 
 

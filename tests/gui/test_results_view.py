@@ -170,12 +170,14 @@ def test_heatmap_is_the_grid_of_stored_net_sharpes(view, runs):
 
 
 def _scroll_to(view, widget):
-    """Scroll the figures column to its end, where the sweep chart sits, as a user would."""
-    from PySide6.QtWidgets import QApplication, QScrollArea
+    """Bring the page of the parameter sets, where the sweep chart sits, to the front, as a
+    user would."""
+    from PySide6.QtWidgets import QApplication
+
+    from hunchbook.gui.widgets.results_view import SETS_PAGE
 
     QApplication.processEvents()  # lay the tables out first
-    area = view.findChild(QScrollArea)
-    area.verticalScrollBar().setValue(area.verticalScrollBar().maximum())
+    view.show_page(SETS_PAGE)
     QApplication.processEvents()
 
 

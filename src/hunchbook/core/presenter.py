@@ -326,7 +326,8 @@ YEAR_COLUMNS: list[Column[YearRow]] = [
            "Largest fall within the year (cumulative net P&L from 0 on its first day).",
            unit=CURRENCY),
     Column("Max drawdown", "pct", lambda y: y.max_drawdown_pct,
-           "The year's largest fall / capital.", unit=OF_CAPITAL),
+           "The year's largest fall (cumulative net P&L from 0 on its first day) / capital.",
+           unit=OF_CAPITAL),
     Column("Cost", "money", lambda y: y.cost, "Costs paid in the year.", unit=CURRENCY),
     Column("Days", "count", lambda y: y.days, "Trading days with a result in the year."),
 ]
@@ -387,9 +388,15 @@ def sharpe_sentence(run: RunSummary) -> str | None:
 
 
 def year_table(run: RunSummary) -> Table:
-    """The chosen set year by year (no rows for a run recorded before the table existed)."""
+    """The chosen set year by year (no rows for a run recorded before the table existed); the
+    return and the drawdown in % of the capital when the run has one, else the drawdown in the
+    run currency."""
     years = () if run.capital is None else run.capital.years
-    columns = _titled(YEAR_COLUMNS, run.currency)
+    with_capital = run.capital is not None and run.capital.capital is not None
+    # with a capital the shares of it; without one the currency (no empty columns)
+    wanted = [c for c in YEAR_COLUMNS if (c.unit == OF_CAPITAL) == with_capital
+              or c.label not in ("Return", "Max drawdown")]
+    columns = _titled(wanted, run.currency)
     return Table("Year", columns, tuple(
         (str(y.year), tuple(number(c.value(y)) for c in columns)) for y in years))
 

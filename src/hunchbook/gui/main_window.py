@@ -16,8 +16,8 @@ from functools import partial
 from pathlib import Path
 from typing import TYPE_CHECKING, cast
 
-from PySide6.QtCore import Qt, QThreadPool
-from PySide6.QtGui import QCloseEvent, QKeySequence
+from PySide6.QtCore import Qt, QThreadPool, QTimer
+from PySide6.QtGui import QCloseEvent, QKeySequence, QShowEvent
 from PySide6.QtWidgets import (
     QFileDialog,
     QLabel,
@@ -54,6 +54,11 @@ from hunchbook.gui.widgets.runs_panel import RunsPanel
 
 if TYPE_CHECKING:
     from hunchbook.core.sweep import SweepRunner
+
+
+#: The idea's least width when the window shares its width out (a kept layout aside): the
+#: results and the rules need it.
+IDEA_MIN_WIDTH = 880
 
 
 class MainWindow(QMainWindow):
@@ -156,9 +161,10 @@ class MainWindow(QMainWindow):
         self.splitter.setObjectName("mainSplitter")
         self.splitter.addWidget(self.catalogue_panel)
         self.splitter.addWidget(right)
-        self.splitter.setStretchFactor(0, 0)
-        self.splitter.setStretchFactor(1, 1)
+        self.splitter.setStretchFactor(0, 1)  # a wider window widens the idea twice as much
+        self.splitter.setStretchFactor(1, 2)
         self.splitter.setSizes([600, 840])
+        self._splitter_fitted = False
         self.splitter.setChildrenCollapsible(False)
         self.setCentralWidget(self.splitter)
 
@@ -400,7 +406,29 @@ class MainWindow(QMainWindow):
         return window_settings.has_saved_layout()
 
     def _splitters(self) -> tuple[tuple[str, QSplitter], ...]:
-        return (("window/splitter", self.splitter), ("window/runs_splitter", self.runs.splitter))
+        return (("window/splitter", self.splitter), ("window/runs_splitter", self.runs.splitter),
+                ("window/rules_splitter", self.rules.editor.splitter))
+
+    def showEvent(self, event: QShowEvent) -> None:  # noqa: N802 (Qt override)
+        """On first showing, put the splitters where the kept layout has them, or share the
+        width between catalogue and idea."""
+        super().showEvent(event)
+        if not self._splitter_fitted:
+            self._splitter_fitted = True
+            if self.keep_layout:  # the splitters' places again once the window is laid out
+                QTimer.singleShot(0, partial(window_settings.restore_splitters,
+                                             self._splitters()))
+            if not (self.keep_layout and window_settings.has_saved_splitter("window/splitter")):
+                self.fit_splitter()
+
+    def fit_splitter(self) -> None:
+        """Give the catalogue the width its columns want, as far as the idea keeps
+        :data:`IDEA_MIN_WIDTH` (a narrower catalogue leaves out spare columns), and the idea
+        the rest."""
+        total = sum(self.splitter.sizes()) or self.width()
+        least = self.catalogue_panel.minimumSizeHint().width()
+        left = max(least, min(self.catalogue_panel.wanted_width(), total - IDEA_MIN_WIDTH))
+        self.splitter.setSizes([left, max(total - left, 1)])
 
     def restore_layout(self) -> None:
         """Restore window geometry, toolbar state and splitter positions."""

@@ -37,6 +37,11 @@ def has_saved_layout() -> bool:
     return app_settings().contains("window/geometry")
 
 
+def has_saved_splitter(key: str) -> bool:
+    """Whether the settings hold the positions of the splitter kept under ``key``."""
+    return app_settings().contains(key)
+
+
 def restore_layout(window: QMainWindow, splitters: Sequence[tuple[str, QSplitter]]) -> None:
     """Restore the window's geometry and toolbar state, and each ``(key, splitter)``'s
     positions, where the settings hold them."""
@@ -47,6 +52,17 @@ def restore_layout(window: QMainWindow, splitters: Sequence[tuple[str, QSplitter
         value = settings.value(key)
         if isinstance(value, QByteArray):
             restore(value)
+
+
+def restore_splitters(splitters: Sequence[tuple[str, QSplitter]]) -> None:
+    """Restore each ``(key, splitter)``'s positions where the settings hold them (again once
+    the window is shown: a splitter restored before it has its size shares the size out
+    anew)."""
+    settings = app_settings()
+    for key, splitter in splitters:
+        value = settings.value(key)
+        if isinstance(value, QByteArray):
+            splitter.restoreState(value)
 
 
 def save_layout(window: QMainWindow, splitters: Sequence[tuple[str, QSplitter]]) -> None:

@@ -19,8 +19,12 @@ def compact_amount(value: float, spacing: float) -> str:
     return f"{value:g}"
 
 
-#: Width of the left axis of date charts, so stacked date charts line up.
-DATE_CHART_AXIS_WIDTH = 58
+#: The name and unit of Sharpe ratio axes.
+SHARPE_LABEL = "Net Sharpe, annualised"
+
+#: Width of the left axis of date charts (its amounts and its unit), so stacked date charts line
+#: up.
+DATE_CHART_AXIS_WIDTH = 78
 
 
 class AmountAxis(pg.AxisItem):

@@ -10,7 +10,14 @@ from PySide6.QtCore import Qt
 from PySide6.QtGui import QFontMetrics
 
 from hunchbook.core.book import BookComparison
-from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
+from hunchbook.gui.charts.theme import (
+    ChartTheme,
+    palette_theme,
+    set_axis_label,
+    set_title,
+    style_plot,
+    with_alpha,
+)
 
 #: Thickness of one bar.
 BAR = 0.6
@@ -41,6 +48,7 @@ class BookChart(pg.PlotWidget):
         self.values: list[float | None] = []
         self.has_data = False
         set_title(self, "Correlation of daily net P&L", self.theme)
+        set_axis_label(self, "bottom", "Correlation, -1 to 1", self.theme)
 
     def set_comparison(self, book: BookComparison | None) -> None:
         """Show a run's comparison (None, or no promoted idea: nothing)."""

@@ -33,6 +33,5 @@ class CompareEquityChart(DateChart):
             x, _gross, net = equity_curves(daily)
             curve.setData(x, net)
             self.legend.getLabel(curve).setText(name)
-        title = "Cumulative net P&L"
-        set_title(self, f"{title} ({currency})" if currency else title, self.theme)
+        self.set_unit(currency)
         self.getPlotItem().enableAutoRange()

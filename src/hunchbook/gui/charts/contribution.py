@@ -6,7 +6,13 @@ import pyqtgraph as pg
 from PySide6.QtGui import QFontMetrics
 
 from hunchbook.gui.charts.axes import AmountAxis
-from hunchbook.gui.charts.theme import ChartTheme, palette_theme, style_plot, with_alpha
+from hunchbook.gui.charts.theme import (
+    ChartTheme,
+    palette_theme,
+    set_axis_label,
+    style_plot,
+    with_alpha,
+)
 
 #: Thickness of one bar (two bars, gross and net, share one market's row).
 BAR = 0.36
@@ -32,7 +38,7 @@ class ContributionChart(pg.PlotWidget):
         item.addLine(x=0, pen=pg.mkPen(with_alpha(self.theme.foreground, 140)))
         item.setMouseEnabled(x=True, y=False)
         self.markets: list[str] = []
-        self._title("")
+        self._title()
 
     def set_totals(self, totals: list[tuple[str, float | None, float | None]],
                    *, currency: str = "") -> None:
@@ -49,20 +55,19 @@ class ContributionChart(pg.PlotWidget):
         axis.setTicks([list(enumerate(self.markets)), []])
         metrics = QFontMetrics(axis.font())
         axis.setWidth(max((metrics.horizontalAdvance(m) for m in self.markets), default=20) + 14)
-        self._title(currency)
+        set_axis_label(self, "bottom", currency, self.theme)
         values = [0.0, *gross, *net]
         low, high = min(values), max(values)
         pad = 0.06 * (high - low or 1.0)
         self.getPlotItem().setRange(xRange=(low - pad, high + pad),
                                     yRange=(-0.6, max(len(totals), 1) - 0.4), padding=0)
 
-    def _title(self, currency: str) -> None:
+    def _title(self) -> None:
         gross = with_alpha(self.theme.gross, 255).name()
         net = self.theme.net.name()
-        unit = f" ({currency})" if currency else ""
         self.getPlotItem().setTitle(
             f'<span style="color:{gross}"><b>Gross</b></span> and '
-            f'<span style="color:{net}"><b>net</b></span> P&amp;L by market{unit}',
+            f'<span style="color:{net}"><b>net</b></span> P&amp;L by market',
             color=self.theme.foreground.name(), size="10pt")
 
     def bar_widths(self) -> tuple[list[float], list[float]]:

@@ -5,7 +5,18 @@ from __future__ import annotations
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
 
-from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
+from hunchbook.gui.charts.axes import SHARPE_LABEL
+from hunchbook.gui.charts.theme import (
+    ChartTheme,
+    palette_theme,
+    set_axis_label,
+    set_title,
+    style_plot,
+    with_alpha,
+)
+
+#: The cost axis' name and unit.
+MULTIPLE_LABEL = "Cost multiple, × assumed costs"
 
 #: Draw the break-even point when it lies within this many times the largest multiple shown.
 BREAK_EVEN_REACH = 2.0
@@ -20,8 +31,8 @@ class CostSensitivityChart(pg.PlotWidget):
         self.theme = theme or palette_theme()
         style_plot(self, self.theme)
         item = self.getPlotItem()
-        item.setLabel("bottom", "Cost multiple (1 = assumed costs)")
-        item.setLabel("left", "Net Sharpe")
+        set_axis_label(self, "bottom", MULTIPLE_LABEL, self.theme)
+        set_axis_label(self, "left", SHARPE_LABEL, self.theme)
         faint = pg.mkPen(with_alpha(self.theme.foreground, 110), style=Qt.PenStyle.DashLine)
         item.addLine(y=0, pen=pg.mkPen(with_alpha(self.theme.foreground, 140)))
         item.addLine(x=1.0, pen=faint)
@@ -42,10 +53,10 @@ class CostSensitivityChart(pg.PlotWidget):
         reach = BREAK_EVEN_REACH * max(multiples, default=0.0)
         show = break_even is not None and 0.0 < break_even <= reach
         self.break_even.setData([break_even] if show else [], [0.0] if show else [])
-        label = "Cost multiple (1 = assumed costs)"
+        label = MULTIPLE_LABEL
         if break_even is not None:
-            label = f"Cost multiple (break-even {break_even:.1f}×)"
-        self.getPlotItem().setLabel("bottom", label)
+            label = f"Cost multiple, × assumed costs (break-even {break_even:.1f}×)"
+        set_axis_label(self, "bottom", label, self.theme)
         self.getPlotItem().enableAutoRange()
 
     def clear_data(self) -> None:

@@ -6,7 +6,13 @@ from __future__ import annotations
 import pyqtgraph as pg
 
 from hunchbook.gui.charts.axes import DATE_CHART_AXIS_WIDTH, AmountAxis
-from hunchbook.gui.charts.theme import ChartTheme, palette_theme, style_plot, with_alpha
+from hunchbook.gui.charts.theme import (
+    ChartTheme,
+    palette_theme,
+    set_axis_label,
+    style_plot,
+    with_alpha,
+)
 
 
 def smooth_long_series(item: pg.PlotItem) -> None:
@@ -27,6 +33,10 @@ class DateChart(pg.PlotWidget):
         item = self.getPlotItem()
         item.getAxis("left").setWidth(DATE_CHART_AXIS_WIDTH)
         smooth_long_series(item)
+
+    def set_unit(self, currency: str) -> None:
+        """Name the amounts' currency on the left axis (the dates below need no unit)."""
+        set_axis_label(self, "left", currency, self.theme)
 
     def add_legend(self) -> pg.LegendItem:
         """A legend in the top left corner, readable over the curves."""

@@ -30,8 +30,9 @@ class DrawdownChart(DateChart):
         self._net = np.zeros(0)
         set_title(self, "Net drawdown", self.theme)
 
-    def set_daily(self, daily: pd.DataFrame | None) -> None:
-        """Show the net drawdown of a daily P&L table."""
+    def set_daily(self, daily: pd.DataFrame | None, *, currency: str = "") -> None:
+        """Show the net drawdown of a daily P&L table (amounts in ``currency``)."""
+        self.set_unit(currency)
         x, _, net = equity_curves(daily)
         self._net = net
         self.curve.setData(x, drawdown(net))

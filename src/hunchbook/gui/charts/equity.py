@@ -52,8 +52,7 @@ class EquityChart(DateChart):
         self.has_data = bool(x.size)
         self._ends = (float(gross[-1]), float(net[-1])) if x.size else (0.0, 0.0)
         self._set_walk_forward(daily, net)
-        title = "Cumulative P&L of the chosen set"
-        set_title(self, f"{title} ({currency})" if currency else title, self.theme)
+        self.set_unit(currency)
         self.getPlotItem().enableAutoRange()
 
     def _set_walk_forward(self, daily: pd.DataFrame | None, net: np.ndarray) -> None:

@@ -9,8 +9,15 @@ import pyqtgraph as pg
 from PySide6.QtCore import QPointF, QRectF, Qt, Signal
 from PySide6.QtWidgets import QGraphicsRectItem
 
+from hunchbook.gui.charts.axes import SHARPE_LABEL
 from hunchbook.gui.charts.run_figures import ParameterSpace, format_params, sharpe_grid
-from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot
+from hunchbook.gui.charts.theme import (
+    ChartTheme,
+    palette_theme,
+    set_axis_label,
+    set_title,
+    style_plot,
+)
 
 #: Cells are labelled with their value when the grid has at most this many.
 LABELLED_CELLS = 120
@@ -40,7 +47,7 @@ class SweepHeatmap(pg.PlotWidget):
         self.image = pg.ImageItem(axisOrder="row-major")
         item.addItem(self.image)
         self.colour_bar = pg.ColorBarItem(values=(-1.0, 1.0), colorMap=sharpe_colour_map(),
-                                          interactive=False, width=12, label="Net Sharpe")
+                                          interactive=False, width=12, label=SHARPE_LABEL)
         self.colour_bar.setImageItem(self.image, insert_in=item)
         for name in ("right", "left"):
             axis = self.colour_bar.getAxis(name)
@@ -78,8 +85,8 @@ class SweepHeatmap(pg.PlotWidget):
         first, second = space.names
         item.getAxis("bottom").setTicks([[(j, f"{v:g}") for j, v in enumerate(cols)], []])
         item.getAxis("left").setTicks([[(i, f"{v:g}") for i, v in enumerate(rows)], []])
-        item.setLabel("bottom", second)
-        item.setLabel("left", first)
+        set_axis_label(self, "bottom", second, self.theme)
+        set_axis_label(self, "left", first, self.theme)
         self._label_cells(reach)
         self._place(self.outline, chosen)
         self.shown.hide()

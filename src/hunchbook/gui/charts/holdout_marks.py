@@ -33,9 +33,9 @@ class BoundaryLine:
         colour = with_alpha(theme.foreground, 170)
         self.line = pg.InfiniteLine(
             angle=90, movable=False, pen=pg.mkPen(colour, width=1.5, style=Qt.PenStyle.DashLine),
-            label=LABEL, labelOpts={"position": 0.95, "color": colour, "movable": False,
+            label=LABEL, labelOpts={"position": 0.99, "color": colour, "movable": False,
                                     "fill": with_alpha(theme.background, 210),
-                                    "anchors": [(1, 0.5), (1, 0.5)]})
+                                    "anchors": [(1, 0), (1, 0)]})  # hangs below the top
         self.line.setZValue(20)
         plot.addItem(self.line, ignoreBounds=True)
         self.line.hide()

@@ -50,7 +50,7 @@ class ResultCharts:
         """Fill every chart from a run (charts without data are left empty)."""
         currency = run.result.currency if run.result else ""
         self.equity.set_daily(run.daily_pnl, currency=currency)
-        self.drawdown.set_daily(run.daily_pnl)
+        self.drawdown.set_daily(run.daily_pnl, currency=currency)
         boundary = run.result.holdout_boundary if run.result else None
         self.equity.set_boundary(boundary)
         self.drawdown.set_boundary(boundary)

@@ -5,8 +5,16 @@ from __future__ import annotations
 import pyqtgraph as pg
 from PySide6.QtCore import Signal
 
+from hunchbook.gui.charts.axes import SHARPE_LABEL
 from hunchbook.gui.charts.run_figures import ParameterSpace, format_params
-from hunchbook.gui.charts.theme import ChartTheme, palette_theme, set_title, style_plot, with_alpha
+from hunchbook.gui.charts.theme import (
+    ChartTheme,
+    palette_theme,
+    set_axis_label,
+    set_title,
+    style_plot,
+    with_alpha,
+)
 
 
 class SweepProfile(pg.PlotWidget):
@@ -20,7 +28,7 @@ class SweepProfile(pg.PlotWidget):
         self.theme = theme or palette_theme()
         style_plot(self, self.theme)
         item = self.getPlotItem()
-        item.setLabel("left", "Net Sharpe")
+        set_axis_label(self, "left", SHARPE_LABEL, self.theme)
         item.addLine(y=0, pen=pg.mkPen(with_alpha(self.theme.foreground, 140)))
         self.line = item.plot(pen=pg.mkPen(with_alpha(self.theme.net, 150), width=1.5))
         self.points = pg.ScatterPlotItem(size=9, brush=self.theme.net, pen=pg.mkPen(None),
@@ -47,7 +55,8 @@ class SweepProfile(pg.PlotWidget):
         self.points.setData(x=xs, y=ys, data=[r[2] for r in rows])
         mark = [(x, y) for x, y, p in rows if chosen is not None and p == chosen]
         self.chosen.setData([m[0] for m in mark], [m[1] for m in mark])
-        self.getPlotItem().setLabel("bottom", space.names[0] if single else "Parameter set")
+        set_axis_label(self, "bottom", space.names[0] if single else "Parameter set number",
+                       self.theme)
         self.getPlotItem().enableAutoRange()
 
     @staticmethod

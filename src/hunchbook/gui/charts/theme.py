@@ -65,6 +65,13 @@ def set_title(widget: pg.PlotWidget, text: str, theme: ChartTheme) -> None:
     widget.getPlotItem().setTitle(_escape(text), color=theme.foreground.name(), size="10pt")
 
 
+def set_axis_label(widget: pg.PlotWidget, side: str, text: str, theme: ChartTheme) -> None:
+    """Name an axis' unit (plain text) in the theme's text colour; "" removes the label."""
+    widget.getPlotItem().setLabel(side, _escape(text) or None, color=theme.foreground.name())
+    if not text:
+        widget.getPlotItem().getAxis(side).showLabel(False)
+
+
 def _escape(text: str) -> str:
     return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
 

@@ -36,6 +36,13 @@ CHART_FRAME, CHART_ROW = 66, 26
 Index = QModelIndex | QPersistentModelIndex
 
 
+def unit_below(label: str) -> str:
+    """A column label with its unit on a second line (``Net P&L (USD)`` -> ``Net P&L`` over
+    ``(USD)``), so that a column is as narrow as its figures."""
+    head, sep, unit = label.partition(" (")
+    return f"{head}\n({unit}" if sep else label
+
+
 class TableModel(QAbstractTableModel):
     """Read-only item model of a presenter :class:`~hunchbook.core.presenter.Table`: the name
     column, then the value columns formatted by kind, each column's note as its tooltip; rows in
@@ -65,7 +72,7 @@ class TableModel(QAbstractTableModel):
             return None
         column = self.table.columns[section - 1] if section else None
         if role == Qt.ItemDataRole.DisplayRole:
-            return self.table.head if column is None else column.label
+            return self.table.head if column is None else unit_below(column.label)
         if role == Qt.ItemDataRole.ToolTipRole and column is not None:
             return column.note or None
         return None

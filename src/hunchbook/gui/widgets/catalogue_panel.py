@@ -6,6 +6,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from PySide6.QtCore import QItemSelectionModel, QModelIndex, Qt, QTimer, Signal
+from PySide6.QtGui import QResizeEvent
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QCheckBox,
@@ -32,6 +33,12 @@ SEARCH_DELAY_MS = 200
 #: Room beside a cell's text, and beside a header's title for its sort arrow (pixels).
 CELL_PADDING, HEADER_PADDING = 14, 26
 _ANY = "Any"
+
+
+#: Columns left out, in this order, while the table is too narrow to show them beside a title
+#: of :data:`TITLE_CHARS` characters (they come back when it widens).
+SPARE_COLUMNS = (IdeaTableModel.UPDATED, IdeaTableModel.TRIALS)
+TITLE_CHARS = 18
 
 
 class CataloguePanel(QWidget):
@@ -98,6 +105,8 @@ class CataloguePanel(QWidget):
                               (IdeaTableModel.TRIALS, ("9,999",)),
                               (IdeaTableModel.UPDATED, ("2000-00-00",))):
             header.resizeSection(column, self._fit(column, texts))
+        self._widths = {c: header.sectionSize(c) for c in range(header.count())}
+        self._title_room = TITLE_CHARS * self.fontMetrics().horizontalAdvance("0")
         header.setHighlightSections(False)
         header.setMinimumSectionSize(40)
         self.table.sortByColumn(IdeaTableModel.UPDATED, Qt.SortOrder.DescendingOrder)
@@ -125,6 +134,32 @@ class CataloguePanel(QWidget):
         layout.addWidget(self.count)
 
     # -- public API -----------------------------------------------------------------------
+    def resizeEvent(self, event: QResizeEvent) -> None:  # noqa: N802 (Qt override)
+        """Leave out the spare columns the width cannot hold beside a readable title."""
+        super().resizeEvent(event)
+        self._fit_columns()
+
+    def wanted_width(self) -> int:
+        """The width that shows every column beside a readable title."""
+        margins = self.layout().contentsMargins()
+        return (self._title_room + sum(width for c, width in self._widths.items()
+                                       if c != IdeaTableModel.TITLE)
+                + 2 * self.table.frameWidth() + self.table.verticalScrollBar().sizeHint().width()
+                + margins.left() + margins.right())
+
+    def _fit_columns(self) -> None:
+        header = self.table.horizontalHeader()
+        room = (self.table.width() - 2 * self.table.frameWidth()
+                - self.table.verticalScrollBar().sizeHint().width())
+        need = self._title_room + sum(width for c, width in self._widths.items()
+                                      if c != IdeaTableModel.TITLE)
+        for column in SPARE_COLUMNS:
+            header.setSectionHidden(column, need > room)
+            if need > room:
+                need -= self._widths[column]
+            else:
+                header.resizeSection(column, self._widths[column])
+
     def set_user(self, user: str) -> None:
         """Whose next steps the "Waiting for me" filter shows."""
         self._user = user

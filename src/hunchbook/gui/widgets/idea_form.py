@@ -349,6 +349,9 @@ class IdeaForm(IdeaSection):
         self.citation.setText(idea.citation or "")
         self.link.setText(idea.link or "")
         self.tags.setText(", ".join(idea.tags))
+        for edit in (self.title, self.hypothesis, self.citation, self.link, self.tags):
+            if not edit.hasFocus():  # a long line shows its start, not its end
+                edit.setCursorPosition(0)
         self.markets.set_markets(self._library, idea.markets)
         for widget in widgets:
             widget.blockSignals(False)

@@ -11,13 +11,13 @@ from PySide6.QtGui import QFont, QPalette
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QFrame,
-    QGridLayout,
+    QHBoxLayout,
     QHeaderView,
     QLabel,
     QScrollArea,
-    QSplitter,
     QStackedWidget,
     QTableView,
+    QTabWidget,
     QVBoxLayout,
     QWidget,
 )
@@ -71,6 +71,33 @@ def _heading(text: str) -> QLabel:
     return label
 
 
+#: The pages beside the headline figures, in order (the first is in front).
+EQUITY_PAGE, STATISTICS_PAGE, SETS_PAGE = "Equity", "Statistics", "Sets"
+MARKETS_PAGE, COSTS_PAGE, BOOK_PAGE = "Markets", "Costs", "Book"
+YEARS_PAGE = "Years"
+#: Least heights of the pages and of the curves on the first one (pixels): below them the
+#: results scroll as a whole instead of squeezing the charts.
+PAGES_MIN_HEIGHT, EQUITY_MIN_HEIGHT, DRAWDOWN_MIN_HEIGHT = 300, 170, 100
+
+
+def _scrolled(widget: QWidget, *, top: bool = False) -> QScrollArea:
+    """``widget`` in a frameless area that scrolls it up and down (never sideways); ``top``
+    keeps it at its own height at the top, the room below it left blank."""
+    scroll = QScrollArea()
+    if top:
+        holder = QWidget()
+        column = QVBoxLayout(holder)
+        column.setContentsMargins(0, 4, 0, 0)
+        column.addWidget(widget)
+        column.addStretch(1)
+        widget = holder
+    scroll.setWidget(widget)
+    scroll.setWidgetResizable(True)
+    scroll.setFrameShape(QFrame.Shape.NoFrame)
+    scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+    return scroll
+
+
 def _figures_table(model: FiguresModel) -> QTableView:
     table = QTableView()
     table.setModel(model)
@@ -111,7 +138,10 @@ class ChartSlot(QStackedWidget):
 
 
 class ResultsView(QWidget):
-    """What a run found, for deciding at a glance.
+    """What a run found, for deciding at a glance: the verdict banner on top, the headline
+    figures on the left and pages on the right (the equity curve and drawdown in front; the
+    statistics, the parameter sets, the markets, the costs and the book behind it; more through
+    :meth:`add_page`).
 
     Signals: ``set_requested(dict)`` when a heatmap cell (or a point of the one-parameter
     chart) is clicked, with that parameter set; the owner computes its daily P&L and calls
@@ -147,7 +177,6 @@ class ResultsView(QWidget):
         self.drawdown_slot = ChartSlot([c.drawdown], "")
         self.sweep_slot = ChartSlot([c.heatmap, c.profile],
                                     "One parameter set: no sweep to compare.")
-        self.sweep_slot.setMinimumHeight(180)
         self.contribution_slot = ChartSlot([c.contribution],
                                            "No per-market figures were recorded for this run.")
         self.costs_slot = ChartSlot([c.costs], "No cost sensitivity was recorded for this run.")
@@ -158,59 +187,55 @@ class ResultsView(QWidget):
         small.setPointSizeF(small.pointSizeF() * 0.85)
         self.caution.setFont(small)
 
-        tables = QWidget()
-        left = QVBoxLayout(tables)
-        left.setContentsMargins(0, 0, 0, 0)
-        left.addWidget(_heading("Chosen set over its whole history"))
-        left.addWidget(self.performance_table)
-        left.addWidget(self.capital_tables)
-        left.addSpacing(6)
-        left.addWidget(_heading("How far to trust it (days all sets share)"))
-        left.addWidget(self.statistics_table)
-        left.addSpacing(6)
-        left.addWidget(self.sweep_slot, 1)
-        left.addSpacing(6)
-        left.addWidget(self.book_panel)
+        summary = QWidget()  # the headline figures beside the pages, with the caution below
+        column = QVBoxLayout(summary)
+        column.setContentsMargins(0, 0, 4, 0)
+        column.setSpacing(4)
+        self.summary_heading = _heading("Chosen set over its whole history")
+        column.addWidget(self.summary_heading)
+        column.addWidget(self.performance_table)
+        column.addWidget(self.caution)
+        column.addStretch(1)
+        self.summary = _scrolled(summary)  # more rows than the height: they scroll, never cut
+        self.summary.setObjectName("resultsSummary")
 
-        charts = QWidget()
-        column = QVBoxLayout(charts)
-        column.setContentsMargins(0, 0, 0, 0)
-        column.setSpacing(6)
-        column.addWidget(self.holdout)
-        grid = QGridLayout()
-        column.addLayout(grid, 1)
-        grid.setContentsMargins(0, 0, 0, 0)
-        grid.setSpacing(6)
-        grid.addWidget(self.equity_slot, 0, 0, 1, 2)
-        grid.addWidget(self.drawdown_slot, 1, 0, 1, 2)
-        grid.addWidget(self.contribution_slot, 2, 0)
-        grid.addWidget(self.costs_slot, 2, 1)
-        for row, stretch in enumerate((5, 2, 4)):
-            grid.setRowStretch(row, stretch)
-        for col in range(2):
-            grid.setColumnStretch(col, 1)
+        equity = QWidget()
+        curves = QVBoxLayout(equity)
+        curves.setContentsMargins(0, 4, 0, 0)
+        curves.setSpacing(6)
+        curves.addWidget(self.holdout)
+        curves.addWidget(self.equity_slot, 3)
+        curves.addWidget(self.drawdown_slot, 1)
+        self.equity_slot.setMinimumHeight(EQUITY_MIN_HEIGHT)
+        self.drawdown_slot.setMinimumHeight(DRAWDOWN_MIN_HEIGHT)
+        trust = QWidget()
+        trust_column = QVBoxLayout(trust)
+        trust_column.setContentsMargins(0, 4, 0, 0)
+        trust_column.addWidget(_heading("How far to trust it (days all sets share)"))
+        trust_column.addWidget(self.statistics_table)
+        trust_column.addStretch(1)
+        self.pages = QTabWidget()
+        self.pages.setObjectName("resultPages")
+        self.pages.setDocumentMode(True)
+        self.pages.setMinimumHeight(PAGES_MIN_HEIGHT)
+        book = _scrolled(self.book_panel, top=True)
+        for title, page in ((EQUITY_PAGE, equity), (STATISTICS_PAGE, _scrolled(trust)),
+                            (YEARS_PAGE, _scrolled(self.capital_tables, top=True)),
+                            (SETS_PAGE, self.sweep_slot), (MARKETS_PAGE, self.contribution_slot),
+                            (COSTS_PAGE, self.costs_slot), (BOOK_PAGE, book)):
+            self.pages.addTab(page, title)
 
-        scroll = QScrollArea()  # the tables keep their height; a short window scrolls them
-        scroll.setWidget(tables)
-        scroll.setWidgetResizable(True)
-        scroll.setFrameShape(QFrame.Shape.NoFrame)
-        scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        splitter = QSplitter(Qt.Orientation.Horizontal)
-        splitter.addWidget(scroll)
-        splitter.addWidget(charts)
-        splitter.setStretchFactor(0, 0)
-        splitter.setStretchFactor(1, 1)
-        splitter.setSizes([340, 860])
-        splitter.setChildrenCollapsible(False)
-
+        body = QHBoxLayout()
+        body.setSpacing(8)
+        body.addWidget(self.summary)
+        body.addWidget(self.pages, 1)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(8, 8, 8, 6)
         layout.setSpacing(8)
         layout.addWidget(self.banner)
         layout.addWidget(self.data_note)
         layout.addWidget(self.pick_note)
-        layout.addWidget(splitter, 1)
-        layout.addWidget(self.caution)
+        layout.addLayout(body, 1)
         self._recolour()
         self.clear()
 
@@ -228,12 +253,46 @@ class ResultsView(QWidget):
         palette.setColor(QPalette.ColorRole.WindowText, muted)
         self.caution.setPalette(palette)
 
+    def heightForWidth(self, width: int) -> int:  # noqa: N802 (Qt override)
+        """The least height at ``width`` that shows every line of the banner and notes and
+        the pages at their least height (the scroll area holding the view asks for it; the
+        layout's own answer would be the charts' preferred heights, taller than any screen)."""
+        layout = self.layout()
+        margins = layout.contentsMargins()
+        inner = width - margins.left() - margins.right()
+        shown = [w for w in (self.banner, self.data_note, self.pick_note) if not w.isHidden()]
+        lines = sum(w.heightForWidth(inner) if w.hasHeightForWidth() else w.sizeHint().height()
+                    for w in shown)
+        return (margins.top() + margins.bottom() + lines + layout.spacing() * len(shown)
+                + (0 if self.pages.isHidden() else
+                   max(self.pages.minimumSizeHint().height(), self.pages.minimumHeight())))
+
+    def add_page(self, title: str, page: QWidget) -> int:
+        """Add a page behind the others (for example a year-by-year table); its index."""
+        return self.pages.addTab(page, title)
+
+    def show_page(self, title: str) -> None:
+        """Bring the page called ``title`` to the front (KeyError when there is none)."""
+        for index in range(self.pages.count()):
+            if self.pages.tabText(index) == title:
+                self.pages.setCurrentIndex(index)
+                return
+        raise KeyError(f"no results page {title!r}")
+
     def _fit_tables(self) -> None:
+        """Give each figures table the height of its rows and the headline column the width
+        of its table, so no figure is cut or elided."""
         for table in (self.performance_table, self.statistics_table):
             table.resizeRowsToContents()
             rows = sum(table.rowHeight(r) for r in range(table.model().rowCount()))
-            table.setFixedHeight(rows + table.horizontalHeader().sizeHint().height()
-                                 + 2 * table.frameWidth())
+            header = table.horizontalHeader()
+            table.setFixedHeight(rows + header.sizeHint().height() + 2 * table.frameWidth())
+            columns = sum(max(table.sizeHintForColumn(c), header.sectionSizeHint(c))
+                          for c in range(table.model().columnCount()))
+            table.setMinimumWidth(columns + 2 * table.frameWidth())
+        scrollbar = self.summary.verticalScrollBar().sizeHint().width()
+        self.summary.setFixedWidth(max(self.performance_table.minimumWidth(),
+                                       self.summary_heading.sizeHint().width()) + scrollbar + 4)
 
     def show_run(self, run: RunRecord, *, title: str) -> None:
         """Show a recorded run (from ``Catalogue.run``, daily P&L decoded)."""
@@ -251,6 +310,12 @@ class ResultsView(QWidget):
         self.book_panel.show_run(run)
         self.show_holdout(None, None)
         self._show_slots()
+        self._show_body(True)
+
+    def _show_body(self, shown: bool) -> None:
+        """Figures and pages only while a run is shown (without one the banner says so)."""
+        self.summary.setVisible(shown)
+        self.pages.setVisible(shown)
 
     def show_holdout(self, view: HoldoutView | None, problem: str | None) -> None:
         """Show the shown run's idea's held-out years: ``view`` its unlocking (None: locked;
@@ -295,6 +360,7 @@ class ResultsView(QWidget):
         self.holdout.show_state(None, None, None)
         self.held_out = None
         self._show_slots()
+        self._show_body(False)
 
     def export_html(self, path: str | os.PathLike[str], *, idea: Idea, run: RunRecord,
                     rule_text: str) -> None:

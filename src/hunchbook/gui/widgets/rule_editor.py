@@ -102,25 +102,21 @@ class RuleEditor(QWidget):
         self._settle.setInterval(SETTLE_MS)
         self._settle.timeout.connect(self._settled)
 
-        text_side = QWidget()
-        text_layout = QVBoxLayout(text_side)
-        text_layout.setContentsMargins(0, 0, 0, 0)
-        text_layout.addWidget(self.text_edit, 1)
-        status = QHBoxLayout()
-        status.addWidget(self.message, 1)
-        status.addWidget(self.cursor_label)
-        text_layout.addLayout(status)
-
-        self.splitter = QSplitter(Qt.Orientation.Horizontal)
+        self.splitter = QSplitter(Qt.Orientation.Horizontal)  # the window keeps its place
+        self.splitter.setObjectName("rulesSplitter")
         self.splitter.setChildrenCollapsible(False)
         self.splitter.addWidget(self.form)
-        self.splitter.addWidget(text_side)
+        self.splitter.addWidget(self.text_edit)
         self.splitter.setStretchFactor(0, 4)
         self.splitter.setStretchFactor(1, 5)
         self.splitter.setSizes([420, 560])
+        status = QHBoxLayout()  # the whole width: a message fits on one line
+        status.addWidget(self.message, 1)
+        status.addWidget(self.cursor_label)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
-        layout.addWidget(self.splitter)
+        layout.addWidget(self.splitter, 1)
+        layout.addLayout(status)
 
         self.form.set_spec(None)
         self.form.set_out_of_date(_NO_RULES)

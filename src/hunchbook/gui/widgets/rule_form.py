@@ -59,6 +59,8 @@ _COLUMNS = ("Name", "Kind", "Values / start", "Stop", "Step")
 _NAME, _KIND, _FIRST, _STOP, _STEP = range(5)
 _LIST, _RANGE = "values", "range"
 _MAX_LISTED = 50
+#: Height of the list of functions and series (pixels).
+FUNCTIONS_HEIGHT = 150
 _SEPARATORS = re.compile(r"[,;\s]+")
 _WORD_BEFORE = re.compile(r"[A-Za-z_][A-Za-z0-9_]*\Z")
 _EXPRESSION_WORDS = ("and", "or", "not", "if", "else")
@@ -191,6 +193,9 @@ class RuleForm(QWidget):
         scroll.setFrameShape(QFrame.Shape.NoFrame)
         scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         scroll.setWidget(self.fields)
+        # never narrower than the fields: they are cut on the right, not squeezed, below that
+        scroll.setMinimumWidth(self.fields.minimumSizeHint().width()
+                               + scroll.verticalScrollBar().sizeHint().width())
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.addWidget(self.note)
@@ -250,8 +255,9 @@ class RuleForm(QWidget):
         self.parameters_table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
         self.parameters_table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
         header = self.parameters_table.horizontalHeader()
-        header.setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
-        header.setSectionResizeMode(_KIND, QHeaderView.ResizeMode.ResizeToContents)
+        header.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)  # never elided
+        header.setSectionResizeMode(_NAME, QHeaderView.ResizeMode.Stretch)
+        header.setMinimumSectionSize(header.fontMetrics().horizontalAdvance("0") * 6)
         self.parameters_table.setMinimumHeight(96)
         self.parameters_table.setMaximumHeight(150)
         self.parameters_table.setToolTip(
@@ -290,9 +296,12 @@ class RuleForm(QWidget):
         self.position_edit.textEdited.connect(self._changed)
         form.addRow("Position", self.position_edit)
         self.functions_list = QListWidget()
-        self.functions_list.setFixedHeight(84)
+        self.functions_list.setFixedHeight(FUNCTIONS_HEIGHT)
         self.functions_list.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        self.functions_list.setTextElideMode(Qt.TextElideMode.ElideRight)
+        self.functions_list.setWordWrap(True)  # each description whole, over lines as needed
+        self.functions_list.setTextElideMode(Qt.TextElideMode.ElideNone)
+        self.functions_list.setResizeMode(QListView.ResizeMode.Adjust)
+        self.functions_list.setUniformItemSizes(False)
         self.functions_list.setToolTip("Functions and series of the expression language; "
                                        "double-click one to insert it into the position. "
                                        'Another market\'s series: close["GOLD"].')
@@ -518,6 +527,9 @@ class RuleForm(QWidget):
             self._append_parameter_row(parameter)
         self.constraint_edit.setText(spec.constraint or "")
         self.position_edit.setText(spec.position)
+        for edit in (self.name_edit, self.constraint_edit, self.position_edit):
+            if not edit.hasFocus():  # show where the text starts, not where it ends
+                edit.setCursorPosition(0)
         self.delay_spin.setValue(spec.delay)
         self.roll_combo.setCurrentIndex(self.roll_combo.findData(spec.roll.rule))
         for key, spin in self.roll_setting_spins.items():

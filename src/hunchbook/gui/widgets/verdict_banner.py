@@ -2,9 +2,25 @@
 
 from __future__ import annotations
 
-from PySide6.QtCore import QEvent, QRectF, Qt
-from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPaintEvent, QPalette
-from PySide6.QtWidgets import QFrame, QGridLayout, QHBoxLayout, QLabel, QVBoxLayout, QWidget
+from PySide6.QtCore import QEvent, QRectF, QSize, Qt
+from PySide6.QtGui import (
+    QColor,
+    QFont,
+    QPainter,
+    QPainterPath,
+    QPaintEvent,
+    QPalette,
+    QResizeEvent,
+)
+from PySide6.QtWidgets import (
+    QFrame,
+    QGridLayout,
+    QHBoxLayout,
+    QLabel,
+    QLayout,
+    QVBoxLayout,
+    QWidget,
+)
 
 from hunchbook.core.verdict import Check
 from hunchbook.gui.charts.run_figures import VerdictText
@@ -21,8 +37,8 @@ NEUTRAL_HUE = QColor(128, 128, 128)
 #: Mark and hue of each check status (the first failing check decides the outcome).
 STATUS_MARKS = {"pass": ("\u2713", QColor(38, 140, 74)), "fail": ("\u2717", QColor(192, 52, 52)),
                 "warn": ("!", QColor(196, 142, 0)), "skip": ("\u2013", NEUTRAL_HUE)}
-#: Checks shown side by side in the banner.
-CHECK_COLUMNS = 3
+#: Most checks shown side by side in the banner, and the gap between their columns (pixels).
+CHECK_COLUMNS, COLUMN_GAP = 3, 18
 #: Width of the coloured stripe and corner radius, in pixels.
 STRIPE = 6
 RADIUS = 4
@@ -143,7 +159,9 @@ class VerdictBanner(QFrame):
 
 class ChecksGrid(QWidget):
     """Every check of the verdict in order, side by side: a pass/fail mark, the check's name
-    and its figure; hovering shows the check's finding in a sentence."""
+    and its figure; hovering shows the check's finding in a sentence. As many columns of checks
+    as the width holds (at most :data:`CHECK_COLUMNS`), so a narrow banner grows taller
+    instead of running past its edge."""
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -151,7 +169,10 @@ class ChecksGrid(QWidget):
         self.grid.setContentsMargins(0, 4, 0, 0)
         self.grid.setHorizontalSpacing(6)
         self.grid.setVerticalSpacing(1)
+        # the widget's least width is one column (see minimumSizeHint), not the grid's
+        self.grid.setSizeConstraint(QLayout.SizeConstraint.SetNoConstraint)
         self.rows: list[tuple[Check, QLabel, QLabel, QLabel]] = []
+        self.columns = 0
 
     def set_checks(self, checks: tuple[Check, ...]) -> None:
         """Show these checks (none hides the grid)."""
@@ -160,22 +181,58 @@ class ChecksGrid(QWidget):
             if item.widget() is not None:
                 item.widget().deleteLater()
         self.rows = []
-        per_column = -(-len(checks) // CHECK_COLUMNS) if checks else 0
-        for i, check in enumerate(checks):
-            row, column = (i % per_column, 3 * (i // per_column)) if per_column else (0, 0)
-            mark = QLabel(STATUS_MARKS.get(check.status, STATUS_MARKS["skip"])[0])
+        for check in checks:
+            mark = QLabel(STATUS_MARKS.get(check.status, STATUS_MARKS["skip"])[0], self)
             name = _plain_label(check.name, wrap=False)
             figure = _plain_label(check.figure, wrap=False)
             for widget in (mark, name, figure):
                 widget.setToolTip(check.finding)
             mark.setAccessibleName(f"{check.name}: {check.status}")
+            self.rows.append((check, mark, name, figure))
+        self.columns = 0
+        self._place(self._fitting(self.width() if self.isVisible() else 10**6))
+        self.setVisible(bool(checks))
+
+    def _column_width(self) -> int:
+        widest = [max((row[k].sizeHint().width() for row in self.rows), default=0)
+                  for k in (1, 2, 3)]
+        return sum(widest) + 2 * self.grid.horizontalSpacing() + COLUMN_GAP
+
+    def _fitting(self, width: int) -> int:
+        """How many columns of checks fit ``width``."""
+        if not self.rows:
+            return 1
+        fit = (width + COLUMN_GAP) // max(self._column_width(), 1)
+        return max(1, min(CHECK_COLUMNS, len(self.rows), fit))
+
+    def _place(self, columns: int) -> None:
+        if columns == self.columns:
+            return
+        self.columns = columns
+        while self.grid.count():
+            self.grid.takeAt(0)  # the labels stay; only their places change
+        per_column = -(-len(self.rows) // columns) if self.rows else 0
+        for i, (_check, mark, name, figure) in enumerate(self.rows):
+            row, column = i % per_column, 3 * (i // per_column)
             self.grid.addWidget(mark, row, column)
             self.grid.addWidget(name, row, column + 1)
             self.grid.addWidget(figure, row, column + 2)
-            self.rows.append((check, mark, name, figure))
         for column in range(3 * CHECK_COLUMNS):
-            self.grid.setColumnStretch(column, 1 if column % 3 == 2 else 0)
-        self.setVisible(bool(checks))
+            self.grid.setColumnStretch(column, 1 if column % 3 == 2 and
+                                       column < 3 * columns else 0)
+        for row in range(self.grid.rowCount()):
+            self.grid.setRowStretch(row, 0)
+        self.updateGeometry()
+
+    def resizeEvent(self, event: QResizeEvent) -> None:  # noqa: N802 (Qt override)
+        """Lay the checks out again in as many columns as the new width holds."""
+        super().resizeEvent(event)
+        self._place(self._fitting(event.size().width()))
+
+    def minimumSizeHint(self) -> QSize:  # noqa: N802 (Qt override)
+        """One column of checks wide, as tall as the present rows."""
+        height = self.grid.minimumSize().height()
+        return QSize(self._column_width() if self.rows else 0, height)
 
     def recolour(self, text: QColor, *, dark: bool) -> None:
         """Colour the marks by status, readable on a light or dark background, and the names
