@@ -34,7 +34,7 @@ def test_rows_carry_the_record_fields(run) -> None:  # noqa: F811
     perf = _rows(performance_rows(record.chosen.performance, "USD"))
     assert perf["Total P&L (USD)"] == (pytest.approx(daily["gross_pnl"].sum()),
                                  pytest.approx(daily["net_pnl"].sum()))
-    assert perf["Contracts per year (contracts)"][0] is None  # one value: no gross cell
+    assert perf["Contracts per year"][0] is None  # one value: no gross cell
     stats = record.statistics
     rows = _rows(statistic_rows(stats))
     assert rows["Probabilistic Sharpe (vs 0)"] == (stats.gross.psr, stats.net.psr)

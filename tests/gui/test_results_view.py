@@ -64,8 +64,8 @@ def test_performance_table_holds_the_stored_portfolio_figures(view, runs, qtmode
                        ("t-statistic", "t_stat"), ("Max drawdown (USD)", "max_drawdown")]:
         assert gross[label] == getattr(portfolio.gross, key)
         assert net[label] == getattr(portfolio.net, key)
-    for label, key in [("Trades per year (trades)", "trades_per_year"),
-                       ("Contracts per year (contracts)", "contracts_per_year"),
+    for label, key in [("Trades per year", "trades_per_year"),
+                       ("Contracts per year", "contracts_per_year"),
                        ("Total cost (USD)", "cost_total"),
                        ("Cost share of gross (%)", "cost_share_of_gross"),
                        ("Break-even per contract (USD/side)", "break_even_cost")]:

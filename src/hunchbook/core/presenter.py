@@ -65,8 +65,9 @@ class FigureRow:
 
 def with_unit(label: str, unit: str, currency: str = "") -> str:
     """A label with its unit in brackets (``CURRENCY`` in the unit becomes the currency's
-    code); the label alone without a unit."""
-    if not unit:
+    code); the label alone without a unit, or when it names the unit already (``Trades per
+    year`` is in trades)."""
+    if not unit or unit.casefold() in label.casefold():
         return label
     return f"{label} ({unit.format(currency=currency or 'currency')})"
 

@@ -39,6 +39,8 @@ _ANY = "Any"
 #: of :data:`TITLE_CHARS` characters (they come back when it widens).
 SPARE_COLUMNS = (IdeaTableModel.UPDATED, IdeaTableModel.TRIALS)
 TITLE_CHARS = 18
+#: Title room the catalogue asks for when the window has width to spare (most titles whole).
+WANTED_TITLE_CHARS = 42
 
 
 class CataloguePanel(QWidget):
@@ -140,9 +142,10 @@ class CataloguePanel(QWidget):
         self._fit_columns()
 
     def wanted_width(self) -> int:
-        """The width that shows every column beside a readable title."""
+        """The width that shows every column beside a title of :data:`WANTED_TITLE_CHARS`."""
         margins = self.layout().contentsMargins()
-        return (self._title_room + sum(width for c, width in self._widths.items()
+        title = WANTED_TITLE_CHARS * self.fontMetrics().horizontalAdvance("0")
+        return (title + sum(width for c, width in self._widths.items()
                                        if c != IdeaTableModel.TITLE)
                 + 2 * self.table.frameWidth() + self.table.verticalScrollBar().sizeHint().width()
                 + margins.left() + margins.right())
