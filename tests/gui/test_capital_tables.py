@@ -1,5 +1,6 @@
 """The chosen set against its capital in the window and the report: the year-by-year table, the
-*Monthly returns…* dialog and the sentences on the capital and the two Sharpe ratios.
+*Monthly returns…* dialog, the sentence on the capital and (on the Statistics page) the one on
+the two Sharpe ratios.
 
 Checks against pandas on the stored daily P&L (reference library: pandas: calendar-year and
 month sums).
@@ -77,3 +78,23 @@ def test_the_report_carries_the_years_and_months(runs):
     page = report_html(idea=runs.idea, run=runs.two, rule_text="", images={})
     assert YEAR_HEADING in page and "Monthly net returns" in page
     assert "Return (% of capital)" in page and "Break-even per contract (USD/side)" in page
+
+
+def test_the_statistics_page_says_why_its_sharpe_ratio_differs(runs, qtbot):
+    # the headline Sharpe ratio is over the set's own days, the statistics' over the days all
+    # sets share: where the two differ the Statistics page says so, with both day counts
+    run = runs.two
+    result = run.result
+    fewer = dataclasses.replace(result, statistics=dataclasses.replace(
+        result.statistics, n_days=result.chosen.performance.days - 170))
+    view = ResultsView()
+    qtbot.addWidget(view)
+    view.show_run(dataclasses.replace(run, result=fewer), title="t")
+    text = view.sharpe_note.text()
+    assert f"{result.chosen.performance.days:,}" in text
+    assert f"{result.chosen.performance.days - 170:,}" in text
+    assert not view.sharpe_note.isHidden()
+    same = dataclasses.replace(result, statistics=dataclasses.replace(
+        result.statistics, n_days=result.chosen.performance.days))
+    view.show_run(dataclasses.replace(run, result=same), title="t")
+    assert view.sharpe_note.isHidden()

@@ -22,7 +22,6 @@ from hunchbook.core.presenter import (
     Table,
     capital_sentence,
     monthly_table,
-    sharpe_sentence,
     year_table,
 )
 from hunchbook.gui.widgets.book_panel import TableModel
@@ -94,7 +93,7 @@ class MonthlyDialog(QDialog):
 
 
 class CapitalTables(QWidget):
-    """The capital sentence, the Sharpe sentence, the year table and the monthly button."""
+    """The capital sentence, the year table and the monthly button."""
 
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -102,8 +101,6 @@ class CapitalTables(QWidget):
         self.dialog: MonthlyDialog | None = None
         self.capital_note = _note()
         self.capital_note.setObjectName("capitalNote")
-        self.sharpe_note = _note()
-        self.sharpe_note.setObjectName("sharpeNote")
         heading = QLabel(YEAR_HEADING)
         font = QFont(heading.font())
         font.setBold(True)
@@ -120,7 +117,6 @@ class CapitalTables(QWidget):
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.addWidget(self.capital_note)
-        layout.addWidget(self.sharpe_note)
         layout.addLayout(head)
         layout.addWidget(self.table)
         self.show_run(None)
@@ -130,9 +126,6 @@ class CapitalTables(QWidget):
         self.run = run
         result = None if run is None else run.result
         self.capital_note.setText("" if result is None else capital_sentence(result))
-        sentence = None if result is None else sharpe_sentence(result)
-        self.sharpe_note.setText(sentence or "")
-        self.sharpe_note.setVisible(sentence is not None)
         table = year_table(result) if result is not None else Table("Year", (), ())
         self.model.set_table(table)
         self.table.resizeRowsToContents()

@@ -22,6 +22,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from hunchbook.core.presenter import sharpe_sentence
 from hunchbook.core.verdict import Verdict
 from hunchbook.gui.charts.result_charts import ResultCharts
 from hunchbook.gui.charts.run_figures import (
@@ -212,6 +213,11 @@ class ResultsView(QWidget):
         trust_column = QVBoxLayout(trust)
         trust_column.setContentsMargins(0, 4, 0, 0)
         trust_column.addWidget(_heading("How far to trust it (days all sets share)"))
+        self.sharpe_note = QLabel()  # why this Sharpe ratio differs from the headline one
+        self.sharpe_note.setWordWrap(True)
+        self.sharpe_note.setTextFormat(Qt.TextFormat.PlainText)
+        self.sharpe_note.setObjectName("sharpeNote")
+        trust_column.addWidget(self.sharpe_note)
         trust_column.addWidget(self.statistics_table)
         trust_column.addStretch(1)
         self.pages = QTabWidget()
@@ -304,6 +310,9 @@ class ResultsView(QWidget):
         self.data_note.setVisible(changes is not None)
         self.performance.set_rows(performance_rows(run))
         self.statistics.set_rows(statistic_rows(run))
+        sentence = None if run.result is None else sharpe_sentence(run.result)
+        self.sharpe_note.setText(sentence or "")
+        self.sharpe_note.setVisible(sentence is not None)
         self._fit_tables()
         self.capital_tables.show_run(run)
         self.charts.show_run(run)
