@@ -75,7 +75,8 @@ def _build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"hunchbook {__version__}")
     add_window_options(parser.add_argument_group(
         "the desktop window (given instead of a command)"))
-    commands = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    commands = parser.add_subparsers(dest="command", required=True, metavar="COMMAND",
+                                     prog="hunchbook")
 
     run = commands.add_parser(
         "run", help="run a rule file over a data folder and print gross/net results",
