@@ -8,6 +8,12 @@ os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
 import pytest  # noqa: E402
 
+from tests.gui.desk_fixtures import (  # noqa: E402
+    demo_catalogue_copy,
+    open_window,
+    short_demo_data,
+)
+
 
 @pytest.fixture(autouse=True)
 def _isolated_settings(tmp_path, monkeypatch):
@@ -53,3 +59,15 @@ def view(qtbot):
     widget.show()
     qtbot.waitExposed(widget)
     return widget
+
+
+@pytest.fixture(scope="session")
+def short_data(tmp_path_factory):
+    """A short copy of the invented demo data (every window test reads the same one)."""
+    return short_demo_data(tmp_path_factory)
+
+
+@pytest.fixture
+def window(qtbot, tmp_path_factory, tmp_path, short_data):
+    """The main window on a fresh copy of the demo catalogue and the short demo data."""
+    return open_window(qtbot, demo_catalogue_copy(tmp_path_factory, tmp_path), short_data)

@@ -15,24 +15,11 @@ from hunchbook.gui.models import RunTableModel
 from hunchbook.gui.widgets.idea_form import AmendDialog
 from tests.gui.desk_fixtures import (
     TESTED_TITLE,
-    demo_catalogue_copy,
     idea_id_by_title,
-    open_window,
-    short_demo_data,
 )
 
 #: The breakout idea's wider rules on one market more than it pre-registered.
 WITH_CORN = BREAKOUT_WIDE.replace('"EQIDX"]', '"EQIDX", "CORN"]')
-
-
-@pytest.fixture(scope="session")
-def short_data(tmp_path_factory):
-    return short_demo_data(tmp_path_factory)
-
-
-@pytest.fixture
-def window(qtbot, tmp_path_factory, tmp_path, short_data):
-    return open_window(qtbot, demo_catalogue_copy(tmp_path_factory, tmp_path), short_data)
 
 
 def _error_texts(window) -> list[str]:

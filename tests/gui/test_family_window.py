@@ -9,7 +9,6 @@ trials count for each member.
 
 from __future__ import annotations
 
-import pytest
 from PySide6.QtCore import Qt
 
 from hunchbook.catalogue import CHECKLIST, PROMOTION_CHECKLIST
@@ -21,23 +20,12 @@ from tests.gui.desk_fixtures import (
     demo_catalogue_copy,
     idea_id_by_title,
     open_window,
-    short_demo_data,
 )
 
 PARENT = "Rates trend, traded slowly"
 VARIANT = "Ten-year note trend with a volatility filter"
 DRAFT = "Grain weather-premium fade"
 TREND = "Two-average trend across the book"
-
-
-@pytest.fixture(scope="session")
-def short_data(tmp_path_factory):
-    return short_demo_data(tmp_path_factory)
-
-
-@pytest.fixture
-def window(qtbot, tmp_path_factory, tmp_path, short_data):
-    return open_window(qtbot, demo_catalogue_copy(tmp_path_factory, tmp_path), short_data)
 
 
 def _trials_cell(window, idea_id: int) -> str:

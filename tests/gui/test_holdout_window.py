@@ -10,7 +10,6 @@ import threading
 
 import numpy as np
 import pandas as pd
-import pytest
 from PySide6.QtCore import QDate, Qt
 from PySide6.QtWidgets import QMessageBox
 
@@ -18,23 +17,10 @@ from hunchbook.core.presenter import format_params, format_value, holdout_rows
 from hunchbook.gui.widgets.holdout_dialogs import BoundaryDialog, UnlockDialog
 from tests.gui.desk_fixtures import (
     ACCEPTED_TITLE,
-    demo_catalogue_copy,
     idea_id_by_title,
-    open_window,
-    short_demo_data,
 )
 
 BOUNDARY = dt.date(2018, 1, 2)
-
-
-@pytest.fixture(scope="session")
-def short_data(tmp_path_factory):
-    return short_demo_data(tmp_path_factory)
-
-
-@pytest.fixture
-def window(qtbot, tmp_path_factory, tmp_path, short_data):
-    return open_window(qtbot, demo_catalogue_copy(tmp_path_factory, tmp_path), short_data)
 
 
 def _epoch(day: dt.date) -> float:

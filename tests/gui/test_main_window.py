@@ -26,7 +26,6 @@ from tests.gui.desk_fixtures import (
     demo_catalogue_copy,
     idea_id_by_title,
     open_window,
-    short_demo_data,
 )
 
 MANY_SETS = """name = "Long sweep to cancel"
@@ -57,11 +56,6 @@ slow = [60, 120, 250]
 [signal]
 position = "sign(ewm(close, fast) - ewm(close, slow))"
 """
-
-
-@pytest.fixture(scope="session")
-def short_data(tmp_path_factory):
-    return short_demo_data(tmp_path_factory)
 
 
 @pytest.fixture

@@ -18,14 +18,8 @@ from tests.gui.desk_fixtures import (
     demo_catalogue_copy,
     idea_id_by_title,
     open_window,
-    short_demo_data,
 )
 from tests.gui.extra_section import JournalCountSection
-
-
-@pytest.fixture(scope="session")
-def short_data(tmp_path_factory):
-    return short_demo_data(tmp_path_factory)
 
 
 @pytest.fixture

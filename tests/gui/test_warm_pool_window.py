@@ -17,7 +17,6 @@ from tests.gui.desk_fixtures import (
     ACCEPTED_TITLE,
     demo_catalogue_copy,
     idea_id_by_title,
-    short_demo_data,
 )
 
 MARKETS = ["TNOTE10", "EQIDX", "GOLD", "CRUDE"]
@@ -31,11 +30,6 @@ n = {{ start = 5, stop = 61, step = 1 }}
 [signal]
 position = "sign(close - mean(close, n))"
 """.replace("'", '"')
-
-
-@pytest.fixture(scope="module")
-def short_data(tmp_path_factory):
-    return short_demo_data(tmp_path_factory)
 
 
 def test_quick_runs_go_through_the_warm_pool(qtbot, tmp_path_factory, tmp_path, short_data):

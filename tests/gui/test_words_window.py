@@ -4,7 +4,6 @@ they show, a refused quick run gives the stage's own advice."""
 
 from __future__ import annotations
 
-import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QDialogButtonBox
 
@@ -16,21 +15,8 @@ from tests.gui.desk_fixtures import (
     ACCEPTED_TITLE,
     SUBMITTED_TITLE,
     TESTED_TITLE,
-    demo_catalogue_copy,
     idea_id_by_title,
-    open_window,
-    short_demo_data,
 )
-
-
-@pytest.fixture(scope="session")
-def short_data(tmp_path_factory):
-    return short_demo_data(tmp_path_factory)
-
-
-@pytest.fixture
-def window(qtbot, tmp_path_factory, tmp_path, short_data):
-    return open_window(qtbot, demo_catalogue_copy(tmp_path_factory, tmp_path), short_data)
 
 
 def test_a_new_idea_starts_with_valid_rules_naming_its_markets(qtbot, window):

@@ -11,7 +11,7 @@ from hunchbook.catalogue import Catalogue
 from hunchbook.core.errors import DataError
 from hunchbook.core.runners import InProcess
 from hunchbook.gui.workers import CallWorker, RunIdeaWorker, Worker, set_curves
-from tests.gui.desk_fixtures import ACCEPTED_TITLE, demo_catalogue_copy, short_demo_data
+from tests.gui.desk_fixtures import ACCEPTED_TITLE, demo_catalogue_copy
 
 RULES = """name = "Rates trend"
 markets = ["CRUDE"]  # the accepted idea's market (a first run freezes it)
@@ -22,11 +22,6 @@ n = [20, 60]
 [signal]
 position = "sign(close - mean(close, n))"
 """
-
-
-@pytest.fixture(scope="session")
-def short_data(tmp_path_factory):
-    return short_demo_data(tmp_path_factory)
 
 
 @pytest.fixture

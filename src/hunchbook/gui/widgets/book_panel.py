@@ -6,7 +6,6 @@ from __future__ import annotations
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
 from PySide6.QtGui import QFont, QResizeEvent
 from PySide6.QtWidgets import (
-    QAbstractItemView,
     QHeaderView,
     QLabel,
     QTableView,
@@ -25,6 +24,7 @@ from hunchbook.core.book_presenter import (
 )
 from hunchbook.core.presenter import Table, format_value
 from hunchbook.gui.charts.book import BookChart
+from hunchbook.gui.widgets.read_only_table import read_only
 from hunchbook.store.records import RunRecord
 
 #: Shown for a run recorded before runs were compared with the book.
@@ -109,15 +109,8 @@ class BookPanel(QWidget):
         font.setBold(True)
         self.heading.setFont(font)
         self.model = TableModel(self)
-        self.table = QTableView()
+        self.table = read_only(QTableView())
         self.table.setModel(self.model)
-        self.table.verticalHeader().hide()
-        self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
-        self.table.setSelectionMode(QAbstractItemView.SelectionMode.NoSelection)
-        self.table.setShowGrid(False)
-        self.table.setWordWrap(False)
-        self.table.setFocusPolicy(Qt.FocusPolicy.NoFocus)
-        self.table.setAlternatingRowColors(True)
         self.table.setTextElideMode(Qt.TextElideMode.ElideRight)
         self.table.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         header = self.table.horizontalHeader()

@@ -6,7 +6,6 @@ from __future__ import annotations
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QFont
 from PySide6.QtWidgets import (
-    QAbstractItemView,
     QDialog,
     QDialogButtonBox,
     QHBoxLayout,
@@ -25,6 +24,7 @@ from hunchbook.core.presenter import (
     year_table,
 )
 from hunchbook.gui.widgets.book_panel import TableModel
+from hunchbook.gui.widgets.read_only_table import read_only
 from hunchbook.store.records import RunRecord
 
 #: Heading of the year-by-year table.
@@ -34,15 +34,8 @@ NO_DAILY = "This run kept no daily P&L: no monthly returns to show."
 
 
 def _table_view(model: TableModel) -> QTableView:
-    view = QTableView()
+    view = read_only(QTableView())
     view.setModel(model)
-    view.verticalHeader().hide()
-    view.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
-    view.setSelectionMode(QAbstractItemView.SelectionMode.NoSelection)
-    view.setAlternatingRowColors(True)
-    view.setShowGrid(False)
-    view.setWordWrap(False)
-    view.setFocusPolicy(Qt.FocusPolicy.NoFocus)
     view.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
     return view
 

@@ -30,6 +30,7 @@ from PySide6.QtWidgets import (
 from hunchbook.core.compare import CheckPair, DiffLine, FigurePair, RunComparison
 from hunchbook.core.presenter import FigureRow, format_value
 from hunchbook.gui.charts.compare_equity import CompareEquityChart
+from hunchbook.gui.widgets.read_only_table import read_only
 from hunchbook.gui.widgets.verdict_banner import STATUS_MARKS, banner_colours, mix_colours
 from hunchbook.store.records import RunLine, RunRecord
 
@@ -53,15 +54,10 @@ def _item(text: str, *, tip: str = "", align_right: bool = False) -> QTableWidge
 
 
 def _table(headers: tuple[str, ...]) -> QTableWidget:
-    table = QTableWidget(0, len(headers))
+    table = read_only(QTableWidget(0, len(headers)), select_rows=True)
     table.setHorizontalHeaderLabels(list(headers))
-    table.verticalHeader().hide()
     table.verticalHeader().setDefaultSectionSize(table.fontMetrics().height() + 8)
-    table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
-    table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
-    table.setAlternatingRowColors(True)
-    table.setShowGrid(False)
-    table.setWordWrap(False)
+    table.setFocusPolicy(Qt.FocusPolicy.StrongFocus)  # its rows can be picked with the keyboard
     header = table.horizontalHeader()
     header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
     for column in range(1, len(headers)):

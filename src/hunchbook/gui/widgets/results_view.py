@@ -9,7 +9,6 @@ import pandas as pd
 from PySide6.QtCore import QEvent, Qt, Signal
 from PySide6.QtGui import QFont, QPalette
 from PySide6.QtWidgets import (
-    QAbstractItemView,
     QFrame,
     QHBoxLayout,
     QHeaderView,
@@ -36,6 +35,7 @@ from hunchbook.gui.widgets.book_panel import BookPanel
 from hunchbook.gui.widgets.capital_tables import CapitalTables
 from hunchbook.gui.widgets.figures_model import FiguresModel
 from hunchbook.gui.widgets.holdout_panel import HoldoutPanel
+from hunchbook.gui.widgets.read_only_table import read_only
 from hunchbook.gui.widgets.verdict_banner import VerdictBanner, mix_colours
 from hunchbook.store.records import HoldoutView, Idea, RunRecord
 
@@ -100,15 +100,8 @@ def _scrolled(widget: QWidget, *, top: bool = False) -> QScrollArea:
 
 
 def _figures_table(model: FiguresModel) -> QTableView:
-    table = QTableView()
+    table = read_only(QTableView(), select_rows=True)
     table.setModel(model)
-    table.verticalHeader().hide()
-    table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
-    table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
-    table.setAlternatingRowColors(True)
-    table.setShowGrid(False)
-    table.setWordWrap(False)
-    table.setFocusPolicy(Qt.FocusPolicy.NoFocus)
     header = table.horizontalHeader()
     header.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
     for col in (1, 2):
