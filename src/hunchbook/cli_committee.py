@@ -18,6 +18,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from hunchbook.cli_catalogue import author, command, names, open_catalogue, read_text
+from hunchbook.core import formats
 from hunchbook.store.errors import CatalogueError
 
 if TYPE_CHECKING:
@@ -127,7 +128,7 @@ def _show(args: argparse.Namespace) -> int:
                              "shape: it has no figures to show; run the idea again",
                              field="runs")
     print(f"Run {run.id} of idea {run.idea_id} (rule revision {run.revision_number}), "
-          f"{run.recorded_at[:16].replace('T', ' ')} by {run.recorded_by}")
+          f"{formats.moment(run.recorded_at)} by {run.recorded_by}")
     print(format_single(run.result))
     if args.monthly:
         from hunchbook.core.capital_figures import monthly_returns

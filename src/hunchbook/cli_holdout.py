@@ -16,6 +16,7 @@ from pathlib import Path
 from typing import Any
 
 from hunchbook.cli_catalogue import author, command, group, open_catalogue
+from hunchbook.core import formats
 from hunchbook.core.errors import HunchbookError
 
 
@@ -71,14 +72,15 @@ def _show(args: argparse.Namespace) -> int:
     else:
         now = settings[-1]
         print(f"Holdout boundary {now.boundary}: runs see the dates before it.")
-        print(f"  set by {now.set_by} on {now.set_at[:10]}: {now.reason}")
+        print(f"  set by {now.set_by} on {formats.date(now.set_at)}: {now.reason}")
         for old in reversed(settings[:-1]):
-            print(f"  earlier: {old.boundary}, set by {old.set_by} on {old.set_at[:10]}: "
+            print(f"  earlier: {old.boundary}, set by {old.set_by} on {formats.date(old.set_at)}: "
                   f"{old.reason}")
     print(f"\nIdeas that have seen their held-out years ({len(views)}):")
     for v in views:
         f = v.figures
-        print(f"  idea {v.idea_id} {titles[v.idea_id]}: by {v.seen_by} on {v.seen_at[:10]}, "
+        print(f"  idea {v.idea_id} {titles[v.idea_id]}: by {v.seen_by} on "
+              f"{formats.date(v.seen_at)}, "
               f"run {v.run_id} (revision {v.revision_number}); net Sharpe in "
               f"{_num(f.in_sample_net_sharpe)}, out {_num(f.net_sharpe)}, consistency p "
               f"{_num(f.p_value, 3)}")

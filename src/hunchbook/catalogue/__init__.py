@@ -88,6 +88,7 @@ import platformdirs
 from hunchbook.catalogue.holdout_api import HoldoutAPI
 from hunchbook.catalogue.listing_api import ListingAPI
 from hunchbook.catalogue.review_api import NOTHING_HELD_OUT, ReviewsAPI
+from hunchbook.core import formats
 
 if TYPE_CHECKING:
     from hunchbook.core.book import PromotedPnl
@@ -288,7 +289,7 @@ class Catalogue(ReviewsAPI, HoldoutAPI, ListingAPI):
                 if reason is None:
                     raise CatalogueError(
                         f"{' and '.join(frozen_changes)} frozen by pre-registration at the "
-                        f"first run ({frozen.frozen_at[:10]}); give a reason to change "
+                        f"first run ({formats.date(frozen.frozen_at)}); give a reason to change "
                         "it (a new pre-registration version is written)", field=f"idea {idea_id}")
                 reason = preregistration.person_reason(reason)
             at = self._now()

@@ -7,6 +7,7 @@ import datetime as dt
 from collections.abc import Callable
 from typing import TYPE_CHECKING
 
+from hunchbook.core import formats
 from hunchbook.core.formats import pct, plural
 from hunchbook.store import db as dbmod
 from hunchbook.store import holdout, ideas, journal, validate
@@ -80,7 +81,8 @@ class HoldoutAPI:
         seen = holdout.view(self.db, idea_id, with_pnl=False)
         if seen is not None:
             return (f"its held-out years were already unlocked by "
-                    f"{seen.seen_by} on {seen.seen_at[:10]} (continuing run {seen.run_id}); "
+                    f"{seen.seen_by} on {formats.date(seen.seen_at)} (continuing run "
+                    f"{seen.run_id}); "
                     "they are seen once per idea")
         current = holdout.current(self.db)
         if current is None:

@@ -28,6 +28,7 @@ from typing import Any
 
 import pandas as pd
 
+from hunchbook.core import formats
 from hunchbook.core.errors import HunchbookError, RecordError
 from hunchbook.core.metrics import max_drawdown
 from hunchbook.core.periods import DAYS_PER_YEAR
@@ -182,7 +183,7 @@ def holdout_seen_note(at: str, by: str) -> str:
     """The verdict reason every run of an idea carries once its holdout was unlocked
     (``at``: when, ISO 8601; ``by``: who)."""
     return (f"Holdout already seen: the held-out years were unlocked for this idea on "
-            f"{at[:10]} by {by}, so they no longer test these rules out of sample.")
+            f"{formats.date(at)} by {by}, so they no longer test these rules out of sample.")
 
 
 def _ratio(value: float) -> str:

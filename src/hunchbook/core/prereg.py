@@ -27,6 +27,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
+from hunchbook.core import formats
 from hunchbook.core.rules.model import ParamRange, RuleSpec
 from hunchbook.core.verdict import Check, warning
 
@@ -206,7 +207,8 @@ def outside_warning(scope: Scope, amendments: Sequence[Amendment] = ()) -> Check
     finding = f"Outside the pre-registration: {scope.summary()}."
     if amendments:
         finding += " Allowed by " + "; ".join(
-            f"amendment {a.version} ({a.by}, {a.at[:10]}: \u201c{a.reason.rstrip('.')}\u201d)"
+            f"amendment {a.version} ({a.by}, {formats.date(a.at)}: "
+            f"\u201c{a.reason.rstrip('.')}\u201d)"
             for a in amendments) + "."
     return warning(CHECK_KEY, "Pre-registration", scope.figure(), finding)
 

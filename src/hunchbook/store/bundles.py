@@ -30,6 +30,7 @@ import zipfile
 from pathlib import Path
 from typing import Any
 
+from hunchbook.core import formats
 from hunchbook.store import (
     chain,
     families,
@@ -325,8 +326,9 @@ def _import_holdout(db: Database, idea_id: int, item: dict[str, Any], rev_ids: d
             present["holdout"] += 1
         else:
             conflicts.append(f"the bundle's unlocking of the holdout (by {item['seen_by']} on "
-                             f"{item['seen_at'][:10]}) differs from the catalogue's (by "
-                             f"{local.seen_by} on {local.seen_at[:10]}); kept the catalogue's")
+                             f"{formats.date(item['seen_at'])}) differs from the catalogue's (by "
+                             f"{local.seen_by} on {formats.date(local.seen_at)}); kept the "
+                             "catalogue's")
         return
     _check_uuid_free(db, "holdout_views", item["uuid"])
     run_id = db.execute("SELECT id FROM runs WHERE uuid = ?", [item["run"]]).fetchone()[0]

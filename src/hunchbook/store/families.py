@@ -18,6 +18,7 @@ import uuid as uuidlib
 from collections.abc import Sequence
 from typing import Any
 
+from hunchbook.core import formats
 from hunchbook.store import chain
 from hunchbook.store.records import Family, FamilyMember, VariantLink
 from hunchbook.store.sqlite_lib import Database
@@ -68,8 +69,8 @@ def link_problem(db: Database, idea_id: int, parent_id: int) -> str | None:
     link = link_of(db, idea_id)
     if link is not None:
         return (f"idea {idea_id} is already a variant of idea {link.parent_id} (linked by "
-                f"{link.set_by} on {link.set_at[:10]}); a variant link is never changed, so "
-                "that its family's trials keep counting")
+                f"{link.set_by} on {formats.date(link.set_at)}); a variant link is never "
+                "changed, so that its family's trials keep counting")
     if parent_id in member_ids(db, idea_id):  # the idea heads its tree: these are its variants
         return (f"idea {parent_id} is a variant of idea {idea_id} (directly or through "
                 "others); linking them the other way round would make a circle")

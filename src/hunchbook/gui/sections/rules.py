@@ -13,6 +13,7 @@ from pathlib import Path
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QVBoxLayout, QWidget
 
+from hunchbook.core import formats
 from hunchbook.core.errors import HunchbookError, RuleError
 from hunchbook.core.rules import parse_rules
 from hunchbook.gui.feedback import one_line
@@ -170,6 +171,6 @@ class RulesSection(IdeaSection):
         if not revisions:
             text = "Not saved yet (a starting point to edit)."
         else:
-            text = f"Revision {revisions[-1].number}, saved {revisions[-1].saved_at[:10]}"
+            text = f"Revision {revisions[-1].number}, saved {formats.date(revisions[-1].saved_at)}"
             text += " \u2014 edited, not saved" if changed else ""
         self.revision_label.setText(text)

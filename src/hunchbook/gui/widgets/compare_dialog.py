@@ -27,6 +27,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from hunchbook.core import formats
 from hunchbook.core.compare import CheckPair, DiffLine, FigurePair, RunComparison
 from hunchbook.core.presenter import FigureRow, format_value
 from hunchbook.gui.charts.compare_equity import CompareEquityChart
@@ -137,7 +138,7 @@ class CompareDialog(QDialog):
         head = QLabel(f"<b>{html.escape(name)}</b>"
                       f"<br>{html.escape(title)}<br><span style='font-size:14pt; "
                       f"color:{text.name()}'><b>{html.escape(label)}</b></span>"
-                      f" &nbsp; recorded {html.escape(run.recorded_at[:10])} by "
+                      f" &nbsp; recorded {html.escape(formats.date(run.recorded_at))} by "
                       f"{html.escape(run.recorded_by)}")
         head.setTextFormat(Qt.TextFormat.RichText)
         head.setWordWrap(True)
@@ -226,8 +227,9 @@ class RunPickerDialog(QDialog):
         for run in sorted(runs, key=lambda r: r.id, reverse=True):
             row = self.table.rowCount()
             self.table.insertRow(row)
-            for column, text in enumerate((run.idea_title, str(run.id), run.recorded_at[:10],
-                                           str(run.revision_number), run.verdict_label)):
+            texts = (run.idea_title, str(run.id), formats.date(run.recorded_at),
+                     str(run.revision_number), run.verdict_label)
+            for column, text in enumerate(texts):
                 item = _item(text)
                 item.setData(Qt.ItemDataRole.UserRole, run.id)
                 self.table.setItem(row, column, item)

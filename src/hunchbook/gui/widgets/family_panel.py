@@ -23,6 +23,7 @@ from PySide6.QtWidgets import (
 )
 
 from hunchbook.catalogue import Catalogue
+from hunchbook.core import formats
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.formats import plural
 from hunchbook.gui.feedback import one_line
@@ -117,8 +118,8 @@ class FamilyPanel(QWidget):
         self.variant_button.setEnabled(own.link is None)
         self.variant_button.setToolTip(
             "Record this idea as a variant of another (once; never undone)" if own.link is None
-            else f"A variant of idea {own.link.parent_id} since {own.link.set_at[:10]} (links "
-                 "are never changed)")
+            else f"A variant of idea {own.link.parent_id} since "
+                 f"{formats.date(own.link.set_at)} (links are never changed)")
 
     def _fit_height(self, rows: int) -> None:
         """As tall as the family (up to :data:`MAX_ROWS` rows; more scroll)."""
@@ -244,5 +245,5 @@ def _tooltip(member: FamilyMember) -> str:
     text = f"By {member.submitted_by}."
     if member.link is not None:
         text += (f" Variant of idea {member.link.parent_id}, linked by {member.link.set_by} on "
-                 f"{member.link.set_at[:10]}: {member.link.reason}")
+                 f"{formats.date(member.link.set_at)}: {member.link.reason}")
     return text

@@ -18,6 +18,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from hunchbook.core import formats
 from hunchbook.core.presenter import format_params
 from hunchbook.store.records import HoldoutBoundary
 
@@ -80,8 +81,8 @@ class BoundaryDialog(QDialog):
         self.setWindowTitle("Holdout boundary")
         self.setMinimumWidth(480)
         self.current = current
-        now = (f"Now: {current.boundary}, set by {current.set_by} on {current.set_at[:10]}: "
-               f"{current.reason}" if current is not None else
+        now = (f"Now: {current.boundary}, set by {current.set_by} on "
+               f"{formats.date(current.set_at)}: {current.reason}" if current is not None else
                "No boundary yet: the first quick run sets the default, which holds out the "
                "last 20 % of the data folder's common history.")
         self.now = QLabel(now)

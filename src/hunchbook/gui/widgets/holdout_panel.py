@@ -10,6 +10,7 @@ from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QPalette
 from PySide6.QtWidgets import QFrame, QHBoxLayout, QLabel, QPushButton, QVBoxLayout, QWidget
 
+from hunchbook.core import formats
 from hunchbook.core.presenter import (
     HOLDOUT_HEADERS,
     FigureRow,
@@ -98,7 +99,7 @@ class HoldoutPanel(QFrame):
                     f" These figures continue run {view.run_id}, not the run shown.")
             self.status.setText(
                 f"Held-out years {f.first_date} to {f.last_date}, unlocked by {view.seen_by} "
-                f"on {view.seen_at[:16].replace('T', ' ')}: rule revision "
+                f"on {formats.moment(view.seen_at)}: rule revision "
                 f"{view.revision_number}, set {format_params(view.chosen_params)} (run "
                 f"{view.run_id}).{also}")
             self._fill(holdout_rows(f, run.result.currency if run and run.result else ""))

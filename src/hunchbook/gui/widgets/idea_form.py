@@ -33,6 +33,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from hunchbook.core import formats
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.prereg import describe_space
 from hunchbook.gui.feedback import one_line
@@ -370,7 +371,7 @@ class IdeaForm(IdeaSection):
         if frozen:
             self.frozen_note.setText(
                 f"Rationale, markets and parameter space were frozen by pre-registration at "
-                f"the first run ({idea.frozen_at[:10]}). Changing them needs a reason.")
+                f"the first run ({formats.date(idea.frozen_at)}). Changing them needs a reason.")
 
     def _changes(self) -> dict[str, Any]:
         idea = self._idea

@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from hunchbook.core import formats
 from hunchbook.core.presenter import sharpe_sentence
 from hunchbook.core.verdict import Verdict
 from hunchbook.gui.charts.result_charts import ResultCharts
@@ -48,7 +49,7 @@ def run_subtitle(run: RunRecord, title: str) -> str:
     parts.append(f"{run.set_count} set{'s' if run.set_count != 1 else ''}, "
                  f"{run.trial_count} trial{'s' if run.trial_count != 1 else ''} counted")
     parts.append(f"rules revision {run.revision_number}")
-    parts.append(f"run {run.recorded_at[:16].replace('T', ' ')} by {run.recorded_by}")
+    parts.append(f"run {formats.moment(run.recorded_at)} by {run.recorded_by}")
     return "  ·  ".join(parts)
 
 

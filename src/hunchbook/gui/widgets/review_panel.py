@@ -18,6 +18,7 @@ from PySide6.QtWidgets import (
 )
 
 from hunchbook.catalogue import REVIEW_KINDS
+from hunchbook.core import formats
 from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.feedback import one_line
 from hunchbook.gui.sections.base import IdeaSection
@@ -239,7 +240,7 @@ def _history_html(reviews: list[Review]) -> str:
         body = _escape(review.comments) or "<i>no comments</i>"
         missing = ("".join(f"<li>{_escape(q)}</li>" for q in unmet))
         parts.append(f"<p><b>{decision}</b> by {_escape(review.reviewer)} on "
-                     f"{review.at[:10]}{own}<br>{body}</p>"
+                     f"{formats.date(review.at)}{own}<br>{body}</p>"
                      + (f"<p>Not met:</p><ul>{missing}</ul>" if unmet else ""))
     return "".join(parts)
 
