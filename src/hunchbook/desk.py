@@ -19,7 +19,7 @@ import os
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
-from hunchbook.core.formats import plural
+from hunchbook.core.formats import pct, plural
 from hunchbook.core.plain import json_safe
 from hunchbook.core.stats.haircut import (
     DRAWS,
@@ -239,7 +239,11 @@ def _p(value: float) -> str:
 
 
 def _percent(value: float) -> str:
+    """A haircut as a cut in whole percent (``-26 %``); one just below all of the Sharpe
+    ratio reads ``cut > 99 %``, never ``-100 %``."""
     if not math.isfinite(value):
         return "n/a"
-    share = round(100.0 * value)
-    return f"-{share} %" if share else "0 %"
+    text = pct(value, 0)
+    if value == 0:
+        return text
+    return f"-{text}" if text[0].isdigit() else f"cut {text}"

@@ -25,3 +25,14 @@ def test_a_share_below_one_never_reads_as_a_hundred_percent():
 def test_dates_read_as_dates():
     assert date("2025-05-12T09:01:00+00:00") == "2025-05-12"
     assert moment("2025-05-12T09:01:00+00:00") == "2025-05-12 09:01"
+
+
+def test_a_haircut_just_below_the_whole_sharpe_ratio_never_reads_minus_100_percent():
+    # the desk's haircut of a Sharpe ratio (Harvey & Liu 2015) is a share in [0, 1]; rounded
+    # to whole percent a cut of 99.8 % would read "-100 %", as if nothing were left
+    from hunchbook.desk import _percent
+
+    assert _percent(0.26) == "-26 %"
+    assert _percent(0.998) == "cut > 99 %"
+    assert _percent(0.0) == "0 %"
+    assert _percent(float("nan")) == "n/a"
