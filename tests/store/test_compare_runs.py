@@ -10,7 +10,12 @@ import pytest
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.compare import compare_runs, rule_diff, run_label
-from hunchbook.core.presenter import PERFORMANCE_FIGURES, with_unit
+from hunchbook.core.presenter import (
+    CAPITAL_FIGURES,
+    PERFORMANCE_FIGURES,
+    capital_applies,
+    with_unit,
+)
 from hunchbook.demo.build import demo_catalogue_copy
 
 
@@ -30,15 +35,21 @@ def _breakout(demo: Catalogue) -> tuple:
 def test_figures_are_each_runs_own_record(demo: Catalogue) -> None:
     first, wide, text_a, text_b = _breakout(demo)
     comparison = compare_runs(first.result, wide.result, text_a, text_b)
-    # every performance figure of the presenter, in its order, for both runs
-    assert [p.label for p in comparison.performance] == [
+    # every performance figure of the presenter, in its order, for both runs, then those
+    # against the capital (the demo's breakout rule gives [sizing] capital)
+    labels = [p.label for p in comparison.performance]
+    assert labels[:len(PERFORMANCE_FIGURES)] == [
         with_unit(f.label, f.unit, first.result.currency) for f in PERFORMANCE_FIGURES]
+    assert len(labels) == len(PERFORMANCE_FIGURES) + len(CAPITAL_FIGURES)
     by_label = {p.label: p for p in comparison.performance}
     for run, side in ((first, "a"), (wide, "b")):
         performance = run.result.chosen.performance
         total = getattr(by_label["Total P&L (USD)"], side)
         assert (total.gross, total.net) == (performance.gross.total, performance.net.total)
         assert getattr(by_label["Total cost (USD)"], side).net == performance.cost_total
+        capital = run.result.capital
+        assert getattr(by_label["Annual return (% of capital)"], side).net == capital.net_return
+        assert getattr(by_label["Capital (USD)"], side).net == capital.capital
         stats = {p.label.split(" (")[0]: getattr(p, side) for p in comparison.statistics}
         assert stats["Sharpe ratio"].net == run.result.statistics.net.sharpe
         assert stats["Trials counted"].net == run.result.statistics.n_trials == run.trial_count
@@ -83,7 +94,10 @@ def test_runs_of_two_ideas_and_of_the_same_rules_compare(demo: Catalogue) -> Non
     assert a.idea_id != b.idea_id
     text_a = demo.revision(a.revision_id).text
     comparison = compare_runs(a.result, b.result, text_a, demo.revision(b.revision_id).text)
-    assert comparison.diff and len(comparison.performance) == len(PERFORMANCE_FIGURES)
+    capital = sum(capital_applies(f, a.result.capital) or capital_applies(f, b.result.capital)
+                  for f in CAPITAL_FIGURES)
+    assert comparison.diff
+    assert len(comparison.performance) == len(PERFORMANCE_FIGURES) + capital
     same = compare_runs(a.result, a.result, text_a, text_a)
     assert same.same_rules and same.diff == () and rule_diff(text_a, text_a) == ()
     assert all(p.a == p.b for p in same.performance + same.statistics)

@@ -10,15 +10,17 @@ run has follow); the rule files are compared with :func:`difflib.unified_diff`.
 from __future__ import annotations
 
 import difflib
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from typing import Any
 
 from hunchbook.core.presenter import (
+    CAPITAL_FIGURES,
     PERFORMANCE_FIGURES,
     STATISTIC_FIGURES,
     Figure,
     FigureRow,
+    capital_applies,
     format_value,
 )
 from hunchbook.core.results import RunSummary
@@ -113,12 +115,13 @@ def compare_runs(a: RunSummary, b: RunSummary, rules_a: str, rules_b: str, *,
                  context: int = CONTEXT_LINES) -> RunComparison:
     """Compare two runs' records and the rule texts they ran (``names`` head the columns
     and name the files in the diff)."""
+    currency = a.currency if a.currency == b.currency else f"{a.currency} / {b.currency}"
     return RunComparison(
         names=names, outcomes=(a.verdict.outcome, b.verdict.outcome),
         labels=(a.verdict.label, b.verdict.label),
         performance=_pairs(PERFORMANCE_FIGURES, a.chosen.performance, b.chosen.performance,
-                           a.currency if a.currency == b.currency
-                           else f"{a.currency} / {b.currency}"),
+                           currency)
+        + _pairs(CAPITAL_FIGURES, a.capital, b.capital, currency, applies=capital_applies),
         statistics=_pairs(STATISTIC_FIGURES, a.statistics, b.statistics),
         checks=check_pairs(a.verdict.checks, b.verdict.checks),
         diff=rule_diff(rules_a, rules_b, names, context=context))
@@ -151,12 +154,13 @@ def rule_diff(text_a: str, text_b: str, names: tuple[str, str] = ("run A", "run 
     return tuple(out)
 
 
-def _pairs(figures: Sequence[Figure[Any]], a: Any, b: Any,
-           currency: str = "") -> tuple[FigurePair, ...]:
+def _pairs(figures: Sequence[Figure[Any]], a: Any, b: Any, currency: str = "", *,
+           applies: Callable[[Figure[Any], Any], bool] = lambda f, r: f.applies(r)
+           ) -> tuple[FigurePair, ...]:
     out = []
     for figure in figures:
-        row_a = figure.row(a, currency) if figure.applies(a) else None
-        row_b = figure.row(b, currency) if figure.applies(b) else None
+        row_a = figure.row(a, currency) if applies(figure, a) else None
+        row_b = figure.row(b, currency) if applies(figure, b) else None
         if row_a is None and row_b is None:
             continue
         labels = list(dict.fromkeys(r.label for r in (row_a, row_b) if r is not None))

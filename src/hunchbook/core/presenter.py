@@ -351,8 +351,14 @@ def performance_rows(performance: Performance, currency: str = "") -> list[Figur
 def capital_rows(figures: CapitalFigures, currency: str = "") -> list[FigureRow]:
     """The chosen set against its capital (returns, volatility, drawdown in % and its
     length); with no capital only the drawdown's length (the rest needs one)."""
-    rows = [f.row(figures, currency) for f in CAPITAL_FIGURES]
-    return rows if figures.capital is not None else rows[-1:]
+    return [f.row(figures, currency) for f in CAPITAL_FIGURES if capital_applies(f, figures)]
+
+
+def capital_applies(figure: Figure[CapitalFigures], figures: CapitalFigures | None) -> bool:
+    """Whether a run's figures against capital have ``figure``: none for a run recorded before
+    them, and without a capital only the drawdown's length (the rest needs one)."""
+    return figures is not None and (figures.capital is not None
+                                    or figure is CAPITAL_FIGURES[-1])
 
 
 def chosen_rows(run: RunSummary) -> list[FigureRow]:
@@ -472,6 +478,7 @@ def format_params(params: Mapping[str, Any]) -> str:
 __all__ = ["CAPITAL_FIGURES", "CURRENCY", "MARKET_COLUMNS", "MISSING", "OF_CAPITAL",
            "PERFORMANCE_FIGURES", "PER_SIDE", "SET_COLUMNS", "SHARPE_NOTE",
            "STATISTIC_FIGURES", "TRADE_NOTE", "YEAR_COLUMNS", "Column", "Figure", "FigureRow",
-           "Table", "capital_rows", "capital_sentence", "chosen_rows", "format_params",
-           "format_value", "market_table", "monthly_table", "number", "performance_rows",
-           "set_table", "sharpe_sentence", "statistic_rows", "with_unit", "year_table"]
+           "Table", "capital_applies", "capital_rows", "capital_sentence", "chosen_rows",
+           "format_params", "format_value", "market_table", "monthly_table", "number",
+           "performance_rows", "set_table", "sharpe_sentence", "statistic_rows", "with_unit",
+           "year_table"]
