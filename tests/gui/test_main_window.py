@@ -11,7 +11,7 @@ import pandas as pd
 import pytest
 from PySide6.QtCore import QMimeData, QPoint, QPointF, Qt, QTimer, QUrl
 from PySide6.QtGui import QDragEnterEvent, QDropEvent
-from PySide6.QtWidgets import QApplication, QDialogButtonBox, QMessageBox
+from PySide6.QtWidgets import QApplication, QDialogButtonBox, QLabel, QMessageBox
 
 from hunchbook.catalogue import CHECKLIST, Catalogue
 from hunchbook.gui import feedback
@@ -117,20 +117,25 @@ def test_new_idea_through_the_dialog(qtbot, window):
 
 
 def test_rule_error_is_shown_and_blocks_the_run_until_fixed(qtbot, window):
-    """Typing an unknown function shows the error in the window's rule status and the tab;
-    the quick run refuses with an error dialog; deleting the typo clears it."""
+    """Typing an unknown function shows the error under the rule text (once: not again in a
+    status line) and marks the tab; the quick run refuses with an error dialog; deleting the
+    typo clears it."""
     window.select_idea(idea_id_by_title(window, ACCEPTED_TITLE))
     window.show_section("rules")
+    message = window.rules.editor.message
     _type_into_rules(qtbot, window, 'position = "', "nope(close) + ")
-    qtbot.waitUntil(lambda: "Rule error" in window.rules.status.text(), timeout=5000)
-    assert "nope" in window.rules.status.text()
+    qtbot.waitUntil(lambda: "nope" in message.text(), timeout=5000)
+    shown = [label.text() for label in window.rules.findChildren(QLabel)
+             if label.isVisible() and "nope" in label.text()]
+    assert shown == [message.text()]
     assert "\u26a0" in window.tabs.tabText(1)
+    assert "nope" in window.tabs.tabToolTip(1)
     assert window.quick_run.start() is None
     assert "nope" in window.last_error
     assert any("nope" in t for t in _close_error_dialogs(window))
     for _ in "nope(close) + ":
         qtbot.keyClick(window.rules.editor.text_edit, Qt.Key.Key_Backspace)
-    qtbot.waitUntil(lambda: window.rules.status.text() == "", timeout=5000)
+    qtbot.waitUntil(lambda: "Valid rule file" in message.text(), timeout=5000)
     assert window.tabs.tabText(1) == "Rules"
 
 

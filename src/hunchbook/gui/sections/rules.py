@@ -10,7 +10,6 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QVBoxLayout, QWidget
 
 from hunchbook.core import formats
@@ -43,14 +42,10 @@ class RulesSection(IdeaSection):
         self.editor.validity_changed.connect(self._show_validity)
         self.editor.text_changed.connect(lambda _text: self._show_revision())
         self.editor.save_requested.connect(lambda _text: self.save())
-        self.status = QLabel(self)
-        self.status.setObjectName("ruleStatus")
-        self.status.setWordWrap(True)
-        self.status.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         self.revision_label = QLabel(self)
         self.revision_label.setObjectName("revisionLabel")
         bar = QHBoxLayout()
-        bar.addWidget(self.status, 1)
+        bar.addStretch(1)
         bar.addWidget(self.revision_label)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
@@ -76,7 +71,6 @@ class RulesSection(IdeaSection):
             self._saved_text = ""
             self.editor.set_text("")
             self.revision_label.setText("")
-            self.status.setText("")
             return
         revision = self.catalogue.latest_revision(idea_id)
         self._saved_text = revision.text if revision is not None else ""
@@ -159,7 +153,7 @@ class RulesSection(IdeaSection):
             self._drafts.pop(self.idea_id, None)
 
     def _show_validity(self, valid: bool, message: str) -> None:
-        self.status.setText("" if valid else f"\u26a0 Rule error: {message}")
+        # the editor shows the message under the text; the tab carries the mark and tooltip
         self.tab_changed.emit(self.tab_title if valid else f"{self.tab_title} \u26a0",
                               "" if valid else message)
 
