@@ -143,13 +143,14 @@ class SweepReport:
 
     def summarise(self, chosen: SetResult, *, currency: str, data_folder: str,
                   holdout_boundary: dt.date | None = None,
-                  capital: float | None = None) -> RunSummary:
+                  capital: float | None = None,
+                  desk_capital: float | None = None) -> RunSummary:
         """The run record: every set's figures, the chosen set in full (``chosen``, from
         :meth:`Study.run_set` on ``sets[self.chosen]``), the statistics and the verdict;
         ``holdout_boundary`` the date the study's data were cut at, if any. The chosen set's
-        figures against a capital use the rule's ``[sizing] capital``, else ``capital``
-        (:func:`hunchbook.core.capital_figures.resolve_capital`)."""
-        amount, source = resolve_capital(self.rules.sizing.capital, capital)
+        figures against a capital use the rule's ``[sizing] capital``, else ``capital``, else
+        ``desk_capital`` (:func:`hunchbook.core.capital_figures.resolve_capital`)."""
+        amount, source = resolve_capital(self.rules.sizing.capital, capital, desk_capital)
         return build_run_summary(
             name=self.rules.name, markets=self.rules.markets, currency=currency,
             data_folder=data_folder, parameter_sets=self.sets, set_figures=self.outcome.figures,

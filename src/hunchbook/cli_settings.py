@@ -1,6 +1,7 @@
 """The desk's commands: ``hunchbook ideas link`` (record an idea as a variant of another),
 ``hunchbook ideas promote`` (the promotion review), and ``hunchbook catalogue settings`` /
-``hunchbook catalogue set`` (desk rules such as ``one_person_desk``).
+``hunchbook catalogue set`` (desk settings: ``one_person_desk`` on or off, the desk's
+``capital``).
 
 They are added to the ``ideas`` and ``catalogue`` groups of :mod:`hunchbook.cli_catalogue`
 and take its ``--catalogue PATH`` and ``--by NAME``.
@@ -14,9 +15,8 @@ from typing import Any
 
 from hunchbook.cli_catalogue import author, command, family_lines, open_catalogue
 from hunchbook.store.errors import CatalogueError
+from hunchbook.store.setting_kinds import AMOUNT, ON_OFF, SettingValue
 from hunchbook.store.vocab import DESK_SETTINGS, PROMOTION_CHECKLIST
-
-_SWITCH = {"on": True, "off": False}
 
 
 def register(groups: dict[str, Any]) -> None:
@@ -54,12 +54,16 @@ def register(groups: dict[str, Any]) -> None:
 
     def set_args(p: argparse.ArgumentParser) -> None:
         p.add_argument("setting", choices=list(DESK_SETTINGS))
-        p.add_argument("value", choices=list(_SWITCH))
+        p.add_argument("value", help="on or off for " + ", ".join(
+            k for k, s in DESK_SETTINGS.items() if s.kind is ON_OFF) + "; a positive amount "
+            "in the run currency (or none to unset it) for " + ", ".join(
+            k for k, s in DESK_SETTINGS.items() if s.kind is AMOUNT))
         p.add_argument("--reason", required=True, help="why (journalled)")
-    command(catalogue, "set", "turn a desk setting on or off (journalled with the reason); "
-            "one_person_desk lets an author review their own ideas",
-            _set, 'hunchbook catalogue set one_person_desk on --reason "I work alone" --by Ines',
-            set_args, writes=True)
+    command(catalogue, "set", "change a desk setting (journalled with the reason): "
+            "one_person_desk lets an author review their own ideas; capital is the amount a "
+            "run's returns and drawdowns are measured against when its rule file gives none",
+            _set, 'hunchbook catalogue set capital 1000000 --reason "the desk\'s allocation" '
+            '--by Ines', set_args, writes=True)
 
 
 def _link(args: argparse.Namespace) -> int:
@@ -98,17 +102,22 @@ def _settings(args: argparse.Namespace) -> int:
                          indent=1))
         return 0
     for key, value in current.items():
-        print(f"{key}: {'on' if value else 'off'}  ({DESK_SETTINGS[key][1]})")
+        print(f"{key}: {_shown(key, value)}  ({DESK_SETTINGS[key].meaning})")
     for c in changes:
-        print(f"  {c.set_at[:16].replace('T', ' ')}  {c.key} {'on' if c.value else 'off'} "
+        print(f"  {c.set_at[:16].replace('T', ' ')}  {c.key} {_shown(c.key, c.value)} "
               f"by {c.set_by}: {c.reason}")
     return 0
 
 
 def _set(args: argparse.Namespace) -> int:
     with open_catalogue(args) as cat:
-        setting = cat.set_desk_setting(args.setting, _SWITCH[args.value], by=author(args),
+        setting = cat.set_desk_setting(args.setting, args.value, by=author(args),
                                        reason=args.reason)
-    print(f"{setting.key} is {'on' if setting.value else 'off'} (set by {setting.set_by} on "
+    print(f"{setting.key} is {_shown(setting.key, setting.value)} (set by {setting.set_by} on "
           f"{setting.set_at[:10]}).")
     return 0
+
+
+def _shown(key: str, value: SettingValue) -> str:
+    """A setting's value in words (``on``, ``1,000,000``, ``not set``)."""
+    return DESK_SETTINGS[key].kind.show(value)

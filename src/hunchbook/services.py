@@ -140,7 +140,10 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     says so in its last reason. ``confirm`` is asked before a long or large sweep (see
     :meth:`Study.sweep`). The record keeps one digest per market of the prices read and,
     when the idea ran before, which markets changed since its last run
-    (``summary.data_changes``; :mod:`hunchbook.core.data_changes`).
+    (``summary.data_changes``; :mod:`hunchbook.core.data_changes`). The chosen set's figures
+    against a capital use the rule file's ``[sizing] capital``, else ``capital``, else the
+    catalogue's desk setting ``capital``, else none; the record says which
+    (:func:`hunchbook.core.capital_figures.resolve_capital`).
 
     Raises
     ------
@@ -161,6 +164,7 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
     data_warnings = study.data_warnings()  # data with a quality error is refused here
     # refused here, before the sweep, when the run lies outside the pre-registration in force
     prereg = catalogue.check_preregistration(idea_id, rule_text, study.parameter_sets())
+    desk_capital = catalogue.desk_setting("capital")
     history = catalogue.prospective_trials(idea_id, rule_text, study.parameter_sets())
     earlier = recompute_earlier_trials(history, data_folder, loaded=study.data, before=boundary,
                                        cancel=cancel)
@@ -180,7 +184,8 @@ def run_idea(catalogue: Catalogue, idea_id: int, rule_text: str,
         since_uuid=last.uuid)
     summary = replace(report.summarise(chosen, currency=study.panel.currency,
                                        data_folder=str(Path(data_folder)),
-                                       holdout_boundary=boundary, capital=capital), book=book,
+                                       holdout_boundary=boundary, capital=capital,
+                                       desk_capital=desk_capital), book=book,
                       market_fingerprints=markets, data_changes=changes)
     with catalogue.transaction():  # the revision and its run are kept together, or neither
         if default_reason is not None and catalogue.holdout_boundary() is None:

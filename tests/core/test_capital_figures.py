@@ -136,8 +136,11 @@ def test_without_a_capital_the_shares_are_undefined_and_currency_figures_stand()
     assert all(math.isnan(r.return_pct) and r.net_pnl == r.net_pnl for r in figures.years)
 
 
-def test_capital_comes_from_the_rule_first_then_the_run():
-    assert resolve_capital(1e6, 5e5) == (1e6, "sizing")
+def test_capital_comes_from_the_rule_first_then_the_run_then_the_desk():
+    # the more specific setting wins (common practice, no source)
+    assert resolve_capital(1e6, 5e5, 2e6) == (1e6, "sizing")
+    assert resolve_capital(None, 5e5, 2e6) == (5e5, "run option")
+    assert resolve_capital(None, None, 2e6) == (2e6, "desk setting")
     assert resolve_capital(None, 5e5) == (5e5, "run option")
     assert resolve_capital(None, None) == (None, "none")
 

@@ -139,5 +139,5 @@ def test_four_eyes_and_the_promotion_review(desk: list[str],
     assert "Nia: Promotion declined (one-person desk: reviewed by the author). Still locked." \
         in out
     assert "Theo: Promotion declined. Unlock the held-out years first." in out
-    with pytest.raises(SystemExit):
+    with pytest.raises(HunchbookError, match="one_person_desk: expected on or off"):
         _run("catalogue", "set", *c, "one_person_desk", "maybe", "--reason", "x")

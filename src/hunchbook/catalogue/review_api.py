@@ -1,10 +1,11 @@
 """The catalogue's reviews, families and desk rules (part of :class:`hunchbook.catalogue.
 Catalogue`): reviewing an idea and its promotion with four eyes, variant links and family
-trees, and the desk settings that relax the four-eyes rule."""
+trees, and the desk settings (the four-eyes rule relaxed, the desk's capital)."""
 
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
+from typing import Any
 
 from hunchbook.store import db as dbmod
 from hunchbook.store import families, holdout, ideas, journal, settings, validate
@@ -13,6 +14,7 @@ from hunchbook.store import revisions as revmod
 from hunchbook.store import runs as runmod
 from hunchbook.store.errors import CatalogueError
 from hunchbook.store.records import DeskSetting, Family, Review, Revision, VariantLink
+from hunchbook.store.setting_kinds import SettingValue
 from hunchbook.store.sqlite_lib import Database
 from hunchbook.store.vocab import DESK_SETTINGS, REVIEW_KINDS
 
@@ -162,21 +164,31 @@ class ReviewsAPI:
         return families.tree(self.db, ideas.get(self.db, idea_id).id)
 
     # -- desk rules -----------------------------------------------------------------------
-    def desk_setting(self, key: str) -> bool:
-        """The desk setting in force (see ``DESK_SETTINGS``; its default until first set)."""
+    def desk_setting(self, key: str) -> SettingValue:
+        """The desk setting in force (see ``DESK_SETTINGS``; its default until first set): on
+        or off as a bool, an amount such as ``capital`` as a float (None: not set)."""
         return settings.current(self.db, settings.clean_key(key))
 
     def desk_settings(self) -> list[DeskSetting]:
         """Every setting of the desk rules, oldest first."""
         return settings.history(self.db)
 
-    def set_desk_setting(self, key: str, value: bool, *, by: str, reason: str) -> DeskSetting:
-        """Turn a desk setting on or off and return the setting in force; ``reason``
-        (required) says why. Journalled as a general ``decision`` entry. Setting the value
-        already set writes nothing."""
+    def set_desk_setting(self, key: str, value: Any, *, by: str, reason: str) -> DeskSetting:
+        """Set a desk setting and return the setting in force; ``reason`` (required) says why.
+
+        ``value`` as the setting's kind reads it (:mod:`hunchbook.store.setting_kinds`): on/off
+        a bool or ``"on"``/``"off"``; an amount a positive number or its text
+        (``"1000000"``), None or ``"none"`` to unset it. Journalled as a general ``decision``
+        entry. Setting again the value last set writes nothing.
+
+        Raises
+        ------
+        CatalogueError
+            An unknown key or a value its kind does not read (one line naming the setting).
+        """
         key = settings.clean_key(key)
-        if not isinstance(value, bool):
-            raise CatalogueError("expected on or off (true or false)", field=key)
+        spec = DESK_SETTINGS[key]
+        value = spec.kind.parse(value, key)
         by = validate.name(by, "by")
         reason = validate.text(reason, "reason")
         at = self._now()
@@ -185,8 +197,8 @@ class ReviewsAPI:
             if not held or held[-1].value != value:
                 settings.insert(self.db, key, value, reason=reason, by=by, at=at)
                 journal.append(self.db, idea_id=None, kind="decision", by=by, at=at,
-                               text=f"Desk setting {key} turned {'on' if value else 'off'} "
-                                    f"({DESK_SETTINGS[key][1]}): {reason}")
+                               text=f"Desk setting {key} {spec.kind.verb} "
+                                    f"{spec.kind.stored(value)} ({spec.meaning}): {reason}")
                 held = [s for s in settings.history(self.db) if s.key == key]
         return held[-1]
 

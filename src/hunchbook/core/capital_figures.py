@@ -1,10 +1,11 @@
 """The chosen set's figures against a capital: returns, volatility and drawdown in % of it,
 the drawdown's length, and the year-by-year and monthly tables.
 
-The capital is a fixed amount in the run currency (the rule's ``[sizing] capital``, or one given
-for the run; :func:`resolve_capital`). Returns are simple and not compounded: a day's P&L over
-the capital (positions are sized on the fixed capital, never on the P&L earned). A figure
-that needs a capital is NaN without one; the figures in currency still stand.
+The capital is a fixed amount in the run currency (the rule's ``[sizing] capital``, one given
+for the run, or the desk's capital setting; :func:`resolve_capital`). Returns are simple and not
+compounded: a day's P&L over the capital (positions are sized on the fixed capital, never on
+the P&L earned). A figure that needs a capital is NaN without one; the figures in currency
+still stand.
 
 Drawdown: cumulative P&L starts at 0 before the first day (a peak of 0). The maximum drawdown
 is the largest fall from a running peak; its *length* counts the trading days (result rows)
@@ -25,9 +26,10 @@ from hunchbook.core.periods import DAYS_PER_YEAR
 if TYPE_CHECKING:  # the run record imports this module; pandas loads only where used
     import pandas as pd
 
-#: Where a run's capital came from: the rule file's ``[sizing] capital``, one given for the run
-#: (``hunchbook run --capital``), or none (figures in currency only).
-CAPITAL_SOURCES = ("sizing", "run option", "none")
+#: Where a run's capital came from, in order of precedence: the rule file's ``[sizing] capital``,
+#: one given for the run (``hunchbook run --capital``), the catalogue's desk setting ``capital``,
+#: or none (figures in currency only).
+CAPITAL_SOURCES = ("sizing", "run option", "desk setting", "none")
 #: Month columns of the monthly returns table.
 MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 
@@ -92,14 +94,15 @@ class CapitalFigures:
     years: tuple[YearRow, ...]
 
 
-def resolve_capital(sizing_capital: float | None,
-                    given: float | None) -> tuple[float | None, str]:
-    """The capital a run's figures are measured against and where it came from: the rule's
-    ``[sizing] capital`` first, else one given for the run, else none."""
-    if sizing_capital is not None:
-        return float(sizing_capital), "sizing"
-    if given is not None:
-        return float(given), "run option"
+def resolve_capital(sizing_capital: float | None, given: float | None,
+                    desk: float | None = None) -> tuple[float | None, str]:
+    """The capital a run's figures are measured against and where it came from (one of
+    :data:`CAPITAL_SOURCES`): the rule's ``[sizing] capital`` first, else one ``given`` for the
+    run, else the ``desk``'s capital setting, else none."""
+    for amount, source in ((sizing_capital, "sizing"), (given, "run option"),
+                           (desk, "desk setting")):
+        if amount is not None:
+            return float(amount), source
     return None, "none"
 
 

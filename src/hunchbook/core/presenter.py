@@ -368,6 +368,12 @@ def chosen_rows(run: RunSummary) -> list[FigureRow]:
     return rows if run.capital is None else rows + capital_rows(run.capital, run.currency)
 
 
+#: Where a run's capital came from, in words (see ``capital_figures.CAPITAL_SOURCES``).
+_CAPITAL_SOURCE_WORDS = {"sizing": "the rule's [sizing] capital",
+                         "run option": "the capital given for the run",
+                         "desk setting": "the desk's capital setting"}
+
+
 def capital_sentence(run: RunSummary) -> str:
     """Where the capital of a run's % figures came from, or how to give one."""
     figures = run.capital
@@ -375,9 +381,10 @@ def capital_sentence(run: RunSummary) -> str:
         return "Recorded before figures against a capital existed: run the idea again."
     if figures.capital is None:
         return ("No capital known: the figures are in currency only. Give [sizing] capital in "
-                "the rule file (or hunchbook run --capital) to see them in % of capital.")
-    source = ("the rule's [sizing] capital" if figures.capital_source == "sizing"
-              else "the capital given for the run")
+                "the rule file, hunchbook run --capital, or the desk's capital (File \u25b8 Desk "
+                "settings\u2026 or hunchbook catalogue set capital AMOUNT) to see them in % of "
+                "capital.")
+    source = _CAPITAL_SOURCE_WORDS[figures.capital_source]
     return (f"Returns and drawdowns in % of {format_value(figures.capital, 'money')} "
             f"{run.currency} ({source}); simple, not compounded.")
 

@@ -1,6 +1,7 @@
-"""The desk's settings in the window: "Desk settings…" shows each desk rule of the catalogue
-(such as ``one_person_desk``: an author may review their own ideas, and the review says so)
-and changes it with a reason, which the catalogue journals."""
+"""The desk's settings in the window: "Desk settings…" shows each desk setting of the catalogue
+(``one_person_desk``: an author may review their own ideas, and the review says so; ``capital``:
+the amount figures are measured in % of when a rule file gives none) and changes it with a
+reason, which the catalogue journals."""
 
 from __future__ import annotations
 
@@ -20,6 +21,7 @@ from hunchbook.core.errors import HunchbookError
 from hunchbook.gui.actions import make_action
 from hunchbook.gui.feedback import one_line
 from hunchbook.store.records import DeskSetting
+from hunchbook.store.setting_kinds import AMOUNT, ON_OFF, SettingValue
 from hunchbook.store.vocab import DESK_SETTINGS
 
 if TYPE_CHECKING:
@@ -27,9 +29,10 @@ if TYPE_CHECKING:
 
 
 class DeskSettingsDialog(QDialog):
-    """One checkbox per desk setting and the reason for a change (required to save one)."""
+    """One field per desk setting (a checkbox for on/off, a number field for an amount: empty
+    is not set) and the reason for a change (required to save one)."""
 
-    def __init__(self, values: dict[str, bool], history: list[DeskSetting],
+    def __init__(self, values: dict[str, SettingValue], history: list[DeskSetting],
                  parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.setObjectName("deskSettingsDialog")
@@ -38,27 +41,42 @@ class DeskSettingsDialog(QDialog):
         self.values = dict(values)
         form = QFormLayout(self)
         self.boxes: dict[str, QCheckBox] = {}
-        for key, (_, meaning) in DESK_SETTINGS.items():
-            box = QCheckBox(key.replace("_", " ").capitalize(), self)
-            box.setObjectName(f"setting_{key}")
-            box.setChecked(values[key])
-            box.toggled.connect(self._update)
+        self.amounts: dict[str, QLineEdit] = {}
+        for key, spec in DESK_SETTINGS.items():
+            label = key.replace("_", " ").capitalize()
+            if spec.kind is ON_OFF:
+                box = QCheckBox(label, self)
+                box.setObjectName(f"setting_{key}")
+                box.setChecked(bool(values[key]))
+                box.toggled.connect(self._update)
+                form.addRow(box)
+                self.boxes[key] = box
+            else:
+                field = QLineEdit(_amount_text(values[key]), self)
+                field.setObjectName(f"setting_{key}")
+                field.setPlaceholderText("not set")
+                field.textChanged.connect(self._update)
+                form.addRow(label, field)
+                self.amounts[key] = field
             latest = [s for s in history if s.key == key]
-            state = QLabel(f"{meaning} " + (
-                "Never changed: off by default." if not latest else
-                f"Set {'on' if latest[-1].value else 'off'} by {latest[-1].set_by} on "
+            state = QLabel(f"{spec.meaning} " + (
+                f"Never changed: {spec.kind.show(spec.default)} by default." if not latest else
+                f"Set to {spec.kind.show(latest[-1].value)} by {latest[-1].set_by} on "
                 f"{latest[-1].set_at[:10]}: {latest[-1].reason}"), self)
             state.setWordWrap(True)
-            form.addRow(box)
             form.addRow(state)
-            self.boxes[key] = box
+        self.problem = QLabel(self)
+        self.problem.setObjectName("deskSettingProblem")
+        self.problem.setWordWrap(True)
+        form.addRow(self.problem)
         self.reason = QLineEdit(self)
         self.reason.setObjectName("deskSettingReason")
         self.reason.setPlaceholderText("Why the desk's rule changes (required; journalled)")
         self.reason.textChanged.connect(self._update)
         form.addRow("Reason", self.reason)
         note = QLabel("Four eyes: an idea is reviewed, and promoted, by someone other than its "
-                      "author unless the desk is a one-person desk.", self)
+                      "author unless the desk is a one-person desk. The capital is used when a "
+                      "rule file's [sizing] gives none.", self)
         note.setWordWrap(True)
         form.addRow(note)
         buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Ok
@@ -69,12 +87,41 @@ class DeskSettingsDialog(QDialog):
         form.addRow(buttons)
         self._update()
 
-    def changes(self) -> dict[str, bool]:
-        """The settings the dialog changes, with their new values."""
-        return {k: b.isChecked() for k, b in self.boxes.items() if b.isChecked() != self.values[k]}
+    def changes(self) -> dict[str, SettingValue]:
+        """The settings the dialog changes, with their new values (an amount that does not
+        read is left out: :meth:`problems` names it)."""
+        out: dict[str, SettingValue] = {
+            k: b.isChecked() for k, b in self.boxes.items() if b.isChecked() != self.values[k]}
+        for key, field in self.amounts.items():
+            try:
+                value = DESK_SETTINGS[key].kind.parse(field.text(), key)
+            except HunchbookError:
+                continue
+            if value != self.values[key]:
+                out[key] = value
+        return out
+
+    def problems(self) -> list[str]:
+        """One line per amount field that does not read as its setting's kind."""
+        found = []
+        for key, field in self.amounts.items():
+            try:
+                DESK_SETTINGS[key].kind.parse(field.text(), key)
+            except HunchbookError as exc:
+                found.append(one_line(exc))
+        return found
 
     def _update(self, *_: object) -> None:
-        self.ok.setEnabled(bool(self.changes()) and bool(self.reason.text().strip()))
+        problems = self.problems()
+        self.problem.setText("\n".join(problems))
+        self.problem.setVisible(bool(problems))
+        self.ok.setEnabled(not problems and bool(self.changes())
+                           and bool(self.reason.text().strip()))
+
+
+def _amount_text(value: SettingValue) -> str:
+    """An amount as the field shows it (empty when not set)."""
+    return "" if value is None else AMOUNT.stored(value)
 
 
 class DeskSettings:
@@ -92,8 +139,8 @@ class DeskSettings:
         self._window = window
         self.dialog: DeskSettingsDialog | None = None
         self.action = make_action(window, "Desk settings\u2026", self.open_dialog, None,
-                                  "See or change the desk's rules, such as a one-person desk "
-                                  "(a reason is required)")
+                                  "See or change the desk's settings, such as a one-person "
+                                  "desk or the desk's capital (a reason is required)")
 
     def update_actions(self) -> None:
         """Enabled while a catalogue is open."""
@@ -112,7 +159,7 @@ class DeskSettings:
         dialog.open()
         return dialog
 
-    def apply(self, changes: dict[str, bool], reason: str) -> bool:
+    def apply(self, changes: dict[str, SettingValue], reason: str) -> bool:
         """Write the changed settings with the reason, then show the shown idea anew (who may
         review it may have changed)."""
         window = self._window
@@ -131,5 +178,5 @@ class DeskSettings:
         if idea_id is not None:
             window.refresh_idea(idea_id)
         window.status_message("Desk settings changed: " + ", ".join(
-            f"{k} {'on' if v else 'off'}" for k, v in changes.items()) + ".")
+            f"{k} {DESK_SETTINGS[k].kind.show(v)}" for k, v in changes.items()) + ".")
         return True

@@ -47,7 +47,8 @@ _REVIEW = re.compile(
 _TICK = re.compile(r"\[(?P<mark>[x ])\] (?P<key>\w+)")
 _EDITED = re.compile(r"Edited\. (?P<changes>.*?)(?:\. Reason: (?P<reason>.*))?", re.DOTALL)
 _FIELD = re.compile(r"(?:^|; )(?P<key>" + "|".join(FIELD_LABELS) + r"): ")
-_SETTING = re.compile(r"Desk setting (?P<key>\w+) turned (?P<value>on|off) \(.*?\): ", re.DOTALL)
+_SETTING = re.compile(r"Desk setting (?P<key>\w+) (?:turned|set to) (?P<value>\S+) \(.*?\): ",
+                      re.DOTALL)
 
 
 def sentence(entry: Entry) -> str:
@@ -155,12 +156,19 @@ def _value(shown: str) -> str:
 def _decision(text: str) -> str:
     """A person's decision as written; a desk setting's change with the setting in words."""
     setting = _SETTING.match(text)
-    if setting is None:
+    spec = None if setting is None else DESK_SETTINGS.get(setting["key"])
+    if setting is None or spec is None:
         return text
     label = setting["key"].replace("_", " ")
-    about = DESK_SETTINGS.get(setting["key"], (None, ""))[1]
-    return (f"Desk setting \u201c{label}\u201d turned {setting['value']} ({about}): "
-            + text[setting.end():])
+    value = spec.kind.read(setting["value"])
+    if spec.kind.verb == "turned":
+        said = f"Desk setting \u201c{label}\u201d turned {spec.kind.show(value)}"
+    else:
+        said = f"Desk {label} " + ("unset" if value is None else f"set to {spec.kind.show(value)}")
+    # the meaning as written then (it may itself hold "): "); the reason follows it
+    written = text[:setting.start("value")] + f"{setting['value']} ({spec.meaning}): "
+    reason = text[len(written):] if text.startswith(written) else text[setting.end():]
+    return f"{said} ({spec.meaning}): {reason}"
 
 
 def _preregistration(text: str) -> str:

@@ -32,7 +32,10 @@ Versions
 8. ``run_preregistration``: each run against its idea's pre-registration
    (:mod:`hunchbook.store.run_scopes`): the version in force when it was recorded, whether it
    lies within version 1 and what lies outside; append-only, derived like the trials, and
-   computed for the runs already stored..
+   computed for the runs already stored.
+9. ``idea_orders``: indexes for each order of the idea table.
+10. ``typed_desk_settings``: ``desk_settings`` rebuilt so a value may be an amount (its plain
+    decimal text) or ``none`` besides on and off (rows, ids and hashes kept).
 
 Files are opened, recognised and migrated by :mod:`hunchbook.store.opening`.
 """
@@ -410,6 +413,12 @@ def _families_and_four_eyes(db: Database) -> None:
     db.execute("PRAGMA user_version = 7")
 
 
+#: A desk setting's stored value (version 10): on, off, none, or a positive amount written as
+#: plain decimal digits with at most one point.
+_SETTING_VALUE = ("value IN ('on', 'off', 'none') OR (value GLOB '[0-9]*' AND value NOT GLOB "
+                  "'*[^0-9.]*' AND value NOT GLOB '*.*.*' AND CAST(value AS REAL) > 0)")
+
+
 @MIGRATIONS(name="0008_run_preregistration")
 def _run_preregistration(db: Database) -> None:
     from hunchbook.store import run_scopes
@@ -447,6 +456,33 @@ def _idea_orders(db: Database) -> None:
         "CREATE INDEX ideas_by_trials ON ideas (trial_count, id)",
     ])
     db.execute(f"PRAGMA user_version = {migration_names().index('0009_idea_orders') + 1}")
+
+
+@MIGRATIONS(name="0010_typed_desk_settings")
+def _typed_desk_settings(db: Database) -> None:
+    # The desk settings' values widen from on/off to on/off, an amount as its plain decimal
+    # text, or none (see hunchbook.store.setting_kinds). SQLite cannot widen a CHECK in place:
+    # the rows move to a new table with the same columns, so each keeps its id and chained
+    # hash (as the reviews did in version 7); dropping the old table drops its triggers.
+    _run(db, [
+        f"""CREATE TABLE desk_settings_new (
+            id INTEGER PRIMARY KEY,
+            uuid TEXT NOT NULL UNIQUE,
+            key TEXT NOT NULL,
+            value TEXT NOT NULL CHECK ({_SETTING_VALUE}),
+            reason TEXT NOT NULL,
+            set_by TEXT NOT NULL,
+            set_at TEXT NOT NULL,
+            row_hash TEXT
+        ) STRICT""",
+        "INSERT INTO desk_settings_new (id, uuid, key, value, reason, set_by, set_at, row_hash) "
+        "SELECT id, uuid, key, value, reason, set_by, set_at, row_hash FROM desk_settings "
+        "ORDER BY id",
+        "DROP TABLE desk_settings",
+        "ALTER TABLE desk_settings_new RENAME TO desk_settings",
+    ])
+    _append_only(db, {"desk_settings": _FAMILY_KEYS["desk_settings"]})
+    db.execute(f"PRAGMA user_version = {migration_names().index('0010_typed_desk_settings') + 1}")
 
 
 #: The schema version this code writes (the number of migrations).

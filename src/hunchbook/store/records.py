@@ -362,12 +362,13 @@ class Family:
 @dataclass(frozen=True)
 class DeskSetting:
     """One setting of a desk rule (see :data:`hunchbook.store.vocab.DESK_SETTINGS`): who set
-    it, when and why. The latest setting of each key holds."""
+    it, when and why. ``value`` as its kind reads it (on/off a bool; an amount a float, None
+    when unset). The latest setting of each key holds."""
 
     id: int
     uuid: str
     key: str
-    value: bool
+    value: bool | float | None
     reason: str
     set_by: str
     set_at: str

@@ -1,5 +1,5 @@
-"""The desk's rules: settings of the whole catalogue, such as ``one_person_desk``, and the
-four-eyes rule they relax; whose next step an idea waits for.
+"""The desk's rules: settings of the whole catalogue, such as ``one_person_desk`` (on/off) and
+``capital`` (an amount), and the four-eyes rule they relax; whose next step an idea waits for.
 
 ``desk_settings`` keeps every setting (append-only, hash-chained; who, when and why); the
 latest row of a key holds, and a key never set holds its default
@@ -17,6 +17,7 @@ from typing import Any
 
 from hunchbook.store import chain, validate
 from hunchbook.store.records import DeskSetting
+from hunchbook.store.setting_kinds import SettingValue
 from hunchbook.store.sqlite_lib import Database
 from hunchbook.store.vocab import DESK_SETTINGS, NEXT_STEPS, PROMOTION_VERDICT, TESTED_REWORK
 
@@ -26,24 +27,29 @@ def clean_key(key: Any, field: str = "setting") -> str:
     return validate.choice(key, field, DESK_SETTINGS)
 
 
-def current(db: Database, key: str) -> bool:
+def current(db: Database, key: str) -> SettingValue:
     """The value in force of a desk setting (its default before it is first set)."""
     row = db.execute("SELECT value FROM desk_settings WHERE key = ? ORDER BY id DESC LIMIT 1",
                      [key]).fetchone()
-    return DESK_SETTINGS[key][0] if row is None else row[0] == "on"
+    spec = DESK_SETTINGS[key]
+    return spec.default if row is None else spec.kind.read(row[0])
 
 
 def history(db: Database) -> list[DeskSetting]:
-    """Every setting of every key, oldest first."""
-    return [DeskSetting(id=r["id"], uuid=r["uuid"], key=r["key"], value=r["value"] == "on",
+    """Every setting of every key, oldest first (a key no longer known is left out)."""
+    return [DeskSetting(id=r["id"], uuid=r["uuid"], key=r["key"],
+                        value=DESK_SETTINGS[r["key"]].kind.read(r["value"]),
                         reason=r["reason"], set_by=r["set_by"], set_at=r["set_at"])
-            for r in db.query("SELECT * FROM desk_settings ORDER BY id")]
+            for r in db.query("SELECT * FROM desk_settings ORDER BY id")
+            if r["key"] in DESK_SETTINGS]
 
 
-def insert(db: Database, key: str, value: bool, *, reason: str, by: str, at: str) -> int:
-    """Write one setting (checked by the caller) and return its id."""
+def insert(db: Database, key: str, value: SettingValue, *, reason: str, by: str,
+           at: str) -> int:
+    """Write one setting (checked by the caller) as its kind's text and return its id."""
     return chain.append(db, "desk_settings", {
-        "uuid": str(uuidlib.uuid4()), "key": key, "value": "on" if value else "off",
+        "uuid": str(uuidlib.uuid4()), "key": key,
+        "value": DESK_SETTINGS[key].kind.stored(value),
         "reason": reason, "set_by": by, "set_at": at})
 
 
@@ -81,7 +87,7 @@ def next_step(stage: str, author: str, reviewer: str | None, user: str, *,
 def author_review_problem(db: Database, author: str, reviewer: str) -> str | None:
     """Why ``reviewer`` may not review the idea (they wrote it, and the desk is not a
     one-person desk), or None."""
-    if not same_person(author, reviewer) or current(db, "one_person_desk"):
+    if not same_person(author, reviewer) or current(db, "one_person_desk") is True:
         return None
     return (f"{author} wrote this idea, so someone else reviews it (four eyes); a desk "
             "of one can allow it with the desk setting one_person_desk")

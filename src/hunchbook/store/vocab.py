@@ -6,6 +6,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from hunchbook.core.labels import Vocabulary
+from hunchbook.store.setting_kinds import AMOUNT, ON_OFF, DeskSettingSpec
 
 #: Stages of an idea, in pipeline order: written down, sent for review, accepted for testing or
 #: returned with comments, tested (at least one run recorded), promoted to full research or shelved.
@@ -129,10 +130,16 @@ DECISION_WORDS = Vocabulary("decision", {k: DECISION_LABELS[k] for k in DECISION
 REVIEW_DECISIONS: dict[str, str] = {decision: name for name, kind in REVIEW_KINDS.items()
                                     for decision in kind.decisions}
 
-#: Desk settings: key -> (default, what it allows). Each is on or off, set with a reason.
-DESK_SETTINGS: dict[str, tuple[bool, str]] = {
-    "one_person_desk": (False, "One person may review their own ideas (each such review says "
-                               "so): for a desk of one."),
+#: Desk settings: key -> kind (on/off or an amount: :mod:`hunchbook.store.setting_kinds`),
+#: default and meaning. Each is set with a reason; the latest setting of a key holds.
+DESK_SETTINGS: dict[str, DeskSettingSpec] = {
+    "one_person_desk": DeskSettingSpec(
+        ON_OFF, False, "One person may review their own ideas (each such review says so): for "
+                       "a desk of one."),
+    "capital": DeskSettingSpec(
+        AMOUNT, None, "The capital, in the run currency, that returns and drawdowns are "
+                      "measured in % of when a rule file's [sizing] gives none and the run is "
+                      "given none."),
 }
 
 #: What a review by the idea's own author (on a one-person desk) says about itself.
