@@ -4,6 +4,7 @@ stored run equal to a re-run of its rule revision on the demo data."""
 from __future__ import annotations
 
 import math
+import os
 from pathlib import Path
 
 import pandas as pd
@@ -222,3 +223,19 @@ def test_the_demo_family_counts_its_trials_together(demo: Catalogue) -> None:
         variant_runs[0].set_count
     assert family.trial_count == demo.idea(parent).trial_count == demo.idea(variant).trial_count
     assert family.trial_count == sum(m.own_trials for _, m in family.members())
+
+
+def test_a_new_demo_build_forgets_builds_older_than_a_day(tmp_path):
+    # times are fixed numbers set on the folders (no clock): the new build at t, an older
+    # version two days before it, a half-made build an hour before it
+    from hunchbook.demo.build import OLD_BUILD_SECONDS, forget_old_builds
+
+    t = 1_800_000_000.0
+    built, stale, recent = (tmp_path / name for name in ("0.2-new", "0.1-old", ".building-x"))
+    for folder, at in ((built, t), (stale, t - 2 * 86_400), (recent, t - 3_600)):
+        folder.mkdir()
+        (folder / "file").write_text("x")
+        os.utime(folder, (at, at))
+    assert OLD_BUILD_SECONDS == 86_400
+    assert forget_old_builds(built, t) == [stale]
+    assert sorted(p.name for p in tmp_path.iterdir()) == [".building-x", "0.2-new"]

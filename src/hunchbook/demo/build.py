@@ -63,6 +63,22 @@ def build_demo(folder: str | os.PathLike[str], progress: Progress | None = None)
     return root
 
 
+#: Other builds in the cache older than this are removed once a new one is in place (seconds):
+#: one build per version of the inputs would otherwise pile up with every upgrade.
+OLD_BUILD_SECONDS = 24 * 3600
+
+
+def forget_old_builds(built: Path, now: float) -> list[Path]:
+    """Remove the folders beside ``built`` last changed more than :data:`OLD_BUILD_SECONDS`
+    before ``now`` (a day's grace for a window still copying from one); returns them."""
+    old = [other for other in built.parent.iterdir()
+           if other != built and other.is_dir()
+           and now - other.stat().st_mtime > OLD_BUILD_SECONDS]
+    for other in old:
+        shutil.rmtree(other, ignore_errors=True)
+    return old
+
+
 def built_demo(cache: str | os.PathLike[str] | None = None,
                progress: Progress | None = None) -> Path:
     """The folder of the demo desk built for this version (data and catalogue), built first
@@ -91,6 +107,7 @@ def built_demo(cache: str | os.PathLike[str] | None = None,
             scratch.rename(built)
         else:
             shutil.rmtree(scratch, ignore_errors=True)
+    forget_old_builds(built, (built / DONE_FILE).stat().st_mtime)
     return built
 
 
