@@ -6,27 +6,15 @@ source): a capital is a positive amount of money, and a desk-wide change says wh
 
 from __future__ import annotations
 
-import pytest
 from PySide6.QtCore import Qt
 
 from hunchbook.catalogue import Catalogue
 from hunchbook.core.presenter import capital_sentence
 from hunchbook.core.runners import InProcess
 from hunchbook.gui.desk_settings import DeskSettingsDialog
-from hunchbook.gui.main_window import MainWindow
 from hunchbook.gui.workers import RunIdeaWorker
 from tests.gui.desk_fixtures import ACCEPTED_TITLE, demo_catalogue_copy, short_demo_data
 from tests.gui.test_workers import RULES  # no [sizing]: no capital of its own
-
-
-@pytest.fixture
-def window(qtbot, tmp_path_factory, tmp_path):
-    win = MainWindow(remember=False, keep_layout=False)
-    qtbot.addWidget(win)
-    assert win.open_catalogue(demo_catalogue_copy(tmp_path_factory, tmp_path))
-    win.show()
-    qtbot.waitExposed(win)
-    return win
 
 
 def test_the_dialog_sets_the_desk_capital(qtbot, window) -> None:

@@ -7,7 +7,6 @@ from __future__ import annotations
 import math
 import threading
 
-import pytest
 from PySide6.QtGui import QGuiApplication
 from scipy import stats
 from statsmodels.stats.multitest import multipletests
@@ -17,17 +16,6 @@ from hunchbook.desk import format_desk
 from hunchbook.gui.main_window import MainWindow
 from hunchbook.gui.widgets import desk_dialog as dialog_module
 from hunchbook.gui.widgets.desk_dialog import DeskDialog
-from tests.gui.desk_fixtures import demo_catalogue_copy
-
-
-@pytest.fixture
-def window(qtbot, tmp_path_factory, tmp_path):
-    win = MainWindow(remember=False, keep_layout=False)
-    qtbot.addWidget(win)
-    assert win.open_catalogue(demo_catalogue_copy(tmp_path_factory, tmp_path))
-    win.show()
-    qtbot.waitExposed(win)
-    return win
 
 
 def _cells(table) -> list[list[str]]:
