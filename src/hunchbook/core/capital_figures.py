@@ -22,6 +22,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from hunchbook.core.periods import DAYS_PER_YEAR
+from hunchbook.core.stats.sharpe import sharpe_ratio
 
 if TYPE_CHECKING:  # the run record imports this module; pandas loads only where used
     import pandas as pd
@@ -135,13 +136,6 @@ def drawdown_figures(pnl: np.ndarray, dates: np.ndarray,
         length_days=end - peak, open=recovered is None)
 
 
-def _sharpe(x: np.ndarray) -> float:
-    if x.size < 2:
-        return math.nan
-    sd = x.std(ddof=1)
-    return float(x.mean() / sd * math.sqrt(DAYS_PER_YEAR)) if sd > 0 else math.nan
-
-
 def year_rows(daily: pd.DataFrame, capital: float | None = None) -> tuple[YearRow, ...]:
     """One row per calendar year of a daily table (date index; ``net_pnl`` and ``cost``)."""
     rows = []
@@ -150,7 +144,7 @@ def year_rows(daily: pd.DataFrame, capital: float | None = None) -> tuple[YearRo
         total = float(net.sum())
         fall = drawdown_figures(net, part.index.values, capital)
         rows.append(YearRow(year=int(year), days=len(part), net_pnl=total,
-                            return_pct=_share(total, capital), sharpe=_sharpe(net),
+                            return_pct=_share(total, capital), sharpe=sharpe_ratio(net),
                             max_drawdown=fall.max_drawdown,
                             max_drawdown_pct=fall.max_drawdown_pct,
                             cost=float(part["cost"].sum())))
