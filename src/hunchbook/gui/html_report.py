@@ -14,6 +14,7 @@ from pathlib import Path
 from PySide6.QtCore import QBuffer, QByteArray, QIODevice, Qt
 from PySide6.QtWidgets import QWidget
 
+from hunchbook.core import formats
 from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.presenter import (
@@ -23,7 +24,6 @@ from hunchbook.core.presenter import (
     set_table,
 )
 from hunchbook.core.verdict import CAUTION, Check
-from hunchbook.core.when import readable_time
 from hunchbook.gui.charts.result_charts import ResultCharts
 from hunchbook.gui.charts.run_figures import (
     FigureRow,
@@ -165,7 +165,7 @@ def _holdout_section(run: RunRecord, held_out: HoldoutView | None) -> str:
     f = held_out.figures
     also = ("" if held_out.run_id == run.id else
             f" These figures continue run {held_out.run_id}, not this run.")
-    seen = readable_time(held_out.seen_at)
+    seen = formats.moment(held_out.seen_at)
     return (f"<p>Unlocked by {_e(held_out.seen_by)} on {_e(seen)}: rule revision "
             f"{_e(held_out.revision_number)}, set {_e(format_params(held_out.chosen_params))} "
             f"(run {_e(held_out.run_id)}), run once on the held-out dates {_e(f.first_date)} "
@@ -253,7 +253,7 @@ def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str,
                           "run.") if result else ""
     sets_html = _table(set_table(result), "No parameter sets were recorded for this "
                        "run.") if result else ""
-    provenance_html = record_html(run, recorded_at=readable_time(run.recorded_at))
+    provenance_html = record_html(run, recorded_at=formats.moment(run.recorded_at))
     return f"""<!DOCTYPE html>
 <html lang="en">
 <head>
@@ -264,7 +264,7 @@ def report_html(*, idea: Idea, run: RunRecord, rule_text: str, images: dict[str,
 </head>
 <body>
 <h1>{_e(idea.title)}</h1>
-<p class="meta">Run {_e(run.id)} of {_e(readable_time(run.recorded_at))} by
+<p class="meta">Run {_e(run.id)} of {_e(formats.moment(run.recorded_at))} by
 {_e(run.recorded_by)}; rules
 revision {_e(run.revision_number)}; {_e(run.set_count)} parameter sets; {_e(run.trial_count)}
 trials counted for the idea.</p>

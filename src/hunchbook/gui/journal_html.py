@@ -12,7 +12,7 @@ import functools
 from collections.abc import Sequence
 from typing import TYPE_CHECKING
 
-from hunchbook.core.when import readable_time
+from hunchbook.core import formats
 from hunchbook.gui.html_parts import escaped
 from hunchbook.store.entry_text import kind_label, sentence
 from hunchbook.store.records import Entry
@@ -45,7 +45,7 @@ def timeline_html(entries: Sequence[Entry]) -> str:
     by_id = {e.id: e for e in entries}
     blocks = []
     for entry in entries:
-        head = " \u00b7 ".join((readable_time(entry.at), kind_label(entry.kind), entry.by))
+        head = " \u00b7 ".join((formats.moment(entry.at), kind_label(entry.kind), entry.by))
         if entry.corrects is not None:
             head += f" \u00b7 corrects entry {entry.corrects}"
         body = entry_html(entry)

@@ -27,9 +27,9 @@ from PySide6.QtCore import (
 )
 from PySide6.QtGui import QColor, QFont
 
+from hunchbook.core import formats
 from hunchbook.core.formats import count, date
 from hunchbook.core.verdict import VERDICTS
-from hunchbook.core.when import readable_time
 from hunchbook.gui.charts.run_figures import verdict_text
 from hunchbook.store.records import IdeaSummary, RunRecord
 from hunchbook.store.vocab import STAGE_WORDS
@@ -348,7 +348,7 @@ class IdeaTableModel(_RecordTableModel):
     def _tooltip(self, idea: IdeaSummary, column: int) -> Any:
         markets = ", ".join(idea.markets) or "no markets yet"
         return (f"{idea.title}\n{idea.hypothesis}\n\nBy {idea.submitted_by} \u00b7 {markets}"
-                f" \u00b7 updated {readable_time(idea.updated_at)}")
+                f" \u00b7 updated {formats.moment(idea.updated_at)}")
 
     def _is_number(self, column: int) -> bool:
         return column in (self.SHARPE, self.TRIALS)
@@ -377,7 +377,7 @@ class RunTableModel(_RecordTableModel):
         if column == self.RUN:
             return str(run.id)
         if column == self.RECORDED:
-            return readable_time(run.recorded_at)
+            return formats.moment(run.recorded_at)
         if column == self.REVISION:
             return str(run.revision_number)
         if column == self.SETS:

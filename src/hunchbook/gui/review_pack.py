@@ -26,13 +26,13 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from hunchbook.catalogue import Catalogue
+from hunchbook.core import formats
 from hunchbook.core.atomic import write_atomically
 from hunchbook.core.errors import HunchbookError
 from hunchbook.core.formats import plural
 from hunchbook.core.prereg import describe_space
 from hunchbook.core.presenter import market_table, set_table
 from hunchbook.core.verdict import CAUTION
-from hunchbook.core.when import readable_time
 from hunchbook.gui.charts.run_figures import (
     format_params,
     performance_rows,
@@ -187,7 +187,7 @@ def _summary(pack: ReviewPack) -> str:
                      "frozen at the first run.</span>")
     if pack.held_out is not None:
         lines.append(_e(f"The held-out years were unlocked once, by {pack.held_out.seen_by} "
-                        f"on {readable_time(pack.held_out.seen_at)}."))
+                        f"on {formats.moment(pack.held_out.seen_at)}."))
     return "".join(f"<p>{line}</p>" for line in lines)
 
 
@@ -200,7 +200,7 @@ def _preregistration(pack: ReviewPack) -> str:
         return ("<p>Not pre-registered yet: the first run freezes the rationale, markets and "
                 "parameter space.</p>")
     rows = "".join(
-        f"<tr><td>{p.version}</td><td>{_e(readable_time(p.frozen_at))}</td>"
+        f"<tr><td>{p.version}</td><td>{_e(formats.moment(p.frozen_at))}</td>"
         f"<td>{_e(p.frozen_by)}</td><td>{_e(', '.join(p.markets) or '(none)')}</td>"
         f"<td>{_e(describe_space(p.parameter_space))}</td>"
         f"<td>{_e('frozen at the first run' if p.version == 1 else p.reason)}</td></tr>"
@@ -228,7 +228,7 @@ def _reviews(pack: ReviewPack) -> str:
         comments = review.comments or "(no comments)"
         blocks.append(
             f'<div class="review"><p><strong>{_e(decision)}</strong> by '
-            f"{_e(review.reviewer)} on {_e(readable_time(review.at))}.</p>"
+            f"{_e(review.reviewer)} on {_e(formats.moment(review.at))}.</p>"
             f"<ul>{answers}</ul><p>Comments: {_e(comments)}</p></div>")
     return "".join(blocks)
 
@@ -244,7 +244,7 @@ def _runs(pack: ReviewPack) -> str:
         css = "outside" if flag == "OUTSIDE" else "ok"
         sharpe = "" if run.chosen_net_sharpe is None else f"{run.chosen_net_sharpe:.2f}"
         rows.append(
-            f"<tr><td>{run.id}</td><td>{_e(readable_time(run.recorded_at, time=False))}</td>"
+            f"<tr><td>{run.id}</td><td>{_e(formats.date(run.recorded_at))}</td>"
             f"<td>{run.revision_number}</td><td>{run.set_count}</td>"
             f"<td>{_e(format_params(dict(run.chosen_params)))}</td>"
             f'<td class="num">{sharpe}</td><td>{_e(verdict_text(run).label)}</td>'
@@ -266,7 +266,7 @@ def _verdict(pack: ReviewPack) -> str | None:
         return None
     verdict = verdict_text(run)
     reasons = "".join(f"<li>{_e(r)}</li>" for r in verdict.reasons)
-    return (f'<p>Run {run.id} of {_e(readable_time(run.recorded_at))} by '
+    return (f'<p>Run {run.id} of {_e(formats.moment(run.recorded_at))} by '
             f"{_e(run.recorded_by)}; rule revision {run.revision_number}; chosen set "
             f"{_e(format_params(dict(run.chosen_params)))}.</p>"
             f'<div class="verdict {_e(verdict.outcome)}"><div class="label">'
@@ -323,7 +323,7 @@ def _journal(pack: ReviewPack) -> str:
             note += f" (corrects entry {entry.corrects})"
         if entry.corrected_by:
             note += f" (corrected by entry {entry.corrected_by})"
-        rows.append(f'<tr><td class="when">{_e(readable_time(entry.at))}</td>'
+        rows.append(f'<tr><td class="when">{_e(formats.moment(entry.at))}</td>'
                     f"<td>{_e(entry.by)}</td><td>{_e(kind_label(entry.kind))}</td>"
                     f'<td><div class="text">{entry_html(entry)}</div>{_e(note)}</td></tr>')
     return ('<table class="journal"><thead><tr><th>When</th><th>Who</th><th>Kind</th>'
@@ -334,7 +334,7 @@ def _record(pack: ReviewPack) -> str | None:
     run = pack.run
     if run is None:
         return None
-    return f"<dl>{record_html(run, recorded_at=readable_time(run.recorded_at))}</dl>"
+    return f"<dl>{record_html(run, recorded_at=formats.moment(run.recorded_at))}</dl>"
 
 
 def _book(pack: ReviewPack) -> str | None:
@@ -364,7 +364,7 @@ def pack_html(pack: ReviewPack) -> str:
     """The pack as one self-contained HTML page."""
     idea = pack.idea
     prepared = ("" if pack.prepared is None else
-                f" Prepared {_e(readable_time(pack.prepared.isoformat()))}.")
+                f" Prepared {_e(formats.moment(pack.prepared.isoformat()))}.")
     body = []
     for title, new_page, render in SECTIONS:
         html = render(pack)
